@@ -1,0 +1,5 @@
+"""Media errors."""
+
+
+class MediaError(Exception):
+    """A media file that cannot be used; the message names the file and the problem."""

@@ -1,0 +1,116 @@
+"""Interchange records: one JSON object per line (JSON Lines).
+
+These pydantic models are the single definition of what a record may hold. They do no I/O;
+``clipscribe.project`` reads files and feeds lines to :func:`parse_record`. The JSON Schema in
+``docs/schema/`` is generated from these classes (``clipscribe schema``).
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal, Union
+
+from pydantic import BaseModel, ConfigDict, Field, TypeAdapter, field_validator, model_validator
+
+ClipRef = Annotated[
+    str,
+    Field(min_length=1, max_length=4096,
+          description="Clip id (as a string) or the media path relative to the media root."),
+]
+Name = Annotated[str, Field(min_length=1, max_length=200)]
+
+
+class _Record(BaseModel):
+    model_config = ConfigDict(extra="forbid", str_strip_whitespace=False, frozen=True)
+
+    @field_validator("clip", mode="before", check_fields=False)
+    @classmethod
+    def _clip_as_text(cls, v: object) -> object:
+        # ids are accepted as JSON numbers too; they are compared as text.
+        if isinstance(v, bool):
+            raise ValueError("a clip reference must be an id or a relative path, not a boolean")
+        return str(v) if isinstance(v, int) else v
+
+
+class ClipRecord(_Record):
+    """A media file to register (path relative to the media root)."""
+
+    type: Literal["clip"] = "clip"
+    clip: ClipRef
+    group: str | None = Field(default=None, max_length=500)
+    source: str | None = Field(default=None, max_length=2000)
+    licence: str | None = Field(default=None, max_length=500)
+    consent: bool | None = None
+
+
+class LabelRecord(_Record):
+    """One annotator's clip-level activity label."""
+
+    type: Literal["label"] = "label"
+    clip: ClipRef
+    annotator: Name
+    label: Name
+
+
+class SegmentRecord(_Record):
+    """A temporal segment in frames; ``end`` is exclusive."""
+
+    type: Literal["segment"] = "segment"
+    clip: ClipRef
+    annotator: Name
+    label: Name
+    start: int = Field(ge=0, description="first frame of the segment (0-based)")
+    end: int = Field(gt=0, description="frame after the last frame of the segment")
+
+    @model_validator(mode="after")
+    def _ordered(self) -> "SegmentRecord":
+        if self.end <= self.start:
+            raise ValueError(f"end ({self.end}) must be greater than start ({self.start})")
+        return self
+
+
+class CaptionRecord(_Record):
+    """One reference caption. ``segment`` optionally ties it to a segment by [start, end)."""
+
+    type: Literal["caption"] = "caption"
+    clip: ClipRef
+    annotator: Name
+    text: str = Field(min_length=1, max_length=5000)
+    segment: tuple[int, int] | None = None
+
+    @field_validator("text")
+    @classmethod
+    def _not_blank(cls, v: str) -> str:
+        if not v.strip():
+            raise ValueError("caption text is blank")
+        return v
+
+
+class GoldRecord(_Record):
+    """A lead's settled answer for a clip: label and/or reference captions."""
+
+    type: Literal["gold"] = "gold"
+    clip: ClipRef
+    annotator: Name = Field(description="the lead who settled it")
+    label: Name | None = None
+    captions: list[str] | None = None
+
+
+Record = Annotated[
+    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord],
+    Field(discriminator="type"),
+]
+RECORD_TYPES: dict[str, type[_Record]] = {
+    "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
+    "caption": CaptionRecord, "gold": GoldRecord,
+}
+_adapter: TypeAdapter[Record] = TypeAdapter(Record)
+
+
+def parse_record(obj: object) -> Record:
+    """Validate one decoded JSON object; raises pydantic.ValidationError."""
+    return _adapter.validate_python(obj)
+
+
+def record_schemas() -> dict[str, dict]:
+    """JSON Schema of each record type, keyed by type name."""
+    return {name: cls.model_json_schema() for name, cls in RECORD_TYPES.items()}
