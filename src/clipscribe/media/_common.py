@@ -1,0 +1,62 @@
+"""Small helpers shared by the media modules: cancel signals, progress, cache folders, file checks."""
+
+from __future__ import annotations
+
+import os
+import threading
+from collections.abc import Callable
+from pathlib import Path
+
+import platformdirs
+
+from .errors import JobCancelled, MediaError
+
+#: A cancel signal: a ``threading.Event`` (set means stop) or a callable returning True to stop.
+Cancel = threading.Event | Callable[[], bool] | None
+#: A progress callback ``progress(done, total)``.
+Progress = Callable[[int, int], None] | None
+
+
+def default_cache_dir() -> Path:
+    """The per-user cache folder for clipscribe (``platformdirs.user_cache_dir("clipscribe")``)."""
+    return Path(platformdirs.user_cache_dir("clipscribe"))
+
+
+def is_cancelled(cancel: Cancel) -> bool:
+    """True when the cancel signal says stop."""
+    if cancel is None:
+        return False
+    if isinstance(cancel, threading.Event):
+        return cancel.is_set()
+    return bool(cancel())
+
+
+def check_cancel(cancel: Cancel, what: str) -> None:
+    """Raise :class:`JobCancelled` naming ``what`` when the cancel signal is set."""
+    if is_cancelled(cancel):
+        raise JobCancelled(f"{what}: cancelled")
+
+
+def report(progress: Progress, done: int, total: int) -> None:
+    if progress is not None:
+        progress(done, total)
+
+
+def check_media_path(path: str | os.PathLike) -> Path:
+    """Reject paths that cannot be a video before OpenCV sees them; return the path."""
+    p = Path(path)
+    if not p.exists():
+        raise MediaError(f"{p}: file not found")
+    if p.is_dir():
+        raise MediaError(f"{p}: is a folder, not a video file")
+    if p.stat().st_size == 0:
+        raise MediaError(f"{p}: file is empty (0 bytes)")
+    return p
+
+
+def atomic_write_bytes(target: Path, data: bytes) -> None:
+    """Write to a temporary file beside ``target`` and rename it into place (no half-written file)."""
+    target.parent.mkdir(parents=True, exist_ok=True)
+    tmp = target.with_name(f".{target.name}.{os.getpid()}.{threading.get_ident()}.tmp")
+    tmp.write_bytes(data)
+    os.replace(tmp, target)

@@ -1,0 +1,329 @@
+"""Frame-exact access to a video file: ``open_video(path) -> Video``.
+
+Frame ``i`` is, by definition, the ``i``-th frame a plain sequential ``cv2.VideoCapture.read()``
+loop yields. Random access seeks with OpenCV, then checks where it landed by looking the landed
+frame's timestamp up in the frame index; a landing after the target (or one that cannot be
+recognised) is retried from an earlier keyframe and, as a last resort, by decoding from the start.
+
+Threading: every method may be called from any thread. One re-entrant lock guards the decoder
+(the ``cv2.VideoCapture`` and the count of frames it has yielded); ``frame()`` holds it while it
+decodes one requested frame, so a UI thread and a worker thread (or the read-ahead thread) take
+turns frame by frame. The frame index is built in a background ``threading.Thread`` with its own
+decoder, so it never holds that lock.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import operator
+import os
+import threading
+from collections.abc import Iterator
+from pathlib import Path
+
+import cv2
+import numpy as np
+
+from ._common import check_cancel, check_media_path
+from .cache import DEFAULT_CACHE_BYTES, FrameCache
+from .errors import JobCancelled, MediaError
+from .index import FrameIndex, load_or_build_index
+
+#: Targets at most this many frames ahead of the decoder are reached by decoding forward.
+FORWARD_LIMIT = 64
+_AT_END = 1 << 62  # decoder position after it ran off the end: any request needs a seek
+
+
+def _open_capture(path: Path) -> cv2.VideoCapture:
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
+    if not cap.isOpened():
+        cap.release()
+        raise MediaError(f"{path}: not a video OpenCV can open (unknown container or codec, "
+                         "or the file is truncated)")
+    return cap
+
+
+def _sha256(path: Path, stop: threading.Event, chunk: int = 1 << 20) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as f:
+        while block := f.read(chunk):
+            h.update(block)
+            check_cancel(stop, f"{path}: hashing")
+    return h.hexdigest()
+
+
+class Video:
+    """An open video file with exact random access, a frame cache and a background frame index.
+
+    Use :func:`open_video` to make one; close it (or use ``with``) to stop its threads.
+    Frames are returned as read-only uint8 BGR arrays of shape (height, width, 3) shared with the
+    cache; ``.copy()`` one before drawing on it.
+    """
+
+    def __init__(self, path: str | os.PathLike, *, cache_bytes: int | None = None,
+                 index_cache_dir: str | os.PathLike | None = None) -> None:
+        self.path = check_media_path(path)
+        self._lock = threading.RLock()
+        self._cap = _open_capture(self.path)
+        ok, first = self._cap.read()
+        if not ok or first is None:
+            self._cap.release()
+            raise MediaError(f"{self.path}: no decodable frame (truncated, damaged or "
+                             "unsupported codec)")
+        self._pos = 1  # number of frames the decoder has yielded since it was opened or landed
+        self._fps = float(self._cap.get(cv2.CAP_PROP_FPS) or 0.0)
+        self._header_count = max(int(self._cap.get(cv2.CAP_PROP_FRAME_COUNT) or 0), 1)
+        self._size = (int(first.shape[1]), int(first.shape[0]))
+        self.cache = FrameCache(DEFAULT_CACHE_BYTES if cache_bytes is None else cache_bytes)
+        self.cache.put(0, first)
+        self._closed = False
+        self._index: FrameIndex | None = None
+        self._index_error: BaseException | None = None
+        self._index_done = threading.Event()
+        self._stop = threading.Event()
+        self.sha256: str | None = None
+        self._index_dir = Path(index_cache_dir) if index_cache_dir is not None else None
+        self._index_thread = threading.Thread(target=self._index_worker, daemon=True,
+                                              name=f"frame-index {self.path.name}")
+        self._index_thread.start()
+        self._prefetch_thread: threading.Thread | None = None
+        self._prefetch_stop = threading.Event()
+        #: Counters for tests and benchmarks: seeks tried, reopen-and-decode fallbacks, grabs.
+        self.stats = {"seeks": 0, "reopens": 0, "grabs": 1}
+
+    # -- facts ---------------------------------------------------------------------------------
+    @property
+    def fps(self) -> float:
+        """Nominal frame rate from the header (per-frame times are in :attr:`index`)."""
+        return self._fps if self._fps > 0 else 25.0
+
+    @property
+    def size(self) -> tuple[int, int]:
+        """(width, height) of the decoded frames."""
+        return self._size
+
+    @property
+    def frame_count(self) -> int:
+        """The true frame count once the index is ready; the header's estimate before that."""
+        idx = self._index
+        return idx.frame_count if idx is not None else self._header_count
+
+    @property
+    def index(self) -> FrameIndex | None:
+        """The frame index, or None while it is being built."""
+        return self._index
+
+    @property
+    def index_ready(self) -> bool:
+        return self._index is not None
+
+    def wait_index(self, timeout: float | None = None) -> bool:
+        """Block until the index is built (True) or ``timeout`` seconds pass (False).
+
+        Raises the :class:`MediaError` that stopped the index build, if one did.
+        """
+        self._index_done.wait(timeout)
+        if isinstance(self._index_error, MediaError):
+            raise self._index_error
+        return self._index is not None
+
+    def _index_worker(self) -> None:
+        try:
+            self.sha256 = _sha256(self.path, self._stop)
+            self._index = load_or_build_index(self.path, self.sha256, index_dir=self._index_dir,
+                                              cancel=self._stop)
+        except JobCancelled:
+            pass
+        except BaseException as exc:  # noqa: BLE001 - kept and re-raised by wait_index
+            self._index_error = exc if isinstance(exc, MediaError) else MediaError(
+                f"{self.path}: frame index failed: {exc}")
+        finally:
+            self._index_done.set()
+
+    # -- frames --------------------------------------------------------------------------------
+    def frame(self, i: int) -> np.ndarray:
+        """Frame ``i`` in decode order: the same pixels as the ``i``-th ``read()`` of a fresh capture.
+
+        Raises
+        ------
+        IndexError
+            ``i < 0`` or ``i >= frame_count``.
+        MediaError
+            The video is closed or the frame cannot be decoded.
+        """
+        i = operator.index(i)
+        if i < 0:
+            raise IndexError(f"frame {i} out of range for {self.path}")
+        with self._lock:
+            if self._closed:
+                raise MediaError(f"{self.path}: video is closed")
+            arr = self.cache.get(i)
+            if arr is None:
+                arr = self._decode(i)
+                self.cache.put(i, arr)
+            return arr
+
+    def frames(self, start: int = 0, stop: int | None = None) -> Iterator[np.ndarray]:
+        """Yield frames ``start, start+1, ...`` up to ``stop`` (exclusive) or the end, for playback."""
+        i = start
+        while stop is None or i < stop:
+            try:
+                yield self.frame(i)
+            except IndexError:
+                return
+            i += 1
+
+    def prefetch(self, start: int, count: int) -> None:
+        """Decode frames ``start .. start+count-1`` into the cache on a read-ahead thread.
+
+        A new call replaces the previous read-ahead. It takes the decoder lock frame by frame, so
+        :meth:`frame` calls from other threads wait at most one frame's decode.
+        """
+        self._cancel_prefetch()
+        stop = threading.Event()
+        self._prefetch_stop = stop
+
+        def work() -> None:
+            for i in range(max(start, 0), start + count):
+                if stop.is_set() or self._closed:
+                    return
+                if i in self.cache:
+                    continue
+                try:
+                    self.frame(i)
+                except (IndexError, MediaError):
+                    return
+
+        self._prefetch_thread = threading.Thread(target=work, daemon=True, name="frame read-ahead")
+        self._prefetch_thread.start()
+
+    def _cancel_prefetch(self) -> None:
+        self._prefetch_stop.set()
+        t = self._prefetch_thread
+        if t is not None and t is not threading.current_thread():
+            t.join(timeout=10)
+
+    # -- decoding (caller holds the lock) ------------------------------------------------------
+    def _decode(self, i: int) -> np.ndarray:
+        idx = self._index
+        if idx is not None and i >= idx.frame_count:
+            raise IndexError(f"frame {i} out of range: {self.path} has {idx.frame_count} frames")
+        if idx is None or not idx.seekable:
+            if self._pos > i:
+                self._reopen()
+            return self._forward(i)
+        if self._pos <= i and (self._pos >= idx.keyframe_at_or_before(i)
+                               or i - self._pos <= FORWARD_LIMIT):
+            return self._forward(i)
+        return self._seek(i, idx)
+
+    def _forward(self, i: int) -> np.ndarray:
+        """Grab without colour conversion up to frame ``i``, then retrieve it."""
+        cap = self._cap
+        self.stats["grabs"] += i - self._pos + 1
+        while self._pos < i:
+            if not cap.grab():
+                self._ran_off_end(i)
+            self._pos += 1
+        if not cap.grab():
+            self._ran_off_end(i)
+        self._pos += 1
+        ok, arr = cap.retrieve()
+        if not ok or arr is None:
+            raise MediaError(f"{self.path}: frame {i} could not be decoded")
+        return arr
+
+    def _ran_off_end(self, i: int) -> None:
+        count = self._pos
+        self._pos = _AT_END
+        idx = self._index
+        if idx is not None and i < idx.frame_count:
+            raise MediaError(f"{self.path}: decoding stopped at frame {count}, but the index "
+                             f"has {idx.frame_count} frames (file changed or damaged?)")
+        raise IndexError(f"frame {i} out of range: {self.path} has {count} frames")
+
+    def _reopen(self) -> None:
+        self.stats["reopens"] += 1
+        self._cap.release()
+        self._cap = _open_capture(self.path)
+        self._pos = 0
+
+    def _seek(self, i: int, idx: FrameIndex) -> np.ndarray:
+        """Seek near ``i``, learn the landed frame from its timestamp, decode forward to ``i``."""
+        ts = idx.timestamps_ms
+        fps = self.fps
+        key = idx.keyframe_at_or_before(i)
+        targets = [i, key]
+        k = int(np.searchsorted(idx.keyframes, key)) - 1
+        while k >= 0 and len(targets) < 4:
+            targets.append(int(idx.keyframes[k]))
+            k -= 1
+        cap = self._cap
+        for target in targets:
+            # OpenCV numbers frames by presentation time x nominal rate (relative to frame 0).
+            number = int(round((ts[target] - ts[0]) * fps / 1000.0))
+            self.stats["seeks"] += 1
+            cap.set(cv2.CAP_PROP_POS_FRAMES, number)
+            if not cap.grab():
+                continue
+            landed = idx.locate(cap.get(cv2.CAP_PROP_POS_MSEC))
+            if landed is None or landed > i:
+                continue
+            self._pos = landed + 1
+            if landed == i:
+                ok, arr = cap.retrieve()
+                if ok and arr is not None:
+                    return arr
+                break
+            return self._forward(i)
+        self._reopen()
+        return self._forward(i)
+
+    # -- lifetime ------------------------------------------------------------------------------
+    def close(self) -> None:
+        """Stop the index and read-ahead threads and release the decoder. Safe to call twice."""
+        self._stop.set()
+        self._cancel_prefetch()
+        self._index_thread.join(timeout=10)
+        with self._lock:
+            if not self._closed:
+                self._closed = True
+                self._cap.release()
+                self.cache.clear()
+
+    def __enter__(self) -> Video:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        w, h = self._size
+        return f"Video({str(self.path)!r}, {w}x{h}, {self.frame_count} frames, {self.fps:g} fps)"
+
+
+def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
+               index_cache_dir: str | os.PathLike | None = None) -> Video:
+    """Open a video for frame-exact access.
+
+    Parameters
+    ----------
+    path : path-like
+        The video file (any container and codec the OpenCV FFmpeg backend decodes).
+    cache_bytes : int, optional
+        Byte budget of the decoded-frame cache (default 512 MiB); the cache never exceeds it.
+    index_cache_dir : path-like, optional
+        Folder for cached frame indexes, keyed by the file's SHA-256 (default
+        ``platformdirs.user_cache_dir("clipscribe")/frame-index``).
+
+    Returns
+    -------
+    Video
+        Frame 0 is already decoded; the frame index builds in a background thread.
+
+    Raises
+    ------
+    MediaError
+        Missing, empty, truncated, non-video or undecodable file; the message names the file.
+    """
+    return Video(path, cache_bytes=cache_bytes, index_cache_dir=index_cache_dir)
