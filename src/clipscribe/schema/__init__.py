@@ -11,3 +11,14 @@ __all__ = [
     "SegmentRecord", "parse_record", "record_schemas",
     "SETTINGS_FILE", "CaptionGuideline", "LabelSpec", "ProjectSettings",
 ]
+
+
+def all_schemas() -> dict[str, dict]:
+    """JSON Schema of every record type (and, when present, the export formats)."""
+    out = {f"record-{k}": v for k, v in record_schemas().items()}
+    try:
+        from .export import export_schemas
+    except ImportError:
+        return out
+    out.update({f"export-{k}": v for k, v in export_schemas().items()})
+    return out

@@ -1,0 +1,220 @@
+"""The ``clipscribe`` command. Every subcommand goes through :class:`clipscribe.Project`.
+
+Errors print one line (``clipscribe: error: ...``) and exit 1; usage errors exit 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+import time
+from pathlib import Path
+from typing import Any
+
+from ._version import __version__
+from .errors import ProjectError, RecordError
+
+
+class Bar:
+    """A one-line progress bar on stderr. Hand-written because it is fifteen lines and a
+    dependency for it would outweigh it; silent when stderr is not a terminal."""
+
+    def __init__(self, what: str) -> None:
+        self.what, self.tty, self.t0, self.last = what, sys.stderr.isatty(), time.monotonic(), 0.0
+
+    def __call__(self, done: int, total: int) -> None:
+        now = time.monotonic()
+        if not self.tty or (now - self.last < 0.1 and done < total):
+            return
+        self.last = now
+        frac = done / total if total else 1.0
+        fill = int(30 * frac)
+        sys.stderr.write(f"\r{self.what} [{'#' * fill}{'.' * (30 - fill)}] {done}/{total} "
+                         f"{now - self.t0:5.1f}s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def _open(args: argparse.Namespace):
+    from .project import Project
+    return Project.open(args.project, user=getattr(args, "user", None),
+                        password=os.environ.get("CLIPSCRIBE_PASSWORD"))
+
+
+def cmd_new(args: argparse.Namespace) -> int:
+    from .project import Project
+    with Project.create(args.project, database_url=args.database_url, name=args.name) as p:
+        print(f"created project {p.settings.name!r} in {args.project} (you are lead {p.user!r})")
+        print(f"put media under {p.media_root}")
+    return 0
+
+
+def cmd_labels(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        if args.names:
+            p.define_labels(args.names, ordinal=args.ordinal or None)
+        for l in p.labels():
+            print(f"{l.key or ' '}  {l.colour}  {l.name}")
+    return 0
+
+
+def cmd_person(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        pid = p.add_annotator(args.name, role=args.role, password=os.environ.get("CLIPSCRIBE_NEW_PASSWORD"))
+        print(f"added {args.role} {args.name!r} (id {pid})")
+    return 0
+
+
+def cmd_add_media(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        folder = Path(args.folder) if args.folder else p.media_root
+        rep = p.add_media(folder, group_pattern=args.group_pattern, group_csv=args.group_csv,
+                          progress=Bar("adding media"))
+        print(f"added {len(rep.added)} clip(s); {len(rep.already_present)} already present; "
+              f"{len(rep.skipped)} skipped")
+        for path, reason in rep.skipped:
+            print(f"  skipped {path}: {reason}")
+    return 0
+
+
+def cmd_import(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        counts = p.import_records(args.file)
+        print("imported " + ", ".join(f"{n} {k}" for k, n in counts.items() if n) if any(counts.values())
+              else "nothing new to import")
+    return 0
+
+
+def cmd_dump(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        n = p.export_labels_csv(args.file) if args.file.lower().endswith(".csv") else p.export_records(args.file)
+        print(f"wrote {n} record(s) to {args.file}")
+    return 0
+
+
+def cmd_stats(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        st = p.stats()
+    if args.json:
+        print(json.dumps(st, indent=2))
+        return 0
+    width = max(len(k) for k in st)
+    for k, v in st.items():
+        if isinstance(v, dict):
+            v = ", ".join(f"{a}={b}" for a, b in v.items()) or "-"
+        print(f"{k:<{width}}  {v}")
+    return 0
+
+
+def cmd_sample(args: argparse.Namespace) -> int:
+    from .sample import build_sample
+    out = build_sample(args.project, seed=args.seed)
+    print(f"built the sample project in {out['folder']}: {out['clips']} clips, annotators "
+          f"{', '.join(out['annotators'])}, lead {out['lead']!r} ({out['seconds']} s)")
+    return 0
+
+
+def cmd_schema(args: argparse.Namespace) -> int:
+    from .schema import all_schemas
+    out = Path(args.folder)
+    out.mkdir(parents=True, exist_ok=True)
+    for name, schema in all_schemas().items():
+        (out / f"{name}.schema.json").write_text(json.dumps(schema, indent=2) + "\n", encoding="utf-8")
+        print(out / f"{name}.schema.json")
+    return 0
+
+
+def cmd_open(args: argparse.Namespace) -> int:
+    from .ui.boot import check_qt_runtime
+    problem = check_qt_runtime(screenshot=bool(args.screenshot))
+    if problem:
+        raise ProjectError(problem)
+    from .ui.app import run
+    return run(args.project, user=args.user, view=args.view, screenshot=args.screenshot)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    ap = argparse.ArgumentParser(prog="clipscribe", description=(
+        "Build video datasets: activity labels, segments and reference captions, annotator "
+        "agreement, review into gold, and leakage-checked splits."))
+    ap.add_argument("--version", action="version", version=f"clipscribe {__version__}")
+    sub = ap.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    def add(name: str, fn, help: str, *, project: bool = True, user: bool = False) -> argparse.ArgumentParser:
+        sp = sub.add_parser(name, help=help, description=help)
+        if project:
+            sp.add_argument("project", metavar="DIR", help="project folder")
+        if user:
+            sp.add_argument("--user", help="act as this person (default: the local user or the lead)")
+        sp.set_defaults(fn=fn)
+        return sp
+
+    sp = add("new", cmd_new, "create an empty project folder")
+    sp.add_argument("--name", help="project name (default: the folder's name)")
+    sp.add_argument("--database-url", help="postgresql://host/db for a team server (default: SQLite in the folder)")
+    sp = add("labels", cmd_labels, "show the label set, or set it in order", user=True)
+    sp.add_argument("names", nargs="*", help="label names in order; omit to list")
+    sp.add_argument("--ordinal", action="store_true", help="the labels are ordered (weighted kappa applies)")
+    sp = add("add-person", cmd_person, "add an annotator or a lead", user=True)
+    sp.add_argument("name")
+    sp.add_argument("--role", choices=("annotator", "lead"), default="annotator")
+    sp = add("add-media", cmd_add_media, "add every video below a folder inside the media root", user=True)
+    sp.add_argument("folder", nargs="?", help="folder to scan (default: the whole media root)")
+    grp = sp.add_mutually_exclusive_group()
+    grp.add_argument("--group-pattern", metavar="REGEX",
+                     help="regular expression with a named group (?P<group>...) matched on the relative path")
+    grp.add_argument("--group-csv", metavar="CSV", help="CSV with columns path,group")
+    sp = add("import", cmd_import, "import records (JSON Lines; or CSV of clip,annotator,label) all or nothing",
+             user=True)
+    sp.add_argument("file")
+    sp = add("dump", cmd_dump, "write all records to JSON Lines (or labels to .csv)", user=True)
+    sp.add_argument("file")
+    sp = add("stats", cmd_stats, "print project statistics", user=True)
+    sp.add_argument("--json", action="store_true", help="print JSON")
+    sp = add("sample", cmd_sample, "build the invented sample project in DIR")
+    sp.add_argument("--seed", type=int, default=7)
+    sp = add("schema", cmd_schema, "write the JSON Schema of every record type", project=False)
+    sp.add_argument("folder", nargs="?", default="docs/schema")
+    sp = add("open", cmd_open, "open the workbench window on a project", user=True)
+    sp.add_argument("--view", choices=("work", "review"), default="work", help="which view to open on")
+    sp.add_argument("--screenshot", metavar="FILE.png", help="render the window to FILE.png and exit")
+    _extend(add)
+    return ap
+
+
+def _extend(add) -> None:
+    """Commands contributed by later parts (agreement, export, team mode)."""
+    for name in ("agreement_cli", "export_cli", "team_cli"):
+        try:
+            mod = __import__(f"clipscribe.{name}", fromlist=["register"])
+        except ModuleNotFoundError as exc:
+            if exc.name != f"clipscribe.{name}":
+                raise
+            continue
+        mod.register(add)
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = build_parser().parse_args(argv)
+    try:
+        return args.fn(args) or 0
+    except (RecordError, ProjectError) as exc:
+        print(f"clipscribe: error: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("clipscribe: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # the last line of defence: one line, never a traceback
+        from .media import MediaError
+        kind = "error" if isinstance(exc, (MediaError, OSError)) else f"unexpected {type(exc).__name__}"
+        print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
+        if os.environ.get("CLIPSCRIBE_DEBUG"):
+            raise
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,407 @@
+"""Annotation edits (labels, segments, captions, clip states), the edit history and undo."""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy import delete, func, select
+from sqlalchemy.orm import Session
+
+from ..errors import RecordError, StaleWriteError
+from ..store.models import (
+    Annotator, Assignment, Caption, Clip, ClipLabel, Edit, GoldCaption, GoldLabel, GoldSegment,
+    Label, Segment, utcnow,
+)
+from .base import require, row_dict
+
+ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
+            "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
+            "gold_caption": GoldCaption}
+_UNDOABLE = set(ENTITIES)
+
+
+@dataclass(frozen=True, slots=True)
+class SegmentInfo:
+    id: int
+    clip: int
+    annotator: str
+    label: str
+    start: int
+    end: int  # exclusive
+
+
+@dataclass(frozen=True, slots=True)
+class CaptionInfo:
+    id: int
+    clip: int
+    annotator: str
+    position: int
+    text: str
+    segment: int | None
+
+
+@dataclass(frozen=True, slots=True)
+class EditInfo:
+    id: int
+    at: dt.datetime
+    who: str | None
+    action: str
+    entity: str
+    entity_id: int | None
+    clip: int | None
+    before: dict | None
+    after: dict | None
+    reverts: int | None
+
+
+class AnnotateMixin:
+    # ---- clip labels ------------------------------------------------------------------
+    def set_clip_label(self, clip: Any, annotator: Any, label: str | None) -> int | None:
+        """Set (or with ``None`` clear) one annotator's label of a clip."""
+        return self._write(lambda s: self._set_clip_label(s, clip, annotator, label))
+
+    def _set_clip_label(self, s: Session, clip: Any, annotator: Any, label: str | None) -> int | None:
+        c, a = self._clip(s, clip), self._annotator(s, annotator)
+        row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
+        if label is None:
+            if row is not None:
+                before = row_dict(row)
+                s.delete(row)
+                s.flush()
+                self._log(s, "clear", "clip_label", before["id"], c.id, before, None)
+            return None
+        lab = self._label(s, label)
+        before = row_dict(row) if row is not None else None
+        if row is None:
+            row = ClipLabel(clip_id=c.id, annotator_id=a.id, label_id=lab.id)
+            s.add(row)
+        elif row.label_id == lab.id:
+            return row.id
+        else:
+            row.label_id, row.updated_at = lab.id, utcnow()
+        s.flush()
+        self._touch(s, c, a)
+        self._log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
+        return row.id
+
+    def clip_labels(self, *, annotator: Any = None, clip: Any = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
+        def q(s: Session) -> list[tuple[int, str, str]]:
+            stmt = (select(ClipLabel.clip_id, Annotator.name, Label.name)
+                    .join(Annotator, Annotator.id == ClipLabel.annotator_id)
+                    .join(Label, Label.id == ClipLabel.label_id).order_by(ClipLabel.clip_id, Annotator.name))
+            if annotator is not None:
+                stmt = stmt.where(ClipLabel.annotator_id == self._annotator(s, annotator).id)
+            if clip is not None:
+                stmt = stmt.where(ClipLabel.clip_id == self._clip(s, clip).id)
+            return [tuple(r) for r in s.execute(stmt)]
+        return self._read(q)
+
+    # ---- segments ---------------------------------------------------------------------
+    def add_segment(self, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
+        """Add a segment ``[start, end)`` in frames; returns its id."""
+        return self._write(lambda s: self._add_segment(s, clip, annotator, label, start, end))
+
+    def _add_segment(self, s: Session, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
+        c, a = self._clip(s, clip), self._annotator(s, annotator)
+        lab = self._label(s, label)
+        self._check_segment(s, c, a, start, end, None)
+        row = Segment(clip_id=c.id, annotator_id=a.id, label_id=lab.id, start_frame=start, end_frame=end)
+        s.add(row)
+        s.flush()
+        self._touch(s, c, a)
+        self._log(s, "add", "segment", row.id, c.id, None, row_dict(row))
+        return row.id
+
+    def update_segment(self, segment_id: int, *, start: int | None = None, end: int | None = None,
+                       label: str | None = None) -> None:
+        def work(s: Session) -> None:
+            row = s.get(Segment, segment_id)
+            require(row is not None, f"segment {segment_id}: no such segment")
+            before = row_dict(row)
+            new_start = row.start_frame if start is None else start
+            new_end = row.end_frame if end is None else end
+            self._check_segment(s, s.get(Clip, row.clip_id), s.get(Annotator, row.annotator_id),
+                                new_start, new_end, row.id)
+            row.start_frame, row.end_frame = new_start, new_end
+            if label is not None:
+                row.label_id = self._label(s, label).id
+            row.updated_at = utcnow()
+            s.flush()
+            self._log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
+        self._write(work)
+
+    def delete_segment(self, segment_id: int) -> None:
+        def work(s: Session) -> None:
+            row = s.get(Segment, segment_id)
+            require(row is not None, f"segment {segment_id}: no such segment")
+            for cap in s.scalars(select(Caption).where(Caption.segment_id == row.id)):
+                before = row_dict(cap)
+                cap.segment_id = None
+                s.flush()
+                self._log(s, "change", "caption", cap.id, cap.clip_id, before, row_dict(cap))
+            before = row_dict(row)
+            s.delete(row)
+            s.flush()
+            self._log(s, "delete", "segment", before["id"], before["clip_id"], before, None)
+        self._write(work)
+
+    def split_segment(self, segment_id: int, at: int) -> int:
+        """Cut a segment in two at frame ``at``; returns the id of the new right part."""
+        def work(s: Session) -> int:
+            row = s.get(Segment, segment_id)
+            require(row is not None, f"segment {segment_id}: no such segment")
+            require(row.start_frame < at < row.end_frame,
+                    f"segment {segment_id}: frame {at} is not strictly inside [{row.start_frame}, {row.end_frame})")
+            before = row_dict(row)
+            right = Segment(clip_id=row.clip_id, annotator_id=row.annotator_id, label_id=row.label_id,
+                            start_frame=at, end_frame=row.end_frame)
+            row.end_frame, row.updated_at = at, utcnow()
+            s.flush()
+            self._log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
+            s.add(right)
+            s.flush()
+            self._log(s, "add", "segment", right.id, right.clip_id, None, row_dict(right))
+            return right.id
+        return self._write(work)
+
+    def merge_segments(self, first_id: int, second_id: int) -> None:
+        """Join two segments of one annotator into the first (spanning both; first's label)."""
+        def work(s: Session) -> None:
+            a, b = s.get(Segment, first_id), s.get(Segment, second_id)
+            require(a is not None and b is not None, "merge: no such segment")
+            require(a.clip_id == b.clip_id and a.annotator_id == b.annotator_id,
+                    "merge: segments belong to different clips or annotators")
+            before_a, before_b = row_dict(a), row_dict(b)
+            for cap in s.scalars(select(Caption).where(Caption.segment_id == b.id)):
+                cb = row_dict(cap)
+                cap.segment_id = a.id
+                s.flush()
+                self._log(s, "change", "caption", cap.id, cap.clip_id, cb, row_dict(cap))
+            s.delete(b)
+            s.flush()
+            self._log(s, "delete", "segment", before_b["id"], b.clip_id, before_b, None)
+            a.start_frame, a.end_frame = min(a.start_frame, b.start_frame), max(a.end_frame, b.end_frame)
+            a.updated_at = utcnow()
+            s.flush()
+            self._log(s, "change", "segment", a.id, a.clip_id, before_a, row_dict(a))
+        self._write(work)
+
+    def segments(self, *, clip: Any = None, annotator: Any = None) -> list[SegmentInfo]:
+        def q(s: Session) -> list[SegmentInfo]:
+            stmt = (select(Segment, Annotator.name).join(Annotator, Annotator.id == Segment.annotator_id)
+                    .order_by(Segment.clip_id, Annotator.name, Segment.start_frame, Segment.id))
+            if clip is not None:
+                stmt = stmt.where(Segment.clip_id == self._clip(s, clip).id)
+            if annotator is not None:
+                stmt = stmt.where(Segment.annotator_id == self._annotator(s, annotator).id)
+            return [SegmentInfo(g.id, g.clip_id, name, g.label.name, g.start_frame, g.end_frame)
+                    for g, name in s.execute(stmt)]
+        return self._read(q)
+
+    def _check_segment(self, s: Session, c: Clip, a: Annotator, start: int, end: int,
+                       own_id: int | None) -> None:
+        require(isinstance(start, int) and isinstance(end, int), "segment bounds must be whole frames")
+        require(0 <= start < end, f"segment [{start}, {end}): needs 0 <= start < end")
+        require(end <= c.frame_count, f"segment [{start}, {end}): clip {c.id} has only {c.frame_count} frames")
+        if not self.settings.segments_may_overlap:
+            clash = s.scalar(select(Segment).where(
+                Segment.clip_id == c.id, Segment.annotator_id == a.id, Segment.start_frame < end,
+                Segment.end_frame > start, Segment.id != (own_id or -1)))
+            require(clash is None, f"segment [{start}, {end}) overlaps segment "
+                    f"[{clash.start_frame}, {clash.end_frame}) and this project does not allow overlaps"
+                    if clash else "")
+
+    # ---- captions ---------------------------------------------------------------------
+    def add_caption(self, clip: Any, annotator: Any, text: str, *, segment: int | None = None,
+                    position: int | None = None) -> int:
+        """Add one reference caption; returns its id."""
+        return self._write(lambda s: self._add_caption(s, clip, annotator, text, segment, position))
+
+    def _add_caption(self, s: Session, clip: Any, annotator: Any, text: str, segment: int | None,
+                     position: int | None) -> int:
+        text = _caption_text(text)
+        c, a = self._clip(s, clip), self._annotator(s, annotator)
+        if segment is not None:
+            seg = s.get(Segment, segment)
+            require(seg is not None and seg.clip_id == c.id, f"segment {segment}: not a segment of clip {c.id}")
+        pos = position
+        if pos is None:
+            last = s.scalar(select(func.max(Caption.position)).where(
+                Caption.clip_id == c.id, Caption.annotator_id == a.id))
+            pos = 0 if last is None else last + 1
+        row = Caption(clip_id=c.id, annotator_id=a.id, text=text, position=pos, segment_id=segment)
+        s.add(row)
+        s.flush()
+        self._touch(s, c, a)
+        self._log(s, "add", "caption", row.id, c.id, None, row_dict(row))
+        return row.id
+
+    def update_caption(self, caption_id: int, text: str | None = None, *,
+                       segment: int | None | type(...) = ..., expected_version: int | None = None) -> int:
+        """Change a caption's text and/or segment; returns the new version. With
+        ``expected_version`` a caption changed meanwhile by someone else raises StaleWriteError."""
+        def work(s: Session) -> int:
+            row = s.get(Caption, caption_id)
+            require(row is not None, f"caption {caption_id}: no such caption")
+            if expected_version is not None and row.version != expected_version:
+                raise StaleWriteError(f"caption {caption_id} was changed by someone else "
+                                      f"(version {row.version}, you edited {expected_version}); your text was not saved")
+            before = row_dict(row)
+            if text is not None:
+                row.text = _caption_text(text)
+            if segment is not ...:
+                row.segment_id = segment
+            row.updated_at = utcnow()
+            s.flush()
+            self._log(s, "change", "caption", row.id, row.clip_id, before, row_dict(row))
+            return row.version
+        return self._write(work)
+
+    def delete_caption(self, caption_id: int) -> None:
+        def work(s: Session) -> None:
+            row = s.get(Caption, caption_id)
+            require(row is not None, f"caption {caption_id}: no such caption")
+            before = row_dict(row)
+            s.delete(row)
+            s.flush()
+            self._log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
+        self._write(work)
+
+    def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
+        return [(c.clip, c.annotator, c.text) for c in self.caption_rows(clip=clip, annotator=annotator)]
+
+    def caption_rows(self, *, clip: Any = None, annotator: Any = None) -> list[CaptionInfo]:
+        def q(s: Session) -> list[CaptionInfo]:
+            stmt = (select(Caption, Annotator.name).join(Annotator, Annotator.id == Caption.annotator_id)
+                    .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
+            if clip is not None:
+                stmt = stmt.where(Caption.clip_id == self._clip(s, clip).id)
+            if annotator is not None:
+                stmt = stmt.where(Caption.annotator_id == self._annotator(s, annotator).id)
+            return [CaptionInfo(c.id, c.clip_id, name, c.position, c.text, c.segment_id)
+                    for c, name in s.execute(stmt)]
+        return self._read(q)
+
+    # ---- clip states per annotator ----------------------------------------------------
+    def set_clip_state(self, clip: Any, annotator: Any, state: str, reason: str | None = None) -> None:
+        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
+        require(state in ("open", "submitted", "skipped", "unsure"),
+                f"state {state!r}: use open, submitted, skipped or unsure")
+        require(state != "skipped" or bool(reason and reason.strip()), "skipping a clip needs a reason")
+        def work(s: Session) -> None:
+            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            row = self._touch(s, c, a)
+            before = row_dict(row)
+            row.state, row.reason, row.updated_at = state, reason, utcnow()
+            s.flush()
+            self._refresh_clip_state(s, c)
+            self._log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
+        self._write(work)
+
+    def clip_state(self, clip: Any, annotator: Any = None) -> tuple[str, str | None]:
+        def q(s: Session) -> tuple[str, str | None]:
+            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
+            return (row.state, row.reason) if row else ("open", None)
+        return self._read(q)
+
+    def _touch(self, s: Session, c: Clip, a: Annotator) -> Assignment:
+        """The annotator's assignment of the clip, created on first work."""
+        row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
+        if row is None:
+            row = Assignment(clip_id=c.id, annotator_id=a.id, state="open")
+            s.add(row)
+            s.flush()
+        if c.state == "new":
+            c.state = "in_progress"
+        return row
+
+    @staticmethod
+    def _refresh_clip_state(s: Session, c: Clip) -> None:
+        if s.scalar(select(GoldLabel.id).where(GoldLabel.clip_id == c.id)) is not None:
+            c.state = "settled"
+            return
+        states = list(s.scalars(select(Assignment.state).where(Assignment.clip_id == c.id)))
+        live = [st for st in states if st != "expired"]
+        if live and all(st in ("submitted", "skipped") for st in live):
+            c.state = "done"
+        elif live:
+            c.state = "in_progress"
+        else:
+            c.state = "new"
+
+    # ---- history and undo -------------------------------------------------------------
+    def history(self, *, clip: Any = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
+        """The edit history, oldest first (the audit trail)."""
+        def q(s: Session) -> list[EditInfo]:
+            stmt = select(Edit, Annotator.name).join(Annotator, Annotator.id == Edit.annotator_id, isouter=True)
+            if clip is not None:
+                stmt = stmt.where(Edit.clip_id == self._clip(s, clip).id)
+            if annotator is not None:
+                stmt = stmt.where(Edit.annotator_id == self._annotator(s, annotator).id)
+            stmt = stmt.order_by(Edit.id.desc())
+            if limit:
+                stmt = stmt.limit(limit)
+            rows = [EditInfo(e.id, e.at, name, e.action, e.entity, e.entity_id, e.clip_id, e.before,
+                             e.after, e.reverts) for e, name in s.execute(stmt)]
+            return rows[::-1]
+        return self._read(q)
+
+    def revert(self, edit_ids: list[int]) -> list[int]:
+        """Undo the given edits (newest first, in one transaction) by restoring each row's
+        ``before`` state; redo is reverting the revert. Refuses (StaleWriteError) when a row
+        changed since the edit. Returns the ids of the new history rows."""
+        def work(s: Session) -> list[int]:
+            out = []
+            for eid in sorted(edit_ids, reverse=True):
+                e = s.get(Edit, eid)
+                require(e is not None and e.entity in _UNDOABLE, f"edit {eid}: cannot be undone")
+                out.append(self._restore(s, e).id)
+            return out
+        return self._write(work)
+
+    def _restore(self, s: Session, e: Edit) -> Edit:
+        model = ENTITIES[e.entity]
+        row = s.get(model, e.entity_id)
+        now = row_dict(row) if row is not None else None
+        if (now is None) != (e.after is None) or (now and e.after and _content(now) != _content(e.after)):
+            raise StaleWriteError(f"edit {e.id}: the {e.entity.replace('_', ' ')} changed since; "
+                                  "undo would overwrite newer work")
+        if e.before is None:
+            s.delete(row)
+        else:
+            values = {k: _from_json(v) for k, v in e.before.items() if k != "version"}
+            if row is None:
+                row = model(**values)
+                s.add(row)
+            else:
+                for k, v in values.items():
+                    if k != "id":
+                        setattr(row, k, v)
+        s.flush()
+        return self._log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
+                         row_dict(row) if e.before is not None else None, reverts=e.id)
+
+
+def _content(row: dict) -> dict:
+    """A row's values without the bookkeeping columns (version, timestamps)."""
+    return {k: v for k, v in row.items() if k not in ("version", "updated_at")}
+
+
+def _caption_text(text: str) -> str:
+    if not isinstance(text, str) or not text.strip():
+        raise RecordError("caption text is blank")
+    return text
+
+
+def _from_json(v: Any) -> Any:
+    if isinstance(v, str) and len(v) >= 19 and v[4] == "-" and v[10] == "T":
+        try:
+            return dt.datetime.fromisoformat(v)
+        except ValueError:
+            return v
+    return v

@@ -1,0 +1,127 @@
+"""Gold decisions by a lead: settled label, segments and reference captions, and comments."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from sqlalchemy import delete, select
+from sqlalchemy.orm import Session
+
+from ..errors import RecordError
+from ..store.models import Annotator, Clip, GoldCaption, GoldLabel, GoldSegment, ReviewComment
+from .base import require, row_dict
+
+
+class GoldMixin:
+    def _lead(self, s: Session, lead: Any) -> Annotator:
+        who = self._annotator(s, lead)
+        if who.role != "lead":
+            raise RecordError(f"{who.name!r} is not a lead: only leads settle gold")
+        return who
+
+    def set_gold_label(self, clip: Any, label: str | None, *, lead: Any = None) -> None:
+        """Settle (or with ``None`` unsettle) a clip's label."""
+        self._write(lambda s: self._set_gold_label(s, clip, label, lead))
+
+    def _set_gold_label(self, s: Session, clip: Any, label: str | None, lead: Any) -> None:
+        c, who = self._clip(s, clip), self._lead(s, lead)
+        row = s.scalar(select(GoldLabel).where(GoldLabel.clip_id == c.id))
+        before = row_dict(row) if row else None
+        if label is None:
+            if row is not None:
+                s.delete(row)
+                s.flush()
+                self._log(s, "clear", "gold_label", before["id"], c.id, before, None, who=who)
+        else:
+            lab = self._label(s, label)
+            if row is None:
+                row = GoldLabel(clip_id=c.id, label_id=lab.id, lead_id=who.id)
+                s.add(row)
+            else:
+                row.label_id, row.lead_id = lab.id, who.id
+            s.flush()
+            self._log(s, "set", "gold_label", row.id, c.id, before, row_dict(row), who=who)
+        self._refresh_clip_state(s, c)
+
+    def set_gold_segments(self, clip: Any, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
+        """Replace a clip's gold segments with ``(label, start, end)`` triples."""
+        def work(s: Session) -> None:
+            c, who = self._clip(s, clip), self._lead(s, lead)
+            for row in s.scalars(select(GoldSegment).where(GoldSegment.clip_id == c.id)):
+                before = row_dict(row)
+                s.delete(row)
+                s.flush()
+                self._log(s, "delete", "gold_segment", before["id"], c.id, before, None, who=who)
+            for label, start, end in segments:
+                require(0 <= start < end <= c.frame_count, f"gold segment [{start}, {end}): outside clip {c.id}")
+                row = GoldSegment(clip_id=c.id, label_id=self._label(s, label).id, start_frame=start,
+                                  end_frame=end, lead_id=who.id)
+                s.add(row)
+                s.flush()
+                self._log(s, "add", "gold_segment", row.id, c.id, None, row_dict(row), who=who)
+        self._write(work)
+
+    def set_gold_captions(self, clip: Any, captions: list[str | tuple[str, int | None]], *,
+                          lead: Any = None) -> None:
+        """Replace a clip's gold reference captions; items are texts or ``(text, source caption id)``."""
+        self._write(lambda s: self._set_gold_captions(s, clip, captions, lead))
+
+    def _set_gold_captions(self, s: Session, clip: Any, captions: list, lead: Any) -> None:
+        c, who = self._clip(s, clip), self._lead(s, lead)
+        for row in s.scalars(select(GoldCaption).where(GoldCaption.clip_id == c.id)):
+            before = row_dict(row)
+            s.delete(row)
+            s.flush()
+            self._log(s, "delete", "gold_caption", before["id"], c.id, before, None, who=who)
+        for pos, item in enumerate(captions):
+            text, source = (item, None) if isinstance(item, str) else item
+            require(bool(text and text.strip()), "gold caption text is blank")
+            row = GoldCaption(clip_id=c.id, position=pos, text=text, source_caption_id=source, lead_id=who.id)
+            s.add(row)
+            s.flush()
+            self._log(s, "add", "gold_caption", row.id, c.id, None, row_dict(row), who=who)
+
+    def gold_labels(self) -> dict[int, str]:
+        return self._read(lambda s: {g.clip_id: g.label.name for g in s.scalars(select(GoldLabel))})
+
+    def gold_segments(self, clip: Any = None) -> list[tuple[int, str, int, int]]:
+        def q(s: Session):
+            stmt = select(GoldSegment).order_by(GoldSegment.clip_id, GoldSegment.start_frame)
+            if clip is not None:
+                stmt = stmt.where(GoldSegment.clip_id == self._clip(s, clip).id)
+            return [(g.clip_id, g.label.name, g.start_frame, g.end_frame) for g in s.scalars(stmt)]
+        return self._read(q)
+
+    def gold_captions(self, clip: Any = None) -> dict[int, list[str]]:
+        def q(s: Session):
+            stmt = select(GoldCaption).order_by(GoldCaption.clip_id, GoldCaption.position)
+            if clip is not None:
+                stmt = stmt.where(GoldCaption.clip_id == self._clip(s, clip).id)
+            out: dict[int, list[str]] = {}
+            for g in s.scalars(stmt):
+                out.setdefault(g.clip_id, []).append(g.text)
+            return out
+        return self._read(q)
+
+    def add_comment(self, clip: Any, text: str, *, annotator: Any = None, lead: Any = None) -> int:
+        """Leave a lead's comment on a clip, optionally addressed to one annotator."""
+        def work(s: Session) -> int:
+            c, who = self._clip(s, clip), self._lead(s, lead)
+            to = self._annotator(s, annotator).id if annotator is not None else None
+            require(bool(text and text.strip()), "comment is blank")
+            row = ReviewComment(clip_id=c.id, annotator_id=to, lead_id=who.id, text=text)
+            s.add(row)
+            s.flush()
+            self._log(s, "add", "comment", row.id, c.id, None, row_dict(row), who=who)
+            return row.id
+        return self._write(work)
+
+    def comments(self, clip: Any = None) -> list[tuple[int, str | None, str, str]]:
+        """``(clip id, addressee or None, lead, text)``."""
+        def q(s: Session):
+            stmt = select(ReviewComment).order_by(ReviewComment.id)
+            if clip is not None:
+                stmt = stmt.where(ReviewComment.clip_id == self._clip(s, clip).id)
+            names = {a.id: a.name for a in s.scalars(select(Annotator))}
+            return [(r.clip_id, names.get(r.annotator_id), names[r.lead_id], r.text) for r in s.scalars(stmt)]
+        return self._read(q)

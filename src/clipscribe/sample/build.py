@@ -1,0 +1,121 @@
+"""Build the sample project: 12 clips of the invented workbench scene in 4 workcells, three
+simulated annotators whose work disagrees the way people's does, and a lead (the local user).
+
+- annotator-1 is careful: right labels, boundaries within a couple of frames, varied captions;
+- annotator-2 systematically calls "stack" "put down" and paraphrases freely;
+- annotator-3 is careless: a third of the labels are wrong, boundaries are loose, some captions
+  are vague, and they skipped a few clips (so agreement has missing ratings).
+"""
+
+from __future__ import annotations
+
+import os
+import random
+import time
+from pathlib import Path
+
+from ..project import Project
+from . import scene
+
+LABELS = [
+    {"name": "pick up", "key": "p", "colour": "#e4572e",
+     "guideline": "The gripper closes on a block resting on the bench and lifts it clear."},
+    {"name": "put down", "key": "d", "colour": "#29a0b1",
+     "guideline": "A held block is lowered onto the bench itself and released."},
+    {"name": "push", "key": "s", "colour": "#f3a712",
+     "guideline": "The gripper slides a block along the bench without lifting it."},
+    {"name": "stack", "key": "k", "colour": "#6a4c93",
+     "guideline": "A block is lifted and set down on top of another block."},
+    {"name": "idle", "key": "i", "colour": "#7f8c8d",
+     "guideline": "The arm only sways in its rest pose; nothing is moved."},
+]
+
+# (cell index, label, colour moved, other colour); three clips per workcell.
+PLAN = [
+    (0, "pick up", "red", "blue"), (0, "push", "yellow", "blue"), (0, "stack", "green", "red"),
+    (1, "put down", "blue", "yellow"), (1, "idle", "red", "green"), (1, "stack", "yellow", "blue"),
+    (2, "push", "green", "red"), (2, "pick up", "blue", "yellow"), (2, "put down", "red", "green"),
+    (3, "stack", "red", "yellow"), (3, "pick up", "yellow", "green"), (3, "push", "blue", "red"),
+]
+
+VERBS = {
+    "pick up": ["lifts the {c} block off the bench", "picks up the {c} block", "raises the {c} cube from the table",
+                "grabs the {c} block and lifts it"],
+    "put down": ["sets the {c} block down on the bench", "lowers the {c} cube onto the table",
+                 "places the {c} block on the bench", "puts the {c} block down"],
+    "push": ["pushes the {c} block along the bench", "slides the {c} cube to the right",
+             "nudges the {c} block across the table", "shoves the {c} block sideways"],
+    "stack": ["stacks the {c} block on the {o} one", "puts the {c} cube on top of the {o} cube",
+              "places the {c} block onto the {o} block", "builds a tower of the {c} and {o} blocks"],
+    "idle": ["waits above the bench without moving anything", "hovers in its rest pose",
+             "stays still while the {c} block sits on the bench", "does nothing with the blocks"],
+}
+SUBJECTS = ["the robot arm", "the grey arm", "a small robot arm", "the arm"]
+VAGUE = ["a robot does something", "robot moving", "the arm moves a bit", "something happens on the table"]
+N_FRAMES = 60
+
+
+def build_sample(folder: str | os.PathLike, *, seed: int = 7) -> dict:
+    """Create the sample project in ``folder`` (must not hold a project). Deterministic by seed."""
+    t0 = time.perf_counter()
+    root = Path(folder)
+    rng = random.Random(seed)
+    with Project.create(root, name="Workbench robot sample") as p:
+        p.update_settings(caption_guideline={**p.settings.caption_guideline.model_dump(),
+                                             "captions_per_clip": 3})
+        p.define_labels(LABELS)
+        lead = p.user
+        people = ["annotator-1", "annotator-2", "annotator-3"]
+        for name in people:
+            p.add_annotator(name)
+        actions = []
+        for i, (cell_i, label, colour, other) in enumerate(PLAN):
+            cell = scene.CELLS[cell_i]
+            start = rng.randint(8, 16)
+            end = start + rng.randint(26, 34)
+            x_from = float(rng.randint(110, 150))
+            x_to = x_from + (60 if label == "push" else 0) if label != "stack" else float(rng.randint(190, 220))
+            if label == "put down":
+                x_to = float(rng.randint(170, 230))
+            act = scene.Action(label, colour, start, end if label != "idle" else start, x_from, x_to, other)
+            rel = Path(cell.name) / f"take-{i + 1:02d}.mp4"
+            dst = p.media_root / rel
+            dst.parent.mkdir(parents=True, exist_ok=True)
+            scene.write_clip(str(dst), scene.render(cell, act, N_FRAMES, seed * 1000 + i))
+            clip = p.add_clip(dst, group=cell.name, source="rendered sample scene (invented)",
+                              licence="CC0-1.0", consent=True)
+            actions.append((clip, act))
+        for clip, act in actions:
+            _annotate(p, rng, clip, act, people)
+        p.user = lead
+    return {"folder": str(root), "clips": len(PLAN), "annotators": people, "lead": lead,
+            "seconds": round(time.perf_counter() - t0, 2)}
+
+
+def _annotate(p: Project, rng: random.Random, clip: int, act: scene.Action, people: list[str]) -> None:
+    for who in people:
+        if who == "annotator-3" and rng.random() < 0.25:
+            continue  # a careless annotator skipped this clip entirely
+        label = act.label
+        if who == "annotator-2" and label == "stack":
+            label = "put down"  # systematic confusion
+        if who == "annotator-3" and rng.random() < 0.33:
+            label = rng.choice([l["name"] for l in LABELS if l["name"] != label])
+        p.set_clip_label(clip, who, label)
+        if act.label != "idle":
+            slack = {"annotator-1": 2, "annotator-2": 3, "annotator-3": 8}[who]
+            start = max(0, act.start + rng.randint(-slack, slack))
+            end = min(N_FRAMES, act.end + rng.randint(-slack, slack))
+            seg = p.add_segment(clip, who, label, start, max(start + 1, end))
+        else:
+            seg = None
+        verbs = VERBS[act.label] if who != "annotator-2" or act.label != "stack" else VERBS["put down"]
+        picks = rng.sample(verbs, 3)
+        for k, phrase in enumerate(picks):
+            if who == "annotator-3" and rng.random() < 0.4:
+                text = rng.choice(VAGUE)
+            else:
+                text = f"{rng.choice(SUBJECTS)} {phrase.format(c=act.colour, o=act.other)}"
+                text = text[0].upper() + text[1:] + "."
+            p.add_caption(clip, who, text, segment=seg if k == 0 else None)
+        p.set_clip_state(clip, who, "submitted")

@@ -1,0 +1,132 @@
+"""Engines, sessions and migrations.
+
+SQLite: WAL journal, foreign keys on, a busy timeout, and ``BEGIN IMMEDIATE`` for write
+transactions so two processes never deadlock upgrading a read lock to a write lock.
+PostgreSQL: psycopg 3 (team mode).
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import TypeVar
+
+from alembic import command
+from alembic.config import Config
+from alembic.runtime.migration import MigrationContext
+from alembic.script import ScriptDirectory
+from sqlalchemy import Engine, create_engine, event
+from sqlalchemy.exc import OperationalError
+from sqlalchemy.orm import Session
+
+from ..errors import ProjectError
+
+MIGRATIONS = Path(__file__).with_name("migrations")
+SQLITE_BUSY_MS = 15_000
+T = TypeVar("T")
+
+
+def sqlite_url(path: Path) -> str:
+    return f"sqlite+pysqlite:///{path}"
+
+
+def make_engine(url: str) -> Engine:
+    """Create an engine with the pragmas and transaction handling this project relies on."""
+    if url.startswith("postgresql://"):
+        url = "postgresql+psycopg://" + url[len("postgresql://"):]
+    if url.startswith("sqlite"):
+        engine = create_engine(url, connect_args={"timeout": SQLITE_BUSY_MS / 1000})
+        _sqlite_setup(engine)
+        return engine
+    if url.startswith("postgresql+psycopg"):
+        return create_engine(url, pool_pre_ping=True)
+    raise ProjectError(f"database URL {url!r}: only sqlite and postgresql are supported")
+
+
+def _sqlite_setup(engine: Engine) -> None:
+    @event.listens_for(engine, "connect")
+    def _on_connect(dbapi_conn, _record):  # noqa: ANN001
+        # Take transaction control away from the sqlite3 module so BEGIN is ours to emit.
+        dbapi_conn.isolation_level = None
+        cur = dbapi_conn.cursor()
+        cur.execute(f"PRAGMA busy_timeout = {SQLITE_BUSY_MS}")
+        cur.execute("PRAGMA journal_mode = WAL")
+        cur.execute("PRAGMA synchronous = NORMAL")
+        cur.execute("PRAGMA foreign_keys = ON")
+        cur.close()
+
+    @event.listens_for(engine, "begin")
+    def _on_begin(conn):  # noqa: ANN001
+        mode = conn.get_execution_options().get("sqlite_begin", "DEFERRED")
+        conn.exec_driver_sql(f"BEGIN {mode}")
+
+
+def writer(engine: Engine) -> Engine:
+    """The engine to use for write transactions (takes the write lock up front on SQLite)."""
+    if engine.dialect.name == "sqlite":
+        return engine.execution_options(sqlite_begin="IMMEDIATE")
+    return engine
+
+
+def _is_busy(exc: OperationalError) -> bool:
+    text = str(exc.orig).lower() if exc.orig is not None else str(exc).lower()
+    return "database is locked" in text or "database is busy" in text
+
+
+def with_retry(fn: Callable[[], T], *, attempts: int = 8) -> T:
+    """Run ``fn`` (a whole transaction) again when SQLite reports the database busy."""
+    for i in range(attempts):
+        try:
+            return fn()
+        except OperationalError as exc:
+            if not _is_busy(exc) or i == attempts - 1:
+                raise
+            time.sleep(0.05 * (2 ** i))
+    raise AssertionError("unreachable")
+
+
+@contextmanager
+def transaction(engine: Engine) -> Iterator[Session]:
+    """One session, one transaction: commit on success, roll back on error."""
+    with Session(engine, expire_on_commit=False) as s, s.begin():
+        yield s
+
+
+# ---- migrations ---------------------------------------------------------------------------
+
+def alembic_config(engine: Engine) -> Config:
+    cfg = Config()
+    cfg.set_main_option("script_location", str(MIGRATIONS))
+    cfg.attributes["engine"] = engine
+    return cfg
+
+
+def head_revision() -> str:
+    script = ScriptDirectory(str(MIGRATIONS))
+    heads = script.get_heads()
+    assert len(heads) == 1, heads
+    return heads[0]
+
+
+def current_revision(engine: Engine) -> str | None:
+    with engine.connect() as conn:
+        return MigrationContext.configure(conn).get_current_revision()
+
+
+def migrate(engine: Engine) -> None:
+    """Bring the schema to this version's head; refuse a database from a newer clipscribe."""
+    script = ScriptDirectory(str(MIGRATIONS))
+    current = current_revision(engine)
+    if current is not None:
+        try:
+            script.get_revision(current)
+        except Exception:  # alembic raises several kinds for an unknown revision
+            raise ProjectError(
+                f"the project database is at schema revision {current!r}, which this clipscribe "
+                f"does not know: it was written by a newer version. Upgrade clipscribe to open it."
+            ) from None
+        if current == head_revision():
+            return
+    command.upgrade(alembic_config(engine), "head")

@@ -1,0 +1,61 @@
+"""Before Qt starts: find missing system libraries and name the Debian/Ubuntu package to
+install, instead of letting Qt abort with a traceback or a core dump."""
+
+from __future__ import annotations
+
+import ctypes
+import os
+
+# shared library -> Debian/Ubuntu package that provides it
+LIBRARIES = {
+    "libGL.so.1": "libgl1",
+    "libEGL.so.1": "libegl1",
+    "libfontconfig.so.1": "libfontconfig1",
+    "libxkbcommon.so.0": "libxkbcommon0",
+    "libglib-2.0.so.0": "libglib2.0-0",
+    "libdbus-1.so.3": "libdbus-1-3",
+}
+# needed only by the X11 (xcb) platform plugin
+XCB_LIBRARIES = {
+    "libxkbcommon-x11.so.0": "libxkbcommon-x11-0",
+    "libxcb-cursor.so.0": "libxcb-cursor0",
+    "libxcb-icccm.so.4": "libxcb-icccm4",
+    "libxcb-keysyms.so.1": "libxcb-keysyms1",
+    "libxcb-shape.so.0": "libxcb-shape0",
+    "libxcb-render-util.so.0": "libxcb-render-util0",
+    "libxcb-image.so.0": "libxcb-image0",
+    "libxcb-randr.so.0": "libxcb-randr0",
+    "libX11-xcb.so.1": "libx11-xcb1",
+}
+
+
+def missing_packages(libraries: dict[str, str]) -> list[str]:
+    missing = []
+    for lib, pkg in libraries.items():
+        try:
+            ctypes.CDLL(lib)
+        except OSError:
+            missing.append(pkg)
+    return missing
+
+
+def check_qt_runtime(*, screenshot: bool = False) -> str | None:
+    """One line saying what to install or set, or None when Qt can start."""
+    if os.name != "posix" or not os.path.exists("/proc"):
+        return None  # the checks below are for Linux
+    platform = os.environ.get("QT_QPA_PLATFORM", "")
+    if screenshot and not platform:
+        os.environ["QT_QPA_PLATFORM"] = platform = "offscreen"
+    libs = dict(LIBRARIES)
+    if not platform and not os.environ.get("WAYLAND_DISPLAY"):
+        if not os.environ.get("DISPLAY"):
+            return ("no display found: run inside a desktop session, under Xvfb "
+                    "(xvfb-run clipscribe open ...), or add --screenshot FILE.png")
+        libs.update(XCB_LIBRARIES)
+    elif platform.startswith("xcb"):
+        libs.update(XCB_LIBRARIES)
+    missing = missing_packages(libs)
+    if missing:
+        return ("Qt needs system libraries that are missing; on Debian/Ubuntu run: "
+                f"sudo apt-get install {' '.join(missing)}")
+    return None
