@@ -1,0 +1,59 @@
+"""Plain input objects the project façade fills in for an export. No Qt, no database."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class SegmentInput:
+    """A settled temporal segment in frames; ``end`` is exclusive."""
+
+    label: str
+    start: int
+    end: int
+
+
+@dataclass(frozen=True)
+class CaptionInput:
+    """One annotator caption. ``accepted`` is the caller's verdict (guideline met, not rejected)."""
+
+    text: str
+    annotator: str | None = None
+    accepted: bool = True
+    segment: tuple[int, int] | None = None
+
+
+@dataclass(frozen=True)
+class ClipInput:
+    """Everything the export needs to know about one clip.
+
+    ``labels`` holds one label per annotator who labelled the clip; ``gold_label`` and
+    ``gold_captions`` are the lead's settled answers (None when not settled). ``fingerprint`` is
+    the clip's 64-bit perceptual hash as a plain int; ``sha256`` the hex digest of the media file.
+    ``source_path`` is where the writer reads the media from when it copies or links them.
+    """
+
+    clip_id: str
+    media_path: str
+    group: str | None = None
+    sha256: str | None = None
+    fingerprint: int | None = None
+    fps: float | None = None
+    frame_count: int | None = None
+    labels: tuple[str, ...] = ()
+    gold_label: str | None = None
+    captions: tuple[CaptionInput, ...] = ()
+    gold_captions: tuple[str, ...] | None = None
+    segments: tuple[SegmentInput, ...] = ()
+    consent: bool | None = None
+    licence: str | None = None
+    source_path: str | None = None
+    extra: dict = field(default_factory=dict, compare=False)
+
+    @property
+    def duration_s(self) -> float | None:
+        """frame_count / fps, or None when either is unknown."""
+        if self.fps and self.frame_count is not None:
+            return self.frame_count / self.fps
+        return None

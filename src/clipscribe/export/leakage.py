@@ -1,0 +1,259 @@
+"""Leakage checks over a split assignment: what could let a model see its test data in training.
+
+Blocking kinds (stop an export unless overridden): ``group-split``, ``duplicate-media``,
+``near-duplicate-media``, ``missing-consent``, ``missing-licence``. Warning kinds:
+``duplicate-media-in-split``, ``duplicate-caption``, ``near-duplicate-caption``,
+``no-checksum``, ``no-fingerprint``. Caption findings are warnings because short captions of
+different clips often coincide; the media checks decide whether the same footage crossed splits.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from dataclasses import dataclass, field
+from typing import Literal, Mapping, Sequence
+
+import numpy as np
+
+from .inputs import ClipInput
+from .neardup import as_uint64, near_pairs
+from .policy import caption_texts
+from .textdup import normalise_caption, similar_pairs
+
+Severity = Literal["blocking", "warning"]
+_KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missing-consent",
+               "missing-licence", "duplicate-media-in-split", "duplicate-caption",
+               "near-duplicate-caption", "no-checksum", "no-fingerprint"]
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One leakage finding: ``kind``, ``severity``, a sentence, the clips involved, details."""
+
+    kind: str
+    severity: Severity
+    message: str
+    clips: tuple[str, ...]
+    details: dict = field(default_factory=dict, compare=False)
+
+    def to_dict(self) -> dict:
+        return {"kind": self.kind, "severity": self.severity, "message": self.message,
+                "clips": list(self.clips), "details": self.details}
+
+
+@dataclass(frozen=True)
+class LeakageReport:
+    """Every finding of :func:`check_leakage` and the settings that produced them."""
+
+    findings: tuple[Finding, ...]
+    recipe: dict
+
+    @property
+    def blocking(self) -> list[Finding]:
+        return [f for f in self.findings if f.severity == "blocking"]
+
+    @property
+    def warnings(self) -> list[Finding]:
+        return [f for f in self.findings if f.severity == "warning"]
+
+    def counts(self) -> dict[str, int]:
+        out: dict[str, int] = {}
+        for f in self.findings:
+            out[f.kind] = out.get(f.kind, 0) + 1
+        return out
+
+    def to_dict(self) -> dict:
+        """Plain dict in the shape of ``schema.export.LeakageReportModel``."""
+        return {"blocking": [f.to_dict() for f in self.blocking],
+                "warnings": [f.to_dict() for f in self.warnings],
+                "counts": self.counts(), "recipe": dict(self.recipe)}
+
+
+def _split_counts(clips: Sequence[str], assignment: Mapping[str, str]) -> dict[str, int]:
+    out: dict[str, int] = {}
+    for c in clips:
+        out[assignment[c]] = out.get(assignment[c], 0) + 1
+    return dict(sorted(out.items()))
+
+
+def _describe(counts: Mapping[str, int]) -> str:
+    return ", ".join(f"{s} ({n})" for s, n in counts.items())
+
+
+def _groups(clips: Sequence[ClipInput], assignment: Mapping[str, str]) -> list[Finding]:
+    by_group: dict[str, list[str]] = defaultdict(list)
+    for c in clips:
+        if c.group is not None:
+            by_group[str(c.group)].append(c.clip_id)
+    out = []
+    for g, members in sorted(by_group.items()):
+        counts = _split_counts(members, assignment)
+        if len(counts) > 1:
+            out.append(Finding("group-split", "blocking",
+                               f"group {g!r} is in {len(counts)} splits: {_describe(counts)}",
+                               tuple(sorted(members)), {"group": g, "splits": counts}))
+    return out
+
+
+def _identical_media(clips: Sequence[ClipInput], assignment: Mapping[str, str]) -> list[Finding]:
+    by_sha: dict[str, list[str]] = defaultdict(list)
+    for c in clips:
+        if c.sha256:
+            by_sha[c.sha256.lower()].append(c.clip_id)
+    out = []
+    for sha, members in sorted(by_sha.items()):
+        if len(members) < 2:
+            continue
+        counts = _split_counts(members, assignment)
+        if len(counts) > 1:
+            out.append(Finding("duplicate-media", "blocking",
+                               f"{len(members)} clips with identical media (sha256 {sha[:12]}…) "
+                               f"are in several splits: {_describe(counts)}",
+                               tuple(sorted(members)), {"sha256": sha, "splits": counts}))
+        else:
+            out.append(Finding("duplicate-media-in-split", "warning",
+                               f"{len(members)} clips with identical media (sha256 {sha[:12]}…) "
+                               f"in split {next(iter(counts))!r}",
+                               tuple(sorted(members)), {"sha256": sha, "splits": counts}))
+    return out
+
+
+def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
+                radius: int) -> list[Finding]:
+    have = [c for c in clips if c.fingerprint is not None]
+    if len(have) < 2:
+        return []
+    codes = as_uint64([c.fingerprint for c in have])
+    names, split_idx = np.unique([assignment[c.clip_id] for c in have], return_inverse=True)
+    # Every cross-split pair has a member outside the largest split: query only those.
+    largest = np.argmax(np.bincount(split_idx))
+    queries = np.flatnonzero(split_idx != largest)
+    i, j, d = near_pairs(codes, radius, queries=queries)
+    cross = split_idx[i] != split_idx[j]
+    out = []
+    for a, b, dist in zip(i[cross].tolist(), j[cross].tolist(), d[cross].tolist()):
+        ca, cb = have[a], have[b]
+        if ca.sha256 and cb.sha256 and ca.sha256.lower() == cb.sha256.lower():
+            continue  # already a duplicate-media finding
+        pair = tuple(sorted((ca.clip_id, cb.clip_id)))
+        out.append(Finding(
+            "near-duplicate-media", "blocking",
+            f"clips {pair[0]!r} ({assignment[pair[0]]}) and {pair[1]!r} "
+            f"({assignment[pair[1]]}) look alike: fingerprints differ in {dist} of 64 bits "
+            f"(radius {radius})",
+            pair, {"hamming": dist, "splits": {p: assignment[p] for p in pair}}))
+    return sorted(out, key=lambda f: f.clips)
+
+
+def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
+              threshold: float) -> list[Finding]:
+    by_text: dict[str, set[str]] = defaultdict(set)
+    for c in clips:
+        for t in caption_texts(c):
+            norm = normalise_caption(t)
+            if norm:
+                by_text[norm].add(c.clip_id)
+    texts = sorted(by_text)
+    out = []
+    for t in texts:
+        members = sorted(by_text[t])
+        counts = _split_counts(members, assignment)
+        if len(counts) > 1:
+            out.append(Finding("duplicate-caption", "warning",
+                               f"caption {t!r} is written for clips in several splits: "
+                               f"{_describe(counts)}", tuple(members),
+                               {"text": t, "splits": counts}))
+    if threshold < 1.0:
+        for a, b, sim in similar_pairs(texts, threshold):
+            members = sorted(by_text[texts[a]] | by_text[texts[b]])
+            counts = _split_counts(members, assignment)
+            if len(counts) > 1:
+                out.append(Finding(
+                    "near-duplicate-caption", "warning",
+                    f"captions {texts[a]!r} and {texts[b]!r} are near-identical (Jaccard "
+                    f"{sim:.2f}) across splits: {_describe(counts)}", tuple(members),
+                    {"texts": [texts[a], texts[b]], "jaccard": round(sim, 4),
+                     "splits": counts}))
+    return out
+
+
+def _consent(clips: Sequence[ClipInput], require_consent: bool,
+             require_licence: bool) -> list[Finding]:
+    out = []
+    if require_consent:
+        missing = sorted(c.clip_id for c in clips if c.consent is not True)
+        if missing:
+            out.append(Finding("missing-consent", "blocking",
+                               f"{len(missing)} clips have no recorded consent, which this "
+                               f"project requires", tuple(missing), {"count": len(missing)}))
+    if require_licence:
+        missing = sorted(c.clip_id for c in clips if not (c.licence or "").strip())
+        if missing:
+            out.append(Finding("missing-licence", "blocking",
+                               f"{len(missing)} clips have no licence, which this project "
+                               f"requires", tuple(missing), {"count": len(missing)}))
+    return out
+
+
+def _unchecked(clips: Sequence[ClipInput]) -> list[Finding]:
+    out = []
+    for kind, attr, what in (("no-checksum", "sha256", "identical-media"),
+                             ("no-fingerprint", "fingerprint", "near-duplicate")):
+        missing = sorted(c.clip_id for c in clips if getattr(c, attr) is None)
+        if missing:
+            out.append(Finding(kind, "warning",
+                               f"{len(missing)} clips have no {attr}; the {what} check could "
+                               f"not cover them", tuple(missing), {"count": len(missing)}))
+    return out
+
+
+def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
+                  require_consent: bool = False, require_licence: bool = False,
+                  hamming_radius: int = 8, caption_threshold: float = 0.9) -> LeakageReport:
+    """Look for leakage between splits.
+
+    Only clips present in ``assignment`` are checked. Near-duplicate media: two clips whose
+    64-bit perceptual fingerprints differ in at most ``hamming_radius`` bits (Hamming distance,
+    found exactly by multi-index hashing; see :mod:`clipscribe.export.neardup`). Captions:
+    identical after normalisation, or word 3-gram shingle Jaccard >= ``caption_threshold``
+    (see :mod:`clipscribe.export.textdup`); ``caption_threshold=1.0`` keeps only identical text.
+
+    Parameters
+    ----------
+    clips : sequence of ClipInput
+    assignment : mapping of clip id to split
+    require_consent, require_licence : bool
+        Report clips lacking ``consent=True`` / a licence as blocking.
+    hamming_radius : int
+        0..63; 8 of 64 bits is a common practice for perceptual hashes of the same footage.
+    caption_threshold : float
+        In (0, 1].
+
+    Returns
+    -------
+    LeakageReport
+    """
+    if not 0 <= hamming_radius < 64:
+        raise ValueError(f"hamming_radius must lie in [0, 63], got {hamming_radius!r}")
+    if not 0.0 < caption_threshold <= 1.0:
+        raise ValueError(f"caption_threshold must lie in (0, 1], got {caption_threshold!r}")
+    clips = [c for c in clips if c.clip_id in assignment]
+    findings = (_groups(clips, assignment) + _identical_media(clips, assignment)
+                + _near_media(clips, assignment, hamming_radius)
+                + _consent(clips, require_consent, require_licence)
+                + _captions(clips, assignment, caption_threshold) + _unchecked(clips))
+    findings.sort(key=lambda f: _KIND_ORDER.index(f.kind))
+    recipe = {
+        "clips_checked": len(clips),
+        "hamming_radius": hamming_radius,
+        "near_duplicate_media": "64-bit perceptual fingerprints with Hamming distance <= radius, "
+                                "across splits; exact multi-index hashing search",
+        "identical_media": "equal sha256 of the media file",
+        "caption_normalisation": "NFKC, case fold, punctuation to space, collapse whitespace",
+        "caption_threshold": caption_threshold,
+        "near_identical_captions": "Jaccard of word 3-gram shingle sets >= threshold, across "
+                                   "splits; exact prefix-filtered search",
+        "require_consent": require_consent,
+        "require_licence": require_licence,
+    }
+    return LeakageReport(tuple(findings), recipe)

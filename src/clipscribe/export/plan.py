@@ -1,0 +1,113 @@
+"""An export plan: labels decided, splits assigned, leakage checked. Nothing written yet."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Iterable, Mapping
+
+from .inputs import ClipInput
+from .leakage import LeakageReport, check_leakage
+from .policy import LabelDecision, LabelPolicy, apply_policy
+from .splits import SplitResult, split_clips
+
+
+class ExportError(RuntimeError):
+    """An export that cannot be written (target not empty, media missing, …)."""
+
+
+class ExportBlocked(ExportError):
+    """The leakage check found blocking findings and no override was given."""
+
+    def __init__(self, report: LeakageReport):
+        self.report = report
+        kinds = ", ".join(f"{k} ({n})" for k, n in report.counts().items()
+                          if any(f.kind == k for f in report.blocking))
+        super().__init__(f"export blocked by {len(report.blocking)} leakage findings: {kinds}; "
+                         f"fix them or pass an override naming who accepts them and why")
+
+
+class ExportCancelled(ExportError):
+    """The cancel event was set; nothing was left behind."""
+
+
+@dataclass(frozen=True)
+class Override:
+    """Lets an export with blocking findings through; recorded in the manifest."""
+
+    by: str
+    reason: str
+
+    def __post_init__(self) -> None:
+        if not self.by.strip() or not self.reason.strip():
+            raise ValueError("an override needs who (by) and why (reason)")
+
+
+@dataclass(frozen=True)
+class ExportPlan:
+    """What :func:`clipscribe.export.write_export` writes.
+
+    ``clips`` are the exported clips (left-out ones are in ``left_out``); ``frozen`` is the
+    assignment passed in, carried forward in the manifest together with the new one.
+    """
+
+    project: str
+    clips: tuple[ClipInput, ...]
+    decisions: dict[str, LabelDecision]
+    left_out: tuple[LabelDecision, ...]
+    split: SplitResult
+    leakage: LeakageReport
+    policy: LabelPolicy
+    frozen: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def assignment(self) -> dict[str, str]:
+        return self.split.assignment
+
+    @property
+    def seed(self) -> int:
+        return self.split.seed
+
+
+def _validate(clips: list[ClipInput]) -> None:
+    seen: set[str] = set()
+    for c in clips:
+        if c.clip_id in seen:
+            raise ValueError(f"clip {c.clip_id!r} is given twice")
+        seen.add(c.clip_id)
+        if (c.segments or any(cap.segment for cap in c.captions)) and not c.fps:
+            raise ValueError(f"clip {c.clip_id!r} has segments but no fps; frames cannot be "
+                             f"turned into seconds")
+        if c.fps is not None and c.fps <= 0:
+            raise ValueError(f"clip {c.clip_id!r}: fps must be positive, got {c.fps!r}")
+        for s in c.segments:
+            if not 0 <= s.start < s.end:
+                raise ValueError(f"clip {c.clip_id!r}: segment {s.label!r} needs "
+                                 f"0 <= start < end, got {s.start}..{s.end}")
+
+
+def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
+               project: str = "untitled", policy: LabelPolicy | None = None, seed: int = 0,
+               frozen: Mapping[str, str] | None = None, require_consent: bool = False,
+               require_licence: bool = False, hamming_radius: int = 8,
+               caption_threshold: float = 0.9) -> ExportPlan:
+    """Decide labels, assign splits to the clips that are kept, and check for leakage.
+
+    The label policy runs first (:func:`clipscribe.export.policy.decide_label`); splits are
+    stratified on the decided label (:func:`clipscribe.export.splits.split_clips`); the leakage
+    check (:func:`clipscribe.export.leakage.check_leakage`) sees the exported captions.
+    """
+    clips = list(clips)
+    _validate(clips)
+    policy = policy or LabelPolicy()
+    decisions = apply_policy(clips, policy)
+    kept = [c for c, d in zip(clips, decisions) if d.included]
+    by_id = {d.clip_id: d for d in decisions if d.included}
+    frozen = {str(k): str(v) for k, v in (frozen or {}).items()}
+    split = split_clips([(c.clip_id, c.group, by_id[c.clip_id].label) for c in kept], ratios,
+                        seed=seed, frozen=frozen)
+    report = check_leakage(kept, split.assignment, require_consent=require_consent,
+                           require_licence=require_licence, hamming_radius=hamming_radius,
+                           caption_threshold=caption_threshold)
+    return ExportPlan(project, tuple(kept), by_id,
+                      tuple(d for d in decisions if not d.included), split, report, policy,
+                      frozen)

@@ -1,0 +1,142 @@
+"""Label policy: which label and which captions a clip is exported with, or why it is left out."""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass
+from typing import Iterable, Literal, Sequence
+
+from .inputs import CaptionInput, ClipInput
+
+# Shares are ratios of small integers; compare with a little slack so 3/5 >= 0.6 holds.
+_EPS = 1e-9
+
+
+@dataclass(frozen=True)
+class LabelPolicy:
+    """Settings of the label policy.
+
+    Parameters
+    ----------
+    min_agreement : float
+        Smallest majority share (0..1) accepted when no gold label exists.
+    require_label : bool
+        When False, clips with no labels at all are exported without a label (caption-only
+        datasets). Ties and weak majorities are left out either way.
+    """
+
+    min_agreement: float = 0.6
+    require_label: bool = True
+
+    def __post_init__(self) -> None:
+        if not 0.0 <= self.min_agreement <= 1.0:
+            raise ValueError(f"min_agreement must lie in [0, 1], got {self.min_agreement!r}")
+
+    def describe(self) -> str:
+        """The rule in words, for the manifest."""
+        return (f"gold label when the lead settled one; else the majority label when its share "
+                f"of annotator labels is >= {self.min_agreement:.2f} and no other label has as "
+                f"many votes; else the clip is left out. Captions: the gold reference set when "
+                f"present, else every accepted annotator caption.")
+
+
+@dataclass(frozen=True)
+class LabelDecision:
+    """The outcome for one clip: ``label`` and ``source``, or ``reason`` when left out."""
+
+    clip_id: str
+    label: str | None
+    source: Literal["gold", "majority"] | None
+    agreement: float | None
+    annotators: int
+    reason: str | None = None
+
+    @property
+    def included(self) -> bool:
+        return self.reason is None
+
+
+def _quote_list(names: Sequence[str]) -> str:
+    quoted = [f"'{n}'" for n in names]
+    return quoted[0] if len(quoted) == 1 else ", ".join(quoted[:-1]) + " and " + quoted[-1]
+
+
+def decide_label(labels: Iterable[str], gold: str | None = None, *, min_agreement: float = 0.6,
+                 require_label: bool = True, clip_id: str = "") -> LabelDecision:
+    """Decide a clip's label: gold first, else a strong enough majority.
+
+    The agreement share of a label :math:`y` over the :math:`n` annotator labels is
+
+    .. math:: a(y) = \\frac{|\\{i : y_i = y\\}|}{n}
+
+    A majority label :math:`\\hat y = \\arg\\max_y a(y)` is accepted when it is unique (a tie is
+    not a majority) and :math:`a(\\hat y) \\ge` ``min_agreement``. This is plain plurality voting
+    with a quorum, common practice for settling crowd labels.
+
+    Parameters
+    ----------
+    labels : iterable of str
+        One label per annotator.
+    gold : str or None
+        The lead's settled label; when given it wins and ``agreement`` is the share of
+        annotators who chose it (None when nobody labelled the clip).
+    min_agreement : float
+        Quorum for the majority, 0..1.
+    require_label : bool
+        When False a clip with no labels is kept with ``label=None``.
+    clip_id : str
+        Carried into the decision.
+
+    Returns
+    -------
+    LabelDecision
+        ``reason`` is None when the clip is exported, else one of ``"no labels"``,
+        ``"tie between 'X' and 'Y'"``, ``"majority 'X' 0.50 below minimum 0.60"``.
+    """
+    votes = Counter(labels)
+    n = sum(votes.values())
+    if gold is not None:
+        share = votes.get(gold, 0) / n if n else None
+        return LabelDecision(clip_id, gold, "gold", share, n)
+    if n == 0:
+        if require_label:
+            return LabelDecision(clip_id, None, None, None, 0, reason="no labels")
+        return LabelDecision(clip_id, None, None, None, 0)
+    top = max(votes.values())
+    leaders = sorted(lab for lab, c in votes.items() if c == top)
+    share = top / n
+    if len(leaders) > 1:
+        return LabelDecision(clip_id, None, None, share, n,
+                             reason=f"tie between {_quote_list(leaders)}")
+    if share + _EPS < min_agreement:
+        return LabelDecision(clip_id, None, None, share, n,
+                             reason=f"majority '{leaders[0]}' {share:.2f} below minimum "
+                                    f"{min_agreement:.2f}")
+    return LabelDecision(clip_id, leaders[0], "majority", share, n)
+
+
+@dataclass(frozen=True)
+class CaptionChoice:
+    """Captions exported for a clip: ``(text, segment or None)`` pairs and where they came from."""
+
+    captions: tuple[tuple[str, tuple[int, int] | None], ...]
+    source: Literal["gold", "accepted"]
+
+
+def decide_captions(captions: Sequence[CaptionInput],
+                    gold: Sequence[str] | None = None) -> CaptionChoice:
+    """The gold reference set when present (non-empty), else every accepted caption."""
+    if gold:
+        return CaptionChoice(tuple((t, None) for t in gold), "gold")
+    return CaptionChoice(tuple((c.text, c.segment) for c in captions if c.accepted), "accepted")
+
+
+def caption_texts(clip: ClipInput) -> tuple[str, ...]:
+    """The caption texts a clip is exported with (used by the leakage checks too)."""
+    return tuple(t for t, _ in decide_captions(clip.captions, clip.gold_captions).captions)
+
+
+def apply_policy(clips: Iterable[ClipInput], policy: LabelPolicy) -> list[LabelDecision]:
+    """:func:`decide_label` for every clip, in input order."""
+    return [decide_label(c.labels, c.gold_label, min_agreement=policy.min_agreement,
+                         require_label=policy.require_label, clip_id=c.clip_id) for c in clips]

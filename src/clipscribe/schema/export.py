@@ -1,0 +1,157 @@
+"""Export records and the export manifest (pydantic). No I/O.
+
+One :class:`ExportRecord` is one line of a split's JSON Lines file; :class:`ExportManifest` is
+``manifest.json`` beside them. :func:`export_schemas` gives the JSON Schema of both, generated from
+these classes so the files and their schema cannot drift apart.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict, Field, model_validator
+
+EXPORT_FORMAT = "clipscribe-export/1"
+
+_SHA256 = r"^[0-9a-f]{64}$"
+
+
+class _Model(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class ExportSegment(_Model):
+    """A temporal segment: frames (``end`` exclusive) and the same bounds in seconds."""
+
+    label: str = Field(min_length=1)
+    start: int = Field(ge=0, description="first frame (0-based)")
+    end: int = Field(gt=0, description="frame after the last frame")
+    start_s: float = Field(ge=0, description="start / fps")
+    end_s: float = Field(ge=0, description="end / fps")
+
+    @model_validator(mode="after")
+    def _ordered(self) -> "ExportSegment":
+        if self.end <= self.start:
+            raise ValueError(f"segment end ({self.end}) must be greater than start ({self.start})")
+        return self
+
+
+class ExportCaption(_Model):
+    """One reference caption; ``start``/``end`` (frames) tie it to a segment when given."""
+
+    text: str = Field(min_length=1)
+    source: Literal["gold", "accepted"]
+    start: int | None = Field(default=None, ge=0)
+    end: int | None = Field(default=None, gt=0)
+    start_s: float | None = Field(default=None, ge=0)
+    end_s: float | None = Field(default=None, ge=0)
+
+
+class ExportRecord(_Model):
+    """One exported clip: one line of ``<split>.jsonl``."""
+
+    clip: str = Field(min_length=1, description="clip id")
+    split: str = Field(min_length=1)
+    media: str = Field(min_length=1,
+                       description="media path: relative to the export folder when media were "
+                                   "copied or linked, else relative to the project's media root")
+    sha256: str | None = Field(default=None, pattern=_SHA256, description="of the media file")
+    group: str | None = None
+    label: str | None = Field(default=None, description="decided clip label")
+    label_source: Literal["gold", "majority"] | None = None
+    agreement: float | None = Field(
+        default=None, ge=0, le=1,
+        description="share of annotator labels equal to the decided label")
+    annotators: int = Field(ge=0, description="number of annotator labels seen")
+    fps: float | None = Field(default=None, gt=0)
+    frame_count: int | None = Field(default=None, ge=0)
+    segments: list[ExportSegment] = Field(default_factory=list)
+    captions: list[ExportCaption] = Field(default_factory=list)
+
+
+class LabelPolicyModel(_Model):
+    """How labels and captions were decided."""
+
+    min_agreement: float = Field(ge=0, le=1)
+    require_label: bool = True
+    rule: str = Field(description="the rule in words")
+
+
+class FindingModel(_Model):
+    """One leakage finding."""
+
+    kind: str
+    severity: Literal["blocking", "warning"]
+    message: str
+    clips: list[str]
+    details: dict = Field(default_factory=dict)
+
+
+class LeakageReportModel(_Model):
+    """All findings of one leakage check and the settings that produced them."""
+
+    blocking: list[FindingModel]
+    warnings: list[FindingModel]
+    counts: dict[str, int] = Field(description="findings per kind")
+    recipe: dict[str, str | int | float | bool]
+
+
+class OverrideModel(_Model):
+    """Who let an export with blocking findings through, and why."""
+
+    by: str = Field(min_length=1)
+    reason: str = Field(min_length=1)
+    at: str = Field(description="UTC time, ISO 8601")
+    findings: int = Field(ge=0, description="number of blocking findings overridden")
+
+
+class FileEntry(_Model):
+    """One file written by the export, relative to the export folder."""
+
+    path: str
+    sha256: str = Field(pattern=_SHA256)
+    bytes: int = Field(ge=0)
+
+
+class LeftOut(_Model):
+    """A clip not exported, with the reason."""
+
+    clip: str
+    reason: str
+
+
+class ExportManifest(_Model):
+    """``manifest.json``: everything needed to trust and reproduce an export."""
+
+    format: Literal["clipscribe-export/1"] = EXPORT_FORMAT
+    tool_version: str
+    project: str
+    created_at: str = Field(description="UTC time, ISO 8601")
+    label_policy: LabelPolicyModel
+    seed: int
+    ratios: dict[str, float] = Field(description="target split fractions, normalised to sum 1")
+    counts: dict[str, dict[str, int]] = Field(description="clips per split x label")
+    totals: dict[str, int] = Field(description="clips per split")
+    left_out: list[LeftOut] = Field(default_factory=list)
+    split_conflicts: list[str] = Field(
+        default_factory=list, description="frozen assignments that put one group in two splits")
+    media_mode: Literal["copy", "hardlink"] | None = None
+    files: list[FileEntry]
+    leakage: LeakageReportModel
+    override: OverrideModel | None = None
+    recipes: dict[str, str] = Field(description="how every number in this manifest was computed")
+    assignment: dict[str, str] = Field(
+        description="clip id -> split; pass back as `frozen` so later exports keep these clips "
+                    "where they are")
+
+
+def export_schemas() -> dict[str, dict]:
+    """JSON Schema (draft 2020-12, as pydantic writes it) of the export record and manifest.
+
+    Returns
+    -------
+    dict
+        ``{"ExportRecord": {...}, "ExportManifest": {...}}``.
+    """
+    return {"ExportRecord": ExportRecord.model_json_schema(),
+            "ExportManifest": ExportManifest.model_json_schema()}
