@@ -1,0 +1,118 @@
+"""Caption text handling shared by the caption metrics: tokenization and n-gram counting.
+
+The default tokenization, ``"13a"``, is the one WMT's mteval-v13a script applies and sacrebleu
+calls ``13a``: it splits ASCII punctuation from words, keeps ``'`` and ``-`` inside words, and
+splits ``.`` and ``,`` unless they sit between digits. It is written here (a few regular
+expressions) because caption metrics must not depend on an evaluation package at run time;
+tests check it token for token against sacrebleu's. ``"none"`` splits on whitespace only.
+"""
+
+from __future__ import annotations
+
+import re
+from collections import Counter
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Sequence
+
+import numpy as np
+
+from . import _checks
+
+# Steps of mteval-v13a after unescaping, applied in this order (order matters: the period and
+# comma rules see the spaces that earlier rules put in).
+_SYMBOLS = re.compile(r"([!-&(-+/:-@\[-`{-~])")          # ASCII punctuation but ' , - .
+_STOP_AFTER_NON_DIGIT = re.compile(r"([^0-9])([.,])")
+_STOP_BEFORE_NON_DIGIT = re.compile(r"([.,])([^0-9])")
+_DASH_AFTER_DIGIT = re.compile(r"([0-9])(-)")
+_ENTITIES = (("&quot;", '"'), ("&amp;", "&"), ("&lt;", "<"), ("&gt;", ">"))
+
+
+@lru_cache(maxsize=1 << 16)
+def tokenize_13a(text: str) -> tuple[str, ...]:
+    """Tokens of ``text`` under mteval-v13a rules (trailing whitespace ignored).
+
+    Examples
+    --------
+    >>> tokenize_13a("A man, 3.5 m tall, (waves).")
+    ('A', 'man', ',', '3.5', 'm', 'tall', ',', '(', 'waves', ')', '.')
+    """
+    line = text.rstrip().replace("<skipped>", "").replace("-\n", "").replace("\n", " ")
+    if "&" in line:
+        for entity, char in _ENTITIES:
+            line = line.replace(entity, char)
+    line = _SYMBOLS.sub(r" \1 ", f" {line} ")
+    line = _STOP_AFTER_NON_DIGIT.sub(r"\1 \2 ", line)
+    line = _STOP_BEFORE_NON_DIGIT.sub(r" \1 \2", line)
+    line = _DASH_AFTER_DIGIT.sub(r"\1 \2 ", line)
+    return tuple(line.split())
+
+
+def tokenize_none(text: str) -> tuple[str, ...]:
+    """Whitespace split only."""
+    return tuple(text.split())
+
+
+def tokenizer(name: str):
+    """The tokenizer function called ``name`` ("13a" or "none")."""
+    _checks.choice("tokenize", name, _checks.TOKENIZERS)
+    return tokenize_13a if name == "13a" else tokenize_none
+
+
+def ngram_counts(tokens: Sequence[str], max_order: int) -> Counter:
+    """Counts of all n-grams (as tuples) of orders 1..max_order."""
+    c: Counter = Counter()
+    n_tok = len(tokens)
+    for n in range(1, max_order + 1):
+        c.update(tuple(tokens[i:i + n]) for i in range(n_tok - n + 1))
+    return c
+
+
+@dataclass(frozen=True)
+class NgramOrder:
+    """Distinct n-grams of one order per document: parallel arrays, sorted by (doc, key)."""
+
+    doc: np.ndarray
+    key: np.ndarray
+    count: np.ndarray
+    n_keys: int
+
+
+@dataclass(frozen=True)
+class NgramIndex:
+    """All n-grams of orders 1..max_order of many documents, as integer arrays.
+
+    Each caption's n-grams are counted once here and then reused by every metric.
+    """
+
+    lengths: np.ndarray
+    orders: tuple[NgramOrder, ...]
+    vocabulary: dict
+
+
+def ngram_index(token_lists: Sequence[Sequence[str]], max_order: int) -> NgramIndex:
+    """Build an :class:`NgramIndex`; an n-gram's key is a dense id shared across documents."""
+    vocab: dict = {}
+    lengths = np.fromiter((len(t) for t in token_lists), dtype=np.int64, count=len(token_lists))
+    ids = np.fromiter((vocab.setdefault(w, len(vocab)) for t in token_lists for w in t),
+                      dtype=np.int64, count=int(lengths.sum()))
+    doc = np.repeat(np.arange(len(lengths)), lengths)
+    starts = np.concatenate([[0], np.cumsum(lengths)[:-1]]) if len(lengths) else lengths
+    remaining = lengths[doc] - (np.arange(len(ids)) - starts[doc]) if len(ids) else ids
+    orders = []
+    prev = ids  # dense key of the (n-1)-gram starting at each position, where valid
+    n_vocab = max(len(vocab), 1)
+    for n in range(1, max_order + 1):
+        valid = np.flatnonzero(remaining >= n)
+        if n == 1:
+            raw = ids[valid]
+        else:
+            raw = prev[valid] * n_vocab + ids[valid + n - 1]
+        keys, dense = np.unique(raw, return_inverse=True)
+        n_keys = max(len(keys), 1)
+        full = np.full(len(ids), -1, dtype=np.int64)
+        full[valid] = dense
+        prev = full
+        pair, cnt = np.unique(doc[valid] * n_keys + dense, return_counts=True)
+        orders.append(NgramOrder(pair // n_keys, pair % n_keys, cnt.astype(np.int64), n_keys))
+    return NgramIndex(lengths, tuple(orders), vocab)
