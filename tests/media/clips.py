@@ -23,8 +23,9 @@ def _block(w: int, h: int, bit: int) -> tuple[int, int, int, int]:
     return c * bw, r * bh, bw, bh
 
 
-def make_frame(i: int, w: int, h: int, seed: int = 0) -> np.ndarray:
-    """A BGR frame: code blocks for ``i`` on top, a seeded moving pattern below."""
+def make_frame(i: int, w: int, h: int, seed: int = 0, code: bool = True) -> np.ndarray:
+    """A BGR frame: code blocks for ``i`` on top (unless ``code`` is False), a seeded moving
+    pattern below."""
     rng = np.random.default_rng(seed)
     base = rng.integers(0, 256, size=(4, 6, 3), dtype=np.uint8)
     pattern = cv2.resize(base, (w * 2, h), interpolation=cv2.INTER_CUBIC)
@@ -32,7 +33,7 @@ def make_frame(i: int, w: int, h: int, seed: int = 0) -> np.ndarray:
     img = np.ascontiguousarray(pattern[:, shift:shift + w])
     cx = int((w / 2) + (w / 3) * np.sin(i / 7 + seed))
     cv2.circle(img, (cx, int(h * 0.7)), max(h // 8, 3), (255, 255, 255), -1)
-    for bit in range(CODE_BITS):
+    for bit in range(CODE_BITS if code else 0):
         x, y, bw, bh = _block(w, h, bit)
         img[y:y + bh, x:x + bw] = 255 if (i >> bit) & 1 else 0
     return img
@@ -66,14 +67,15 @@ def have_ffmpeg() -> bool:
 
 
 def write_ffmpeg(path: Path, n: int, w: int, h: int, codec_args: list[str], *, fps: int = 30,
-                 filters: str | None = None, seed: int = 0, extra: list[str] = ()) -> Path:
+                 filters: str | None = None, seed: int = 0, extra: list[str] = (),
+                 code: bool = True) -> Path:
     """Pipe raw BGR frames into ffmpeg and encode with ``codec_args``."""
     cmd = ["ffmpeg", "-hide_banner", "-loglevel", "error", "-y", "-f", "rawvideo",
            "-pix_fmt", "bgr24", "-s", f"{w}x{h}", "-r", str(fps), "-i", "-"]
     if filters:
         cmd += ["-vf", filters]
     cmd += [*codec_args, *extra, str(path)]
-    data = b"".join(make_frame(i, w, h, seed).tobytes() for i in range(n))
+    data = b"".join(make_frame(i, w, h, seed, code).tobytes() for i in range(n))
     subprocess.run(cmd, input=data, check=True, timeout=120)
     return path
 
