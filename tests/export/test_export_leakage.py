@@ -1,0 +1,145 @@
+"""Every leakage kind is found on crafted inputs, and clean inputs give no finding."""
+
+from __future__ import annotations
+
+import hashlib
+import random
+
+import pytest
+from nltk.metrics.distance import jaccard_distance
+from nltk.util import ngrams
+
+from clipscribe.export import CaptionInput, ClipInput, check_leakage, normalise_caption
+from clipscribe.export.textdup import shingles, similar_pairs
+
+BASE_FP = 0x9E3779B97F4A7C15
+
+
+def _flip(x: int, bits) -> int:
+    for b in bits:
+        x ^= 1 << b
+    return x
+
+
+def _clip(cid, *, group=None, sha=None, fp=None, caps=(), consent=True, licence="CC-BY-4.0"):
+    return ClipInput(cid, f"{cid}.mp4", group=group,
+                     sha256=sha if sha is not None else hashlib.sha256(cid.encode()).hexdigest(),
+                     fingerprint=fp if fp is not None else random.Random(cid).getrandbits(64),
+                     captions=tuple(CaptionInput(t) for t in caps), consent=consent,
+                     licence=licence)
+
+
+def _kinds(report):
+    return sorted({f.kind for f in report.findings})
+
+
+def test_clean_input_has_no_findings():
+    clips = [_clip(f"c{i}", group=f"g{i // 2}", caps=[f"person {i} does thing {i}"])
+             for i in range(10)]
+    a = {c.clip_id: ("train" if int(c.group[1:]) % 2 else "test") for c in clips}
+    r = check_leakage(clips, a, require_consent=True, require_licence=True)
+    assert r.findings == ()
+    assert r.to_dict()["blocking"] == [] and r.to_dict()["recipe"]["hamming_radius"] == 8
+
+
+def test_group_in_two_splits_is_blocking():
+    clips = [_clip("a", group="p1"), _clip("b", group="p1"), _clip("c", group="p2")]
+    r = check_leakage(clips, {"a": "train", "b": "test", "c": "test"})
+    [f] = r.blocking
+    assert (f.kind, f.clips, f.details["splits"]) == ("group-split", ("a", "b"),
+                                                     {"test": 1, "train": 1})
+
+
+def test_identical_media_across_splits_blocking_within_split_warning():
+    sha1, sha2 = "a" * 64, "b" * 64
+    clips = [_clip("a", sha=sha1), _clip("b", sha=sha1), _clip("c", sha=sha2), _clip("d", sha=sha2)]
+    r = check_leakage(clips, {"a": "train", "b": "test", "c": "train", "d": "train"})
+    assert [(f.kind, f.clips) for f in r.blocking] == [("duplicate-media", ("a", "b"))]
+    assert [(f.kind, f.clips) for f in r.warnings] == [("duplicate-media-in-split", ("c", "d"))]
+
+
+def test_near_duplicate_fingerprints_across_splits():
+    clips = [_clip("a", fp=BASE_FP), _clip("b", fp=_flip(BASE_FP, [1, 30, 63])),   # 3 bits
+             _clip("c", fp=_flip(BASE_FP, range(0, 63, 7))),                       # 9 bits
+             _clip("d", fp=_flip(BASE_FP, [5]))]                                    # same split
+    r = check_leakage(clips, {"a": "train", "b": "test", "c": "test", "d": "train"})
+    near = [f for f in r.findings if f.kind == "near-duplicate-media"]
+    # b is 3 bits from a and 4 from d; c is 9 from a (outside radius 8) and 10 from d
+    assert sorted((f.clips, f.details["hamming"]) for f in near) == [(("a", "b"), 3),
+                                                                     (("b", "d"), 4)]
+    assert all(f.severity == "blocking" for f in near)
+    wider = check_leakage(clips, {"a": "train", "b": "test", "c": "test", "d": "train"},
+                          hamming_radius=9)
+    assert (("a", "c"), 9) in [(f.clips, f.details["hamming"]) for f in wider.findings
+                               if f.kind == "near-duplicate-media"]
+
+
+def test_identical_media_is_not_reported_twice_as_near_duplicate():
+    clips = [_clip("a", sha="c" * 64, fp=BASE_FP), _clip("b", sha="c" * 64, fp=BASE_FP)]
+    assert _kinds(check_leakage(clips, {"a": "train", "b": "test"})) == ["duplicate-media"]
+
+
+def test_identical_caption_after_normalisation():
+    clips = [_clip("a", caps=["A man  opens the DOOR."]), _clip("b", caps=["a man opens the door"])]
+    r = check_leakage(clips, {"a": "train", "b": "test"})
+    [f] = r.warnings
+    assert (f.kind, f.clips, f.details["text"]) == ("duplicate-caption", ("a", "b"),
+                                                    "a man opens the door")
+    assert r.blocking == []
+
+
+def test_near_identical_caption_jaccard_matches_nltk():
+    words = "a woman in a red coat walks her small dog along the river bank on a cold and " \
+            "windy winter morning".split()
+    assert len(words) == 21
+    one, other = " ".join(words), " ".join(words[:-1] + ["tonight"])
+    # Reference: NLTK's jaccard_distance over word 3-grams (nltk.util.ngrams); 18/20 = 0.9.
+    ref = 1 - jaccard_distance(set(ngrams(one.split(), 3)), set(ngrams(other.split(), 3)))
+    assert ref == pytest.approx(0.9)
+    clips = [_clip("a", caps=[one]), _clip("b", caps=[other])]
+    r = check_leakage(clips, {"a": "train", "b": "val"}, caption_threshold=0.9)
+    [f] = [f for f in r.findings if f.kind == "near-duplicate-caption"]
+    assert f.details["jaccard"] == pytest.approx(ref) and f.severity == "warning"
+    stricter = check_leakage(clips, {"a": "train", "b": "val"}, caption_threshold=0.95)
+    assert "near-duplicate-caption" not in _kinds(stricter)
+
+
+def test_similar_pairs_equals_all_pairs_nltk_reference():
+    rng = random.Random(5)
+    vocab = "a the man woman dog ball runs walks jumps red blue park".split()
+    base = [" ".join(rng.choice(vocab) for _ in range(rng.randint(2, 9))) for _ in range(60)]
+    texts = sorted({normalise_caption(t) for t in base + [t + " park" for t in base[:30]]})
+    got = [(i, j) for i, j, _ in similar_pairs(texts, 0.5)]
+    sets = [set(shingles(t)) for t in texts]
+    want = [(i, j) for i in range(len(texts)) for j in range(i + 1, len(texts))
+            if 1 - jaccard_distance(sets[i], sets[j]) >= 0.5]
+    assert got == want and len(want) > 0
+
+
+def test_consent_and_licence_required():
+    clips = [_clip("a", consent=None), _clip("b", consent=False), _clip("c", licence=""),
+             _clip("d")]
+    a = dict.fromkeys("abcd", "train")
+    assert check_leakage(clips, a).findings == ()  # not required: no finding
+    r = check_leakage(clips, a, require_consent=True, require_licence=True)
+    assert [(f.kind, f.clips) for f in r.blocking] == [("missing-consent", ("a", "b")),
+                                                       ("missing-licence", ("c",))]
+
+
+def test_missing_checksum_and_fingerprint_are_warnings():
+    c = ClipInput("a", "a.mp4")
+    r = check_leakage([c, _clip("b")], {"a": "train", "b": "test"})
+    assert [f.kind for f in r.warnings] == ["no-checksum", "no-fingerprint"]
+    assert r.blocking == []
+
+
+def test_clips_outside_assignment_are_ignored():
+    clips = [_clip("a", sha="d" * 64), _clip("b", sha="d" * 64)]
+    assert check_leakage(clips, {"a": "train"}).findings == ()
+
+
+@pytest.mark.parametrize("kw", [{"hamming_radius": 64}, {"hamming_radius": -1},
+                                {"caption_threshold": 0.0}, {"caption_threshold": 1.5}])
+def test_bad_settings_rejected(kw):
+    with pytest.raises(ValueError):
+        check_leakage([], {}, **kw)
