@@ -10,8 +10,9 @@ from typing import Any, TypeVar
 
 from sqlalchemy import Engine, inspect, select
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.exc import StaleDataError
 
-from ..errors import ProjectError, RecordError
+from ..errors import ProjectError, RecordError, StaleWriteError
 from ..schema.settings import ProjectSettings
 from ..store import db
 from ..store.models import Annotator, Clip, Edit, Label
@@ -51,9 +52,13 @@ class ProjectBase:
         """Run ``fn`` in one write transaction (retried while SQLite reports busy)."""
         def attempt() -> T:
             edits: list[int] = []
-            with db.transaction(self._writer) as s:
-                s.info["edits"] = edits
-                out = fn(s)
+            try:
+                with db.transaction(self._writer) as s:
+                    s.info["edits"] = edits
+                    out = fn(s)
+            except StaleDataError:
+                raise StaleWriteError("someone else changed this item since you loaded it; "
+                                      "your change was not saved — reload and try again") from None
             self.last_edit_ids = edits
             return out
         return db.with_retry(attempt)
@@ -112,6 +117,8 @@ class ProjectBase:
         return row
 
     def _annotator(self, s: Session, ref: Any) -> Annotator:
+        if isinstance(ref, Annotator):
+            return ref
         if ref is None:
             ref = self.user
         if isinstance(ref, int) and not isinstance(ref, bool):

@@ -1,0 +1,81 @@
+"""Schema, migrations and constraints."""
+
+from __future__ import annotations
+
+import sqlite3
+
+import pytest
+from alembic.autogenerate import compare_metadata
+from alembic.runtime.migration import MigrationContext
+from sqlalchemy import text
+from sqlalchemy.exc import IntegrityError
+
+from clipscribe import Project, ProjectError
+from clipscribe.store import db
+from clipscribe.store.models import Base
+
+
+def test_migrations_from_empty_reach_head_and_match_models(tmp_path):
+    with Project.create(tmp_path / "p") as p:
+        assert db.current_revision(p.engine) == db.head_revision()
+        with p.engine.connect() as conn:
+            diff = compare_metadata(MigrationContext.configure(conn, opts={"compare_type": True}), Base.metadata)
+        assert diff == [], f"models drifted from migrations: {diff}"
+
+
+def test_sqlite_pragmas(project):
+    with project.engine.connect() as conn:
+        assert conn.exec_driver_sql("PRAGMA journal_mode").scalar() == "wal"
+        assert conn.exec_driver_sql("PRAGMA foreign_keys").scalar() == 1
+        assert conn.exec_driver_sql("PRAGMA busy_timeout").scalar() == db.SQLITE_BUSY_MS
+
+
+def test_database_from_newer_version_is_refused(tmp_path):
+    Project.create(tmp_path / "p").close()
+    con = sqlite3.connect(tmp_path / "p" / "project.sqlite")
+    con.execute("UPDATE alembic_version SET version_num = '9999_future'")
+    con.commit()
+    con.close()
+    with pytest.raises(ProjectError, match="newer version"):
+        Project.open(tmp_path / "p")
+
+
+def test_open_missing_and_create_twice(tmp_path):
+    with pytest.raises(ProjectError, match="no clipscribe project"):
+        Project.open(tmp_path / "none")
+    Project.create(tmp_path / "p").close()
+    with pytest.raises(ProjectError, match="already holds"):
+        Project.create(tmp_path / "p")
+
+
+@pytest.mark.parametrize("sql", [
+    # end must be after start, start non-negative (CheckConstraint)
+    "INSERT INTO segments (clip_id, annotator_id, label_id, start_frame, end_frame, updated_at, version)"
+    " VALUES (1, 1, 1, 5, 5, '2026-01-01', 1)",
+    "INSERT INTO segments (clip_id, annotator_id, label_id, start_frame, end_frame, updated_at, version)"
+    " VALUES (1, 1, 1, -1, 5, '2026-01-01', 1)",
+    # role is annotator or lead
+    "INSERT INTO annotators (name, role, created_at) VALUES ('x', 'boss', '2026-01-01')",
+    # one label per clip and annotator
+    "INSERT INTO clip_labels (clip_id, annotator_id, label_id, updated_at, version)"
+    " VALUES (1, 2, 1, '2026-01-01', 1), (1, 2, 2, '2026-01-01', 1)",
+    # foreign keys are enforced
+    "INSERT INTO captions (clip_id, annotator_id, position, text, updated_at, version)"
+    " VALUES (999, 1, 0, 'x', '2026-01-01', 1)",
+    # clip paths are unique
+    "INSERT INTO clips (path, sha256, fps, frame_count, duration, width, height, state, added_at)"
+    " SELECT path, sha256, fps, frame_count, duration, width, height, state, added_at FROM clips LIMIT 1",
+])
+def test_model_constraints(project, sql):
+    with pytest.raises(IntegrityError):
+        with project.engine.begin() as conn:
+            conn.execute(text(sql))
+
+
+def test_optimistic_version_refuses_stale_caption(project):
+    from clipscribe.errors import StaleWriteError
+    cid = project.add_caption(1, "ann-a", "The arm lifts the red block.")
+    v = project.update_caption(cid, "The arm lifts the blue block.")
+    with pytest.raises(StaleWriteError, match="changed by someone else"):
+        project.update_caption(cid, "My stale edit", expected_version=v - 1)
+    assert project.captions(clip=1)[0][2] == "The arm lifts the blue block."
