@@ -190,14 +190,10 @@ class CatalogMixin:
                  consent: bool | None = None) -> int:
         """Register one media file that lies inside the media root; returns the clip id."""
         rel = self.relative_media_path(media_path)
-        absolute = self.media_root / rel
         try:
-            info = media.probe(absolute)
-            digest = media.file_sha256(absolute)
-        except media.MediaError as exc:
-            raise RecordError(str(exc)) from None
-        except OSError as exc:
-            raise RecordError(f"{absolute}: {exc.strerror or exc}") from None
+            info, digest = probe_media(self.media_root / rel)
+        except (media.MediaError, OSError) as exc:
+            raise RecordError(_media_problem(self.media_root / rel, exc)) from None
         return self._write(lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent))
 
     def _insert_clip(self, s: Session, rel: str, digest: str, info: media.ProbeInfo,
@@ -250,10 +246,9 @@ class CatalogMixin:
                 m = pattern.search(rel)
                 group = m.group("group") if m else None
             try:
-                info = media.probe(path)
-                digest = media.file_sha256(path)
+                info, digest = probe_media(path)
             except (media.MediaError, OSError) as exc:
-                report.skipped.append((rel, str(exc)))
+                report.skipped.append((rel, _media_problem(path, exc)))
                 continue
             report.added.append(self._write(
                 lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent)))
@@ -324,6 +319,24 @@ class CatalogMixin:
                 "duration_s": round(s.scalar(select(func.coalesce(func.sum(Clip.duration), 0.0))) or 0.0, 3),
             }
         return self._read(q)
+
+
+def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
+    """Header facts, SHA-256 and the true frame count (from the frame index, which is cached
+    by content hash so the viewer does not index the file again)."""
+    from ..media.index import load_or_build_index
+    header = media.probe(path)
+    digest = media.file_sha256(path)
+    index = load_or_build_index(path, digest)
+    info = media.ProbeInfo(fps=header.fps, frame_count=index.frame_count, width=header.width,
+                           height=header.height)
+    return info, digest
+
+
+def _media_problem(path: Path, exc: Exception) -> str:
+    if isinstance(exc, OSError):
+        return f"{path}: {exc.strerror or exc}"
+    return str(exc)
 
 
 def _read_group_csv(path: str | os.PathLike) -> dict[str, str]:

@@ -13,6 +13,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from .. import media
+from .catalog import probe_media
 from ..errors import RecordError
 from ..schema.records import (
     RECORD_TYPES, CaptionRecord, ClipRecord, GoldRecord, LabelRecord, SegmentRecord, parse_record,
@@ -42,8 +43,8 @@ class RecordsMixin:
                 try:
                     rel = _safe_relative(rec.clip)
                     rel = self.relative_media_path(self.media_root / rel)
-                    info = media.probe(self.media_root / rel)
-                    probed[line] = (rel, media.file_sha256(self.media_root / rel), info)
+                    info, digest = probe_media(self.media_root / rel)
+                    probed[line] = (rel, digest, info)
                 except (RecordError, media.MediaError, OSError) as exc:
                     errors.append(f"{src}:{line}: field 'clip': {exc}")
         _raise_if(errors, src)
