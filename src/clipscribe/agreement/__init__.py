@@ -1,6 +1,7 @@
 """Agreement between annotators: labels, segments and captions. numpy only, no Qt, no database.
 
 Every number comes with its recipe (``.recipe``); see :mod:`clipscribe.agreement._recipe`.
+Verbal bands follow Landis & Koch (1977), :mod:`clipscribe.agreement.interpret`.
 """
 
 from ._recipe import Recipe, Score
@@ -8,12 +9,18 @@ from .alpha import krippendorff_alpha
 from .bleu import BleuScore, corpus_bleu, sentence_bleu
 from .bootstrap import Interval, bootstrap_intervals
 from .captions import tokenize_13a
+from .cider import CiderResult, cider_d
 from .interpret import band as interpret
 from .labels import cohen_kappa, confusion_matrix, fleiss_kappa, observed_agreement
 from .loo import LooBleu, leave_one_out_bleu
+from .report import AgreementReport, agreement_report
+from .retrieval import RetrievalResult, caption_retrieval
+from .segments import frame_agreement, match_segments, segment_matching, temporal_iou
 
 __all__ = [
-    "BleuScore", "Interval", "LooBleu", "Recipe", "Score", "bootstrap_intervals", "cohen_kappa",
-    "confusion_matrix", "corpus_bleu", "fleiss_kappa", "interpret", "krippendorff_alpha",
-    "leave_one_out_bleu", "observed_agreement", "sentence_bleu", "tokenize_13a",
+    "AgreementReport", "BleuScore", "CiderResult", "Interval", "LooBleu", "Recipe",
+    "RetrievalResult", "Score", "agreement_report", "bootstrap_intervals", "caption_retrieval",
+    "cider_d", "cohen_kappa", "confusion_matrix", "corpus_bleu", "fleiss_kappa",
+    "frame_agreement", "interpret", "krippendorff_alpha", "leave_one_out_bleu", "match_segments",
+    "observed_agreement", "segment_matching", "sentence_bleu", "temporal_iou", "tokenize_13a",
 ]

@@ -35,6 +35,7 @@ class BleuScore:
     counts: list[int]
     totals: list[int]
     recipe: Recipe = field(compare=False)
+    cumulative: list[float] = field(default_factory=list)  # BLEU-1..N, same settings
 
     def __float__(self) -> float:
         return float(self.score)
@@ -43,7 +44,7 @@ class BleuScore:
         return {"score": self.score, "precisions": self.precisions,
                 "brevity_penalty": self.brevity_penalty, "hyp_len": self.hyp_len,
                 "ref_len": self.ref_len, "counts": self.counts, "totals": self.totals,
-                "recipe": self.recipe.to_dict()}
+                "cumulative": self.cumulative, "recipe": self.recipe.to_dict()}
 
 
 def bleu_from_stats(correct, total, hyp_len, ref_len, *, smooth: str | None = None,
@@ -216,5 +217,10 @@ def _score_from_sums(s, max_order, smooth, smooth_value, effective_order, recipe
     correct, total = s[2:2 + max_order], s[2 + max_order:]
     score, prec, bp = bleu_from_stats(correct, total, s[0], s[1], smooth=smooth,
                                       smooth_value=smooth_value, effective_order=effective_order)
+    cumulative = [float(bleu_from_stats(correct[:k], total[:k], s[0], s[1], smooth=smooth,
+                                        smooth_value=smooth_value,
+                                        effective_order=effective_order)[0][0])
+                  for k in range(1, max_order + 1)]
     return BleuScore(float(score[0]), [float(p) for p in prec[0]], float(bp[0]), int(s[0]),
-                     int(s[1]), [int(x) for x in correct], [int(x) for x in total], recipe)
+                     int(s[1]), [int(x) for x in correct], [int(x) for x in total], recipe,
+                     cumulative)

@@ -1,0 +1,182 @@
+"""The agreement report of a whole project, from plain rows the project layer hands over."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any, Iterable, Mapping, Sequence
+
+import numpy as np
+
+from . import _checks
+from ._recipe import Recipe
+from .cider import CiderResult, cider_d
+from .interpret import CITATION
+from .label_summary import LabelSummary, collect, summarize
+from .loo import FLAG_RULE, LooBleu, leave_one_out_bleu
+from .retrieval import RetrievalResult, caption_retrieval
+from .segments import PairMatch, check_segments, frame_agreement, segment_matching
+
+
+@dataclass(frozen=True)
+class SegmentSummary:
+    frame_alpha: Any | None           # Score, or None without frame counts
+    pairs: list[PairMatch]
+
+    def to_dict(self) -> dict:
+        fa = self.frame_alpha
+        return {"frame_alpha": None if fa is None else {
+                    "value": None if math.isnan(fa) else float(fa), "band": fa.interpretation,
+                    "recipe": fa.recipe.to_dict()},
+                "pairs": [p.to_dict() for p in self.pairs]}
+
+
+@dataclass(frozen=True)
+class CaptionSummary:
+    bleu: LooBleu
+    cider: CiderResult
+    retrieval: RetrievalResult
+
+    def to_dict(self) -> dict:
+        b = self.bleu
+        return {"bleu": {"overall": b.overall.to_dict(),
+                         "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
+                         "recipe": b.recipe.to_dict()},
+                "flag_rule": FLAG_RULE,
+                "flagged": [c.to_dict() for c in b.flagged],
+                "cider": self.cider.to_dict(), "retrieval": self.retrieval.to_dict()}
+
+
+@dataclass(frozen=True)
+class ClipScore:
+    """Per clip numbers for ranking the review queue (NaN where there is nothing to measure)."""
+
+    clip: Any
+    label_disagreement: float   # 1 - share of the majority label
+    segment_f1: float           # mean pairwise F1 at IoU 0.5
+    caption_bleu: float         # mean leave-one-out sentence BLEU of the clip's captions
+    caption_cider: float        # mean CIDEr-D of the clip's captions
+
+    def to_dict(self) -> dict:
+        return {k: (str(v) if k == "clip" else (None if math.isnan(v) else float(v)))
+                for k, v in self.__dict__.items()}
+
+
+@dataclass(frozen=True)
+class AgreementReport:
+    labels: LabelSummary | None
+    segments: SegmentSummary | None
+    captions: CaptionSummary | None
+    clips: list[ClipScore]
+    recipe: Recipe
+
+    def review_queue(self) -> list[ClipScore]:
+        """Clips worst first: most label disagreement, then lowest segment F1, then lowest
+        caption BLEU (NaN last in each key). Our ordering."""
+        def key(c: ClipScore):
+            def k(v, sign):
+                return (1, 0.0) if math.isnan(v) else (0, sign * v)
+            return (k(c.label_disagreement, -1), k(c.segment_f1, 1), k(c.caption_bleu, 1))
+        return sorted(self.clips, key=key)
+
+    def to_dict(self) -> dict:
+        """JSON-safe dict (NaN becomes None)."""
+        return {"recipe": self.recipe.to_dict(), "interpretation_source": CITATION,
+                "labels": None if self.labels is None else self.labels.to_dict(),
+                "segments": None if self.segments is None else self.segments.to_dict(),
+                "captions": None if self.captions is None else self.captions.to_dict(),
+                "clips": [c.to_dict() for c in self.clips]}
+
+    def to_text(self, *, top: int = 10) -> str:
+        from ._report_text import render
+
+        return render(self, top=top)
+
+
+def agreement_report(labels: Iterable[Sequence[Any]],
+                     segments: Iterable[Sequence[Any]] | None = None,
+                     captions: Iterable[Sequence[Any]] | None = None, *,
+                     label_order: Sequence[Any] | None = None, ordinal: bool = False,
+                     fps: Mapping[Any, float] | float | None = None,
+                     frame_count: Mapping[Any, int] | None = None, seed: int = 0,
+                     n_boot: int = 1000, label_set_version: str | None = None
+                     ) -> AgreementReport:
+    """Agreement of a whole project: labels, and optionally segments and captions.
+
+    Parameters
+    ----------
+    labels : iterable of (clip, annotator, label)
+        One label per clip and annotator; a repeated pair keeps the last row.
+    segments : iterable of (clip, annotator, label, start, end), optional
+        Frames, ``end`` exclusive.
+    captions : iterable of (clip, annotator, text), optional
+    label_order : the label set in order (required order for ``ordinal``); default sorted.
+    ordinal : treat labels as ordered: ordinal alpha and linearly weighted Cohen kappa.
+    fps : mapping clip -> frames per second (or one number), for segment offsets in seconds.
+    frame_count : mapping clip -> number of frames, for frame-level alpha.
+    seed, n_boot : bootstrap over clips for the confidence intervals (95 %, percentile).
+    label_set_version : written into every recipe.
+
+    Returns
+    -------
+    AgreementReport
+        ``.labels`` (Krippendorff alpha with CI, Fleiss when every clip has the same number of
+        labels, pairwise Cohen kappa and confusion matrices, one-vs-rest alpha per label with
+        CI), ``.segments``, ``.captions``, ``.clips`` (per clip scores), ``.review_queue()``,
+        ``.to_dict()``, ``.to_text()``. Formulas and sources are in the functions used:
+        :func:`krippendorff_alpha`, :func:`fleiss_kappa`, :func:`cohen_kappa`,
+        :func:`segment_matching`, :func:`frame_agreement`, :func:`leave_one_out_bleu`,
+        :func:`cider_d`, :func:`caption_retrieval`; bands: Landis & Koch (1977),
+        https://doi.org/10.2307/2529310
+    """
+    n_boot = _checks.positive_int("n_boot", n_boot)
+    seed = _checks.positive_int("seed", seed, minimum=0)
+    codes, clip_list, annotators, label_list = collect(labels, label_order)
+    summary = None
+    if codes.size:
+        summary = summarize(codes, clip_list, annotators, label_list, ordinal=ordinal, seed=seed,
+                            n_boot=n_boot, label_set_version=label_set_version)
+    worked: dict[Any, set] = {}
+    for a, row in zip(annotators, codes):
+        for c in np.flatnonzero(row >= 0).tolist():
+            worked.setdefault(clip_list[c], set()).add(a)
+    seg_summary, seg_f1 = None, {}
+    if segments is not None:
+        rows = check_segments(segments)
+        for clip, ann, *_ in rows:
+            worked.setdefault(clip, set()).add(ann)
+        pairs, seg_f1 = segment_matching(rows, fps=fps, annotated=worked)
+        fa = frame_agreement(rows, frame_count, annotated=worked) if frame_count else None
+        seg_summary = SegmentSummary(fa, pairs)
+    cap_summary, cap_bleu, cap_cider = None, {}, {}
+    if captions is not None:
+        by_clip: dict[Any, list] = {}
+        for n, row in enumerate(captions):
+            try:
+                clip, ann, text = row
+            except (TypeError, ValueError):
+                raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
+            by_clip.setdefault(clip, []).append((str(ann), text))
+        loo = leave_one_out_bleu(by_clip)
+        cider = cider_d(by_clip)
+        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed))
+        acc: dict[Any, list] = {}
+        for c in loo.captions:
+            if not math.isnan(c.bleu):
+                acc.setdefault(c.clip, []).append(c.bleu)
+        cap_bleu = {k: float(np.mean(v)) for k, v in acc.items()}
+        cap_cider = cider.per_clip
+    clips = _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider)
+    everyone = sorted(set(annotators) | {a for s in worked.values() for a in s})
+    recipe = Recipe.make("report", "agreement", ordinal=ordinal, seed=seed, n_boot=n_boot,
+                         n_raters=len(everyone), n_items=len(clips), annotators=everyone,
+                         label_set_version=label_set_version)
+    return AgreementReport(summary, seg_summary, cap_summary, clips, recipe)
+
+
+def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> list[ClipScore]:
+    nan = float("nan")
+    order = list(dict.fromkeys([*clip_list, *seg_f1, *cap_bleu, *cap_cider]))
+    dis = {} if summary is None else dict(zip(clip_list, summary.disagreement.tolist()))
+    return [ClipScore(c, dis.get(c, nan), seg_f1.get(c, nan), cap_bleu.get(c, nan),
+                      cap_cider.get(c, nan)) for c in order]
