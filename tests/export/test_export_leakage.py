@@ -104,16 +104,19 @@ def test_near_identical_caption_jaccard_matches_nltk():
     assert "near-duplicate-caption" not in _kinds(stricter)
 
 
-def test_similar_pairs_equals_all_pairs_nltk_reference():
+@pytest.mark.parametrize("threshold", [0.3, 0.5, 0.9, 1.0])
+def test_similar_pairs_equals_all_pairs_nltk_reference(threshold):
     rng = random.Random(5)
     vocab = "a the man woman dog ball runs walks jumps red blue park".split()
     base = [" ".join(rng.choice(vocab) for _ in range(rng.randint(2, 9))) for _ in range(60)]
-    texts = sorted({normalise_caption(t) for t in base + [t + " park" for t in base[:30]]})
-    got = [(i, j) for i, j, _ in similar_pairs(texts, 0.5)]
+    long = [" ".join(rng.choice(vocab) for _ in range(20)) for _ in range(10)]
+    variants = [t + " park" for t in base[:30] + long]
+    texts = sorted({normalise_caption(t) for t in base + long + variants})
+    got = [(i, j) for i, j, _ in similar_pairs(texts, threshold)]
     sets = [set(shingles(t)) for t in texts]
     want = [(i, j) for i in range(len(texts)) for j in range(i + 1, len(texts))
-            if 1 - jaccard_distance(sets[i], sets[j]) >= 0.5]
-    assert got == want and len(want) > 0
+            if 1 - jaccard_distance(sets[i], sets[j]) >= threshold - 1e-12]
+    assert got == want and (len(want) >= 10 or threshold == 1.0)
 
 
 def test_consent_and_licence_required():
@@ -143,3 +146,10 @@ def test_clips_outside_assignment_are_ignored():
 def test_bad_settings_rejected(kw):
     with pytest.raises(ValueError):
         check_leakage([], {}, **kw)
+
+
+def test_similar_pairs_skips_texts_with_the_same_key():
+    texts = ["a b c d e f g h i j k", "a b c d e f g h i j k l", "x y z"]
+    assert [(i, j) for i, j, _ in similar_pairs(texts, 0.8)] == [(0, 1)]
+    assert similar_pairs(texts, 0.8, keys=[2, 2, 0]) == []
+    assert len(similar_pairs(texts, 0.8, keys=[-1, -1, 0])) == 1  # -1: spans several splits

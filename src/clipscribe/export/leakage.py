@@ -154,17 +154,24 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
             if norm:
                 by_text[norm].add(c.clip_id)
     texts = sorted(by_text)
+    split_ids = {s: k for k, s in enumerate(sorted(set(assignment.values())))}
+    keys = []  # the text's split when all its clips share one, else -1
     out = []
     for t in texts:
-        members = sorted(by_text[t])
+        members = by_text[t]
+        if len(members) == 1:
+            keys.append(split_ids[assignment[next(iter(members))]])
+            continue
+        members = sorted(members)
         counts = _split_counts(members, assignment)
+        keys.append(split_ids[next(iter(counts))] if len(counts) == 1 else -1)
         if len(counts) > 1:
             out.append(Finding("duplicate-caption", "warning",
                                f"caption {t!r} is written for clips in several splits: "
                                f"{_describe(counts)}", tuple(members),
                                {"text": t, "splits": counts}))
     if threshold < 1.0:
-        for a, b, sim in similar_pairs(texts, threshold):
+        for a, b, sim in similar_pairs(texts, threshold, keys=keys):
             members = sorted(by_text[texts[a]] | by_text[texts[b]])
             counts = _split_counts(members, assignment)
             if len(counts) > 1:
