@@ -69,22 +69,28 @@ def _as_list(name: str, x: Any) -> list:
     return arr
 
 
-def count_table(table: Any) -> np.ndarray:
-    """items x categories table of non-negative integer counts, same row sum on every row."""
+def count_table(table: Any) -> tuple[np.ndarray, int]:
+    """items x categories table of non-negative whole counts with the same row sum m >= 2.
+
+    Returns the table (integer or float dtype, not copied) and m.
+    """
     t = np.asarray(table)
     if t.ndim != 2 or t.shape[0] < 1 or t.shape[1] < 1:
         raise ValueError(f"table must be 2-d (items x categories), got shape {t.shape}")
-    if not np.issubdtype(t.dtype, np.number) or np.issubdtype(t.dtype, np.complexfloating):
+    if t.dtype.kind not in "iuf":
         raise ValueError(f"table must hold counts, got dtype {t.dtype}")
-    if not np.all(np.isfinite(t)) or np.any(t < 0) or np.any(t != np.round(t)):
+    if t.dtype.kind == "f" and (not np.all(np.isfinite(t)) or np.any(t != np.round(t))):
+        raise ValueError("table must hold non-negative whole counts")
+    if t.dtype.kind != "u" and t.min() < 0:
         raise ValueError("table must hold non-negative whole counts")
     rows = t.sum(axis=1)
-    if np.any(rows != rows[0]):
+    lo, hi = rows.min(), rows.max()
+    if lo != hi:
         raise ValueError("every row of table must have the same number of ratings "
-                         f"(fixed raters per item), got row sums from {rows.min()} to {rows.max()}")
-    if rows[0] < 2:
-        raise ValueError(f"each item needs at least 2 ratings, got {rows[0]}")
-    return t.astype(np.float64)
+                         f"(fixed raters per item), got row sums from {lo} to {hi}")
+    if lo < 2:
+        raise ValueError(f"each item needs at least 2 ratings, got {lo}")
+    return t, int(lo)
 
 
 def reliability_data(data: Any) -> np.ndarray:

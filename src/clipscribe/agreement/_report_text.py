@@ -65,7 +65,7 @@ def render(report, *, top: int = 10) -> str:
         out.append(f"  flagged for review: {len(flagged)}")
         for c in flagged[:top]:
             out.append(f"    {str(c.clip):<12.12} {c.annotator:<14.14} {c.reason}")
-    queue = report.review_queue()[:top]
+    queue = report.review_queue(top)
     if queue:
         out += ["", f"Review queue (worst {len(queue)})",
                 f"  {'clip':<16}{'label dis.':>11}{'seg F1':>8}{'cap BLEU':>10}"]

@@ -79,15 +79,21 @@ def binary_unit_stats(table: np.ndarray) -> list[UnitStats]:
     return out
 
 
-def ordinal_unit_stats(table: np.ndarray) -> UnitStats:
-    """Columns: the V*V coincidence contributions of each unit (row-major)."""
+def ordinal_unit_stats(table: np.ndarray, *, per_unit: bool = True) -> UnitStats:
+    r"""Columns: the V*V coincidence contributions of each unit (row-major); with
+    ``per_unit=False`` one row holding their sum (the coincidence matrix), computed as
+    :math:`T^\top \mathrm{diag}(w) T - \mathrm{diag}(T^\top w)`, :math:`w_u = 1/(m_u - 1)`."""
     t = table.astype(np.float64)
     v = t.shape[1]
     m = t.sum(axis=1)
     ok = m >= 2
     inv = np.where(ok, 1.0 / np.where(ok, m - 1.0, 1.0), 0.0)
-    o_u = (t[:, :, None] * t[:, None, :]) - t[:, :, None] * np.eye(v)[None]
-    stats = (o_u * inv[:, None, None]).reshape(len(t), v * v)
+    if per_unit:
+        o_u = (t[:, :, None] * t[:, None, :]) - t[:, :, None] * np.eye(v)[None]
+        stats = (o_u * inv[:, None, None]).reshape(len(t), v * v)
+    else:
+        tw = t * inv[:, None]
+        stats = (tw.T @ t - np.diag(tw.sum(axis=0))).reshape(1, v * v)
 
     def finish(s: np.ndarray) -> np.ndarray:
         o = s.reshape(*s.shape[:-1], v, v)
@@ -126,8 +132,8 @@ def interval_unit_stats(values: np.ndarray) -> UnitStats:
     return UnitStats(stats, finish, int(ok.sum()))
 
 
-def unit_stats(data: Any, *, level: str = "nominal", labels: Sequence[Any] | None = None
-               ) -> tuple[UnitStats, np.ndarray, list]:
+def unit_stats(data: Any, *, level: str = "nominal", labels: Sequence[Any] | None = None,
+               per_unit: bool = True) -> tuple[UnitStats, np.ndarray, list]:
     """Checked data -> (UnitStats, codes, categories); shared by alpha and its bootstrap."""
     _checks.choice("level", level, _checks.LEVELS)
     arr = _checks.reliability_data(data)
@@ -136,8 +142,9 @@ def unit_stats(data: Any, *, level: str = "nominal", labels: Sequence[Any] | Non
         return interval_unit_stats(vals), np.zeros((0, 0), dtype=np.int64), []
     codes, cats = encode_matrix(arr, labels)
     table = codes_to_table(codes, len(cats))
-    fn = nominal_unit_stats if level == "nominal" else ordinal_unit_stats
-    return fn(table), codes, cats
+    if level == "nominal":
+        return nominal_unit_stats(table), codes, cats
+    return ordinal_unit_stats(table, per_unit=per_unit), codes, cats
 
 
 def _interval_values(arr: np.ndarray, labels) -> np.ndarray:
@@ -203,7 +210,7 @@ def krippendorff_alpha(data: Any, *, level: str = "nominal",
     >>> round(krippendorff_alpha([[1, 2, 3, 3], [1, 2, 3, 4]]), 3)
     0.765
     """
-    us, _, _ = unit_stats(data, level=level, labels=labels)
+    us, _, _ = unit_stats(data, level=level, labels=labels, per_unit=False)
     sums = us.stats.sum(axis=0)
     value = float(us.finish(sums))
     note = None

@@ -36,9 +36,13 @@ def _json_float(x: float) -> float | None:
     return None if np.isnan(x) else float(x)
 
 
-def replicate_sums(stats: np.ndarray, *, n_boot: int, seed: int) -> np.ndarray:
+def replicate_sums(stats: np.ndarray, *, n_boot: int, seed: int,
+                   row_keys: np.ndarray | None = None) -> np.ndarray:
     """Column sums of ``stats`` (units x K) over ``n_boot`` resamples of the units with
-    replacement; returns (n_boot, K). Seeded ``numpy.random.Generator`` (PCG64)."""
+    replacement; returns (n_boot, K). Seeded ``numpy.random.Generator`` (PCG64).
+
+    ``row_keys`` (optional, one integer per unit) must be equal exactly where rows of ``stats``
+    are equal; it only makes finding the distinct rows cheaper."""
     n_boot = _checks.positive_int("n_boot", n_boot)
     units = stats.shape[0]
     rng = np.random.default_rng(seed)
@@ -46,7 +50,11 @@ def replicate_sums(stats: np.ndarray, *, n_boot: int, seed: int) -> np.ndarray:
     if units == 0:
         out[:] = 0.0
         return out
-    rows, counts = np.unique(stats, axis=0, return_counts=True)
+    if row_keys is not None:
+        _, first, counts = np.unique(row_keys, return_index=True, return_counts=True)
+        rows = stats[first]
+    else:
+        rows, counts = np.unique(stats, axis=0, return_counts=True)
     if len(rows) * 2 <= units:
         # Units with identical statistics are interchangeable, so how often each distinct row is
         # drawn is multinomial(units, counts / units): the same distribution as drawing unit
@@ -80,7 +88,8 @@ def percentile_interval(values: np.ndarray, *, level: float, n_boot: int, seed: 
 
 def bootstrap_intervals(stats: np.ndarray, finishes: Sequence[Callable[[np.ndarray], np.ndarray]],
                         columns: Sequence[slice], *, n_boot: int = 1000, seed: int = 0,
-                        level: float = 0.95) -> list[Interval]:
+                        level: float = 0.95, row_keys: np.ndarray | None = None
+                        ) -> list[Interval]:
     r"""Percentile bootstrap intervals for several statistics sharing the same clip resamples.
 
     Parameters
@@ -93,6 +102,8 @@ def bootstrap_intervals(stats: np.ndarray, finishes: Sequence[Callable[[np.ndarr
         Which columns of ``stats`` each measure uses.
     n_boot, seed, level :
         Number of resamples, seed of ``numpy.random.default_rng``, interval coverage.
+    row_keys : ndarray of int, optional
+        Equal exactly for units with equal statistics (speeds up; see :func:`replicate_sums`).
 
     Notes
     -----
@@ -104,6 +115,7 @@ def bootstrap_intervals(stats: np.ndarray, finishes: Sequence[Callable[[np.ndarr
     ch. 13 (percentile intervals). https://doi.org/10.1007/978-1-4899-4541-9
     """
     level = _checks.probability("level", level)
-    sums = replicate_sums(np.asarray(stats, dtype=np.float64), n_boot=n_boot, seed=seed)
+    sums = replicate_sums(np.asarray(stats, dtype=np.float64), n_boot=n_boot, seed=seed,
+                          row_keys=row_keys)
     return [percentile_interval(f(sums[:, c]), level=level, n_boot=n_boot, seed=seed)
             for f, c in zip(finishes, columns)]

@@ -64,29 +64,43 @@ def _f(x: float) -> float | None:
 
 def collect(rows: Iterable[Sequence[Any]], label_order: Sequence[Any] | None):
     """rows -> (codes annotators x clips, clips, annotators, labels). Last row per cell wins."""
-    clip_ix: dict = {}
-    ann_ix: dict = {}
-    lab_ix: dict = {} if label_order is None else {lab: i for i, lab in enumerate(label_order)}
-    ci, ai, li = [], [], []
-    for n, row in enumerate(rows):
-        try:
-            clip, ann, lab = row
-        except (TypeError, ValueError):
-            raise ValueError(f"labels[{n}] must be a (clip, annotator, label) tuple") from None
-        ci.append(clip_ix.setdefault(clip, len(clip_ix)))
-        ai.append(ann_ix.setdefault(str(ann), len(ann_ix)))
-        j = lab_ix.get(lab) if label_order is not None else lab_ix.setdefault(lab, len(lab_ix))
-        if j is None:
-            raise ValueError(f"labels[{n}]: label {lab!r} is not in label_order")
-        li.append(j)
-    labels = list(lab_ix) if label_order is not None else _sorted(list(lab_ix))
-    remap = np.array([labels.index(lab) for lab in lab_ix], dtype=np.int64)
-    annotators = sorted(ann_ix)
-    aremap = np.array([annotators.index(a) for a in ann_ix], dtype=np.int64)
-    codes = np.full((len(annotators), len(clip_ix)), -1, dtype=np.int64)
-    if ci:
-        codes[aremap[np.asarray(ai)], np.asarray(ci)] = remap[np.asarray(li)]
-    return codes, list(clip_ix), annotators, labels
+    rows = rows if isinstance(rows, list) else list(rows)
+    try:
+        bad = set(map(len, rows)) - {3}
+    except TypeError:
+        bad = {None}
+    if bad:
+        n = next(i for i, r in enumerate(rows) if not hasattr(r, "__len__") or len(r) != 3)
+        raise ValueError(f"labels[{n}] must be a (clip, annotator, label) tuple")
+    if not rows:
+        return np.zeros((0, 0), dtype=np.int64), [], [], list(label_order or [])
+    clip_col, ann_col, lab_col = zip(*rows)
+    clips = list(dict.fromkeys(clip_col))
+    clip_ix = {c: i for i, c in enumerate(clips)}
+    ann_col = tuple(map(str, ann_col))
+    annotators = sorted(dict.fromkeys(ann_col))
+    ann_ix = {a: i for i, a in enumerate(annotators)}
+    if label_order is None:
+        labels = _sorted(list(dict.fromkeys(lab_col)))
+    else:
+        labels = list(label_order)
+        known = set(labels)
+        for n, lab in enumerate(lab_col):
+            if lab not in known:
+                raise ValueError(f"labels[{n}]: label {lab!r} is not in label_order")
+    lab_ix = {lab: i for i, lab in enumerate(labels)}
+    count = len(rows)
+    ci = np.fromiter(map(clip_ix.__getitem__, clip_col), dtype=np.int64, count=count)
+    ai = np.fromiter(map(ann_ix.__getitem__, ann_col), dtype=np.int64, count=count)
+    li = np.fromiter(map(lab_ix.__getitem__, lab_col), dtype=np.int64, count=count)
+    codes = np.full((len(annotators), len(clips)), -1, dtype=np.int64)
+    flat = ai * len(clips) + ci
+    if np.bincount(flat).max() > 1:  # a repeated (clip, annotator): keep its last row
+        _, last = np.unique(flat[::-1], return_index=True)
+        keep = count - 1 - last
+        ai, ci, li = ai[keep], ci[keep], li[keep]
+    codes[ai, ci] = li
+    return codes, clips, annotators, labels
 
 
 def _sorted(xs: list) -> list:
@@ -113,7 +127,13 @@ def summarize(codes: np.ndarray, clips: list, annotators: list[str], labels: lis
     for b in blocks:
         cols.append(slice(start, start + b.stats.shape[1]))
         start += b.stats.shape[1]
-    cis = bootstrap_intervals(stats, [b.finish for b in blocks], cols, n_boot=n_boot, seed=seed)
+    # every statistic is a function of the clip's label counts: key the rows by those counts
+    base = int(m.max()) + 1 if u else 1
+    keys = None
+    if base ** v < 2**62:
+        keys = table @ (base ** np.arange(v, dtype=np.int64))
+    cis = bootstrap_intervals(stats, [b.finish for b in blocks], cols, n_boot=n_boot, seed=seed,
+                              row_keys=keys)
     common = dict(n_raters=a, annotators=annotators, label_set_version=label_set_version)
     alpha = Score(float(overall.finish(overall.stats.sum(axis=0))), Recipe.make(
         "alpha", "krippendorff", level=level, ci="bootstrap", n_boot=n_boot, seed=seed,
@@ -132,7 +152,7 @@ def summarize(codes: np.ndarray, clips: list, annotators: list[str], labels: lis
     elif m[rated][0] < 2:
         reason = "each clip has one label only"
     else:
-        val, note = fleiss_from_table(table[rated].astype(np.float64))
+        val, note = fleiss_from_table(table[rated])
         fleiss = Score(val, Recipe.make("kappa", "fleiss", n_items=int(rated.sum()), note=note,
                                         **{**common, "n_raters": int(m[rated][0])}))
     pairs = []

@@ -115,13 +115,24 @@ def cohen_kappa(a: Sequence[Any], b: Sequence[Any], *, weights: str | None = Non
     return Score(value, recipe)
 
 
-def fleiss_from_table(t: np.ndarray) -> tuple[float, str | None]:
-    """Fleiss' kappa from an already checked float table; returns ``(value, note)``."""
+def fleiss_from_table(t: np.ndarray, m: int | None = None) -> tuple[float, str | None]:
+    r"""Fleiss' kappa from an already checked table; returns ``(value, note)``.
+
+    Uses :math:`\bar P = (\sum_{ij} n_{ij}^2 - N m) / (N m (m-1))`, the mean of the
+    :math:`P_i`, so one pass over the table suffices.
+    """
     n_items = t.shape[0]
-    m = t[0].sum()
-    p_cat = t.sum(axis=0) / (n_items * m)
-    p_item = ((t * t).sum(axis=1) - m) / (m * (m - 1))
-    p_bar, p_exp = float(p_item.mean()), float((p_cat * p_cat).sum())
+    if m is None:
+        m = int(t[0].sum())
+    flat = t.reshape(-1)
+    if t.dtype.kind in "iu":
+        squares = float(np.dot(flat.astype(np.int64), flat.astype(np.int64)))
+    else:
+        squares = float(np.dot(flat, flat))
+    total = float(n_items) * m
+    p_cat = t.sum(axis=0) / total
+    p_bar = (squares - total) / (total * (m - 1))
+    p_exp = float(np.dot(p_cat, p_cat))
     if p_exp >= 1.0:
         return 1.0, ONE_CATEGORY
     return (p_bar - p_exp) / (1.0 - p_exp), None
@@ -157,9 +168,9 @@ def fleiss_kappa(table: Any) -> Score:
     >>> round(fleiss_kappa([[3, 0], [0, 3], [2, 1]]), 4)
     0.5556
     """
-    t = _checks.count_table(table)
-    value, note = fleiss_from_table(t)
-    recipe = Recipe.make("kappa", "fleiss", n_raters=int(t[0].sum()), n_items=t.shape[0],
+    t, m = _checks.count_table(table)
+    value, note = fleiss_from_table(t, m)
+    recipe = Recipe.make("kappa", "fleiss", n_raters=m, n_items=t.shape[0],
                          note=note)
     return Score(value, recipe)
 

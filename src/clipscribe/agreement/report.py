@@ -63,21 +63,47 @@ class ClipScore:
 
 
 @dataclass(frozen=True)
+class ClipTable:
+    """Per clip scores as parallel arrays (cheap for 100k clips); rows come out as ClipScore."""
+
+    clips: list
+    label_disagreement: np.ndarray
+    segment_f1: np.ndarray
+    caption_bleu: np.ndarray
+    caption_cider: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.clips)
+
+    def row(self, i: int) -> ClipScore:
+        return ClipScore(self.clips[i], float(self.label_disagreement[i]),
+                         float(self.segment_f1[i]), float(self.caption_bleu[i]),
+                         float(self.caption_cider[i]))
+
+    def __iter__(self):
+        return (self.row(i) for i in range(len(self.clips)))
+
+    def worst_first(self) -> np.ndarray:
+        """Row order for review: most label disagreement, then lowest segment F1, then lowest
+        caption BLEU; NaN sorts last within each key (our ordering)."""
+        def key(v, sign):
+            return np.where(np.isnan(v), np.inf, sign * v)
+        return np.lexsort((key(self.caption_bleu, 1), key(self.segment_f1, 1),
+                           key(self.label_disagreement, -1)))
+
+
+@dataclass(frozen=True)
 class AgreementReport:
     labels: LabelSummary | None
     segments: SegmentSummary | None
     captions: CaptionSummary | None
-    clips: list[ClipScore]
+    clips: ClipTable
     recipe: Recipe
 
-    def review_queue(self) -> list[ClipScore]:
-        """Clips worst first: most label disagreement, then lowest segment F1, then lowest
-        caption BLEU (NaN last in each key). Our ordering."""
-        def key(c: ClipScore):
-            def k(v, sign):
-                return (1, 0.0) if math.isnan(v) else (0, sign * v)
-            return (k(c.label_disagreement, -1), k(c.segment_f1, 1), k(c.caption_bleu, 1))
-        return sorted(self.clips, key=key)
+    def review_queue(self, top: int | None = None) -> list[ClipScore]:
+        """Clips worst first (see :meth:`ClipTable.worst_first`), the first ``top`` or all."""
+        order = self.clips.worst_first()
+        return [self.clips.row(int(i)) for i in (order if top is None else order[:top])]
 
     def to_dict(self) -> dict:
         """JSON-safe dict (NaN becomes None)."""
@@ -137,11 +163,11 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         summary = summarize(codes, clip_list, annotators, label_list, ordinal=ordinal, seed=seed,
                             n_boot=n_boot, label_set_version=label_set_version)
     worked: dict[Any, set] = {}
-    for a, row in zip(annotators, codes):
-        for c in np.flatnonzero(row >= 0).tolist():
-            worked.setdefault(clip_list[c], set()).add(a)
     seg_summary, seg_f1 = None, {}
     if segments is not None:
+        for a, row in zip(annotators, codes):
+            for c in np.flatnonzero(row >= 0).tolist():
+                worked.setdefault(clip_list[c], set()).add(a)
         rows = check_segments(segments)
         for clip, ann, *_ in rows:
             worked.setdefault(clip, set()).add(ann)
@@ -174,9 +200,20 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     return AgreementReport(summary, seg_summary, cap_summary, clips, recipe)
 
 
-def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> list[ClipScore]:
-    nan = float("nan")
-    order = list(dict.fromkeys([*clip_list, *seg_f1, *cap_bleu, *cap_cider]))
-    dis = {} if summary is None else dict(zip(clip_list, summary.disagreement.tolist()))
-    return [ClipScore(c, dis.get(c, nan), seg_f1.get(c, nan), cap_bleu.get(c, nan),
-                      cap_cider.get(c, nan)) for c in order]
+def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> ClipTable:
+    order = list(clip_list)
+    known = set(order)
+    order += [c for c in dict.fromkeys([*seg_f1, *cap_bleu, *cap_cider]) if c not in known]
+    n = len(order)
+    dis = np.full(n, np.nan)
+    if summary is not None:
+        dis[:len(clip_list)] = summary.disagreement
+
+    def column(values: dict) -> np.ndarray:
+        out = np.full(n, np.nan)
+        if values:
+            index = {c: i for i, c in enumerate(order)}
+            out[[index[c] for c in values]] = list(values.values())
+        return out
+
+    return ClipTable(order, dis, column(seg_f1), column(cap_bleu), column(cap_cider))
