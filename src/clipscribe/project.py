@@ -21,6 +21,7 @@ from .project_parts.base import ProjectBase
 from .project_parts.catalog import CatalogMixin
 from .project_parts.gold import GoldMixin
 from .project_parts.records_io import RecordsMixin
+from .project_parts.team import TeamMixin
 from .schema.settings import SETTINGS_FILE, ProjectSettings
 from .store import db
 from .store.models import Annotator
@@ -28,7 +29,7 @@ from .store.models import Annotator
 DB_FILE = "project.sqlite"
 
 
-class Project(AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
+class Project(TeamMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
     """An open project. Use as a context manager, or call :meth:`close`.
 
     Create with :meth:`create`, open with :meth:`open`. ``user`` is the person acting: their name
@@ -47,7 +48,7 @@ class Project(AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase)
             raise ProjectError(f"{root}: exists and is not a folder")
         try:
             cfg = ProjectSettings(name=name or root.resolve().name or "project",
-                                  database_url=database_url, **settings)
+                                  database_url=_without_password(database_url), **settings)
         except ValidationError as exc:
             raise RecordError(f"project settings: {_first_error(exc)}") from None
         root.mkdir(parents=True, exist_ok=True)
@@ -57,7 +58,7 @@ class Project(AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase)
         tmp = root / (SETTINGS_FILE + ".tmp")
         tmp.write_text(cfg.model_dump_json(indent=2) + "\n", encoding="utf-8")
         os.replace(tmp, root / SETTINGS_FILE)
-        project = cls._connect(root, cfg, user=user, password=None)
+        project = cls._connect(root, cfg, user=user, password=None, url=database_url)
         local = user or project.local_user_name()
         project.add_annotator(local, role="lead", exist_ok=True)
         project.user = local
@@ -79,9 +80,11 @@ class Project(AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase)
 
     @classmethod
     def _connect(cls, root: Path, cfg: ProjectSettings, *, user: str | None,
-                 password: str | None) -> "Project":
-        url = cfg.database_url or db.sqlite_url(root.resolve() / DB_FILE)
-        engine = db.make_engine(_with_login(url, user, password))
+                 password: str | None, url: str | None = None) -> "Project":
+        if url is None:  # a given url (create: the admin's, maybe with password) is used as is
+            url = _with_login(cfg.database_url or db.sqlite_url(root.resolve() / DB_FILE),
+                              user, password)
+        engine = db.make_engine(url)
         try:
             db.migrate(engine)
         except ProjectError:
@@ -131,6 +134,14 @@ def _with_login(url: str, user: str | None, password: str | None) -> str:
     from sqlalchemy.engine import make_url
     u = make_url(url).set(username=user.lower(), password=password)
     return u.render_as_string(hide_password=False)
+
+
+def _without_password(url: str | None) -> str | None:
+    """The URL to keep in the settings file: never a password (libpq's ~/.pgpass has it)."""
+    if not url or not url.startswith("postgresql"):
+        return url
+    from sqlalchemy.engine import make_url
+    return make_url(url)._replace(password=None).render_as_string(hide_password=False)
 
 
 def _first_error(exc: ValidationError) -> str:

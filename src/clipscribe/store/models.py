@@ -99,6 +99,8 @@ class Clip(Base):
     state: Mapped[str] = mapped_column(String(20), default="new", index=True)
     fingerprint: Mapped[Optional[int]] = mapped_column(BigInteger, doc="64-bit perceptual hash, signed")
     added_at: Mapped[when]
+    annotators_wanted: Mapped[Optional[int]] = mapped_column(
+        Integer, doc="how many people should annotate the clip (team assignment); None: one")
 
 
 class Assignment(Base):

@@ -1,0 +1,71 @@
+"""Fixtures for team mode: one throwaway PostgreSQL server per test session, projects on it
+(each in its own new database), and tiny video clips to fill them."""
+
+from __future__ import annotations
+
+import os
+import uuid
+from pathlib import Path
+
+import cv2
+import numpy as np
+import pytest
+
+from clipscribe import Project
+
+from .pg_cluster import ADMIN_PASSWORD, Cluster, find_bin
+
+HERE = Path(__file__).parent
+
+
+def write_clip(path: Path, seed: int, frames: int = 12) -> Path:
+    """A small MJPEG clip whose pixels depend on ``seed`` (so every file differs)."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    w = cv2.VideoWriter(str(path), cv2.VideoWriter_fourcc(*"MJPG"), 10.0, (32, 24))
+    rng = np.random.default_rng(seed)
+    for _ in range(frames):
+        w.write(rng.integers(0, 255, (24, 32, 3), dtype=np.uint8))
+    w.release()
+    return path
+
+
+def add_clips(p: Project, n: int) -> list[int]:
+    ids = []
+    for i in range(n):
+        ids.append(p.add_clip(write_clip(p.media_root / f"c{i:03d}.avi", i)))
+    return ids
+
+
+@pytest.fixture(scope="session")
+def pg():
+    if find_bin() is None:
+        pytest.skip("PostgreSQL server binaries not found under /usr/lib/postgresql/*/bin "
+                    "(apt-get install postgresql)")
+    cluster = Cluster().start()
+    old = os.environ.get("PGPASSFILE")
+    os.environ["PGPASSFILE"] = str(cluster.pgpass)  # subprocesses inherit it
+    try:
+        yield cluster
+    finally:
+        if old is None:
+            os.environ.pop("PGPASSFILE", None)
+        else:
+            os.environ["PGPASSFILE"] = old
+        cluster.stop()
+
+
+@pytest.fixture
+def uid() -> str:
+    """A short unique tag: logins are server-wide, so every test names its people apart."""
+    return uuid.uuid4().hex[:6]
+
+
+@pytest.fixture
+def server_project(pg, tmp_path):
+    """A new project on its own database; the creator is lead ``boss`` (the admin login)."""
+    url = pg.new_database()
+    with_pw = url.replace("@", f":{ADMIN_PASSWORD}@", 1)
+    p = Project.create(tmp_path / "proj", database_url=with_pw, user="boss")
+    p.define_labels(["pick up", "put down", "stack"])
+    yield p
+    p.close()
