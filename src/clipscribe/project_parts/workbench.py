@@ -1,0 +1,104 @@
+"""Queries the annotator workbench needs: queue pages with one person's state, the next clip
+they have not finished, and their own label of one clip."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy import and_, func, or_, select
+from sqlalchemy.orm import Session
+
+from ..store.models import Assignment, Clip, ClipLabel, Label
+from .catalog import ClipInfo, clip_info
+
+#: per-person states that count as finished work
+FINISHED = ("submitted", "skipped")
+
+
+@dataclass(frozen=True, slots=True)
+class QueueRow:
+    """One line of an annotator's clip queue."""
+    clip: ClipInfo
+    my_state: str          # open / submitted / skipped / unsure ("open" when never touched)
+    my_label: str | None   # the person's own clip label, if any
+
+
+class WorkbenchMixin:
+    def _queue_stmt(self, s: Session, me, state, label, group, assignee):
+        """Clips with ``me``'s state and label; ``state``/``label`` filter on ``me``'s own."""
+        stmt = (self._clip_query(s, None, group, None, assignee)
+                .add_columns(Assignment.state, Label.name)
+                .outerjoin(Assignment, and_(Assignment.clip_id == Clip.id,
+                                            Assignment.annotator_id == me.id))
+                .outerjoin(ClipLabel, and_(ClipLabel.clip_id == Clip.id,
+                                           ClipLabel.annotator_id == me.id))
+                .outerjoin(Label, Label.id == ClipLabel.label_id))
+        if state == "open":
+            stmt = stmt.where(or_(Assignment.state.is_(None), Assignment.state == "open"))
+        elif state == "unfinished":
+            stmt = stmt.where(or_(Assignment.state.is_(None), Assignment.state.not_in(FINISHED)))
+        elif state:
+            stmt = stmt.where(Assignment.state == state)
+        if label:
+            stmt = stmt.where(ClipLabel.label_id == self._label(s, label).id)
+        return stmt
+
+    def queue_rows(self, annotator: Any = None, *, state: str | None = None,
+                   label: str | None = None, group: str | None = None,
+                   assignee: str | None = None, offset: int = 0,
+                   limit: int | None = None) -> list[QueueRow]:
+        """A page of clips in id order with ``annotator``'s own state and label (default: the
+        current user). ``state`` (open, unfinished, submitted, skipped, unsure) and ``label``
+        filter on that person's own work only, so blind mode shows nothing of others'."""
+        def q(s: Session) -> list[QueueRow]:
+            me = self._annotator(s, annotator)
+            stmt = self._queue_stmt(s, me, state, label, group, assignee).order_by(Clip.id).offset(offset)
+            if limit is not None:
+                stmt = stmt.limit(limit)
+            return [QueueRow(clip_info(c), st or "open", lab) for c, st, lab in s.execute(stmt)]
+        return self._read(q)
+
+    def queue_count(self, annotator: Any = None, **filters: Any) -> int:
+        """Number of rows :meth:`queue_rows` yields with the same filters."""
+        def q(s: Session) -> int:
+            me = self._annotator(s, annotator)
+            sub = self._queue_stmt(s, me, filters.get("state"), filters.get("label"),
+                                   filters.get("group"), filters.get("assignee")).with_only_columns(Clip.id)
+            return s.scalar(select(func.count()).select_from(sub.subquery())) or 0
+        return self._read(q)
+
+    def queue_index(self, clip: Any, annotator: Any = None, **filters: Any) -> int | None:
+        """Row number of ``clip`` in :meth:`queue_rows` with the same filters, or None."""
+        def q(s: Session) -> int | None:
+            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            stmt = self._queue_stmt(s, me, filters.get("state"), filters.get("label"),
+                                    filters.get("group"), filters.get("assignee")).with_only_columns(Clip.id)
+            if s.scalar(stmt.where(Clip.id == c.id)) is None:
+                return None
+            return s.scalar(select(func.count()).select_from(stmt.where(Clip.id < c.id).subquery())) or 0
+        return self._read(q)
+
+    def next_unfinished_clip(self, annotator: Any = None, *, after: Any = None,
+                             wrap: bool = True) -> int | None:
+        """Id of the first clip after ``after`` (by id) that ``annotator`` has neither submitted
+        nor skipped; wraps round to the start when ``wrap``. None when all are finished."""
+        def q(s: Session) -> int | None:
+            me = self._annotator(s, annotator)
+            done = select(Assignment.clip_id).where(Assignment.annotator_id == me.id,
+                                                    Assignment.state.in_(FINISHED))
+            base = select(Clip.id).where(Clip.id.not_in(done)).order_by(Clip.id).limit(1)
+            start = self._clip(s, after).id if after is not None else 0
+            found = s.scalar(base.where(Clip.id > start))
+            if found is None and wrap:
+                found = s.scalar(base)
+            return found
+        return self._read(q)
+
+    def my_clip_label(self, clip: Any, annotator: Any = None) -> str | None:
+        """``annotator``'s own label of ``clip`` (default: the current user), or None."""
+        def q(s: Session) -> str | None:
+            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            return s.scalar(select(Label.name).join(ClipLabel, ClipLabel.label_id == Label.id)
+                            .where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
+        return self._read(q)

@@ -1,0 +1,91 @@
+"""Starting the workbench: ``clipscribe open DIR`` ends up in :func:`run`."""
+
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+from PySide6.QtCore import QCoreApplication, QSettings, QTimer
+from PySide6.QtWidgets import QApplication
+
+from .. import Project
+from ..errors import ProjectError, RecordError
+from .style import STYLE_SHEET
+
+ORGANISATION = "clipscribe"
+APPLICATION = "workbench"
+SCREENSHOT_SIZE = (1440, 900)
+SCREENSHOT_TIMEOUT_MS = 20000
+
+
+def application() -> QApplication:
+    """The running QApplication, made (and named, for QSettings) on first use."""
+    QCoreApplication.setOrganizationName(ORGANISATION)
+    QCoreApplication.setApplicationName(APPLICATION)
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setStyleSheet(STYLE_SHEET)
+    return app
+
+
+def open_window(project: Project, *, view: str = "work", settings: QSettings | None = None):
+    from .main_window import MainWindow
+    return MainWindow(project, settings=settings, view=view)
+
+
+def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work",
+        screenshot: str | os.PathLike | None = None) -> int:
+    """Open the project in ``folder`` in the workbench; returns the exit code.
+
+    With ``screenshot`` the window is drawn on the first clip, saved to that PNG file once the
+    frame, thumbnails and motion curve are shown (or after a timeout), and the app quits.
+    """
+    app = application()
+    try:
+        project = Project.open(folder, user=user)
+    except (ProjectError, RecordError) as exc:
+        print(f"clipscribe: {exc}", file=sys.stderr)
+        return 2
+    if project.role(project.user) is None:
+        print(f"clipscribe: {project.user!r} is not a person in this project "
+              "(add them, or pass --user NAME)", file=sys.stderr)
+        project.close()
+        return 2
+    settings = QSettings()
+    if screenshot:
+        settings = QSettings(str(Path(screenshot).with_suffix(".ini")), QSettings.Format.IniFormat)
+        settings.clear()  # a clean layout, and the first unfinished clip
+    window = open_window(project, view=view, settings=settings)
+    code = 0
+    if screenshot:
+        window.resize(*SCREENSHOT_SIZE)
+        window.show()
+
+        def grab() -> None:
+            nonlocal code
+            app.processEvents()
+            image = window.grab()
+            if not image.save(str(screenshot), "PNG"):
+                print(f"clipscribe: could not write {screenshot}", file=sys.stderr)
+                code = 1
+            window.close()
+            app.quit()
+
+        done = {"fired": False}
+
+        def once() -> None:
+            if not done["fired"]:
+                done["fired"] = True
+                QTimer.singleShot(150, grab)  # let the last paint land
+
+        window.ready.connect(once)
+        QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, once)
+        if window.clip is None:
+            once()
+        app.exec()
+        Path(str(Path(screenshot).with_suffix(".ini"))).unlink(missing_ok=True)
+    else:
+        window.show()
+        code = app.exec()
+    project.close()
+    return code

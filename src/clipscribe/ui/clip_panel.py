@@ -1,0 +1,112 @@
+"""The clip panel: the clip label buttons, the clip's state and the inline skip prompt.
+
+Buttons are bound to the window's actions, so a key and a click do the same thing.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt, Signal, Slot
+from PySide6.QtGui import QAction
+from PySide6.QtWidgets import (
+    QGridLayout, QHBoxLayout, QLabel, QLineEdit, QPushButton, QSizePolicy, QToolButton, QVBoxLayout,
+    QWidget,
+)
+
+from . import theme
+
+
+class ClipPanel(QWidget):
+    skipConfirmed = Signal(str)   # reason
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("clipPanel")
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        self.title = QLabel("No clip")
+        self.title.setObjectName("clipTitle")
+        self.title.setWordWrap(True)
+        lay.addWidget(self.title)
+        self._labels = QGridLayout()
+        self._labels.setSpacing(4)
+        lay.addLayout(self._labels)
+        self.current = QLabel("Your label: none")
+        lay.addWidget(self.current)
+        self._states = QHBoxLayout()
+        lay.addLayout(self._states)
+        self.state = QLabel("Your state: open")
+        self.state.setObjectName("clipState")
+        lay.addWidget(self.state)
+        # the inline skip prompt: hidden until "Skip clip…"
+        self.skip_box = QWidget()
+        row = QHBoxLayout(self.skip_box)
+        row.setContentsMargins(0, 0, 0, 0)
+        self.skip_reason = QLineEdit()
+        self.skip_reason.setObjectName("skipReason")
+        self.skip_reason.setPlaceholderText("Why skip? (e.g. too dark, not the task, upsetting)")
+        ok, cancel = QPushButton("Skip"), QPushButton("Cancel")
+        row.addWidget(self.skip_reason, 1)
+        row.addWidget(ok)
+        row.addWidget(cancel)
+        self.skip_box.hide()
+        lay.addWidget(self.skip_box)
+        ok.clicked.connect(self._confirm_skip)
+        self.skip_reason.returnPressed.connect(self._confirm_skip)
+        cancel.clicked.connect(self.hide_skip_prompt)
+        self.label_buttons: dict[str, QToolButton] = {}
+
+    def set_label_actions(self, actions: list[QAction], colours: dict[str, str]) -> None:
+        for i, action in enumerate(actions):
+            b = QToolButton()
+            b.setDefaultAction(action)
+            b.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
+            b.setCheckable(True)
+            b.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+            b.setMinimumWidth(110)
+            name = action.data()
+            c = colours.get(name, "#888888")
+            b.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+            key = action.shortcut().toString()
+            b.setText(f"{name}   [{key.lower() if len(key) == 1 else key}]" if key else name)
+            b.setStyleSheet(
+                f"QToolButton {{ border: 1px solid #b8c1ca; border-left: 8px solid {c};"
+                f" border-radius: 3px; padding: 5px 8px; background: #f7f9fa; }}"
+                f"QToolButton:checked {{ background: {c}; color: {theme.text_colour_on(c)};"
+                f" font-weight: bold; }}")
+            self._labels.addWidget(b, i // 2, i % 2)
+            self.label_buttons[name] = b
+
+    def set_state_actions(self, actions: list[QAction]) -> None:
+        for action in actions:
+            b = QToolButton()
+            b.setDefaultAction(action)
+            b.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+            self._states.addWidget(b)
+        self._states.addStretch(1)
+
+    # ---- showing -----------------------------------------------------------------------
+    def show_clip(self, title: str, label: str | None, state: str, reason: str | None) -> None:
+        self.title.setText(title)
+        self.current.setText(f"Your label: {label or 'none'}")
+        for name, b in self.label_buttons.items():
+            b.setChecked(name == label)
+        self.state.setText(f"Your state: {state}" + (f" ({reason})" if reason else ""))
+
+    @Slot()
+    def show_skip_prompt(self) -> None:
+        self.skip_box.show()
+        self.skip_reason.setFocus(Qt.FocusReason.ShortcutFocusReason)
+
+    @Slot()
+    def hide_skip_prompt(self) -> None:
+        self.skip_reason.clear()
+        self.skip_box.hide()
+
+    @Slot()
+    def _confirm_skip(self) -> None:
+        reason = self.skip_reason.text().strip()
+        if reason:
+            self.skipConfirmed.emit(reason)
+            self.hide_skip_prompt()
+        else:
+            self.skip_reason.setPlaceholderText("A reason is needed to skip a clip")

@@ -1,0 +1,296 @@
+"""The workbench window: wires the queue, viewer, scrub bar, timeline, clip panel and
+captions to the project. Widgets only show and emit; edits go through :class:`ClipEditor`."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
+from PySide6.QtGui import QCloseEvent, QImage
+from PySide6.QtWidgets import (
+    QDockWidget, QLabel, QMainWindow, QStackedWidget, QVBoxLayout, QWidget,
+)
+
+from .actions import build_actions
+from .captions import CaptionsPanel
+from .clip_panel import ClipPanel
+from .dialogs import CautionsNote, ShortcutSheet
+from .editor import ClipEditor
+from .jobs_view import ClipJobs
+from .menus import build_menus
+from .player import Player, TransportBar
+from .queue import QueuePanel
+from .queue_model import ClipQueueModel
+from .scrub_bar import ScrubBar
+from .segment_model import SegmentModel
+from .segments_ops import SegmentOps
+from .timeline import Timeline
+from .viewer import FrameView
+
+RESUME_MS = 400
+
+
+class MainWindow(SegmentOps, QMainWindow):
+    ready = Signal()  # the first clip's frame, thumbnails and motion curve are on screen
+
+    def __init__(self, project, *, settings: QSettings | None = None, view: str = "work") -> None:
+        super().__init__()
+        self.project = project
+        self.settings = settings if settings is not None else QSettings()
+        self.setWindowTitle(f"clipscribe — {project.settings.name} — {project.user}")
+        self.setObjectName("workbench")
+        self.label_infos = project.labels()
+        self.colours = {l.name: l.colour for l in self.label_infos}
+        self.editor = ClipEditor(project, self)
+        self.player = Player(self)
+        self.clip = None
+        self._ready_parts: set[str] = set()
+        self._build_widgets()
+        self.actions_ = build_actions(self)
+        self._build_panels()
+        build_menus(self)
+        self._wire()
+        self._resume_timer = QTimer(self, singleShot=True, interval=RESUME_MS)
+        self._resume_timer.timeout.connect(self._write_resume)
+        self._restore_layout()
+        self.show_view(view)
+        self._open_first()
+
+    # ---- building ----------------------------------------------------------------------
+    def _build_widgets(self) -> None:
+        p = self.project
+        self.queue_model = ClipQueueModel(p, self)
+        self.queue = QueuePanel(self.queue_model, labels=[l.name for l in self.label_infos],
+                                groups=p.groups(), people=[a.name for a in p.annotators()])
+        self.viewer = FrameView()
+        self.scrub = ScrubBar()
+        self.segment_model = SegmentModel(self)
+        self.timeline = Timeline(self.segment_model)
+        self.timeline.colours = self.colours
+        self.clip_panel = ClipPanel()
+        self.captions = CaptionsPanel(self.editor, p.settings.caption_guideline)
+        self.jobs = ClipJobs(self)
+        self.save_state = QLabel("Nothing changed yet")
+        self.save_state.setObjectName("saveState")
+        self.statusBar().addPermanentWidget(self.save_state)
+
+    def _build_panels(self) -> None:
+        a = self.actions_
+        transport = TransportBar(self.player, [a["back_second"], a["back_frame"], a["play"],
+                                               a["fwd_frame"], a["fwd_second"], a["loop"]])
+        self.transport = transport
+        work = QWidget()
+        lay = QVBoxLayout(work)
+        lay.setContentsMargins(6, 6, 6, 6)
+        lay.setSpacing(4)
+        lay.addWidget(self.viewer, 1)
+        lay.addWidget(transport)
+        lay.addWidget(self.scrub)
+        lay.addWidget(self.timeline)
+        self.review_page = QLabel("The review desk is not part of this build yet.\n"
+                                  "Use the work view (Ctrl+1).")
+        self.review_page.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.stack = QStackedWidget()
+        self.stack.addWidget(work)
+        self.stack.addWidget(self.review_page)
+        self.setCentralWidget(self.stack)
+        self.clip_panel.set_label_actions(
+            [a[f"label:{l.name}"] for l in self.label_infos], self.colours)
+        self.clip_panel.set_state_actions([a["submit"], a["skip"], a["unsure"]])
+        side = QWidget()
+        sl = QVBoxLayout(side)
+        sl.setContentsMargins(6, 0, 6, 6)
+        sl.addWidget(self.clip_panel)
+        heading = QLabel("Captions")
+        heading.setObjectName("heading")
+        sl.addWidget(heading)
+        sl.addWidget(self.captions, 1)
+        self._dock("Clip queue", "queueDock", self.queue, Qt.DockWidgetArea.LeftDockWidgetArea)
+        clip_dock = self._dock("Clip", "clipDock", side, Qt.DockWidgetArea.RightDockWidgetArea)
+        self.resizeDocks([self.findChild(QDockWidget, "queueDock"), clip_dock], [330, 420],
+                         Qt.Orientation.Horizontal)
+
+    def _dock(self, title: str, name: str, widget: QWidget, area) -> QDockWidget:
+        d = QDockWidget(title, self)
+        d.setObjectName(name)
+        d.setWidget(widget)
+        d.setFeatures(QDockWidget.DockWidgetFeature.DockWidgetMovable
+                      | QDockWidget.DockWidgetFeature.DockWidgetFloatable)
+        self.addDockWidget(area, d)
+        return d
+
+    def _wire(self) -> None:
+        pl = self.player
+        pl.frameShown.connect(self._frame_shown)
+        pl.playheadMoved.connect(self.scrub.set_playhead)
+        pl.playheadMoved.connect(self.timeline.set_playhead)
+        pl.playheadMoved.connect(lambda _f: self._resume_timer.start())
+        pl.failed.connect(lambda msg: self.statusBar().showMessage(msg, 8000))
+        pl.stateChanged.connect(self._player_state)
+        self.scrub.seekRequested.connect(pl.seek)
+        self.timeline.seekRequested.connect(pl.seek)
+        self.timeline.segmentSelected.connect(self._segment_selected)
+        self.timeline.edgeMoved.connect(self.editor.move_segment)
+        self.queue.clipChosen.connect(self.open_clip)
+        self.clip_panel.skipConfirmed.connect(lambda r: self.editor.set_state("skipped", r))
+        self.editor.changed.connect(self.refresh)
+        self.editor.saving.connect(lambda: self._show_saved("Saving…", None))
+        self.editor.saved.connect(lambda t: self._show_saved(f"Saved {t}", True))
+        self.editor.notSaved.connect(lambda why: self._show_saved(f"Not saved: {why}", False))
+        self.jobs.thumbnailsReady.connect(lambda imgs: (self.scrub.set_thumbnails(imgs),
+                                                        self._part_ready("thumbs")))
+        self.jobs.curveReady.connect(lambda v: (self.scrub.set_curve(v), self._part_ready("motion")))
+        self.jobs.progressText.connect(self.scrub.set_status)
+        self.jobs.failed.connect(lambda msg: (self.statusBar().showMessage(msg, 8000),
+                                              self._part_ready("thumbs"), self._part_ready("motion")))
+
+    # ---- clips -------------------------------------------------------------------------
+    def _open_first(self) -> None:
+        key = f"resume/{self.project.folder.resolve()}"
+        clip = self.settings.value(f"{key}/clip", None)
+        frame = int(self.settings.value(f"{key}/frame", 0) or 0)
+        try:
+            clip = int(clip) if clip is not None else None
+            if clip is not None:
+                self.project.clip(clip)
+        except (ValueError, TypeError, LookupError):
+            clip = None
+        if clip is None:
+            clip = self.project.next_unfinished_clip() or (
+                self.queue_model.row(0).clip.id if self.queue_model.rowCount() else None)
+            frame = 0
+        if clip is not None:
+            self.open_clip(clip, frame)
+        else:
+            self.viewer.set_note("This project has no clips yet")
+
+    @Slot(int)
+    def open_clip(self, clip_id: int, frame: int = 0) -> None:
+        if self.clip is not None and self.clip.id == clip_id:
+            return
+        self.captions.flush()
+        self.jobs.cancel()
+        self.clip = info = self.project.clip(clip_id)
+        self.editor.clip = info.id
+        self.editor.undo_stack.clear()  # undo works within one clip at a time
+        path = self.project.media_path(info.id)
+        self.viewer.clear("Loading…")
+        self.scrub.reset(info.frame_count)
+        self.timeline.reset(info.frame_count)
+        self.player.open(path, info.frame_count, info.fps, frame)
+        self.jobs.start(path)
+        self.queue.select_clip(info.id)
+        self.refresh()
+
+    @Slot()
+    def refresh(self) -> None:
+        """Re-read the current person's work on the clip on screen."""
+        if self.clip is None:
+            return
+        p, me, cid = self.project, self.project.user, self.clip.id
+        segments = p.segments(clip=cid, annotator=me)
+        self.segment_model.set_segments(segments)
+        if self.timeline.selected is not None and self.segment_model.by_id(self.timeline.selected) is None:
+            self.timeline.set_selected(None)
+        self.captions.load(p.caption_rows(clip=cid, annotator=me), segments)
+        state, reason = p.clip_state(cid, me)
+        c = self.clip
+        self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
+                                  f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
+        self.queue_model.refresh_clip(cid)
+
+    def step_clip(self, step: int) -> None:
+        nxt = self.queue.neighbour(step)
+        if nxt is not None:
+            self.open_clip(nxt)
+
+    @Slot()
+    def next_unfinished(self) -> None:
+        nxt = self.project.next_unfinished_clip(after=self.clip.id if self.clip else None)
+        if nxt is None:
+            self.statusBar().showMessage("Every clip is submitted or skipped — well done", 6000)
+        else:
+            self.open_clip(nxt)
+
+    @Slot()
+    def submit_clip(self) -> None:
+        self.captions.flush()
+        if self.editor.set_state("submitted") is not None:
+            self.next_unfinished()
+
+    # ---- frames, jobs and readiness ----------------------------------------------------
+    @Slot(int, QImage)
+    def _frame_shown(self, frame: int, image: QImage) -> None:
+        self.viewer.show_frame(frame, image)
+        self._part_ready("frame")
+
+    def _part_ready(self, part: str) -> None:
+        was = self._ready_parts >= {"frame", "thumbs", "motion"}
+        self._ready_parts.add(part)
+        if not was and self._ready_parts >= {"frame", "thumbs", "motion"}:
+            self.ready.emit()
+
+    @Slot()
+    def _player_state(self) -> None:
+        a = self.actions_
+        a["play"].setIconText("Pause" if self.player.playing else "Play")
+        self.timeline.loop = self.player.loop
+        a["loop"].setChecked(self.player.loop is not None)
+        self.timeline.update()
+
+    def _show_saved(self, text: str, ok: bool | None) -> None:
+        colour = {True: "#2e7d32", False: "#c62828", None: "palette(text)"}[ok]
+        self.save_state.setStyleSheet(f"color: {colour};")
+        self.save_state.setText(text)
+        if ok is False:
+            self.statusBar().showMessage(text, 10000)
+
+    # ---- views, focus, help ------------------------------------------------------------
+    def show_view(self, view: str) -> None:
+        review = view == "review"
+        self.stack.setCurrentIndex(1 if review else 0)
+        self.actions_["work_view"].setChecked(not review)
+        self.actions_["review_view"].setChecked(review)
+
+    def focus_viewer(self) -> None:
+        self.viewer.setFocus(Qt.FocusReason.ShortcutFocusReason)
+
+    def focus_queue(self) -> None:
+        self.queue.view.setFocus(Qt.FocusReason.ShortcutFocusReason)
+
+    def all_actions(self) -> list:
+        return list(self.actions_.values())
+
+    def show_shortcuts(self) -> None:
+        ShortcutSheet(self.all_actions(), self).exec()
+
+    def show_cautions(self) -> None:
+        CautionsNote(self).exec()
+
+    # ---- remembering -------------------------------------------------------------------
+    def _write_resume(self) -> None:
+        if self.clip is None:
+            return
+        key = f"resume/{self.project.folder.resolve()}"
+        self.settings.setValue(f"{key}/clip", self.clip.id)
+        self.settings.setValue(f"{key}/frame", self.player.frame)
+        self.settings.setValue("lastProject", str(self.project.folder.resolve()))
+        self.settings.sync()
+
+    def _restore_layout(self) -> None:
+        geo, state = self.settings.value("window/geometry"), self.settings.value("window/state")
+        if geo is not None:
+            self.restoreGeometry(geo)
+        else:
+            self.resize(1440, 900)
+        if state is not None:
+            self.restoreState(state)
+
+    def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
+        self.captions.flush()
+        self._write_resume()
+        self.settings.setValue("window/geometry", self.saveGeometry())
+        self.settings.setValue("window/state", self.saveState())
+        self.settings.sync()
+        self.jobs.cancel()
+        self.player.close()
+        self.jobs.wait()
+        super().closeEvent(event)

@@ -1,0 +1,102 @@
+"""The clip queue panel: filters above a lazily filled list of clips."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QItemSelectionModel, Qt, Signal, Slot
+from PySide6.QtWidgets import QComboBox, QFormLayout, QHeaderView, QLabel, QTreeView, QVBoxLayout, QWidget
+
+from .queue_model import ClipIdRole, ClipQueueModel
+
+STATES = [("any", None), ("not finished", "unfinished"), ("untouched", "open"),
+          ("submitted", "submitted"), ("skipped", "skipped"), ("unsure", "unsure")]
+
+
+class QueuePanel(QWidget):
+    clipChosen = Signal(int)
+
+    def __init__(self, model: ClipQueueModel, *, labels: list[str], groups: list[str],
+                 people: list[str], parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("clipQueue")
+        self.model = model
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        form = QFormLayout()
+        form.setContentsMargins(4, 0, 4, 0)
+        self.state = self._combo(STATES)
+        self.label = self._combo([("any", None)] + [(n, n) for n in labels])
+        self.group = self._combo([("any", None)] + [(g, g) for g in groups])
+        self.assignee = self._combo([("anyone", None)] + [(n, n) for n in people])
+        form.addRow("Your state", self.state)
+        form.addRow("Your label", self.label)
+        form.addRow("Group", self.group)
+        form.addRow("Assigned to", self.assignee)
+        lay.addLayout(form)
+        self.view = QTreeView()
+        self.view.setObjectName("queueView")
+        self.view.setAccessibleName("Clip queue")
+        self.view.setRootIsDecorated(False)
+        self.view.setUniformRowHeights(True)   # lets the view skip measuring 100k rows
+        self.view.setAlternatingRowColors(True)
+        self.view.setModel(model)
+        header = self.view.header()
+        header.setStretchLastSection(False)
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        for c in (1, 2, 3):
+            header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
+        self.view.setColumnHidden(1, True)  # the group is in the tooltip and the filter
+        lay.addWidget(self.view, 1)
+        self.count = QLabel()
+        self.count.setObjectName("queueCount")
+        lay.addWidget(self.count)
+        self.view.selectionModel().currentRowChanged.connect(self._current_changed)
+        model.modelReset.connect(self._show_count)
+        self._show_count()
+
+    def _combo(self, items) -> QComboBox:
+        box = QComboBox()
+        for text, value in items:
+            box.addItem(text, value)
+        box.currentIndexChanged.connect(self._filters_changed)
+        return box
+
+    @Slot()
+    def _filters_changed(self) -> None:
+        if not hasattr(self, "assignee"):
+            return  # still building
+        self.model.set_filters(state=self.state.currentData(), label=self.label.currentData(),
+                               group=self.group.currentData(), assignee=self.assignee.currentData())
+
+    @Slot()
+    def _show_count(self) -> None:
+        n = self.model.total
+        self.count.setText(f"{n} clip{'s' if n != 1 else ''}")
+
+    def _current_changed(self, current, _previous) -> None:
+        if current.isValid():
+            self.clipChosen.emit(current.data(ClipIdRole))
+
+    def select_clip(self, clip_id: int) -> bool:
+        """Make ``clip_id`` the current row without emitting ``clipChosen``."""
+        row = self.model.row_of(clip_id)
+        if row is None:
+            return False
+        sm = self.view.selectionModel()
+        sm.blockSignals(True)
+        idx = self.model.index(row, 0)
+        sm.setCurrentIndex(idx, QItemSelectionModel.SelectionFlag.ClearAndSelect
+                           | QItemSelectionModel.SelectionFlag.Rows)
+        sm.blockSignals(False)
+        self.view.viewport().update()
+        self.view.scrollTo(idx)
+        return True
+
+    def neighbour(self, step: int) -> int | None:
+        """Clip id ``step`` rows from the current one, fetching more rows when needed."""
+        cur = self.view.currentIndex()
+        row = (cur.row() if cur.isValid() else -1) + step
+        if row >= self.model.rowCount() and self.model.canFetchMore():
+            self.model.fetchMore()
+        if 0 <= row < self.model.rowCount():
+            return self.model.row(row).clip.id
+        return None

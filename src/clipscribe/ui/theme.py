@@ -1,0 +1,23 @@
+"""Colours of the workbench (our own scheme: slate greys with a teal accent)."""
+
+VIEWER_BG = "#1d2126"
+TRACK_BG = "#2a3038"
+TRACK_GRID = "#3a424d"
+MUTED_TEXT = "#9aa4b0"
+PLAYHEAD = "#ffd166"
+MARK = "#06d6a0"
+CURVE = "#5ec2b7"
+CURVE_FILL = (94, 194, 183, 90)  # r, g, b, alpha
+SELECTED = "#ffffff"
+SAVED_OK = "#2e7d32"
+SAVED_BAD = "#c62828"
+
+
+def text_colour_on(hex_colour: str) -> str:
+    """Black or white, whichever reads better on ``hex_colour`` (WCAG relative luminance,
+    W3C WCAG 2.1 §1.4.3 definition; threshold 0.179 is common practice)."""
+    h = hex_colour.lstrip("#")
+    r, g, b = (int(h[i:i + 2], 16) / 255 for i in (0, 2, 4))
+    lin = [c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4 for c in (r, g, b)]
+    lum = 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2]
+    return "#000000" if lum > 0.179 else "#ffffff"
