@@ -22,6 +22,7 @@ from .project_parts.catalog import CatalogMixin
 from .project_parts.gold import GoldMixin
 from .project_parts.records_io import RecordsMixin
 from .project_parts.team import TeamMixin
+from .project_parts.workbench import WorkbenchMixin
 from .schema.settings import SETTINGS_FILE, ProjectSettings
 from .store import db
 from .store.models import Annotator
@@ -29,7 +30,7 @@ from .store.models import Annotator
 DB_FILE = "project.sqlite"
 
 
-class Project(TeamMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
+class Project(TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
     """An open project. Use as a context manager, or call :meth:`close`.
 
     Create with :meth:`create`, open with :meth:`open`. ``user`` is the person acting: their name
