@@ -1,0 +1,44 @@
+"""Every Qt model of the workbench under QAbstractItemModelTester."""
+
+from PySide6.QtCore import QModelIndex
+from PySide6.QtTest import QAbstractItemModelTester
+
+from clipscribe import Project
+from clipscribe.ui.queue_model import ClipIdRole, ClipQueueModel
+from clipscribe.ui.segment_model import SegmentModel
+
+Mode = QAbstractItemModelTester.FailureReportingMode
+
+
+def test_queue_model_pages_filters_and_refreshes(qtbot, sample, monkeypatch):
+    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 5)  # force several pages
+    with Project.open(sample, user="annotator-3") as p:
+        model = ClipQueueModel(p)
+        assert model.rowCount() == 5 and model.canFetchMore(QModelIndex())
+        QAbstractItemModelTester(model, Mode.Fatal)  # (the tester itself fetches a page)
+        while model.canFetchMore(QModelIndex()):
+            model.fetchMore(QModelIndex())
+        assert model.rowCount() == 12
+        assert [model.index(r, 0).data(ClipIdRole) for r in range(12)] == list(range(1, 13))
+        model.set_filters(state="unfinished")
+        unfinished = [r.clip.id for r in p.queue_rows(state="unfinished")]
+        assert model.total == len(unfinished) and 0 < len(unfinished) < 12
+        assert model.row_of(unfinished[-1]) == len(unfinished) - 1
+        p.set_clip_label(unfinished[0], "annotator-3", "idle")
+        model.refresh_clip(unfinished[0])
+        assert model.index(0, 2).data() == "idle"
+        model.set_filters()
+        assert model.row_of(12) == 11
+
+
+def test_segment_model(qtbot, sample):
+    with Project.open(sample, user="annotator-1") as p:
+        model = SegmentModel()
+        QAbstractItemModelTester(model, Mode.Fatal)
+        rows = p.segments(annotator="annotator-1")
+        model.set_segments(rows)
+        assert model.rowCount() == len(rows) > 0
+        g = model.segments()[0]
+        assert model.at_frame(g.start) == g and model.by_id(g.id) == g
+        model.set_segments([])
+        assert model.rowCount() == 0
