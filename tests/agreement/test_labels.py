@@ -123,6 +123,12 @@ def test_perfect_agreement_and_single_item():
     assert krippendorff_alpha([[1, 2, 3], [1, 2, 3]]) == 1.0
     assert cohen_kappa(["x"], ["y"]) == 0.0  # p_o = 0, p_e = 0
     assert cohen_kappa(["x"], ["x"]) == 1.0
+    # one item, three raters split 2-1 over two categories: P = 1/3, Pe = 5/9 (by hand)
+    assert fleiss_kappa([[2, 1]]) == pytest.approx((1 / 3 - 5 / 9) / (1 - 5 / 9))
+    assert fleiss_kappa([[2, 1]]) == pytest.approx(sm_fleiss(np.array([[2, 1]])))  # statsmodels
+    # a single unit with two different values: observed = expected disagreement, alpha 0
+    assert krippendorff_alpha([[1], [2]]) == 0.0
+    assert krippendorff.alpha(reliability_data=[[1], [2]], level_of_measurement="nominal") == 0.0
 
 
 def test_everything_missing():

@@ -207,8 +207,8 @@ def krippendorff_alpha(data: Any, *, level: str = "nominal",
 
     Examples
     --------
-    >>> round(krippendorff_alpha([[1, 2, 3, 3], [1, 2, 3, 4]]), 3)
-    0.765
+    >>> round(float(krippendorff_alpha([[1, 2, 3, 3], [1, 2, 3, 4]])), 3)
+    0.696
     """
     us, _, _ = unit_stats(data, level=level, labels=labels, per_unit=False)
     sums = us.stats.sum(axis=0)

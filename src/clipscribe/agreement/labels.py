@@ -104,7 +104,7 @@ def cohen_kappa(a: Sequence[Any], b: Sequence[Any], *, weights: str | None = Non
 
     Examples
     --------
-    >>> round(cohen_kappa(["x", "y", "y", "x"], ["x", "y", "x", "x"]), 3)
+    >>> round(float(cohen_kappa(["x", "y", "y", "x"], ["x", "y", "x", "x"])), 3)
     0.5
     """
     _checks.choice("weights", weights, _checks.WEIGHTS)
@@ -165,8 +165,8 @@ def fleiss_kappa(table: Any) -> Score:
 
     Examples
     --------
-    >>> round(fleiss_kappa([[3, 0], [0, 3], [2, 1]]), 4)
-    0.5556
+    >>> round(float(fleiss_kappa([[3, 0], [0, 3], [2, 1]])), 4)
+    0.55
     """
     t, m = _checks.count_table(table)
     value, note = fleiss_from_table(t, m)
