@@ -7,7 +7,10 @@ from collections import OrderedDict
 
 import numpy as np
 
-DEFAULT_CACHE_BYTES = 512 * 1024 * 1024
+# 128 MiB: about 48 frames of 720p or 21 of 1080p, enough to step back a second or two. A
+# larger budget makes forward stepping slower while the cache fills (every new frame is fresh
+# memory the kernel must fault in), measured by benchmarks/bench_media.py.
+DEFAULT_CACHE_BYTES = 128 * 1024 * 1024
 
 
 class FrameCache:

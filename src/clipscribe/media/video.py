@@ -311,7 +311,7 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     path : path-like
         The video file (any container and codec the OpenCV FFmpeg backend decodes).
     cache_bytes : int, optional
-        Byte budget of the decoded-frame cache (default 512 MiB); the cache never exceeds it.
+        Byte budget of the decoded-frame cache (default 128 MiB: about 48 frames of 720p or 21 of 1080p); the cache never exceeds it.
     index_cache_dir : path-like, optional
         Folder for cached frame indexes, keyed by the file's SHA-256 (default
         ``platformdirs.user_cache_dir("clipscribe")/frame-index``).
