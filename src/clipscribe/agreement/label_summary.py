@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from operator import itemgetter
 from typing import Any, Iterable, Sequence
 
 import numpy as np
@@ -74,12 +75,14 @@ def collect(rows: Iterable[Sequence[Any]], label_order: Sequence[Any] | None):
         raise ValueError(f"labels[{n}] must be a (clip, annotator, label) tuple")
     if not rows:
         return np.zeros((0, 0), dtype=np.int64), [], [], list(label_order or [])
-    clip_col, ann_col, lab_col = zip(*rows)
+    # columns via itemgetter: zip(*rows) would pass every row as an argument (slow at 500k)
+    clip_col, ann_col, lab_col = (list(map(itemgetter(k), rows)) for k in range(3))
     clips = list(dict.fromkeys(clip_col))
     clip_ix = {c: i for i, c in enumerate(clips)}
-    ann_col = tuple(map(str, ann_col))
-    annotators = sorted(dict.fromkeys(ann_col))
-    ann_ix = {a: i for i, a in enumerate(annotators)}
+    raw_anns = list(dict.fromkeys(ann_col))
+    annotators = sorted({str(a) for a in raw_anns})
+    named = {a: i for i, a in enumerate(annotators)}
+    ann_ix = {a: named[str(a)] for a in raw_anns}  # 1 and "1" are the same annotator
     if label_order is None:
         labels = _sorted(list(dict.fromkeys(lab_col)))
     else:

@@ -212,24 +212,34 @@ def leave_one_out_bleu(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_ord
     return LooBleu(overall, per, caps, rec)
 
 
+def _clip_medians(clip: np.ndarray, sent: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per caption: median of the non-NaN scores of its clip, and how many there are."""
+    scored = ~np.isnan(sent)
+    order = np.lexsort((np.where(scored, sent, np.inf), clip))
+    cs = clip[order]
+    start = np.searchsorted(cs, cs, side="left")
+    k = np.bincount(clip, weights=scored, minlength=int(clip.max()) + 1).astype(np.int64)[cs]
+    vals = sent[order]
+    lo = start + np.maximum(k - 1, 0) // 2
+    hi = start + k // 2
+    med = np.where(k > 0, (vals[lo] + vals[np.minimum(hi, len(vals) - 1)]) / 2.0, np.nan)
+    med = np.where(k % 2 == 1, vals[lo], med)
+    med = np.where(k > 0, med, np.nan)
+    out_med, out_k = np.empty(len(clip)), np.empty(len(clip), dtype=np.int64)
+    out_med[order], out_k[order] = med, k
+    return out_med, out_k
+
+
 def _flag(clip, clip_keys, authors, texts, tokens, sent, margin) -> list[CaptionScore]:
-    order = np.argsort(clip, kind="stable")
-    bounds = np.flatnonzero(np.diff(clip[order])) + 1
-    median = np.full(len(clip), np.nan)
-    scored = np.zeros(len(clip), dtype=np.int64)
-    for grp in np.split(order, bounds):
-        vals = sent[grp]
-        ok = ~np.isnan(vals)
-        if ok.any():
-            median[grp] = np.median(vals[ok])
-        scored[grp] = ok.sum()
+    median, scored = _clip_medians(clip, sent)
+    low = (scored >= 3) & (sent < median - margin)
     out = []
-    for i in range(len(clip)):
+    for i, (c, a, t, s, med) in enumerate(zip(clip.tolist(), authors, texts, sent.tolist(),
+                                              median.tolist())):
         reason = None
         if not tokens[i]:
             reason = "empty caption"
-        elif scored[i] >= 3 and sent[i] < median[i] - margin:
-            reason = f"BLEU {sent[i]:.1f} < clip median {median[i]:.1f} - {margin:g}"
-        out.append(CaptionScore(clip_keys[clip[i]], authors[i], texts[i], float(sent[i]),
-                                float(median[i]), reason is not None, reason))
+        elif low[i]:
+            reason = f"BLEU {s:.1f} < clip median {med:.1f} - {margin:g}"
+        out.append(CaptionScore(clip_keys[c], a, t, s, med, reason is not None, reason))
     return out
