@@ -41,9 +41,11 @@ class QueuePanel(QWidget):
         self.view.setModel(model)
         header = self.view.header()
         header.setStretchLastSection(False)
+        # fixed widths: sizing columns to their contents would measure every loaded row
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
-        for c in (1, 2, 3):
-            header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
+        for c, width in ((1, 90), (2, 80), (3, 80)):
+            header.setSectionResizeMode(c, QHeaderView.ResizeMode.Interactive)
+            header.resizeSection(c, width)
         self.view.setColumnHidden(1, True)  # the group is in the tooltip and the filter
         lay.addWidget(self.view, 1)
         self.count = QLabel()

@@ -49,9 +49,12 @@ class ClipQueueModel(QAbstractTableModel):
         return not parent.isValid() and len(self._rows) < self._total
 
     def fetchMore(self, parent: Index = QModelIndex()) -> None:  # noqa: N802
-        if parent.isValid():
-            return
-        rows = self._page(len(self._rows))[: self._total - len(self._rows)]
+        if not parent.isValid():
+            self._fetch(PAGE)
+
+    def _fetch(self, count: int) -> None:
+        rows = self.project.queue_rows(self.project.user, offset=len(self._rows), limit=count,
+                                       **self.filters)[: self._total - len(self._rows)]
         if not rows:
             self._total = len(self._rows)  # clips vanished meanwhile
             return
@@ -65,8 +68,8 @@ class ClipQueueModel(QAbstractTableModel):
         pos = self.project.queue_index(clip_id, self.project.user, **self.filters)
         if pos is None:
             return None
-        while pos >= len(self._rows) and self.canFetchMore():
-            self.fetchMore()
+        if pos >= len(self._rows) and self.canFetchMore():
+            self._fetch(pos + PAGE - len(self._rows))  # one query up to the row, not page by page
         return pos if pos < len(self._rows) else None
 
     def refresh_clip(self, clip_id: int) -> None:
