@@ -163,3 +163,22 @@ def test_missing_pairs_dropped_and_confusion():
 def test_bad_input_raises_clear_value_error(call, message):
     with pytest.raises(ValueError, match=message):
         call()
+
+
+def test_pairwise_per_label_and_bootstrap_alpha():
+    from clipscribe.agreement import bootstrap_alpha, pairwise_kappa, per_label_alpha
+
+    rng = np.random.default_rng(5)
+    data = rng.integers(0, 3, (3, 80))
+    data[1, :40] = data[0, :40]
+    pk = pairwise_kappa(data)
+    assert set(pk) == {(0, 1), (0, 2), (1, 2)}
+    assert pk[(0, 1)] == pytest.approx(cohen_kappa_score(data[0], data[1]), abs=1e-12)  # sklearn
+    for lab, score in per_label_alpha(data).items():
+        ref = krippendorff.alpha(reliability_data=(data == lab).astype(float),
+                                 level_of_measurement="nominal")  # krippendorff, binarised
+        assert score == pytest.approx(ref, abs=1e-12)
+    value, ci = bootstrap_alpha(data, n_boot=500, seed=3)
+    assert value == krippendorff_alpha(data) and ci.low < value < ci.high
+    assert bootstrap_alpha(data, n_boot=500, seed=3)[1] == ci  # seeded
+    assert "n_boot=500" in value.recipe.text()

@@ -5,20 +5,21 @@ Verbal bands follow Landis & Koch (1977), :mod:`clipscribe.agreement.interpret`.
 """
 
 from ._recipe import Recipe, Score
-from .alpha import krippendorff_alpha
+from .alpha import bootstrap_alpha, krippendorff_alpha, per_label_alpha
 from .bleu import BleuScore, corpus_bleu, sentence_bleu
 from .bootstrap import Interval, bootstrap_intervals
 from .captions import tokenize_13a
 from .cider import CiderResult, cider_d
 from .interpret import band as interpret
-from .labels import cohen_kappa, confusion_matrix, fleiss_kappa, observed_agreement
+from .labels import (cohen_kappa, confusion_matrix, fleiss_kappa, observed_agreement,
+                     pairwise_kappa)
 from .loo import LooBleu, leave_one_out_bleu
 from .report import AgreementReport, agreement_report
 from .retrieval import RetrievalResult, caption_retrieval
 from .segments import frame_agreement, match_segments, segment_matching, temporal_iou
 
 __all__ = [
-    "AgreementReport", "BleuScore", "CiderResult", "Interval", "LooBleu", "Recipe",
+    "AgreementReport", "BleuScore", "bootstrap_alpha", "pairwise_kappa", "per_label_alpha", "CiderResult", "Interval", "LooBleu", "Recipe",
     "RetrievalResult", "Score", "agreement_report", "bootstrap_intervals", "caption_retrieval",
     "cider_d", "cohen_kappa", "confusion_matrix", "corpus_bleu", "fleiss_kappa",
     "frame_agreement", "interpret", "krippendorff_alpha", "leave_one_out_bleu", "match_segments",

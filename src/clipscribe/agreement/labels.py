@@ -197,3 +197,17 @@ def codes_to_table(codes: np.ndarray, n_cats: int) -> np.ndarray:
     keep = codes >= 0
     flat = unit[keep] * n_cats + codes[keep]
     return np.bincount(flat, minlength=u * n_cats).reshape(u, n_cats)
+
+
+def pairwise_kappa(data: Any, *, weights: str | None = None,
+                   labels: Sequence[Any] | None = None) -> dict[tuple[int, int], Score]:
+    """Cohen's kappa (see :func:`cohen_kappa`) for every pair of rows of a raters x items
+    matrix, on the items both rated; keys are row index pairs ``(i, j)`` with ``i < j``."""
+    rows = [list(r) for r in data]
+    if len(rows) < 2:
+        raise ValueError(f"data needs at least 2 raters (rows), got {len(rows)}")
+    if len({len(r) for r in rows}) != 1:
+        raise ValueError("data must be raters x items: every row needs the same length")
+    cats = category_order([x for r in rows for x in r], labels)
+    return {(i, j): cohen_kappa(rows[i], rows[j], weights=weights, labels=cats)
+            for i in range(len(rows)) for j in range(i + 1, len(rows))}
