@@ -153,3 +153,27 @@ def test_similar_pairs_skips_texts_with_the_same_key():
     assert [(i, j) for i, j, _ in similar_pairs(texts, 0.8)] == [(0, 1)]
     assert similar_pairs(texts, 0.8, keys=[2, 2, 0]) == []
     assert len(similar_pairs(texts, 0.8, keys=[-1, -1, 0])) == 1  # -1: spans several splits
+
+
+@pytest.mark.parametrize("raw,norm", [
+    ("A man  opens the DOOR.", "a man opens the door"),
+    ("snake_case, tabs\tand\nnew-lines!", "snake case tabs and new lines"),
+    ("Ｆｕｌｌｗｉｄｔｈ  Café—open", "fullwidth café open"),  # NFKC folds full-width letters
+    ("STRASSE straße", "strasse strasse"),  # str.casefold folds ß to ss
+    ("  ...  ", ""),
+])
+def test_caption_normalisation(raw, norm):
+    # Expected values worked by hand from Unicode NFKC and case folding (Python's unicodedata
+    # and str.casefold implement Unicode's definitions).
+    assert normalise_caption(raw) == norm
+
+
+def test_ascii_fast_path_matches_the_general_rule():
+    import re
+    import unicodedata
+    rng = random.Random(0)
+    alphabet = "abcXYZ019 _-.,;:!?'\"()[]{}\t\n/\\@#$%^&*+=<>|~`"
+    for _ in range(300):
+        t = "".join(rng.choice(alphabet) for _ in range(rng.randint(0, 30)))
+        general = re.sub(r"[\W_]+", " ", unicodedata.normalize("NFKC", t).casefold()).strip()
+        assert normalise_caption(t) == general

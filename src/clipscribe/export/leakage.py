@@ -101,9 +101,7 @@ def _identical_media(clips: Sequence[ClipInput], assignment: Mapping[str, str]) 
         if c.sha256:
             by_sha[c.sha256.lower()].append(c.clip_id)
     out = []
-    for sha, members in sorted(by_sha.items()):
-        if len(members) < 2:
-            continue
+    for sha, members in sorted((k, v) for k, v in by_sha.items() if len(v) > 1):
         counts = _split_counts(members, assignment)
         if len(counts) > 1:
             out.append(Finding("duplicate-media", "blocking",

@@ -133,7 +133,9 @@ def decide_captions(captions: Sequence[CaptionInput],
 
 def caption_texts(clip: ClipInput) -> tuple[str, ...]:
     """The caption texts a clip is exported with (used by the leakage checks too)."""
-    return tuple(t for t, _ in decide_captions(clip.captions, clip.gold_captions).captions)
+    if clip.gold_captions:  # the same rule as decide_captions, without building the choice
+        return tuple(clip.gold_captions)
+    return tuple(c.text for c in clip.captions if c.accepted)
 
 
 def apply_policy(clips: Iterable[ClipInput], policy: LabelPolicy) -> list[LabelDecision]:

@@ -23,10 +23,14 @@ from typing import Iterable, Sequence
 import numpy as np
 
 _NON_WORD = re.compile(r"[\W_]+")
+# For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
+_ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
 
 
 def normalise_caption(text: str) -> str:
     """NFKC, case fold, punctuation to spaces, collapse whitespace."""
+    if text.isascii():  # NFKC leaves ASCII unchanged
+        return " ".join(text.lower().translate(_ASCII_NON_WORD).split())
     text = unicodedata.normalize("NFKC", text).casefold()
     return _NON_WORD.sub(" ", text).strip()
 
@@ -62,21 +66,19 @@ def _distinct_sorted(values: np.ndarray) -> np.ndarray:
 
 
 def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
-    """Distinct (text index, shingle id) entries, sorted; shingles as in :func:`shingles`."""
-    vocab: dict[str, int] = {}
-    words: list[int] = []
-    lengths = np.empty(len(texts), dtype=np.int64)
-    for k, t in enumerate(texts):
-        ws = t.split(" ")
-        lengths[k] = len(ws)
-        words += [vocab.setdefault(w, len(vocab)) for w in ws]
-    w = np.array(words, dtype=np.int64)
+    """Distinct (text index, shingle id) entries sorted by text, then shingle frequency, then id.
+
+    Shingles as in :func:`shingles`; the frequency order puts each text's rarest shingles first
+    (any fixed global order keeps the prefix filter exact; rare-first keeps candidates few).
+    """
+    all_words = " ".join(texts).split(" ")
+    vocab = {word: k for k, word in enumerate(dict.fromkeys(all_words))}
+    w = np.fromiter(map(vocab.__getitem__, all_words), dtype=np.int64, count=len(all_words))
+    lengths = np.fromiter((t.count(" ") + 1 for t in texts), dtype=np.int64, count=len(texts))
     base = len(vocab) + 1  # id len(vocab) pads texts shorter than three words
     ends = np.cumsum(lengths)
-    starts = ends - lengths
     n_sh = np.maximum(lengths - 2, 1)
-    text_of = np.repeat(np.arange(len(texts)), n_sh)
-    pos = np.repeat(starts, n_sh) + (np.arange(n_sh.sum()) - np.repeat(np.cumsum(n_sh) - n_sh, n_sh))
+    text_of, pos = _runs(ends - lengths, n_sh)
     pad = np.append(w, [base - 1, base - 1])
     end_of = np.repeat(ends, n_sh)
     tri = np.stack([pad[pos], np.where(pos + 1 < end_of, pad[pos + 1], base - 1),
@@ -86,8 +88,33 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
     else:
         sid = np.unique(tri, axis=0, return_inverse=True)[1].ravel()
     n_sid = int(sid.max()) + 1
-    key = _distinct_sorted(text_of * n_sid + sid)
-    return key // n_sid, key % n_sid
+    df = np.bincount(sid)
+    n_df = int(df.max()) + 1
+    if len(texts) * n_df * n_sid < 2**62:  # one int64 sort key: (text, df, sid)
+        key = _distinct_sorted((text_of * n_df + df[sid]) * n_sid + sid)
+        return key // (n_df * n_sid), key % n_sid
+    order = np.lexsort((sid, df[sid], text_of))
+    text_of, sid = text_of[order], sid[order]
+    keep = np.r_[True, (text_of[1:] != text_of[:-1]) | (sid[1:] != sid[:-1])]
+    return text_of[keep], sid[keep]
+
+
+def _runs(starts: np.ndarray, lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """For runs ``[starts[k], starts[k] + lengths[k])``: (run number, position) of every element."""
+    run = np.repeat(np.arange(len(starts)), lengths)
+    within = np.arange(lengths.sum()) - np.repeat(np.cumsum(lengths) - lengths, lengths)
+    return run, np.repeat(starts, lengths) + within
+
+
+def _overlaps(a: np.ndarray, b: np.ndarray, first: np.ndarray, size: np.ndarray,
+              sid: np.ndarray) -> np.ndarray:
+    """|set(a_k) ∩ set(b_k)| for every pair k, from the sorted (text, shingle) table."""
+    ra, pa = _runs(first[a], size[a])
+    rb, pb = _runs(first[b], size[b])
+    n_sid = int(sid.max()) + 1
+    key = np.sort(np.concatenate([ra * n_sid + sid[pa], rb * n_sid + sid[pb]]))
+    dup = key[1:] == key[:-1]  # a shingle of pair k seen twice: once in a_k, once in b_k
+    return np.bincount(key[1:][dup] // n_sid, minlength=len(a))
 
 
 def similar_pairs(texts: Iterable[str], threshold: float, *,
@@ -106,16 +133,13 @@ def similar_pairs(texts: Iterable[str], threshold: float, *,
         return []
     text, sid = _shingle_table(texts)
     size = np.bincount(text, minlength=len(texts))
-    df = np.bincount(sid)
-    order = np.lexsort((sid, df[sid], text))  # each text's shingles, rarest first
-    text, sid = text[order], sid[order]
     first = np.cumsum(size) - size
     rank = np.arange(len(text)) - first[text]
     prefix_len = size - np.ceil(threshold * size - 1e-9).astype(np.int64) + 1
     keep = rank < prefix_len[text]
     p_text, p_sid = text[keep], sid[keep]
-    by = np.lexsort((p_text, p_sid))
-    p_text, p_sid = p_text[by], p_sid[by]
+    by = np.sort(p_sid * len(texts) + p_text)
+    p_text, p_sid = by % len(texts), by // len(texts)
     # every pair of entries sharing a shingle: entry e pairs with the later entries of its run
     run_start = np.flatnonzero(np.r_[True, p_sid[1:] != p_sid[:-1]])
     run_len = np.diff(np.r_[run_start, len(p_sid)])
@@ -134,17 +158,8 @@ def similar_pairs(texts: Iterable[str], threshold: float, *,
     if keys is not None:
         k = np.asarray(keys, dtype=np.int64)
         ok &= (k[a] != k[b]) | (k[a] < 0)
-    bounds = np.r_[first, len(text)].tolist()
-    sets: dict[int, frozenset] = {}
-
-    def set_of(k: int) -> frozenset:
-        if k not in sets:
-            sets[k] = frozenset(sid[bounds[k]:bounds[k + 1]].tolist())
-        return sets[k]
-
-    out = []
-    for i, j in zip(a[ok].tolist(), b[ok].tolist()):
-        sim = jaccard(set_of(i), set_of(j))
-        if sim + 1e-12 >= threshold:
-            out.append((i, j, sim))
-    return out
+    a, b = a[ok], b[ok]
+    inter = _overlaps(a, b, first, size, sid)
+    sim = inter / (size[a] + size[b] - inter)
+    hit = sim + 1e-12 >= threshold
+    return list(zip(a[hit].tolist(), b[hit].tolist(), sim[hit].tolist()))
