@@ -42,6 +42,7 @@ class ShortcutSheet(QDialog):
             for c, text in enumerate((keys, name, menu)):
                 table.setItem(r, c, QTableWidgetItem(text))
         table.verticalHeader().hide()
+        table.verticalHeader().setDefaultSectionSize(table.fontMetrics().height() + 8)
         table.horizontalHeader().setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)
         table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)

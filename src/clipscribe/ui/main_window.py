@@ -122,7 +122,7 @@ class MainWindow(SegmentOps, QMainWindow):
         pl.frameShown.connect(self._frame_shown)
         pl.playheadMoved.connect(self.scrub.set_playhead)
         pl.playheadMoved.connect(self.timeline.set_playhead)
-        pl.playheadMoved.connect(lambda _f: self._resume_timer.start())
+        pl.playheadMoved.connect(self._moved)
         pl.failed.connect(lambda msg: self.statusBar().showMessage(msg, 8000))
         pl.stateChanged.connect(self._player_state)
         self.scrub.seekRequested.connect(pl.seek)
@@ -266,6 +266,11 @@ class MainWindow(SegmentOps, QMainWindow):
         CautionsNote(self).exec()
 
     # ---- remembering -------------------------------------------------------------------
+    @Slot(int)
+    def _moved(self, _frame: int) -> None:
+        if not self._resume_timer.isActive():  # at most one write per RESUME_MS, even when playing
+            self._resume_timer.start()
+
     def _write_resume(self) -> None:
         if self.clip is None:
             return

@@ -38,6 +38,7 @@ class QueuePanel(QWidget):
         self.view.setRootIsDecorated(False)
         self.view.setUniformRowHeights(True)   # lets the view skip measuring 100k rows
         self.view.setAlternatingRowColors(True)
+        self.view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         self.view.setModel(model)
         header = self.view.header()
         header.setStretchLastSection(False)
