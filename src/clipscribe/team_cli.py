@@ -1,0 +1,96 @@
+"""Team-mode commands: move a project onto a server, give people logins, plan assignments,
+pull the next clip, switch blind mode. Registered by :func:`clipscribe.cli._extend`."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+
+from .errors import RecordError
+
+
+def _open(args: argparse.Namespace):
+    from .project import Project
+    return Project.open(args.project, user=getattr(args, "user", None),
+                        password=os.environ.get("CLIPSCRIBE_PASSWORD"))
+
+
+def cmd_move(args: argparse.Namespace) -> int:
+    from .project import Project
+    from .project_parts.team_move import write_report
+    url = args.url
+    pw = os.environ.get("CLIPSCRIBE_PASSWORD")
+    if pw:
+        from sqlalchemy.engine import make_url
+        url = make_url(url).set(password=pw).render_as_string(hide_password=False)
+    report = Project.move_to_server(args.project, url, lead=args.lead)
+    print(write_report(report))
+    print(f"all {len(report.tables)} tables match; {args.project} now opens on the server")
+    return 0
+
+
+def cmd_assign(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        if args.lease_hours is not None:
+            p.set_lease(args.lease_hours)
+        plan = p.assign(per_clip=args.per_clip, overlap=args.overlap,
+                        overlap_count=args.overlap_count, seed=args.seed)
+        print(json.dumps(plan.recipe(), indent=2) if args.json else
+              f"{plan.clips} clip(s): {plan.overlapped} get {plan.overlap_count} people, "
+              f"the rest {plan.per_clip} (seed {plan.seed}); lease {p.lease_seconds() / 3600:g} h")
+    return 0
+
+
+def cmd_next(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        clip = p.next_clip()
+        if clip is None:
+            print("nothing left to annotate")
+            return 0
+        print(f"{clip}\t{p.clip(clip).path}")
+    return 0
+
+
+def cmd_password(args: argparse.Namespace) -> int:
+    pw = os.environ.get("CLIPSCRIBE_NEW_PASSWORD")
+    if not pw:
+        raise RecordError("set CLIPSCRIBE_NEW_PASSWORD to the new password (kept out of the "
+                          "command line so it does not land in shell history)")
+    with _open(args) as p:
+        login = p.set_password(args.name, pw)
+        print(f"{args.name!r} logs in as {login!r}")
+    return 0
+
+
+def cmd_blind(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        if args.mode is not None:
+            p.set_blind(args.mode == "on")
+        print(f"blind mode {'on' if p.blind_mode() else 'off'}")
+    return 0
+
+
+def register(add) -> None:
+    sp = add("move-to-server", cmd_move, "copy a solo project onto an empty PostgreSQL database "
+             "(ids kept, every table checked) and point the folder at it")
+    sp.add_argument("url", metavar="URL", help="postgresql://ADMIN@HOST:PORT/DATABASE (password "
+                    "from ~/.pgpass or CLIPSCRIBE_PASSWORD)")
+    sp.add_argument("--lead", help="the lead whose login is the admin's (default: the first lead)")
+    sp = add("assign", cmd_assign, "set how many people annotate each clip, with some overlap",
+             user=True)
+    sp.add_argument("--per-clip", type=int, default=1, help="people per clip (default 1)")
+    sp.add_argument("--overlap", type=float, default=0.0,
+                    help="fraction of clips annotated by --overlap-count people (e.g. 0.2)")
+    sp.add_argument("--overlap-count", type=int, default=3, help="people on an overlapped clip")
+    sp.add_argument("--seed", type=int, default=0, help="seed choosing the overlapped clips")
+    sp.add_argument("--lease-hours", type=float, help="hours a pulled clip stays reserved untouched")
+    sp.add_argument("--json", action="store_true", help="print the plan's recipe as JSON")
+    add("next", cmd_next, "reserve and print the next clip for --user", user=True)
+    sp = add("set-password", cmd_password, "give a person a login or a new password "
+             "(from CLIPSCRIBE_NEW_PASSWORD)", user=True)
+    sp.add_argument("name")
+    sp = add("blind", cmd_blind, "show or set blind mode (annotators cannot read each other's work)",
+             user=True)
+    sp.add_argument("mode", nargs="?", choices=("on", "off"))
+
