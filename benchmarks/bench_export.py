@@ -141,7 +141,8 @@ def main() -> None:
         },
         "near_identical_captions": {
             "subset_texts": len(texts), "index_s": round(t_cap_idx, 4),
-            "all_pairs_s": round(t_cap_brute, 3), "same_pairs": [(i, j) for i, j, _ in cidx] == cbrute,
+            "all_pairs_s": round(t_cap_brute, 3),
+            "same_pairs": [(i, j) for i, j, _ in cidx] == cbrute,
             "ratio_all_pairs_over_index": round(t_cap_brute / max(t_cap_idx, 1e-9), 1),
             "all_pairs_full_estimated_s": round(t_cap_brute * cap_scale, 1),
         },

@@ -146,7 +146,8 @@ def test_new_groups_fill_the_deficit_left_by_frozen_clips():
     new = [(f"n{i}", f"h{i // 5}", "x") for i in range(500)]
     a = assign_splits(old + new, RATIOS, frozen={c: "train" for c, _, _ in old})
     counts = Counter(a[c] for c, _, _ in new)
-    assert counts["val"] == pytest.approx(100, abs=10) and counts["test"] == pytest.approx(200, abs=10)
+    assert counts["val"] == pytest.approx(100, abs=10)
+    assert counts["test"] == pytest.approx(200, abs=10)
 
 
 def test_frozen_group_in_two_splits_is_kept_and_reported():

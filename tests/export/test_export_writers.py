@@ -35,7 +35,8 @@ def _clips(tmp_path: Path, n: int = 24, *, write_media: bool = False) -> list[Cl
             path.write_bytes(data)
         labels = ("pour", "pour", "stir") if i % 3 else ("stir", "stir")
         out.append(ClipInput(
-            clip_id=f"{i}", media_path=f"clip {i}.MP4", source_path=str(path), group=f"cook{i // 4}",
+            clip_id=f"{i}", media_path=f"clip {i}.MP4", source_path=str(path),
+            group=f"cook{i // 4}",
             sha256=hashlib.sha256(data).hexdigest(), fingerprint=(i * 0x9E3779B97F4A7C15) % 2**64,
             fps=30.0, frame_count=300, labels=labels,
             captions=(CaptionInput(f'cook {i} pours "milk", slowly & <carefully>'),

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
 from .inputs import ClipInput
@@ -103,8 +103,15 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     kept = [c for c, d in zip(clips, decisions) if d.included]
     by_id = {d.clip_id: d for d in decisions if d.included}
     frozen = {str(k): str(v) for k, v in (frozen or {}).items()}
-    split = split_clips([(c.clip_id, c.group, by_id[c.clip_id].label) for c in kept], ratios,
-                        seed=seed, frozen=frozen)
+    # Frozen clips left out this time still anchor their group, so a new clip of that group
+    # lands where the group already is; they are dropped from the assignment afterwards.
+    anchors = [(c.clip_id, c.group, None) for c, d in zip(clips, decisions)
+               if not d.included and c.clip_id in frozen and c.group is not None]
+    split = split_clips([(c.clip_id, c.group, by_id[c.clip_id].label) for c in kept] + anchors,
+                        ratios, seed=seed, frozen=frozen)
+    if anchors:
+        split = replace(split, assignment={k: v for k, v in split.assignment.items()
+                                           if k in by_id})
     report = check_leakage(kept, split.assignment, require_consent=require_consent,
                            require_licence=require_licence, hamming_radius=hamming_radius,
                            caption_threshold=caption_threshold)

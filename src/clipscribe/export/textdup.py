@@ -10,8 +10,9 @@ Ganti, Kaushik, "A primitive operator for similarity joins in data cleaning", IC
 doi:10.1109/ICDE.2006.9; Xiao et al., "Efficient similarity joins for near duplicate
 detection", WWW 2008): with every set ordered by rising shingle frequency, two sets with
 Jaccard >= t share a shingle among the first ``|x| - ceil(t|x|) + 1`` of each, so the search is
-exact without comparing all pairs; the index is built with numpy sorts. Hand-written because the libraries that do this (MinHash
-LSH) are approximate and not among the project's dependencies.
+exact without comparing all pairs; the index is built with numpy sorts. Hand-written because
+the libraries that do this (MinHash LSH) are approximate and not among the project's
+dependencies.
 """
 
 from __future__ import annotations
