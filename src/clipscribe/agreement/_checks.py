@@ -72,7 +72,7 @@ def _as_list(name: str, x: Any) -> list:
 def count_table(table: Any) -> tuple[np.ndarray, int]:
     """items x categories table of non-negative whole counts with the same row sum m >= 2.
 
-    Returns the table (integer or float dtype, not copied) and m.
+    Returns the table as float64 (BLAS does the sums downstream) and m.
     """
     t = np.asarray(table)
     if t.ndim != 2 or t.shape[0] < 1 or t.shape[1] < 1:
@@ -83,13 +83,14 @@ def count_table(table: Any) -> tuple[np.ndarray, int]:
         raise ValueError("table must hold non-negative whole counts")
     if t.dtype.kind != "u" and t.min() < 0:
         raise ValueError("table must hold non-negative whole counts")
-    rows = t.sum(axis=1)
+    t = np.ascontiguousarray(t, dtype=np.float64)
+    rows = t @ np.ones(t.shape[1])
     lo, hi = rows.min(), rows.max()
     if lo != hi:
         raise ValueError("every row of table must have the same number of ratings "
-                         f"(fixed raters per item), got row sums from {lo} to {hi}")
+                         f"(fixed raters per item), got row sums from {lo:g} to {hi:g}")
     if lo < 2:
-        raise ValueError(f"each item needs at least 2 ratings, got {lo}")
+        raise ValueError(f"each item needs at least 2 ratings, got {lo:g}")
     return t, int(lo)
 
 

@@ -124,13 +124,11 @@ def fleiss_from_table(t: np.ndarray, m: int | None = None) -> tuple[float, str |
     n_items = t.shape[0]
     if m is None:
         m = int(t[0].sum())
+    t = np.ascontiguousarray(t, dtype=np.float64)
     flat = t.reshape(-1)
-    if t.dtype.kind in "iu":
-        squares = float(np.dot(flat.astype(np.int64), flat.astype(np.int64)))
-    else:
-        squares = float(np.dot(flat, flat))
+    squares = float(flat @ flat)
     total = float(n_items) * m
-    p_cat = t.sum(axis=0) / total
+    p_cat = (np.ones(n_items) @ t) / total
     p_bar = (squares - total) / (total * (m - 1))
     p_exp = float(np.dot(p_cat, p_cat))
     if p_exp >= 1.0:
