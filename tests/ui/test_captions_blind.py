@@ -96,3 +96,15 @@ def test_blind_mode_shows_only_own_work(qtbot, sample, open_window):
     shown = {model.index(r, 0).data(ClipIdRole) for r in range(model.rowCount())}
     assert 6 not in shown
     assert shown == {c for c, _, l in p.clip_labels(annotator="annotator-1") if l == "put down"}
+
+
+def test_caption_tied_to_segment(qtbot, sample, open_window):
+    w, p = open_window(sample, "annotator-1")
+    wait_frame(qtbot, w)
+    slot = w.captions.slots[1]
+    g = w.segment_model.segments()[0]
+    slot.segment.setCurrentIndex(slot.segment.findData(g.id))
+    slot.segment.activated.emit(slot.segment.currentIndex())
+    row = next(c for c in p.caption_rows(clip=w.clip.id, annotator="annotator-1")
+               if c.id == slot.caption_id)
+    assert row.segment == g.id

@@ -150,8 +150,8 @@ class CaptionsPanel(QWidget):
         if self.editor.clip is None or not slot.dirty:
             return
         text, seg = slot.edit.text(), slot.segment.currentData()
-        new_id = self.editor.save_caption(slot.caption_id, text, seg, self.slots.index(slot))
-        if new_id is not None or not text.strip():
+        ok, new_id = self.editor.save_caption(slot.caption_id, text, seg, self.slots.index(slot))
+        if ok:  # on a refusal the slot stays unsaved and is tried again on the next pause
             slot.caption_id, slot.saved_text, slot.saved_segment = new_id, text, seg
 
     @Slot()

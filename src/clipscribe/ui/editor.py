@@ -88,18 +88,18 @@ class ClipEditor(QObject):
 
     # ---- captions -----------------------------------------------------------------------
     def save_caption(self, caption_id: int | None, text: str, segment: int | None,
-                     position: int) -> int | None:
-        """Write one caption slot: add, change or (blank text) delete. Returns the caption id
-        now in the slot (None when empty); raises nothing."""
+                     position: int) -> tuple[bool, int | None]:
+        """Write one caption slot: add, change or (blank text) delete. Returns (saved, the
+        caption id now in the slot); on a refusal ``saved`` is False and the reason was sent."""
         if caption_id is None:
             if not text.strip():
-                return None
+                return True, None
             out = self.apply("Add caption", lambda: self.project.add_caption(
                 self.clip, self.me, text, segment=segment, position=position))
-            return out if isinstance(out, int) and out is not True else None
+            return (False, None) if out is None else (True, out)
         if not text.strip():
-            self.apply("Delete caption", lambda: self.project.delete_caption(caption_id))
-            return None
-        self.apply("Edit caption", lambda: self.project.update_caption(
+            ok = self.apply("Delete caption", lambda: self.project.delete_caption(caption_id))
+            return (ok is not None), (None if ok is not None else caption_id)
+        ok = self.apply("Edit caption", lambda: self.project.update_caption(
             caption_id, text, segment=segment))
-        return caption_id
+        return ok is not None, caption_id

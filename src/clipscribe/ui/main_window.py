@@ -244,6 +244,13 @@ class MainWindow(SegmentOps, QMainWindow):
             self.statusBar().showMessage(text, 10000)
 
     # ---- views, focus, help ------------------------------------------------------------
+    def set_review_view(self, widget: QWidget) -> None:
+        """Put the review desk in place of its placeholder (page 1 of the stack)."""
+        self.stack.removeWidget(self.review_page)
+        self.review_page.deleteLater()
+        self.review_page = widget
+        self.stack.insertWidget(1, widget)
+
     def show_view(self, view: str) -> None:
         review = view == "review"
         self.stack.setCurrentIndex(1 if review else 0)
