@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from clipscribe.export import near_pairs, near_pairs_brute
 from clipscribe.export.neardup import as_uint64, chunk_plan
@@ -68,3 +70,15 @@ def test_signed_and_unsigned_ints_are_the_same_code():
 def test_radius_out_of_range_rejected():
     with pytest.raises(ValueError):
         near_pairs(np.zeros(3, dtype=np.uint64), 64)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.integers(0, 2**64 - 1), min_size=0, max_size=60), st.integers(0, 16),
+       st.lists(st.tuples(st.integers(0, 59), st.integers(0, 2**64 - 1)), max_size=30))
+def test_index_equals_brute_force_property(values, radius, near):
+    # near-copies: value i with a few bits of noise kept under the radius most of the time
+    values = values + [values[i % len(values)] ^ (noise & (noise >> 7) & (noise >> 13))
+                       for i, noise in near] if values else values
+    codes = np.array(values, dtype=np.uint64)
+    for g, w in zip(near_pairs(codes, radius), near_pairs_brute(codes, radius)):
+        np.testing.assert_array_equal(g, w)

@@ -172,3 +172,18 @@ def test_seed_changes_tie_breaks_but_not_validity():
     items = [(f"c{i}", f"g{i // 2}", "x") for i in range(200)]  # 100 groups of equal size
     outs = {tuple(sorted(assign_splits(items, RATIOS, seed=s).items())) for s in range(4)}
     assert len(outs) > 1
+
+
+@settings(max_examples=40, deadline=None)
+@given(item_lists, item_lists, st.integers(0, 100), st.integers(0, 100))
+def test_frozen_never_moves_property(old, extra, seed1, seed2):
+    first = assign_splits(old, RATIOS, seed=seed1)
+    old_ids = {c for c, _, _ in old}
+    new = [(f"new{c}", g, lab) for c, g, lab in extra]
+    second = assign_splits(old + new, RATIOS, seed=seed2, frozen=first)
+    assert all(second[c] == first[c] for c in old_ids)
+    old_group_split = {g: first[c] for c, g, _ in old if g is not None}
+    for c, g, _ in new:
+        if g in old_group_split:
+            assert second[c] == old_group_split[g]
+    assert groups_in_several_splits(old + new, second) == []

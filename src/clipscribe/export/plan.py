@@ -95,6 +95,26 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     The label policy runs first (:func:`clipscribe.export.policy.decide_label`); splits are
     stratified on the decided label (:func:`clipscribe.export.splits.split_clips`); the leakage
     check (:func:`clipscribe.export.leakage.check_leakage`) sees the exported captions.
+
+    Parameters
+    ----------
+    clips : iterable of ClipInput
+        Clip ids must be unique; a clip with segments needs ``fps``.
+    ratios : mapping of split name to fraction
+    project : str
+        Written into the manifest.
+    policy : LabelPolicy, optional
+        Defaults to ``LabelPolicy()`` (min agreement 0.6, a label required).
+    seed : int
+    frozen : mapping of clip id to split, optional
+        Usually the ``assignment`` of an earlier manifest. Frozen clips that the policy leaves
+        out this time still hold their group's place.
+    require_consent, require_licence, hamming_radius, caption_threshold
+        Passed to :func:`clipscribe.export.leakage.check_leakage`.
+
+    Returns
+    -------
+    ExportPlan
     """
     clips = list(clips)
     _validate(clips)

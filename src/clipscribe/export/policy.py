@@ -125,7 +125,20 @@ class CaptionChoice:
 
 def decide_captions(captions: Sequence[CaptionInput],
                     gold: Sequence[str] | None = None) -> CaptionChoice:
-    """The gold reference set when present (non-empty), else every accepted caption."""
+    """Choose a clip's reference captions: the gold set when present, else the accepted ones.
+
+    Parameters
+    ----------
+    captions : sequence of CaptionInput
+        Annotator captions; ``accepted`` is the caller's verdict.
+    gold : sequence of str, optional
+        The lead's reference set; an empty set counts as absent.
+
+    Returns
+    -------
+    CaptionChoice
+        ``(text, segment)`` pairs in input order and ``source`` ``"gold"`` or ``"accepted"``.
+    """
     if gold:
         return CaptionChoice(tuple((t, None) for t in gold), "gold")
     return CaptionChoice(tuple((c.text, c.segment) for c in captions if c.accepted), "accepted")

@@ -199,7 +199,24 @@ def split_clips(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int
 
 def assign_splits(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int = 0,
                   frozen: Mapping[str, str] | None = None) -> dict[str, str]:
-    """Clip id -> split name; see :func:`split_clips` for the method and the parameters."""
+    """Assign clips to splits; group-exclusive, label-stratified, stable and deterministic.
+
+    Parameters
+    ----------
+    items : iterable of (clip_id, group, label)
+        ``group`` None makes the clip its own group.
+    ratios : mapping of split name to fraction
+        Normalised; each must be positive.
+    seed : int
+    frozen : mapping of clip id to split, optional
+        Kept as given; new clips of a frozen group follow it.
+
+    Returns
+    -------
+    dict
+        Clip id -> split name. The method, its cost function and sources are in
+        :func:`split_clips`, which also reports frozen groups found in several splits.
+    """
     return split_clips(items, ratios, seed=seed, frozen=frozen).assignment
 
 
