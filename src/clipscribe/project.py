@@ -16,6 +16,7 @@ from pydantic import ValidationError
 from sqlalchemy import select
 
 from .errors import ProjectError, RecordError
+from .project_parts.analysis import AnalysisMixin
 from .project_parts.annotate import AnnotateMixin
 from .project_parts.base import ProjectBase
 from .project_parts.catalog import CatalogMixin
@@ -30,7 +31,7 @@ from .store.models import Annotator
 DB_FILE = "project.sqlite"
 
 
-class Project(TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
+class Project(AnalysisMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
     """An open project. Use as a context manager, or call :meth:`close`.
 
     Create with :meth:`create`, open with :meth:`open`. ``user`` is the person acting: their name

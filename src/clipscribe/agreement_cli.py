@@ -1,0 +1,25 @@
+"""``clipscribe agreement DIR``: the whole agreement report as a table, or JSON."""
+
+from __future__ import annotations
+
+import argparse
+import json
+
+
+def cmd_agreement(args: argparse.Namespace) -> int:
+    from .cli import _open
+    with _open(args) as p:
+        rep = p.agreement_report(seed=args.seed, n_boot=args.boot)
+    if args.json:
+        print(json.dumps(rep.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        print(rep.to_text(top=args.top))
+    return 0
+
+
+def register(add) -> None:
+    sp = add("agreement", cmd_agreement, "print the agreement report (labels, segments, captions)", user=True)
+    sp.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    sp.add_argument("--top", type=int, default=10, help="how many most-disputed clips to list")
+    sp.add_argument("--seed", type=int, default=0, help="bootstrap seed")
+    sp.add_argument("--boot", type=int, default=1000, help="bootstrap resamples for the 95%% intervals")

@@ -1,0 +1,35 @@
+"""Agreement of a project: feeds the pure agreement engine with the project's rows."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ..agreement import AgreementReport, agreement_report
+
+
+class AnalysisMixin:
+    def agreement_report(self, *, captions: bool = True, segments: bool = True, seed: int = 0,
+                         n_boot: int = 1000) -> AgreementReport:
+        """Labels, segments and captions agreement over every annotator's work (leads' gold
+        decisions excluded), with bootstrap confidence intervals resampling clips."""
+        leads = {a.name for a in self.annotators() if a.role == "lead"}
+        clips = self.clips()
+        labels = [r for r in self.clip_labels() if r[1] not in leads]
+        segs = ([(g.clip, g.annotator, g.label, g.start, g.end) for g in self.segments()
+                 if g.annotator not in leads] if segments else None)
+        caps = [r for r in self.captions() if r[1] not in leads] if captions else None
+        return agreement_report(
+            labels, segs, caps, label_order=[l.name for l in self.labels()],
+            ordinal=self.labels_ordinal(), fps={c.id: c.fps for c in clips},
+            frame_count={c.id: c.frame_count for c in clips}, seed=seed, n_boot=n_boot,
+            label_set_version=str(self.label_set_version()))
+
+    def agreement_inputs(self) -> dict[str, Any]:
+        """The rows the report is computed from (for scripts that call the engine directly)."""
+        leads = {a.name for a in self.annotators() if a.role == "lead"}
+        return {
+            "labels": [r for r in self.clip_labels() if r[1] not in leads],
+            "segments": [(g.clip, g.annotator, g.label, g.start, g.end) for g in self.segments()
+                         if g.annotator not in leads],
+            "captions": [r for r in self.captions() if r[1] not in leads],
+        }
