@@ -235,6 +235,8 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
     total = len(clips) * (1 + (media_mode is not None) + webvtt)
     done = 0
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
+    if os.name == "posix":
+        os.chmod(tmp, 0o755)  # mkdtemp makes it private; the export is an ordinary folder
     try:
         written: list[str] = []
         by_split: dict[str, list[ExportRecord]] = {s: [] for s in plan.split.ratios}
