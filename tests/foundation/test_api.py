@@ -128,3 +128,12 @@ def test_clip_states(project):
     assert project.clip(1).state == "settled"
     with pytest.raises(RecordError, match="not a lead"):
         project.set_gold_label(1, "push", lead="ann-a")
+
+
+def test_caption_segment_must_belong_to_its_clip(project):
+    other = project.add_segment(2, "ann-a", "push", 0, 4)
+    cap = project.add_caption(1, "ann-a", "The arm pushes a block.")
+    with pytest.raises(RecordError, match="not a segment of clip 1"):
+        project.update_caption(cap, segment=other)
+    with pytest.raises(RecordError, match="not a segment of clip 1"):
+        project.add_caption(1, "ann-a", "Another one.", segment=other)

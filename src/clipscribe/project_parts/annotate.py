@@ -253,6 +253,10 @@ class AnnotateMixin:
             if text is not None:
                 row.text = _caption_text(text)
             if segment is not ...:
+                if segment is not None:
+                    seg = s.get(Segment, segment)
+                    require(seg is not None and seg.clip_id == row.clip_id,
+                            f"segment {segment}: not a segment of clip {row.clip_id}")
                 row.segment_id = segment
             row.updated_at = utcnow()
             s.flush()
