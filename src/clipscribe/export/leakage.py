@@ -217,9 +217,12 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
                   hamming_radius: int = 8, caption_threshold: float = 0.9) -> LeakageReport:
     """Look for leakage between splits.
 
-    Only clips present in ``assignment`` are checked. Near-duplicate media: two clips whose
-    64-bit perceptual fingerprints differ in at most ``hamming_radius`` bits (Hamming distance,
-    found exactly by multi-index hashing; see :mod:`clipscribe.export.neardup`). Captions:
+    Only clips present in ``assignment`` are checked. Near-duplicate media: two clips in
+    different splits whose 64-bit perceptual fingerprints differ in at most ``hamming_radius``
+    bits (Hamming distance, found exactly by multi-index hashing; see
+    :mod:`clipscribe.export.neardup`); near-duplicates within one split are not leakage and are
+    not reported. Every cross-split pair has a member outside the largest split, so only those
+    clips are looked up in the index. Captions:
     identical after normalisation, or word 3-gram shingle Jaccard >= ``caption_threshold``
     (see :mod:`clipscribe.export.textdup`); ``caption_threshold=1.0`` keeps only identical text.
 
