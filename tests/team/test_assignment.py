@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import collections
+import json
 import datetime as dt
 import os
 import subprocess
@@ -162,3 +163,22 @@ def test_only_leads_plan(server_project, uid):
             a.assign(per_clip=2)
         with pytest.raises(TeamPermissionError):   # the database refuses the raw change too
             a._write(lambda s: s.execute(text("UPDATE clips SET annotators_wanted = 5")))
+
+
+def test_cli_assign_and_next(tmp_path, capsys):
+    from clipscribe.cli import main
+    with Project.create(tmp_path / "solo", user="boss") as p:
+        p.define_labels(["stack"])
+        ids = add_clips(p, 4)
+        p.add_annotator("ann")
+    d = str(tmp_path / "solo")
+    assert main(["assign", d, "--user", "boss", "--overlap", "0.5", "--overlap-count", "2",
+                 "--seed", "9", "--lease-hours", "1", "--json"]) == 0
+    recipe = json.loads(capsys.readouterr().out)
+    assert recipe["overlapped"] == 2 and recipe["seed"] == 9
+    assert main(["next", d, "--user", "ann"]) == 0
+    assert capsys.readouterr().out.split("\t")[0] == str(ids[0])
+    assert main(["assign", d, "--user", "ann"]) == 1            # annotators do not plan
+    assert "not a lead" in capsys.readouterr().err
+    with Project.open(d) as p:
+        assert p.lease_seconds() == 3600

@@ -38,7 +38,7 @@ def _run_writers(folder: Path, people: list[tuple[str, str]], n: int) -> dict[st
     for u, proc in procs.items():
         out, err = proc.communicate(timeout=240)
         assert proc.returncode == 0, f"writer {u} failed:\n{err[-3000:]}"
-        acks[u] = [line for line in out.splitlines() if line != "ready"]
+        acks[u] = [line for line in out.splitlines() if line != "ready" and not line.startswith("timing")]
     return acks
 
 
@@ -148,7 +148,7 @@ def _kill_mid_transaction(folder: Path, user: str, password: str) -> list[str]:
     os.kill(proc.pid, signal.SIGKILL)
     proc.wait(timeout=30)
     assert proc.returncode == -signal.SIGKILL
-    return [line for line in lines if line not in ("ready", "in-flight")]
+    return [line for line in lines if line not in ("ready", "in-flight") and not line.startswith("timing")]
 
 
 def _check_after_kill(p: Project, user: str, acked: list[str]) -> None:

@@ -5,7 +5,8 @@ usage: writer.py FOLDER USER PASSWORD N [hang]
 
 Edit k is ``set_clip_label`` when k % 5 == 4 (label changes every time), else ``add_caption``
 with the unique text ``USER/k``. With ``hang`` it then opens one more transaction, writes a
-caption ``USER/in-flight``, prints ``in-flight`` and waits to be killed.
+caption ``USER/in-flight``, prints ``in-flight`` and waits to be killed. The last line before
+that is ``timing T0 T1`` (wall-clock seconds of the first and after the last edit).
 """
 
 import sys
@@ -24,6 +25,7 @@ def main() -> None:
         clips = [c.id for c in p.clips()]
         out.write("ready\n")
         out.flush()
+        t0 = time.time()
         for k in range(n):
             if k % 5 == 4:
                 m = k // 5
@@ -34,6 +36,8 @@ def main() -> None:
                 cid = p.add_caption(clips[k % len(clips)], user, f"{user}/{k}")
                 out.write(f"caption {cid} {user}/{k}\n")
             out.flush()
+        out.write(f"timing {t0!r} {time.time()!r}\n")
+        out.flush()
         if hang:
             def stuck(s):
                 p._add_caption(s, clips[0], user, f"{user}/in-flight", None, None)
