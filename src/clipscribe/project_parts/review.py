@@ -1,0 +1,270 @@
+"""The lead's review desk, as façade queries: the disputed-clip queue, one clip's comparison,
+annotator throughput and the agreement trend. Writes go through :class:`GoldMixin`."""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from ..agreement import krippendorff_alpha
+from ..agreement._recipe import Recipe
+from ..errors import RecordError
+from ..store.models import GoldCaption
+from .annotate import CaptionInfo, SegmentInfo
+
+#: a pause between two edits longer than this is not counted as working time (our choice)
+IDLE_SECONDS = 300.0
+#: entities whose history rows count as annotation work
+WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
+
+
+class NotALeadError(RecordError):
+    """The person acting is not a lead; only leads review and settle."""
+
+
+@dataclass(frozen=True, slots=True)
+class DisputedClip:
+    """One row of the review queue (NaN where there is nothing to measure)."""
+
+    rank: int
+    clip: int
+    path: str
+    group: str | None
+    label_disagreement: float
+    segment_f1: float
+    caption_bleu: float
+    caption_cider: float
+    labels: dict[str, str]
+    gold_label: str | None
+
+    @property
+    def settled(self) -> bool:
+        return self.gold_label is not None
+
+
+@dataclass(frozen=True, slots=True)
+class GoldCaptionInfo:
+    id: int
+    position: int
+    text: str
+    source: int | None  # the annotator caption it came from, if any
+
+
+@dataclass(frozen=True)
+class ClipComparison:
+    """Everything the annotators said about one clip, and the lead's gold so far."""
+
+    clip: Any                                   # ClipInfo
+    annotators: list[str]
+    labels: dict[str, str]
+    segments: dict[str, list[SegmentInfo]]
+    captions: dict[str, list[CaptionInfo]]
+    gold_label: str | None
+    gold_segments: list[tuple[str, int, int]]
+    gold_captions: list[GoldCaptionInfo]
+    comments: list[tuple[int, str | None, str, str]]
+    scores: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, slots=True)
+class Throughput:
+    """Clips per hour of working time, from the edit history."""
+
+    annotator: str
+    clips: int
+    edits: int
+    active_seconds: float
+    clips_per_hour: float   # NaN when no working time was measured
+    recipe: Recipe
+
+
+@dataclass(frozen=True, slots=True)
+class TrendPoint:
+    """Label agreement over one window of clips (ordered by when their labels were set)."""
+
+    window: int
+    first: dt.datetime
+    last: dt.datetime
+    clips: list[int]
+    alpha: float
+    recipe: Recipe
+
+
+class ReviewMixin:
+    # ---- who may review -----------------------------------------------------------------
+    def check_reviewer(self, who: str | None = None) -> str:
+        """The name of the person reviewing; :class:`NotALeadError` unless they are a lead."""
+        name = who or self.user
+        role = self.role(name)
+        if role != "lead":
+            what = "not a person in this project" if role is None else f"an {role}"
+            raise NotALeadError(f"the review desk is for leads: {name!r} is {what}")
+        return name
+
+    def _workers(self) -> set[str]:
+        return {a.name for a in self.annotators() if a.role != "lead"}
+
+    # ---- the queue ----------------------------------------------------------------------
+    def review_queue(self, *, label: str | None = None, annotator: str | None = None,
+                     group: str | None = None, report: Any = None, seed: int = 0,
+                     n_boot: int = 200) -> list[DisputedClip]:
+        """Clips most disputed first, as the agreement report orders them: most label
+        disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
+        leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
+
+        ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
+        person labelled, segmented or captioned; ``group`` keeps one group. Pass a ready
+        ``report`` to skip recomputing it. Leads only.
+        """
+        self.check_reviewer()
+        rep = report if report is not None else self.agreement_report(seed=seed, n_boot=n_boot)
+        clips = {c.id: c for c in self.clips()}
+        workers = self._workers()
+        by_clip: dict[int, dict[str, str]] = {}
+        for c, a, lab in self.clip_labels():
+            if a in workers:
+                by_clip.setdefault(c, {})[a] = lab
+        worked: dict[int, set[str]] = {c: set(v) for c, v in by_clip.items()}
+        if annotator is not None:
+            for g in self.segments(annotator=annotator):
+                worked.setdefault(g.clip, set()).add(annotator)
+            for c, a, _ in self.captions(annotator=annotator):
+                worked.setdefault(c, set()).add(a)
+        gold = self.gold_labels()
+        out, seen = [], set()
+        for row in rep.review_queue():
+            cid = int(row.clip)
+            seen.add(cid)
+            out.append(self._disputed(len(out) + 1, clips.get(cid), row, by_clip.get(cid, {}),
+                                      gold.get(cid)))
+        nan = float("nan")
+        for cid in clips:  # clips nobody worked on come last
+            if cid not in seen:
+                out.append(DisputedClip(len(out) + 1, cid, clips[cid].path, clips[cid].group,
+                                        nan, nan, nan, nan, {}, gold.get(cid)))
+        keep = [r for r in out if r.path is not None
+                and (label is None or label in r.labels.values())
+                and (annotator is None or annotator in worked.get(r.clip, ()))
+                and (group is None or r.group == group)]
+        return keep
+
+    @staticmethod
+    def _disputed(rank, info, row, labels, gold) -> DisputedClip:
+        return DisputedClip(rank, int(row.clip), info.path if info else None,
+                            info.group if info else None, row.label_disagreement, row.segment_f1,
+                            row.caption_bleu, row.caption_cider, labels, gold)
+
+    def most_disputed_clip(self) -> int | None:
+        """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
+        rows = self.review_queue(n_boot=50)
+        return rows[0].clip if rows else None
+
+    # ---- one clip -----------------------------------------------------------------------
+    def clip_comparison(self, clip: Any, *, report: Any = None) -> ClipComparison:
+        """Every annotator's label, segments and captions of ``clip`` beside the gold. Leads only."""
+        self.check_reviewer()
+        info = self.clip(clip)
+        workers = self._workers()
+        labels = {a: lab for c, a, lab in self.clip_labels(clip=info.id) if a in workers}
+        segs: dict[str, list[SegmentInfo]] = {}
+        for g in self.segments(clip=info.id):
+            if g.annotator in workers:
+                segs.setdefault(g.annotator, []).append(g)
+        caps: dict[str, list[CaptionInfo]] = {}
+        for c in self.caption_rows(clip=info.id):
+            if c.annotator in workers:
+                caps.setdefault(c.annotator, []).append(c)
+        names = sorted(set(labels) | set(segs) | set(caps))
+        scores = {}
+        if report is not None:
+            row = next((r for r in report.clips if int(r.clip) == info.id), None)
+            if row is not None:
+                scores = {k: v for k, v in row.to_dict().items() if k != "clip"}
+        return ClipComparison(
+            info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
+            caps, self.gold_labels().get(info.id),
+            [(lab, s, e) for _, lab, s, e in self.gold_segments(info.id)],
+            self.gold_caption_rows(info.id), self.comments(info.id), scores)
+
+    def gold_caption_rows(self, clip: Any) -> list[GoldCaptionInfo]:
+        """A clip's gold captions with the annotator caption each came from."""
+        def q(s: Session) -> list[GoldCaptionInfo]:
+            cid = self._clip(s, clip).id
+            stmt = select(GoldCaption).where(GoldCaption.clip_id == cid).order_by(
+                GoldCaption.position, GoldCaption.id)
+            return [GoldCaptionInfo(g.id, g.position, g.text, g.source_caption_id)
+                    for g in s.scalars(stmt)]
+        return self._read(q)
+
+    # ---- throughput and trend -------------------------------------------------------------
+    def _work_events(self) -> list[tuple[dt.datetime, str, int]]:
+        """(when, annotator, clip) of every annotation edit, credited to the annotator whose
+        row changed (an import by the lead counts for the annotator it was for)."""
+        ids = {a.id: a.name for a in self.annotators()}
+        workers = self._workers()
+        out = []
+        for e in self.history():
+            if e.entity not in WORK_ENTITIES or e.clip is None:
+                continue
+            row = e.after or e.before or {}
+            name = ids.get(row.get("annotator_id"), e.who)
+            if name in workers:
+                out.append((e.at, name, e.clip))
+        return out
+
+    def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
+        r"""Clips per hour per annotator from the edit history.
+
+        Working time :math:`T_a = \sum_i \min(t_{i+1} - t_i, \tau)` over the annotator's edits
+        in time order, with :math:`\tau` = ``idle_seconds`` (a longer pause is a break; our
+        choice, 5 minutes by default); clips per hour is :math:`3600\,C_a / T_a` with
+        :math:`C_a` the distinct clips the annotator edited (NaN when :math:`T_a = 0`).
+        """
+        events: dict[str, list[tuple[dt.datetime, int]]] = {}
+        for at, name, clip in self._work_events():
+            events.setdefault(name, []).append((at, clip))
+        out = {}
+        for name in sorted(self._workers()):
+            ev = sorted(events.get(name, []))
+            active = sum(min((b[0] - a[0]).total_seconds(), idle_seconds)
+                         for a, b in zip(ev, ev[1:]))
+            n = len({c for _, c in ev})
+            rate = 3600.0 * n / active if active > 0 else math.nan
+            rec = Recipe.make("throughput", "clips-per-hour", idle_cap_s=idle_seconds,
+                              n_raters=1, n_items=n, annotators=[name],
+                              note=None if active > 0 else "no working time measured")
+            out[name] = Throughput(name, n, len(ev), active, rate, rec)
+        return out
+
+    def agreement_trend(self, *, window: int | None = None) -> list[TrendPoint]:
+        r"""Krippendorff's alpha (nominal) of the annotators' labels over consecutive windows of
+        ``window`` clips, clips ordered by when their last label was set (default: six windows,
+        at least three clips each). Alpha as in :func:`clipscribe.agreement.krippendorff_alpha`
+        (Krippendorff 2004, *Content Analysis*, ch. 11)."""
+        workers = self._workers()
+        rows = [r for r in self.clip_labels() if r[1] in workers]
+        when: dict[int, dt.datetime] = {}
+        for at, _, clip in self._work_events():
+            when[clip] = max(when.get(clip, at), at)
+        order = sorted({c for c, _, _ in rows}, key=lambda c: (when.get(c, dt.datetime.min), c))
+        if not order:
+            return []
+        size = window or max(3, math.ceil(len(order) / 6))
+        names = sorted({a for _, a, _ in rows})
+        labels = [l.name for l in self.labels()]
+        cell = {(c, a): lab for c, a, lab in rows}
+        out = []
+        for k in range(0, len(order), size):
+            part = order[k:k + size]
+            data = [[cell.get((c, a)) for c in part] for a in names]
+            val = krippendorff_alpha(data, labels=labels)
+            times = [when[c] for c in part if c in when] or [dt.datetime.min]
+            rec = val.recipe.replace(options={**dict(val.recipe.options), "window": size,
+                                              "order": "time of last label"})
+            out.append(TrendPoint(len(out) + 1, min(times), max(times), part, float(val), rec))
+        return out
