@@ -20,8 +20,10 @@ from .project_parts.analysis import AnalysisMixin
 from .project_parts.annotate import AnnotateMixin
 from .project_parts.base import ProjectBase
 from .project_parts.catalog import CatalogMixin
+from .project_parts.exporting import ExportingMixin
 from .project_parts.gold import GoldMixin
 from .project_parts.records_io import RecordsMixin
+from .project_parts.review import ReviewMixin
 from .project_parts.team import TeamMixin
 from .project_parts.workbench import WorkbenchMixin
 from .schema.settings import SETTINGS_FILE, ProjectSettings
@@ -31,7 +33,7 @@ from .store.models import Annotator
 DB_FILE = "project.sqlite"
 
 
-class Project(AnalysisMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
+class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
     """An open project. Use as a context manager, or call :meth:`close`.
 
     Create with :meth:`create`, open with :meth:`open`. ``user`` is the person acting: their name

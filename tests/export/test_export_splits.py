@@ -187,3 +187,11 @@ def test_frozen_never_moves_property(old, extra, seed1, seed2):
         if g in old_group_split:
             assert second[c] == old_group_split[g]
     assert groups_in_several_splits(old + new, second) == []
+
+
+def test_no_split_left_empty_when_groups_suffice():
+    """Regression: 4 groups of 3 clips at 70/15/15 used to give train 9, val 3, test 0."""
+    items = [(f"{g}-{i}", f"g{g}", "push") for g in range(4) for i in range(3)]
+    a = assign_splits(items, {"train": 0.7, "val": 0.15, "test": 0.15})
+    counts = {s: list(a.values()).count(s) for s in ("train", "val", "test")}
+    assert counts == {"train": 6, "val": 3, "test": 3}

@@ -86,7 +86,9 @@ def split_clips(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int
     form per split. Largest-first greedy placement is the usual heuristic for this bin-balancing
     problem (as in multi-label iterative stratification, Sechidis et al., ECML PKDD 2011,
     doi:10.1007/978-3-642-23808-6_10); single-clip groups are placed last in bulk, per label, by
-    largest-remainder apportionment of each split's remaining deficit.
+    largest-remainder apportionment of each split's remaining deficit. When the groups still to
+    place are no more than the splits still empty, each goes to an empty split, so no split with
+    a positive ratio ends up empty while there are enough groups.
 
     Parameters
     ----------
@@ -164,13 +166,18 @@ def split_clips(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int
 
     multi = free[size[free] > 1]
     single = free[size[free] == 1]
-    for g in multi:
+    for pos, g in enumerate(multi):
         a, b = starts[g], starts[g + 1]
         labs, f = ul[a:b], ucount[a:b] / n_l[ul[a:b]]
         m = size[g] / N
         d_size = m * (2 * (M - t) + m)
         d_lab = ((2 * (F[:, labs] - t[:, None]) + f) * f).sum(axis=1) / L
-        cost = np.where(allowed, d_size + d_lab, np.inf)
+        # No split may end up empty while groups remain to fill it: once the groups left are
+        # no more than the empty splits, each goes to an empty one.
+        empty = allowed & (M == 0)
+        left = len(multi) - pos + len(single)
+        where = empty if 0 < empty.sum() and left <= empty.sum() else allowed
+        cost = np.where(where, d_size + d_lab, np.inf)
         s = int(np.argmin(cost))
         g_split[g] = s
         F[s, labs] += f

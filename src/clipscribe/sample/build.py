@@ -43,7 +43,7 @@ VERBS = {
                 "grabs the {c} block and lifts it"],
     "put down": ["sets the {c} block down on the bench", "lowers the {c} cube onto the table",
                  "places the {c} block on the bench", "puts the {c} block down"],
-    "push": ["pushes the {c} block along the bench", "slides the {c} cube to the right",
+    "push": ["pushes the {c} block along the bench", "slides the {c} cube along the table",
              "nudges the {c} block across the table", "shoves the {c} block sideways"],
     "stack": ["stacks the {c} block on the {o} one", "puts the {c} cube on top of the {o} cube",
               "places the {c} block onto the {o} block", "builds a tower of the {c} and {o} blocks"],

@@ -27,13 +27,18 @@ class Cell:
     bench: tuple[int, int, int]
     wall: tuple[int, int, int]
     arm: tuple[int, int, int]
+    mirrored: bool = False          # camera on the other side of the bench
+    decor: str = "none"             # what hangs on the wall: none | window | shelves | board
+    zoom: float = 1.0               # camera zoom about the bench centre
+    lift: int = 0                   # camera height: positive moves the scene down the picture
 
 
 CELLS = (
     Cell("cell-north", (70, 110, 150), (210, 205, 195), (90, 90, 90)),
-    Cell("cell-east", (60, 90, 110), (180, 200, 215), (120, 110, 100)),
-    Cell("cell-south", (100, 120, 130), (200, 190, 170), (70, 80, 95)),
-    Cell("cell-west", (80, 80, 100), (225, 220, 225), (110, 100, 130)),
+    Cell("cell-east", (60, 90, 110), (180, 200, 215), (120, 110, 100), mirrored=True, decor="window"),
+    Cell("cell-south", (100, 120, 130), (200, 190, 170), (70, 80, 95), decor="shelves", zoom=1.35, lift=-10),
+    Cell("cell-west", (80, 80, 100), (225, 220, 225), (110, 100, 130), mirrored=True, decor="board",
+         zoom=1.15, lift=30),
 )
 
 
@@ -120,6 +125,7 @@ def render(cell: Cell, act: Action, n_frames: int, seed: int) -> list[np.ndarray
     for f in range(n_frames):
         img = np.empty((H, W, 3), np.uint8)
         img[:] = cell.wall
+        _decorate(img, cell)
         img[TABLE_Y:] = cell.bench
         cv2.line(img, (0, TABLE_Y), (W, TABLE_Y), tuple(int(c * 0.6) for c in cell.bench), 2)
         gx, gy, bx, by, _held = _state(act, f)
@@ -134,9 +140,32 @@ def render(cell: Cell, act: Action, n_frames: int, seed: int) -> list[np.ndarray
         cv2.circle(img, elbow, 6, (40, 40, 40), -1, cv2.LINE_AA)
         cv2.line(img, (wrist[0] - 9, wrist[1]), (wrist[0] - 9, wrist[1] + 10), (30, 30, 30), 3)
         cv2.line(img, (wrist[0] + 9, wrist[1]), (wrist[0] + 9, wrist[1] + 10), (30, 30, 30), 3)
+        if cell.mirrored:
+            img = np.ascontiguousarray(img[:, ::-1])
+        if cell.zoom != 1.0 or cell.lift:
+            m = cv2.getRotationMatrix2D((W / 2, TABLE_Y), 0.0, cell.zoom)
+            m[1, 2] += cell.lift
+            img = cv2.warpAffine(img, m, (W, H), borderMode=cv2.BORDER_REPLICATE)
         img = cv2.add(img, np.broadcast_to(noise, img.shape).copy())
         frames.append(img)
     return frames
+
+
+def _decorate(img: np.ndarray, cell: Cell) -> None:
+    """Wall fittings that tell the workcells apart (and keep their fingerprints apart)."""
+    dark = tuple(int(c * 0.45) for c in cell.wall)
+    if cell.decor == "window":
+        cv2.rectangle(img, (150, 15), (300, 120), (235, 225, 200), -1)
+        cv2.rectangle(img, (150, 15), (300, 120), dark, 4)
+        cv2.line(img, (225, 15), (225, 120), dark, 3)
+    elif cell.decor == "shelves":
+        for y in (40, 85, 130):
+            cv2.rectangle(img, (170, y), (318, y + 7), dark, -1)
+    elif cell.decor == "board":
+        cv2.rectangle(img, (0, 0), (110, 150), dark, -1)
+        for x in range(10, 110, 20):
+            for y in range(10, 150, 20):
+                cv2.circle(img, (x, y), 2, cell.wall, -1)
 
 
 def _block(img: np.ndarray, x: float, y: float, colour: tuple[int, int, int]) -> None:

@@ -14,11 +14,8 @@ __all__ = [
 
 
 def all_schemas() -> dict[str, dict]:
-    """JSON Schema of every record type (and, when present, the export formats)."""
+    """JSON Schema of every record type and of the export formats."""
     out = {f"record-{k}": v for k, v in record_schemas().items()}
-    try:
-        from .export import export_schemas
-    except ImportError:
-        return out
+    from .export import export_schemas
     out.update({f"export-{k}": v for k, v in export_schemas().items()})
     return out

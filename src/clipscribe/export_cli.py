@@ -1,0 +1,76 @@
+"""``clipscribe export DIR OUT``: plan, check for leakage, and write a dataset export."""
+
+from __future__ import annotations
+
+import argparse
+
+from .errors import RecordError
+
+
+def _ratios(text: str) -> dict[str, float]:
+    out = {}
+    for part in text.split(","):
+        name, _, value = part.partition("=")
+        try:
+            out[name.strip()] = float(value)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{part!r}: expected name=fraction, e.g. train=0.7") from None
+    return out
+
+
+def print_leakage(report) -> None:
+    findings = list(report.blocking) + list(report.warnings)
+    if not findings:
+        print("leakage check: no findings")
+        return
+    print(f"leakage check: {len(report.blocking)} blocking, {len(report.warnings)} warning(s)")
+    for f in findings:
+        print(f"  [{f.severity}] {f.kind}: {f.message}")
+
+
+def cmd_export(args: argparse.Namespace) -> int:
+    from . import export
+    from .cli import Bar, _open
+    with _open(args) as p:
+        plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
+                             frozen=args.frozen, hamming_radius=args.radius,
+                             progress=Bar("fingerprints"))
+        counts: dict[str, int] = {}
+        for split in plan.assignment.values():
+            counts[split] = counts.get(split, 0) + 1
+        print("splits: " + ", ".join(f"{k} {v}" for k, v in sorted(counts.items())))
+        if plan.left_out:
+            print(f"left out {len(plan.left_out)} clip(s):")
+            for d in plan.left_out:
+                print(f"  clip {d.clip_id}: {d.reason}")
+        print_leakage(plan.leakage)
+        if args.dry_run:
+            return 0
+        try:
+            m = p.write_export(args.out, plan, media_mode=args.media, webvtt=args.webvtt,
+                               override_reason=args.override, overwrite=args.overwrite,
+                               progress=Bar("writing"))
+        except export.ExportBlocked as exc:
+            raise RecordError(f"{exc} (nothing was written; use --override REASON to accept them)") from None
+        except export.ExportError as exc:
+            raise RecordError(str(exc)) from None
+        print(f"wrote {len(m.files)} file(s) to {args.out}")
+    return 0
+
+
+def register(add) -> None:
+    sp = add("export", cmd_export, "write train/val/test splits, checked for leakage first", user=True)
+    sp.add_argument("out", help="output folder (must be empty or new)")
+    sp.add_argument("--ratios", type=_ratios, default={"train": 0.7, "val": 0.15, "test": 0.15},
+                    help="split fractions, e.g. train=0.7,val=0.15,test=0.15 (default)")
+    sp.add_argument("--seed", type=int, default=0)
+    sp.add_argument("--min-agreement", type=float, default=0.6,
+                    help="share of annotators a majority label needs when there is no gold (default 0.6)")
+    sp.add_argument("--frozen", metavar="MANIFEST",
+                    help="keep the splits of this earlier export (default: the project's last export)")
+    sp.add_argument("--radius", type=int, default=8, help="Hamming radius for near-duplicate media (default 8)")
+    sp.add_argument("--webvtt", action="store_true", help="also write one WebVTT file per clip")
+    sp.add_argument("--media", choices=("copy", "hardlink"), help="copy or hard-link the media into the export")
+    sp.add_argument("--override", metavar="REASON", help="write despite blocking findings; recorded in the manifest")
+    sp.add_argument("--overwrite", action="store_true", help="replace a non-empty output folder")
+    sp.add_argument("--dry-run", action="store_true", help="plan and check only; write nothing")

@@ -1,0 +1,145 @@
+"""Dataset export from a project: gathers plain inputs for the Qt-free export engine.
+
+Label policy: gold first, else majority vote (``min_agreement``). Segments: gold segments, else
+those of the first annotator (by name) whose label equals the exported label. Captions: the gold
+reference set when settled, else every annotator caption. Splits stay stable across exports: the
+assignment of the last export is kept in the project and passed in as ``frozen``.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import threading
+from collections import defaultdict
+from collections.abc import Callable, Mapping
+from pathlib import Path
+from typing import Any
+
+from .. import export, media
+from ..errors import RecordError
+from ..store.models import Setting
+
+Progress = Callable[[int, int], None] | None
+ASSIGNMENT_KEY = "export.assignment"
+
+
+class ExportingMixin:
+    def compute_fingerprints(self, *, progress: Progress = None,
+                             cancel: threading.Event | None = None) -> int:
+        """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
+        todo = [c for c in self.clips() if c.fingerprint is None]
+        for i, c in enumerate(todo):
+            if progress:
+                progress(i, len(todo))
+            try:
+                value = media.clip_fingerprint(self.media_path(c.id), cancel=cancel)
+            except media.MediaError:
+                continue  # reported by the leakage check as a clip without fingerprint
+            self.set_fingerprint(c.id, value)
+        if progress:
+            progress(len(todo), len(todo))
+        return len(todo)
+
+    def export_inputs(self) -> list[export.ClipInput]:
+        """Every clip as the export engine's plain input (leads' own labels excluded)."""
+        leads = {a.name for a in self.annotators() if a.role == "lead"}
+        labels: dict[int, list[tuple[str, str]]] = defaultdict(list)
+        for clip, who, label in self.clip_labels():
+            if who not in leads:
+                labels[clip].append((who, label))
+        segs: dict[tuple[int, str], list] = defaultdict(list)
+        for g in self.segments():
+            segs[(g.clip, g.annotator)].append(g)
+        caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
+        seg_by_id = {g.id: g for v in segs.values() for g in v}
+        for c in self.caption_rows():
+            if c.annotator in leads:
+                continue
+            tied = seg_by_id.get(c.segment) if c.segment else None
+            caps[c.clip].append(export.CaptionInput(c.text, c.annotator, True,
+                                                    (tied.start, tied.end) if tied else None))
+        gold_labels, gold_caps = self.gold_labels(), self.gold_captions()
+        gold_segs: dict[int, list] = defaultdict(list)
+        for clip, label, start, end in self.gold_segments():
+            gold_segs[clip].append(export.SegmentInput(label, start, end))
+        out = []
+        for c in self.clips():
+            votes = labels.get(c.id, [])
+            # the majority label does not depend on the minimum agreement (that only decides
+            # whether the clip is kept), so it is safe to pick segments with it here
+            decided = gold_labels.get(c.id) or export.decide_label(
+                [v for _, v in votes], min_agreement=0.0, require_label=False).label
+            if c.id in gold_segs:
+                chosen = gold_segs[c.id]
+            else:
+                who = sorted(w for w, v in votes if v == decided)
+                chosen = [export.SegmentInput(g.label, g.start, g.end) for g in segs.get((c.id, who[0]), [])] if who else []
+            fp = c.fingerprint
+            out.append(export.ClipInput(
+                clip_id=str(c.id), media_path=c.path, group=c.group, sha256=c.sha256,
+                fingerprint=None if fp is None else fp & 0xFFFFFFFFFFFFFFFF, fps=c.fps,
+                frame_count=c.frame_count, labels=tuple(v for _, v in votes),
+                gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
+                gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
+                segments=tuple(chosen), consent=c.consent, licence=c.licence,
+                source_path=str(self.media_root / c.path)))
+        return out
+
+    def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
+                    min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
+                    hamming_radius: int = 8, caption_threshold: float = 0.9,
+                    progress: Progress = None) -> export.ExportPlan:
+        """Decide labels, assign splits and run every leakage check; writes nothing.
+
+        ``frozen`` defaults to the assignment of this project's last export; a path to an
+        export manifest (or its folder) uses that manifest's assignment instead.
+        """
+        self._require_lead("export")
+        self.compute_fingerprints(progress=progress)
+        if frozen is None:
+            frozen = self._read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
+                                           if s.get(Setting, ASSIGNMENT_KEY) else {}))
+        elif isinstance(frozen, (str, os.PathLike)):
+            frozen = _manifest_assignment(Path(frozen))
+        try:
+            return export.build_plan(
+                self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
+                project=self.settings.name, policy=export.LabelPolicy(min_agreement=min_agreement),
+                seed=seed, frozen=frozen, require_consent=self.settings.require_consent,
+                hamming_radius=hamming_radius, caption_threshold=caption_threshold)
+        except ValueError as exc:
+            raise RecordError(f"export: {exc}") from None
+
+    def write_export(self, out_dir: str | os.PathLike, plan: export.ExportPlan, *,
+                     media_mode: str | None = None, webvtt: bool = False,
+                     override_reason: str | None = None, overwrite: bool = False,
+                     progress: Progress = None, cancel: threading.Event | None = None):
+        """Write a planned export atomically; remember its assignment for the next export.
+        Blocking leakage findings stop it unless ``override_reason`` is given (recorded)."""
+        self._require_lead("export")
+        override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
+        manifest = export.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt,
+                                       override=override, overwrite=overwrite,
+                                       progress=progress, cancel=cancel)
+        assignment = dict(manifest.assignment)
+
+        def work(s) -> None:
+            s.merge(Setting(key=ASSIGNMENT_KEY, value=assignment))
+            self._log(s, "export", "dataset", None, None, None,
+                      {"folder": str(out_dir), "clips": len(plan.clips), "override": override_reason})
+        self._write(work)
+        return manifest
+
+    def _require_lead(self, what: str) -> None:
+        if self.role(self.user) != "lead":
+            raise RecordError(f"only a lead may {what}; {self.user!r} is not a lead")
+
+
+def _manifest_assignment(path: Path) -> dict[str, str]:
+    file = path / "manifest.json" if path.is_dir() else path
+    try:
+        data: Any = json.loads(file.read_text(encoding="utf-8"))
+        return {str(k): str(v) for k, v in data["assignment"].items()}
+    except (OSError, ValueError, KeyError, AttributeError) as exc:
+        raise RecordError(f"{file}: not an export manifest with an assignment ({exc})") from None
