@@ -132,7 +132,7 @@ class TeamMixin:
             return row.db_login
         return self._write(work)
 
-    def _require_lead(self, s: Session, what: str) -> Annotator:
+    def _team_lead(self, s: Session, what: str) -> Annotator:
         who = self._annotator(s, None)
         if who.role != "lead":
             raise TeamPermissionError(f"{who.name!r} is not a lead: only leads {what}")
@@ -142,7 +142,7 @@ class TeamMixin:
     def set_blind(self, blind: bool) -> None:
         """Blind mode on: annotators cannot read each other's labels, segments or captions."""
         def work(s: Session) -> None:
-            self._require_lead(s, "change blind mode")
+            self._team_lead(s, "change blind mode")
             before = s.get(Setting, team.BLIND_KEY)
             s.merge(Setting(key=team.BLIND_KEY, value=bool(blind)))
             self._log(s, "set", "setting", None, None,
@@ -158,7 +158,7 @@ class TeamMixin:
         """How long a pulled clip stays reserved without any edit before it returns to the pool."""
         require(hours > 0, f"lease {hours!r}: must be positive hours")
         def work(s: Session) -> None:
-            self._require_lead(s, "set the lease")
+            self._team_lead(s, "set the lease")
             s.merge(Setting(key=team.LEASE_KEY, value=float(hours) * 3600.0))
         self._write(work)
 
@@ -177,7 +177,7 @@ class TeamMixin:
         require(isinstance(overlap_count, int) and overlap_count >= 1,
                 f"overlap_count {overlap_count!r}: must be >= 1")
         def work(s: Session) -> AssignmentPlan:
-            self._require_lead(s, "plan assignments")
+            self._team_lead(s, "plan assignments")
             ids = list(s.scalars(select(Clip.id).where(Clip.state != "settled").order_by(Clip.id)))
             chosen = overlap_selection(ids, overlap, seed)
             s.execute(update(Clip).where(Clip.state != "settled").values(annotators_wanted=per_clip))
