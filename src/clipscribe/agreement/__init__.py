@@ -2,6 +2,12 @@
 
 Every number comes with its recipe (``.recipe``); see :mod:`clipscribe.agreement._recipe`.
 Verbal bands follow Landis & Koch (1977), :mod:`clipscribe.agreement.interpret`.
+
+Why written here rather than imported: the statistics libraries that compute these numbers are
+test-only dependencies of clipscribe (the tests check every metric against them), and the report
+needs what they do not offer: per-clip sufficient statistics shared by the point value and a
+vectorised clip bootstrap, n-gram counts shared by all leave-one-out BLEU scores, and a recipe
+on every number.
 """
 
 from ._recipe import Recipe, Score
