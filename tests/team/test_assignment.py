@@ -182,3 +182,20 @@ def test_cli_assign_and_next(tmp_path, capsys):
     assert "not a lead" in capsys.readouterr().err
     with Project.open(d) as p:
         assert p.lease_seconds() == 3600
+
+
+@pytest.mark.postgres
+def test_clip_state_counts_everyones_work(server_project, uid):
+    p = server_project
+    clip = add_clips(p, 1)[0]
+    p.assign(per_clip=2)
+    names = [f"st{i}_{uid}" for i in range(2)]
+    for n in names:
+        p.add_annotator(n, password="pw-" + n)
+    first, second = (Project.open(p.folder, user=n, password="pw-" + n) for n in names)
+    with first, second:
+        assert first.next_clip() == second.next_clip() == clip
+        first.set_clip_state(clip, names[0], "submitted")   # first cannot see second's open work
+        assert p.clip(clip).state == "in_progress"
+        second.set_clip_state(clip, names[1], "submitted")
+        assert p.clip(clip).state == "done"

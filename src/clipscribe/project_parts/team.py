@@ -259,6 +259,14 @@ class TeamMixin:
         s.flush()
         return len(stale)
 
+    def _refresh_clip_state(self, s: Session, c: Clip) -> None:
+        """On a server an annotator's login sees only its own assignments, so the clip's
+        state is worked out by the database from everyone's (``clipscribe_clip_state``)."""
+        if not self.is_server:
+            return super()._refresh_clip_state(s, c)
+        s.flush()
+        c.state = s.scalar(text("SELECT clipscribe_clip_state(:c)"), {"c": c.id})
+
     # ---- conflict-aware edits -----------------------------------------------------------
     def caption_version(self, caption_id: int) -> int:
         row = self._read(lambda s: s.get(Caption, caption_id))

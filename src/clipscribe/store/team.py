@@ -129,6 +129,20 @@ BEGIN
 END
 $$;
 REVOKE ALL ON FUNCTION clipscribe_pull(integer, double precision) FROM PUBLIC;
+
+-- A clip's state from everybody's assignments (an annotator's own login sees only theirs):
+-- settled with a gold label; done when every live assignment is submitted or skipped;
+-- in progress while any is live; else new. Returns only the state word.
+CREATE OR REPLACE FUNCTION clipscribe_clip_state(p_clip integer)
+RETURNS text LANGUAGE sql STABLE SECURITY DEFINER SET search_path = public, pg_temp AS $$
+  SELECT CASE
+    WHEN EXISTS (SELECT 1 FROM gold_labels WHERE clip_id = p_clip) THEN 'settled'
+    WHEN NOT EXISTS (SELECT 1 FROM assignments WHERE clip_id = p_clip AND state <> 'expired') THEN 'new'
+    WHEN bool_and(state IN ('submitted', 'skipped')) THEN 'done'
+    ELSE 'in_progress' END
+  FROM assignments WHERE clip_id = p_clip AND state <> 'expired'
+$$;
+REVOKE ALL ON FUNCTION clipscribe_clip_state(integer) FROM PUBLIC;
 """
 
 _ME = "(SELECT clipscribe_me())"
@@ -181,6 +195,7 @@ def _policies() -> str:
         f"CREATE POLICY lead_insert ON edits FOR INSERT WITH CHECK {_LEAD};",
         f"GRANT USAGE, SELECT ON ALL SEQUENCES IN SCHEMA public TO {a}, {l};",
         f"GRANT EXECUTE ON FUNCTION clipscribe_pull(integer, double precision) TO {a}, {l};",
+        f"GRANT EXECUTE ON FUNCTION clipscribe_clip_state(integer) TO {a}, {l};",
         # tables added by later migrations: readable by leads only until they say otherwise
         f"ALTER DEFAULT PRIVILEGES IN SCHEMA public GRANT SELECT ON TABLES TO {l};",
         f"INSERT INTO settings (key, value) VALUES ('{BLIND_KEY}', 'true') ON CONFLICT DO NOTHING;",
@@ -207,6 +222,7 @@ END $$;
 
 _UNINSTALL = """
 DROP FUNCTION IF EXISTS clipscribe_pull(integer, double precision);
+DROP FUNCTION IF EXISTS clipscribe_clip_state(integer);
 """
 
 
