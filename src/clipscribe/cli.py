@@ -187,7 +187,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 def _extend(add) -> None:
     """Commands contributed by later parts (agreement, export, team mode)."""
-    for name in ("agreement_cli", "export_cli", "team_cli"):
+    for name in ("agreement_cli", "export_cli", "team_cli", "review_cli"):
         try:
             mod = __import__(f"clipscribe.{name}", fromlist=["register"])
         except ModuleNotFoundError as exc:

@@ -30,7 +30,10 @@ def application() -> QApplication:
 
 def open_window(project: Project, *, view: str = "work", settings: QSettings | None = None):
     from .main_window import MainWindow
-    return MainWindow(project, settings=settings, view=view)
+    from .review import install_review_desk
+    window = MainWindow(project, settings=settings, view=view)
+    install_review_desk(window, view=view)
+    return window
 
 
 def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work",

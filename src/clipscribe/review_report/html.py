@@ -1,0 +1,158 @@
+"""The agreement report: one self-contained HTML file (inline CSS and SVG, no scripts, fonts or
+links) plus CSV tables, for people who do not run the workbench. No Qt."""
+
+from __future__ import annotations
+
+import json
+import os
+import time
+from dataclasses import dataclass
+from html import escape
+from pathlib import Path
+from typing import Callable
+
+from . import tables
+from .board import board_data, board_figures
+from .svg import to_svg
+
+CAUTIONS = (
+    "Agreement is not correctness: annotators can agree on the same mistake, and a clip with "
+    "low agreement may be genuinely ambiguous rather than badly labelled.",
+    "Labels carry the bias of the people, the guideline and the label set that produced them; "
+    "read these numbers together with the guideline and a look at the clips.",
+    "Verbal bands are a convention, not a test; every value is shown with its interval or its "
+    "count of clips, and small samples give wide intervals.",
+    "Throughput counts edits, not care: a fast annotator is not a better one.",
+)
+
+CSS = """
+body { font-family: sans-serif; color: #1d2126; margin: 24px auto; max-width: 1100px;
+       line-height: 1.4; padding: 0 16px; }
+h1 { font-size: 22px; margin-bottom: 4px; } h2 { font-size: 17px; margin-top: 28px;
+     border-bottom: 1px solid #c9d1da; padding-bottom: 4px; }
+.meta { color: #5f6b78; font-size: 13px; }
+.figs { display: flex; flex-wrap: wrap; gap: 24px; align-items: flex-start; }
+.fig { background: #ffffff; border: 1px solid #e1e6eb; padding: 10px; }
+table { border-collapse: collapse; font-size: 13px; margin: 8px 0; }
+th, td { border: 1px solid #d5dce3; padding: 3px 8px; text-align: left; vertical-align: top; }
+th { background: #eef2f6; } td.n { text-align: right; font-variant-numeric: tabular-nums; }
+code { font-size: 12px; color: #3a424d; } .note { background: #f7f3ee; padding: 8px 12px; }
+"""
+
+
+@dataclass(frozen=True)
+class ReportFiles:
+    folder: Path
+    html: Path
+    csv: dict[str, Path]
+    seconds: float
+
+
+def _fmt(v) -> str:
+    if v is None:
+        return "–"
+    if isinstance(v, float):
+        return f"{v:,.3f}" if abs(v) < 1000 else f"{v:,.0f}"
+    return escape(str(v))
+
+
+def _td(head: str, v) -> str:
+    if head == "recipe" or head.endswith("_recipe"):
+        return f"<td><code>{escape(str(v))}</code></td>"
+    if isinstance(v, (int, float)) and not isinstance(v, bool):
+        return f'<td class="n">{_fmt(v)}</td>'
+    return f"<td>{_fmt(v)}</td>"
+
+
+def _table(table: tables.Table, limit: int | None = None) -> str:
+    header, rows = table
+    head = "".join(f"<th>{escape(h)}</th>" for h in header)
+    body = ["<tr>" + "".join(_td(h, v) for h, v in zip(header, r)) + "</tr>"
+            for r in rows[:limit]]
+    if not rows:
+        body.append(f'<tr><td colspan="{len(header)}">nothing to show</td></tr>')
+    return f"<table><tr>{head}</tr>{''.join(body)}</table>"
+
+
+def render_html(data: dict) -> str:
+    """The report page for :func:`~clipscribe.review_report.board.board_data` output."""
+    m = data["meta"]
+    figs = board_figures(data)
+    conf = [k for k in figs if k.startswith("confusion_")]
+
+    def block(keys):
+        return '<div class="figs">' + "".join(
+            f'<div class="fig">{to_svg(figs[k])}</div>' for k in keys) + "</div>"
+
+    bands = ", ".join(f"≤ {b:g} {n}" for b, n in m["bands"])
+    parts = [
+        "<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+        f"<title>Agreement report — {escape(m['project'])}</title>",
+        f"<style>{CSS}</style></head><body>",
+        f"<h1>Agreement report — {escape(m['project'])}</h1>",
+        f'<p class="meta">Made {escape(m["made"])} by {escape(m["lead"])} with '
+        f'{escape(m["tool"])} {escape(m["version"])}; label set version '
+        f'{escape(m["label_set_version"])}; {m["clips"]} clips, {m["settled"]} settled; '
+        f'bootstrap {m["n_boot"]} resamples, seed {m["seed"]}. Hover a mark to see its value '
+        "and recipe.</p>",
+        "<h2>Summary</h2>", _table(tables.summary(data)),
+        "<h2>Labels</h2>", block(["label_alpha", "pairwise"]),
+        "<h3>Confusion between annotators</h3>", block(conf),
+        _table(tables.pairwise(data)),
+        "<h2>Segments</h2>", _table(tables.segment_pairs(data)),
+        "<h2>Captions</h2>", block(["caption_bleu", "caption_cider"]),
+        _table(tables.caption_annotators(data)),
+        "<h3>Flagged captions</h3>", _table(tables.flagged(data)),
+        "<h2>Throughput and trend</h2>", block(["throughput", "trend"]),
+        _table(tables.throughput(data)), _table(tables.trend(data)),
+        "<h2>Most disputed clips</h2>", _table(tables.disputed(data)),
+        "<h2>How to read this</h2>",
+        f"<p>Bands for kappa and alpha: {escape(bands)}; below 0 poor. Source: "
+        f"{escape(m['bands_source'])}. The bands were offered as a convention.</p>",
+        "<p>Each number's recipe (metric, variant, options, raters, clips, label-set version, "
+        "tool version) is in its row and in the JSON block at the end of this file; the same "
+        "tables are in the CSV files beside it.</p>",
+        '<div class="note"><b>Cautions</b><ul>' + "".join(f"<li>{escape(c)}</li>"
+                                                          for c in CAUTIONS) + "</ul></div>",
+        "<h2>All numbers (JSON)</h2>",
+        '<pre id="clipscribe-numbers" style="white-space: pre-wrap; font-size: 11px; '
+        'max-height: 240px; overflow: auto;">'
+        + escape(json.dumps(data, ensure_ascii=False, indent=1, allow_nan=False)) + "</pre>",
+        "</body></html>",
+    ]
+    return "\n".join(parts)
+
+
+def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: int = 1000,
+                 progress: Callable[[str], None] | None = None) -> ReportFiles:
+    """Write ``report.html`` and one CSV per table into ``folder`` (created if missing).
+    Files are written to temporary names and renamed, so a reader never sees half a report.
+    Leads only (the project's check)."""
+    t0 = time.perf_counter()
+    say = progress or (lambda _msg: None)
+    say("computing agreement")
+    data = board_data(project, seed=seed, n_boot=n_boot)
+    out = Path(folder)
+    out.mkdir(parents=True, exist_ok=True)
+    say("writing tables")
+    written: dict[str, Path] = {}
+    for name, fn in tables.ALL.items():
+        written[name] = _atomic(out / f"{name}.csv", tables.to_csv(fn(data)))
+    say("writing report.html")
+    html = _atomic(out / "report.html", render_html(data))
+    return ReportFiles(out, html, written, time.perf_counter() - t0)
+
+
+def _atomic(path: Path, text: str) -> Path:
+    tmp = path.with_name(path.name + ".tmp")
+    tmp.write_text(text, encoding="utf-8")
+    os.replace(tmp, path)
+    return path
+
+
+def read_numbers(html: str) -> dict:
+    """The JSON block of a report page (for tests and scripts)."""
+    from html import unescape
+    start = html.index('<pre id="clipscribe-numbers"')
+    start = html.index(">", start) + 1
+    return json.loads(unescape(html[start:html.index("</pre>", start)]))

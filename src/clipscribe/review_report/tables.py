@@ -1,0 +1,141 @@
+"""The board's numbers as CSV tables (one header row, then data; floats written in Python's
+shortest round-trip form so a reader gets back the exact value). No Qt."""
+
+from __future__ import annotations
+
+import csv
+import io
+from typing import Any
+
+Table = tuple[list[str], list[list[Any]]]
+
+
+def _ci(d: dict | None, key: str):
+    return None if not d else d.get(key)
+
+
+def summary(data: dict) -> Table:
+    a = data["agreement"]
+    rows: list[list[Any]] = []
+    lab = a["labels"]
+    if lab:
+        al = lab["alpha"]
+        rows.append(["labels", "all", "krippendorff alpha", al["value"], _ci(al["ci"], "low"),
+                     _ci(al["ci"], "high"), al["band"], al["recipe"]["text"]])
+        if lab["fleiss"]:
+            f = lab["fleiss"]
+            rows.append(["labels", "all", "fleiss kappa", f["value"], None, None, f["band"],
+                         f["recipe"]["text"]])
+        for name, s in lab["per_label"].items():
+            rows.append(["labels", name, "krippendorff alpha one-vs-rest", s["value"],
+                         _ci(s["ci"], "low"), _ci(s["ci"], "high"), s["band"],
+                         s["recipe"]["text"]])
+    seg = a["segments"]
+    if seg and seg["frame_alpha"]:
+        fa = seg["frame_alpha"]
+        rows.append(["segments", "all", "frame-level alpha", fa["value"], None, None, fa["band"],
+                     fa["recipe"]["text"]])
+    cap = a["captions"]
+    if cap:
+        b = cap["bleu"]["overall"]
+        rows.append(["captions", "all", "leave-one-out corpus BLEU", b["score"], None, None,
+                     None, b["recipe"]["text"]])
+        rows.append(["captions", "all", "CIDEr-D mean", cap["cider"]["overall"], None, None, None,
+                     cap["cider"]["recipe"]["text"]])
+        r = cap["retrieval"]
+        for key in ("r_at_1", "r_at_5", "r_at_10", "median_rank"):
+            rows.append(["captions", "all", f"retrieval {key}", r[key], None, None, None,
+                         r["recipe"]["text"]])
+    return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe"], rows)
+
+
+def pairwise(data: dict) -> Table:
+    lab = data["agreement"]["labels"]
+    rows = [[p["annotator_a"], p["annotator_b"], p["kappa"], p["observed"],
+             p["recipe"]["n_items"], p["recipe"]["text"]] for p in (lab["pairs"] if lab else [])]
+    return (["annotator_a", "annotator_b", "cohen_kappa", "observed_agreement", "clips",
+             "recipe"], rows)
+
+
+def confusion(data: dict) -> Table:
+    lab = data["agreement"]["labels"]
+    rows = []
+    for p in (lab["pairs"] if lab else []):
+        for i, la in enumerate(lab["labels"]):
+            for j, lb in enumerate(lab["labels"]):
+                rows.append([p["annotator_a"], p["annotator_b"], la, lb, p["confusion"][i][j]])
+    return (["annotator_a", "annotator_b", "label_a", "label_b", "clips"], rows)
+
+
+def segment_pairs(data: dict) -> Table:
+    seg = data["agreement"]["segments"]
+    keys = ["annotator_a", "annotator_b", "iou_threshold", "matched", "n_a", "n_b", "precision",
+            "recall", "f1", "boundary_offset_frames", "boundary_offset_seconds"]
+    rows = [[p.get(k) for k in keys] + [p["recipe"]["text"]] for p in (seg["pairs"] if seg else [])]
+    return (keys + ["recipe"], rows)
+
+
+def caption_annotators(data: dict) -> Table:
+    cap = data["agreement"]["captions"]
+    rows = []
+    if cap:
+        cider = cap["cider"]["per_annotator"]
+        for name, b in cap["bleu"]["per_annotator"].items():
+            rows.append([name, b["score"], cider.get(name), b["recipe"]["text"],
+                         cap["cider"]["recipe"]["text"]])
+    return (["annotator", "loo_bleu", "cider_d", "bleu_recipe", "cider_recipe"], rows)
+
+
+def flagged(data: dict) -> Table:
+    cap = data["agreement"]["captions"]
+    rows = [[c["clip"], c["annotator"], c["text"], c["bleu"], c["clip_median"], c["reason"]]
+            for c in (cap["flagged"] if cap else [])]
+    return (["clip", "annotator", "text", "bleu", "clip_median", "reason"], rows)
+
+
+def clips(data: dict) -> Table:
+    keys = ["clip", "label_disagreement", "segment_f1", "caption_bleu", "caption_cider"]
+    return (keys, [[c[k] for k in keys] for c in data["agreement"]["clips"]])
+
+
+def disputed(data: dict) -> Table:
+    keys = ["rank", "clip", "path", "group", "label_disagreement", "segment_f1", "caption_bleu",
+            "caption_cider", "gold_label"]
+    return (keys + ["labels"], [[q[k] for k in keys] + [
+        "; ".join(f"{a}={l}" for a, l in q["labels"].items())] for q in data["queue"]])
+
+
+def throughput(data: dict) -> Table:
+    keys = ["annotator", "clips", "edits", "active_seconds", "clips_per_hour"]
+    return (keys + ["recipe"], [[t[k] for k in keys] + [t["recipe"]["text"]]
+                                for t in data["throughput"]])
+
+
+def trend(data: dict) -> Table:
+    return (["window", "first", "last", "clips", "alpha", "recipe"],
+            [[t["window"], t["first"], t["last"], " ".join(map(str, t["clips"])), t["alpha"],
+              t["recipe"]["text"]] for t in data["trend"]])
+
+
+ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
+       "segment_pairs": segment_pairs, "caption_annotators": caption_annotators,
+       "flagged_captions": flagged, "clips": clips, "disputed_clips": disputed,
+       "throughput": throughput, "trend": trend}
+
+
+def _cell(v: Any) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        return repr(v)
+    return str(v)
+
+
+def to_csv(table: Table) -> str:
+    header, rows = table
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(header)
+    for r in rows:
+        w.writerow([_cell(v) for v in r])
+    return buf.getvalue()

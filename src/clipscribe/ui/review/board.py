@@ -1,0 +1,155 @@
+"""The agreement board: per-label alpha with intervals, the pairwise kappa heat map, a confusion
+heat map per annotator pair, caption consensus, throughput and the trend, drawn from the same
+figure shapes as the HTML report. Numbers are computed off the UI thread; hovering (or tabbing
+to) a figure shows the values and their recipes in the details pane."""
+
+from __future__ import annotations
+
+import time
+
+from PySide6.QtCore import Qt, Signal, Slot
+from PySide6.QtWidgets import (
+    QComboBox, QGridLayout, QHBoxLayout, QLabel, QPlainTextEdit, QPushButton, QScrollArea,
+    QVBoxLayout, QWidget,
+)
+
+from ...review_report.board import board_data, board_figures, confusion_figure
+from ..workers import Job, JobRunner
+from .paint import FigureView
+
+LAYOUT = (("label_alpha", 0, 0, 1), ("pairwise", 0, 1, 1), ("confusion", 0, 2, 1),
+          ("trend", 1, 0, 1), ("caption_bleu", 1, 1, 1), ("throughput", 1, 2, 1),
+          ("caption_cider", 2, 1, 1))
+
+
+class FocusFigure(FigureView):
+    """A figure that, when it gets keyboard focus, lists all its numbers in the details pane."""
+
+    focused = Signal(str)
+
+    def focusInEvent(self, event) -> None:  # noqa: N802
+        super().focusInEvent(event)
+        self.focused.emit("\n\n".join(self.all_tips()) or self.fig.title)
+        self.update()
+
+
+class AgreementBoard(QWidget):
+    exportRequested = Signal()
+    loaded = Signal()
+
+    def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000) -> None:
+        super().__init__(parent)
+        self.setObjectName("agreementBoard")
+        self.project = project
+        self.n_boot = n_boot
+        self.data: dict | None = None
+        self.runner = JobRunner(self)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(8, 6, 8, 6)
+        top = QHBoxLayout()
+        self.summary = QLabel("Computing agreement…")
+        self.summary.setObjectName("boardSummary")
+        self.summary.setWordWrap(True)
+        top.addWidget(self.summary, 1)
+        self.pair = QComboBox()
+        self.pair.setAccessibleName("Annotator pair of the confusion matrix")
+        self.pair.currentIndexChanged.connect(self._pair_changed)
+        top.addWidget(QLabel("Confusion of:"))
+        top.addWidget(self.pair)
+        self.refresh_button = QPushButton("Recompute")
+        self.refresh_button.clicked.connect(self.refresh)
+        export = QPushButton("Export report…")
+        export.setToolTip("Write the board as report.html plus CSV tables (Ctrl+Shift+R)")
+        export.clicked.connect(self.exportRequested)
+        top.addWidget(self.refresh_button)
+        top.addWidget(export)
+        lay.addLayout(top)
+        body = QHBoxLayout()
+        self.figs: dict[str, FocusFigure] = {}
+        inner = QWidget()
+        grid = QGridLayout(inner)
+        grid.setSpacing(10)
+        for name, r, c, span in LAYOUT:
+            v = FocusFigure()
+            v.setObjectName(f"figure_{name}")
+            v.hovered.connect(self._details)
+            v.focused.connect(self._details)
+            self.figs[name] = v
+            grid.addWidget(v, r, c, span, 1, Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        grid.setRowStretch(3, 1)
+        grid.setColumnStretch(3, 1)
+        scroll = QScrollArea()
+        scroll.setWidget(inner)
+        scroll.setWidgetResizable(True)
+        body.addWidget(scroll, 1)
+        side = QVBoxLayout()
+        side.addWidget(QLabel("Details (hover a mark, or Tab to a figure)"))
+        self.details = QPlainTextEdit()
+        self.details.setReadOnly(True)
+        self.details.setObjectName("boardDetails")
+        self.details.setPlaceholderText("Values and their recipes appear here.")
+        side.addWidget(self.details, 1)
+        legend = QLabel("Colours: orange below chance, pale near 0, blue agreement (−1…1); counts "
+                        "from pale to dark blue. Bands: Landis & Koch (1977), a convention.")
+        legend.setWordWrap(True)
+        legend.setObjectName("wordCount")
+        side.addWidget(legend)
+        holder = QWidget()
+        holder.setLayout(side)
+        holder.setFixedWidth(300)
+        body.addWidget(holder)
+        lay.addLayout(body, 1)
+
+    # ---- numbers -----------------------------------------------------------------------
+    @Slot()
+    def refresh(self) -> None:
+        """Recompute the board's numbers in the background."""
+        self.refresh_button.setEnabled(False)
+        self.summary.setText("Computing agreement…")
+        p, n = self.project, self.n_boot
+        job = Job("agreement board", lambda cancel, progress: board_data(p, n_boot=n))
+        job.signals.finished.connect(self.show_data)
+        job.signals.failed.connect(lambda msg: (self.summary.setText(f"Could not compute: {msg}"),
+                                                self.refresh_button.setEnabled(True)))
+        self.runner.start(job)
+
+    def load_now(self) -> None:
+        """Compute on this thread (tests and screenshots)."""
+        self.show_data(board_data(self.project, n_boot=self.n_boot))
+
+    @Slot(object)
+    def show_data(self, data: dict) -> None:
+        self.data = data
+        self.refresh_button.setEnabled(True)
+        figs = board_figures(data)
+        for name, view in self.figs.items():
+            if name == "confusion":
+                continue
+            view.set_figure(figs[name])
+        lab = data["agreement"]["labels"]
+        self.pair.blockSignals(True)
+        self.pair.clear()
+        for p in (lab["pairs"] if lab else []):
+            self.pair.addItem(f"{p['annotator_a']} vs {p['annotator_b']}")
+        self.pair.blockSignals(False)
+        self._pair_changed(0)
+        m = data["meta"]
+        if lab:
+            a = lab["alpha"]
+            ci = a["ci"]
+            alpha = (f"Krippendorff alpha {a['value']:.3f} ({a['band']}), 95% interval "
+                     f"[{ci['low']:.3f}, {ci['high']:.3f}]" if a["value"] is not None
+                     and ci["low"] is not None else "alpha not measurable")
+        else:
+            alpha = "no labels yet"
+        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha} · "
+                             f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
+        self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
+        self.loaded.emit()
+
+    def _pair_changed(self, i: int) -> None:
+        if self.data is not None:
+            self.figs["confusion"].set_figure(confusion_figure(self.data, max(0, i)))
+
+    def _details(self, text: str) -> None:
+        self.details.setPlainText(text)

@@ -1,0 +1,302 @@
+"""The review desk: disputed clips on the left; the clip with every annotator's segments stacked
+on one timeline and their captions side by side in the middle; Settle on the right.
+
+Widgets only show and emit; every decision goes through :class:`ReviewEditor` (one transaction
+each, recorded with the lead's name in the edit history, undoable)."""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import QItemSelectionModel, Qt, Signal, Slot
+from PySide6.QtGui import QAction, QImage, QKeySequence
+from PySide6.QtWidgets import (
+    QAbstractItemView, QComboBox, QHBoxLayout, QHeaderView, QLabel, QScrollArea, QSplitter,
+    QTableView, QVBoxLayout, QWidget,
+)
+
+from ..player import Player, TransportBar
+from ..viewer import FrameView
+from .caption_model import CaptionGridModel
+from .editor import ReviewEditor
+from .gold_segments import GoldSegmentModel
+from .queue_model import ClipIdRole, DisputedClipsModel
+from .settle import SettlePanel, heading
+from .tracks import GOLD, TrackStack
+
+QUEUE_BOOT = 1  # the queue's order needs no intervals; the board computes those
+
+
+def desk_action(parent: QWidget, text: str, keys, slot, *, context=None) -> QAction:
+    a = QAction(text, parent)
+    if keys:
+        a.setShortcuts([QKeySequence(k) for k in (keys if isinstance(keys, list) else [keys])])
+        a.setToolTip(f"{text}  ({a.shortcut().toString(QKeySequence.SequenceFormat.NativeText)})")
+    a.setShortcutContext(context or Qt.ShortcutContext.WidgetWithChildrenShortcut)
+    a.triggered.connect(lambda _=False: slot())
+    parent.addAction(a)
+    return a
+
+
+class ReviewDesk(QWidget):
+    frameReady = Signal()   # the clip under review has a frame on screen
+    status = Signal(str)
+
+    def __init__(self, project, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("reviewDesk")
+        self.project = project
+        self.lead = project.check_reviewer()
+        self.labels = [l.name for l in project.labels()]
+        self.colours = {l.name: l.colour for l in project.labels()}
+        self.report = None
+        self.cmp = None
+        self.editor = ReviewEditor(project, self)
+        self.player = Player(self)
+        self._build()
+        self._wire()
+        self.reload_queue()
+
+    # ---- building ----------------------------------------------------------------------
+    def _build(self) -> None:
+        p = self.project
+        self.queue_model = DisputedClipsModel(self)
+        self.caption_model = CaptionGridModel(self.editor.settle_captions, self)
+        self.segment_model = GoldSegmentModel(
+            lambda segs: self.editor.settle_segments(segs) is not None, self)
+        self.caption_model.writer = lambda items: self.editor.settle_captions(items) is not None
+
+        left = QWidget()
+        ll = QVBoxLayout(left)
+        ll.setContentsMargins(6, 6, 6, 6)
+        ll.addWidget(heading("Disputed clips"))
+        self.by_label, self.by_person, self.by_group = QComboBox(), QComboBox(), QComboBox()
+        for box, everyone, items, name in (
+                (self.by_label, "any label", self.labels, "Filter by label"),
+                (self.by_person, "any annotator",
+                 [a.name for a in p.annotators() if a.role != "lead"], "Filter by annotator"),
+                (self.by_group, "any group", p.groups(), "Filter by group")):
+            box.addItem(everyone, None)
+            for it in items:
+                box.addItem(it, it)
+            box.setAccessibleName(name)
+            ll.addWidget(box)
+        self.queue_view = QTableView()
+        self.queue_view.setObjectName("disputedClips")
+        self.queue_view.setModel(self.queue_model)
+        self.queue_view.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.queue_view.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.queue_view.verticalHeader().setVisible(False)
+        self.queue_view.setWordWrap(False)
+        hh = self.queue_view.horizontalHeader()
+        hh.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        hh.setStretchLastSection(True)
+        ll.addWidget(self.queue_view, 1)
+        self.queue_note = QLabel()
+        self.queue_note.setWordWrap(True)
+        self.queue_note.setObjectName("wordCount")
+        ll.addWidget(self.queue_note)
+
+        centre = QWidget()
+        cl = QVBoxLayout(centre)
+        cl.setContentsMargins(6, 6, 6, 6)
+        cl.setSpacing(4)
+        self.title = QLabel("No clip open")
+        self.title.setObjectName("clipTitle")
+        self.title.setWordWrap(True)
+        cl.addWidget(self.title)
+        self.viewer = FrameView()
+        self.viewer.setMinimumSize(320, 180)
+        cl.addWidget(self.viewer, 3)
+        pl = self.player
+        self.acts = {
+            "back_second": desk_action(self, "Back one second", "Shift+Left", lambda: pl.step_seconds(-1)),
+            "back_frame": desk_action(self, "Back one frame", "Left", lambda: pl.step(-1)),
+            "play": desk_action(self, "Play / pause", "Space", pl.toggle),
+            "fwd_frame": desk_action(self, "Forward one frame", "Right", lambda: pl.step(1)),
+            "fwd_second": desk_action(self, "Forward one second", "Shift+Right", lambda: pl.step_seconds(1)),
+        }
+        for name, short in (("back_second", "−1 s"), ("back_frame", "−1 frame"), ("play", "Play"),
+                            ("fwd_frame", "+1 frame"), ("fwd_second", "+1 s")):
+            self.acts[name].setIconText(short)
+            self.acts[name].setShortcutContext(Qt.ShortcutContext.WidgetShortcut)
+            self.viewer.addAction(self.acts[name])
+        self.transport = TransportBar(pl, list(self.acts.values()))
+        cl.addWidget(self.transport)
+        self.tracks = TrackStack()
+        self.tracks.colours = self.colours
+        cl.addWidget(self.tracks)
+        cl.addWidget(heading("Captions side by side — tick to accept into gold, edit to "
+                             "accept a changed text (A toggles)"))
+        self.caption_view = QTableView()
+        self.caption_view.setObjectName("captionGrid")
+        self.caption_view.setModel(self.caption_model)
+        self.caption_view.setWordWrap(True)
+        self.caption_view.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        self.caption_view.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self.caption_view.setEditTriggers(QAbstractItemView.EditTrigger.DoubleClicked
+                                          | QAbstractItemView.EditTrigger.EditKeyPressed)
+        toggle = desk_action(self.caption_view, "Accept / reject caption", "A",
+                             lambda: self.caption_model.toggle(self.caption_view.currentIndex()),
+                             context=Qt.ShortcutContext.WidgetShortcut)
+        toggle.setObjectName("toggleCaption")
+        cl.addWidget(self.caption_view, 2)
+
+        self.settle = SettlePanel(self.labels, self.segment_model)
+        right = QScrollArea()
+        right.setWidgetResizable(True)
+        right.setWidget(self.settle)
+        right.setMinimumWidth(320)
+
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(left)
+        split.addWidget(centre)
+        split.addWidget(right)
+        split.setStretchFactor(0, 0)
+        split.setStretchFactor(1, 1)
+        split.setStretchFactor(2, 0)
+        split.setSizes([420, 680, 340])
+        lay = QHBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(split)
+
+        self.undo_action = self.editor.undo_stack.createUndoAction(self, "Undo review decision")
+        self.redo_action = self.editor.undo_stack.createRedoAction(self, "Redo review decision")
+        for a, key in ((self.undo_action, QKeySequence.StandardKey.Undo),
+                       (self.redo_action, QKeySequence.StandardKey.Redo)):
+            a.setShortcuts(QKeySequence.keyBindings(key))
+            a.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
+            self.addAction(a)
+        self.acts.update({
+            "next": desk_action(self, "Next disputed clip", "Alt+Down", lambda: self.step(1)),
+            "prev": desk_action(self, "Previous disputed clip", "Alt+Up", lambda: self.step(-1)),
+            "queue": desk_action(self, "Go to disputed clips", "Ctrl+L", self.queue_view.setFocus),
+            "captions": desk_action(self, "Go to captions", "Ctrl+E", self.caption_view.setFocus),
+            "viewer": desk_action(self, "Go to viewer", "Ctrl+0", self.viewer.setFocus),
+        })
+
+    def _wire(self) -> None:
+        pl = self.player
+        pl.frameShown.connect(self._frame)
+        pl.playheadMoved.connect(self.tracks.set_playhead)
+        pl.failed.connect(self.status)
+        self.tracks.seekRequested.connect(pl.seek)
+        for box in (self.by_label, self.by_person, self.by_group):
+            box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
+        self.queue_view.selectionModel().currentRowChanged.connect(
+            lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
+        s = self.settle
+        s.labelChosen.connect(self.editor.settle_label)
+        s.copyTrack.connect(self.copy_track)
+        s.addSegment.connect(self.add_segment)
+        s.removeSegment.connect(self.segment_model.remove)
+        s.commentSent.connect(self._comment)
+        self.editor.changed.connect(self.refresh)
+        self.editor.notSaved.connect(lambda why: self.status.emit(f"Not saved: {why}"))
+        self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
+
+    # ---- the queue ---------------------------------------------------------------------
+    def reload_queue(self, *, keep: bool = False) -> None:
+        """Re-rank the clips (after gold changes or a filter change)."""
+        p = self.project
+        self.report = p.agreement_report(n_boot=QUEUE_BOOT)
+        rows = p.review_queue(label=self.by_label.currentData(),
+                              annotator=self.by_person.currentData(),
+                              group=self.by_group.currentData(), report=self.report)
+        current = self.cmp.clip.id if self.cmp else None
+        self.queue_model.set_rows(rows)
+        settled = sum(1 for r in rows if r.settled)
+        self.queue_note.setText(f"{len(rows)} clip(s), {settled} settled. Ranked by label split, "
+                                "then segment F1, then caption BLEU (worst first).")
+        target = current if keep and current in self.queue_model.clips() else (
+            rows[0].clip if rows else None)
+        if target is not None:
+            self.open_clip(target)
+
+    def step(self, delta: int) -> None:
+        if self.cmp is None or not self.queue_model.rowCount():
+            return
+        i = self.queue_model.row_of(self.cmp.clip.id)
+        j = 0 if i is None else min(max(0, i + delta), self.queue_model.rowCount() - 1)
+        self.open_clip(self.queue_model.row(j).clip)
+
+    # ---- one clip ----------------------------------------------------------------------
+    @Slot(int)
+    def open_clip(self, clip_id: int) -> None:
+        if self.cmp is not None and self.cmp.clip.id == clip_id:
+            return
+        self.editor.clip = clip_id
+        self.editor.undo_stack.clear()  # undo works within one clip at a time
+        self.refresh()
+        info = self.cmp.clip
+        self.viewer.clear("Loading…")
+        self.player.open(self.project.media_path(info.id), info.frame_count, info.fps, 0)
+        row = self.queue_model.row_of(clip_id)
+        if row is not None:
+            self.queue_view.selectionModel().setCurrentIndex(
+                self.queue_model.index(row, 0),
+                QItemSelectionModel.SelectionFlag.ClearAndSelect
+                | QItemSelectionModel.SelectionFlag.Rows)
+
+    @Slot()
+    def refresh(self) -> None:
+        """Re-read the clip under review (after every decision, undo and redo)."""
+        if self.editor.clip is None:
+            return
+        cmp = self.cmp = self.project.clip_comparison(self.editor.clip, report=self.report)
+        c = cmp.clip
+        sc = cmp.scores
+        nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
+            ("label split", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
+            ("caption BLEU", "caption_bleu", "{:.1f}")))
+        self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "
+                           f"frames at {c.fps:g} fps — {nums}")
+        tracks = [(a, [(g.label, g.start, g.end) for g in cmp.segments.get(a, [])])
+                  for a in cmp.annotators]
+        self.tracks.set_tracks(tracks + [(GOLD, cmp.gold_segments)], c.frame_count)
+        bleu, flags = {}, {}
+        if self.report is not None and self.report.captions is not None:
+            ids = {(x.annotator, x.text): x.id for v in cmp.captions.values() for x in v}
+            for s in self.report.captions.bleu.captions:
+                if str(s.clip) == str(c.id) and (s.annotator, s.text) in ids:
+                    cid = ids[(s.annotator, s.text)]
+                    bleu[cid] = s.bleu
+                    if s.flagged:
+                        flags[cid] = s.reason
+        self.caption_model.load(cmp, bleu=bleu, flags=flags)
+        self.segment_model.load(cmp.gold_segments, self.labels)
+        self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments)
+        row = self.queue_model.row_of(c.id)
+        if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
+            self.reload_queue(keep=True)
+
+    def copy_track(self, annotator: str) -> None:
+        if self.cmp is None:
+            return
+        segs = [(g.label, g.start, g.end) for g in self.cmp.segments.get(annotator, [])]
+        self.editor.settle_segments(segs, f"Copy {annotator}'s segments to gold")
+
+    def add_segment(self) -> None:
+        if self.cmp is None:
+            return
+        c = self.cmp.clip
+        start = min(self.player.frame, c.frame_count - 1)
+        end = min(c.frame_count, start + max(1, round(c.fps)))
+        label = self.cmp.gold_label or self.settle.any_label.currentText()
+        self.segment_model.add((label, start, end))
+
+    def _comment(self, text: str, to) -> None:
+        if self.editor.comment(text, to) is not None:
+            self.settle.comment_sent()
+
+    @Slot(int, QImage)
+    def _frame(self, frame: int, image: QImage) -> None:
+        self.viewer.show_frame(frame, image)
+        self.frameReady.emit()
+
+    def close_media(self) -> None:
+        self.player.close()
+
+
+def _fmt(v, f: str) -> str:
+    return "–" if v is None or (isinstance(v, float) and math.isnan(v)) else f.format(v)

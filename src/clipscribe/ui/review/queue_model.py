@@ -1,0 +1,86 @@
+"""The disputed-clip queue as a table model over :class:`DisputedClip` rows from the project."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+
+from ...project_parts.review import DisputedClip
+
+ClipIdRole = Qt.ItemDataRole.UserRole + 1
+SortRole = Qt.ItemDataRole.UserRole + 2
+Index = QModelIndex | QPersistentModelIndex
+
+COLUMNS = ("#", "Clip", "Label split", "Segment F1", "Caption BLEU", "Gold", "Labels")
+TIPS = {
+    "Label split": "1 − share of the most common label among the annotators (0: all agree)",
+    "Segment F1": "mean F1 over annotator pairs of one-to-one segment matches at IoU 0.5",
+    "Caption BLEU": "mean leave-one-out sentence BLEU of the clip's captions (0–100)",
+    "Gold": "the label the lead settled, if any",
+}
+
+
+def _num(v: float, fmt: str) -> str:
+    return "–" if v is None or math.isnan(v) else fmt.format(v)
+
+
+class DisputedClipsModel(QAbstractTableModel):
+    """Read-only rows, most disputed first; ``set_rows`` replaces them all."""
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self._rows: list[DisputedClip] = []
+
+    def set_rows(self, rows: list[DisputedClip]) -> None:
+        self.beginResetModel()
+        self._rows = list(rows)
+        self.endResetModel()
+
+    def row(self, i: int) -> DisputedClip:
+        return self._rows[i]
+
+    def row_of(self, clip: int) -> int | None:
+        return next((i for i, r in enumerate(self._rows) if r.clip == clip), None)
+
+    def clips(self) -> list[int]:
+        return [r.clip for r in self._rows]
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
+        return 0 if parent.isValid() else len(COLUMNS)
+
+    def headerData(self, section: int, orientation, role: int = Qt.ItemDataRole.DisplayRole):  # noqa: N802
+        if orientation != Qt.Orientation.Horizontal or not 0 <= section < len(COLUMNS):
+            return None
+        if role == Qt.ItemDataRole.DisplayRole:
+            return COLUMNS[section]
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return TIPS.get(COLUMNS[section])
+        return None
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid() or not 0 <= index.row() < len(self._rows):
+            return None
+        r, col = self._rows[index.row()], COLUMNS[index.column()]
+        if role == ClipIdRole:
+            return r.clip
+        if role == Qt.ItemDataRole.DisplayRole:
+            return {
+                "#": str(r.rank), "Clip": f"{r.clip}  {r.path}",
+                "Labels": ", ".join(sorted(set(r.labels.values()))) or "–",
+                "Label split": _num(r.label_disagreement, "{:.2f}"),
+                "Segment F1": _num(r.segment_f1, "{:.2f}"),
+                "Caption BLEU": _num(r.caption_bleu, "{:.1f}"),
+                "Gold": r.gold_label or "",
+            }[col]
+        if role == Qt.ItemDataRole.ToolTipRole:
+            who = "\n".join(f"{a}: {lab}" for a, lab in sorted(r.labels.items()))
+            return f"clip {r.clip} ({r.group or 'no group'})\n{who or 'no labels'}"
+        if role == Qt.ItemDataRole.TextAlignmentRole and col in ("#", "Label split",
+                                                                 "Segment F1", "Caption BLEU"):
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None

@@ -1,0 +1,133 @@
+"""The Settle panel: gold label (one click on an annotator's label, or any label), gold segments
+(copy an annotator's track, or edit the table) and a comment to the annotators."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView, QComboBox, QGridLayout, QHBoxLayout, QHeaderView, QLabel, QPlainTextEdit,
+    QPushButton, QTableView, QVBoxLayout, QWidget,
+)
+
+from .gold_segments import GoldSegmentModel
+
+
+def heading(text: str) -> QLabel:
+    lab = QLabel(text)
+    lab.setObjectName("heading")
+    return lab
+
+
+class SettlePanel(QWidget):
+    labelChosen = Signal(object)        # label name, or None to unsettle
+    copyTrack = Signal(str)             # annotator whose segments become gold
+    addSegment = Signal()
+    removeSegment = Signal(int)         # row of the gold segment table
+    commentSent = Signal(str, object)   # text, addressee or None
+
+    def __init__(self, labels: list[str], segments: GoldSegmentModel, parent=None) -> None:
+        super().__init__(parent)
+        self.setObjectName("settlePanel")
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(8, 4, 8, 8)
+        lay.addWidget(heading("Gold label"))
+        self.gold_now = QLabel()
+        self.gold_now.setObjectName("goldNow")
+        lay.addWidget(self.gold_now)
+        self.votes = QGridLayout()
+        lay.addLayout(self.votes)
+        row = QHBoxLayout()
+        self.any_label = QComboBox()
+        self.any_label.addItems(labels)
+        self.any_label.setAccessibleName("Any label")
+        settle = QPushButton("Settle")
+        settle.setToolTip("Settle the label chosen in the list")
+        settle.clicked.connect(lambda: self.labelChosen.emit(self.any_label.currentText()))
+        clear = QPushButton("Unsettle")
+        clear.clicked.connect(lambda: self.labelChosen.emit(None))
+        row.addWidget(self.any_label, 1)
+        row.addWidget(settle)
+        row.addWidget(clear)
+        lay.addLayout(row)
+
+        lay.addWidget(heading("Gold segments"))
+        row = QHBoxLayout()
+        self.track_of = QComboBox()
+        self.track_of.setAccessibleName("Annotator whose segments to copy")
+        copy = QPushButton("Copy to gold")
+        copy.setToolTip("Replace the gold segments with this annotator's track")
+        copy.clicked.connect(lambda: self.track_of.currentText() and
+                             self.copyTrack.emit(self.track_of.currentText()))
+        row.addWidget(self.track_of, 1)
+        row.addWidget(copy)
+        lay.addLayout(row)
+        self.table = QTableView()
+        self.table.setObjectName("goldSegments")
+        self.table.setModel(segments)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        self.table.verticalHeader().setVisible(False)
+        self.table.setMinimumHeight(96)
+        lay.addWidget(self.table, 1)
+        row = QHBoxLayout()
+        add = QPushButton("Add at playhead")
+        add.clicked.connect(self.addSegment)
+        rem = QPushButton("Remove")
+        rem.clicked.connect(lambda: self.table.currentIndex().isValid() and
+                            self.removeSegment.emit(self.table.currentIndex().row()))
+        row.addWidget(add)
+        row.addWidget(rem)
+        row.addStretch(1)
+        lay.addLayout(row)
+
+        lay.addWidget(heading("Comment for the annotators"))
+        self.to = QComboBox()
+        self.to.setAccessibleName("Comment addressed to")
+        lay.addWidget(self.to)
+        self.text = QPlainTextEdit()
+        self.text.setPlaceholderText("What should they do differently? (Ctrl+Return sends)")
+        self.text.setFixedHeight(64)
+        lay.addWidget(self.text)
+        send = QPushButton("Send comment")
+        send.setShortcut("Ctrl+Return")
+        send.clicked.connect(self._send)
+        lay.addWidget(send)
+        self.history = QLabel()
+        self.history.setObjectName("commentHistory")
+        self.history.setWordWrap(True)
+        self.history.setTextFormat(Qt.TextFormat.PlainText)
+        lay.addWidget(self.history)
+        self._vote_buttons: list[QPushButton] = []
+
+    def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
+                  comments: list) -> None:
+        self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
+        for b in self._vote_buttons:
+            b.deleteLater()
+        self._vote_buttons = []
+        for i, name in enumerate(annotators):
+            lab = labels.get(name)
+            b = QPushButton(f"&{i + 1}  {name}: {lab or '—'}" if i < 9 else f"{name}: {lab or '—'}")
+            b.setToolTip(f"Settle “{lab}” (Alt+{i + 1})" if lab else f"{name} gave no label")
+            b.setEnabled(lab is not None)
+            b.setCheckable(True)
+            b.setChecked(lab is not None and lab == gold)
+            b.clicked.connect(lambda _=False, l=lab: self.labelChosen.emit(l))
+            self.votes.addWidget(b, i, 0)
+            self._vote_buttons.append(b)
+        self.track_of.clear()
+        self.track_of.addItems(annotators)
+        self.to.clear()
+        self.to.addItem("To everyone on this clip", None)
+        for name in annotators:
+            self.to.addItem(f"To {name}", name)
+        self.history.setText("\n".join(f"{lead} → {to or 'everyone'}: {text}"
+                                       for _, to, lead, text in comments[-4:]))
+
+    def _send(self) -> None:
+        text = self.text.toPlainText().strip()
+        if text:
+            self.commentSent.emit(text, self.to.currentData())
+
+    def comment_sent(self) -> None:
+        self.text.clear()

@@ -1,0 +1,105 @@
+"""Stacked tracks: every annotator's segments on one timeline, one row each, with the gold
+track at the bottom and one playhead across all rows. Click a segment to jump to its start,
+click empty track to move the playhead. The widget only shows and emits."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QPointF, QRectF, QSize, Qt, Signal, Slot
+from PySide6.QtGui import QColor, QPainter, QPen
+from PySide6.QtWidgets import QSizePolicy, QWidget
+
+from .. import theme
+
+ROW_H = 24
+GAP = 4
+NAME_W = 112
+GOLD = "gold"
+
+
+class TrackStack(QWidget):
+    seekRequested = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("trackStack")
+        self.setAccessibleName("Segments of every annotator")
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        self.colours: dict[str, str] = {}
+        self.tracks: list[tuple[str, list[tuple[str, int, int]]]] = []
+        self.frame_count = 1
+        self.playhead = 0
+
+    def set_tracks(self, tracks: list[tuple[str, list[tuple[str, int, int]]]],
+                   frame_count: int) -> None:
+        """``tracks``: (name, [(label, start, end)]) in display order; gold last."""
+        self.tracks, self.frame_count = list(tracks), max(1, frame_count)
+        self.setFixedHeight(self.sizeHint().height())
+        self.update()
+
+    def sizeHint(self) -> QSize:  # noqa: N802
+        return QSize(700, max(1, len(self.tracks)) * (ROW_H + GAP) + 22)
+
+    @Slot(int)
+    def set_playhead(self, frame: int) -> None:
+        self.playhead = frame
+        self.update()
+
+    def x_of(self, frame: float) -> float:
+        return NAME_W + frame * (self.width() - NAME_W - 6) / self.frame_count
+
+    def frame_at(self, x: float) -> int:
+        w = max(1, self.width() - NAME_W - 6)
+        return int(min(self.frame_count - 1, max(0, (x - NAME_W) * self.frame_count / w)))
+
+    def paintEvent(self, event) -> None:  # noqa: N802
+        p = QPainter(self)
+        p.fillRect(self.rect(), QColor(theme.VIEWER_BG))
+        for i, (name, segs) in enumerate(self.tracks):
+            y = i * (ROW_H + GAP) + 2
+            gold = name == GOLD
+            p.setPen(QColor(theme.PLAYHEAD if gold else theme.MUTED_TEXT))
+            p.drawText(QRectF(6, y, NAME_W - 10, ROW_H), Qt.AlignmentFlag.AlignVCenter,
+                       "Gold" if gold else name)
+            lane = QRectF(NAME_W, y, self.width() - NAME_W - 6, ROW_H)
+            p.fillRect(lane, QColor(theme.TRACK_BG))
+            if gold:
+                p.setPen(QPen(QColor(theme.PLAYHEAD), 1, Qt.PenStyle.DashLine))
+                p.drawRect(lane.adjusted(0, 0, -1, -1))
+            for label, start, end in segs:
+                r = QRectF(self.x_of(start), y + 2, max(2.0, self.x_of(end) - self.x_of(start)),
+                           ROW_H - 4)
+                colour = QColor(self.colours.get(label, "#888888"))
+                p.fillRect(r, colour)
+                p.setPen(QColor(theme.text_colour_on(colour.name())))
+                p.drawText(r.adjusted(4, 0, -2, 0), Qt.AlignmentFlag.AlignVCenter,
+                           f"{label} {start}–{end - 1}")
+            if not segs:
+                p.setPen(QColor(theme.MUTED_TEXT))
+                p.drawText(lane.adjusted(6, 0, 0, 0), Qt.AlignmentFlag.AlignVCenter,
+                           "no gold segments yet" if gold else "no segments")
+        bottom = len(self.tracks) * (ROW_H + GAP)
+        p.setPen(QColor(theme.TRACK_GRID))
+        step = max(1, self.frame_count // 12)
+        for f in range(0, self.frame_count + 1, step):
+            x = self.x_of(f)
+            p.drawLine(QPointF(x, bottom), QPointF(x, bottom + 4))
+            p.setPen(QColor(theme.MUTED_TEXT))
+            p.drawText(QRectF(x - 20, bottom + 4, 40, 14), Qt.AlignmentFlag.AlignCenter, str(f))
+            p.setPen(QColor(theme.TRACK_GRID))
+        x = self.x_of(self.playhead + 0.5)
+        p.setPen(QPen(QColor(theme.PLAYHEAD), 2))
+        p.drawLine(QPointF(x, 0), QPointF(x, bottom))
+
+    def mousePressEvent(self, event) -> None:  # noqa: N802
+        if event.button() != Qt.MouseButton.LeftButton:
+            return
+        x, y = event.position().x(), event.position().y()
+        row = int(y // (ROW_H + GAP))
+        if x < NAME_W:
+            return
+        if 0 <= row < len(self.tracks):
+            for _, start, end in self.tracks[row][1]:
+                if self.x_of(start) <= x < self.x_of(end):
+                    self.seekRequested.emit(start)
+                    return
+        self.seekRequested.emit(self.frame_at(x))
