@@ -33,10 +33,16 @@ def make_action(parent, text: str, keys, slot: Callable | None, group: str, *,
     return a
 
 
+def _open_export(w) -> None:
+    from .export_dialog import open_export_dialog  # loaded on first use
+    open_export_dialog(w)
+
+
 def build_actions(w) -> dict[str, QAction]:
     """The window's commands; ``w`` is the MainWindow providing the slots."""
     A = lambda *args, **kw: make_action(w, *args, **kw)  # noqa: E731
     pl = w.player
+    lead = w.project.role(w.project.user) == "lead"
     acts = {
         # clip
         "submit": A("Submit clip", "Ctrl+Return", w.submit_clip, "Clip",
@@ -87,8 +93,12 @@ def build_actions(w) -> dict[str, QAction]:
         "review_view": A("Review view", "Ctrl+2", lambda: w.show_view("review"), "View", checkable=True),
         "shortcuts": A("Keyboard shortcuts", Key.HelpContents, w.show_shortcuts, "Help"),
         "cautions": A("Working with video of people", None, w.show_cautions, "Help"),
+        "export": A("Export dataset…", "Ctrl+Shift+E", lambda: _open_export(w), "File",
+                    tip="Check train/val/test splits for leakage, then write the dataset"
+                    if lead else "Only a lead can export a dataset"),
         "quit": A("Quit", Key.Quit, w.close, "File"),
     }
+    acts["export"].setEnabled(lead)
     for name, short in (("back_second", "−1 s"), ("back_frame", "−1 frame"), ("play", "Play"),
                         ("fwd_frame", "+1 frame"), ("fwd_second", "+1 s"), ("loop", "Loop")):
         acts[name].setIconText(short)

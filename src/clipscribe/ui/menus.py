@@ -9,6 +9,8 @@ def build_menus(w) -> None:
     a = w.actions_
     bar = w.menuBar()
     m = bar.addMenu("&File")
+    m.addAction(a["export"])
+    m.addSeparator()
     m.addAction(a["quit"])
     m = bar.addMenu("&Edit")
     for k in ("undo", "redo", None, "captions", "queue", "viewer"):

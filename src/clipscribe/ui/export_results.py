@@ -1,0 +1,88 @@
+"""The results of an export check: a one-line summary and three tables (label x split counts,
+clips left out, leakage findings) over the read-only models of :mod:`.leakage_model`."""
+
+from __future__ import annotations
+
+from PySide6.QtWidgets import (
+    QAbstractItemView, QHeaderView, QLabel, QTableView, QTabWidget, QVBoxLayout, QWidget,
+)
+
+from .leakage_model import LeakageModel, RowsModel, split_label_rows
+
+
+class CheckResults(QWidget):
+    """Shows an :class:`clipscribe.export.ExportPlan` (or nothing, before a check)."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        self.summary = QLabel("Not checked yet.")
+        self.summary.setObjectName("exportSummary")
+        self.summary.setWordWrap(True)
+        lay.addWidget(self.summary)
+        self.split_model = RowsModel(["Label", "train", "val", "test", "Total"], self,
+                                     total_row=True)
+        self.left_model = RowsModel(["Clip", "Annotators", "Why it is left out"], self)
+        self.leak_model = LeakageModel(self)
+        self.tabs = QTabWidget()
+        self.split_view = self._table(self.split_model, "splitTable", stretch=0)
+        self.left_view = self._table(self.left_model, "leftOutTable", stretch=2)
+        self.leak_view = self._table(self.leak_model, "leakageTable", stretch=2)
+        self.leak_view.setWordWrap(True)
+        self.tabs.addTab(self.split_view, "Splits")
+        self.tabs.addTab(self.left_view, "Left out")
+        self.tabs.addTab(self.leak_view, "Leakage")
+        lay.addWidget(self.tabs, 1)
+
+    @staticmethod
+    def _table(model, name: str, *, stretch: int) -> QTableView:
+        v = QTableView()
+        v.setObjectName(name)
+        v.setModel(model)
+        v.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        v.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        v.setTabKeyNavigation(False)  # Tab leaves the table, arrows move inside it
+        v.verticalHeader().hide()
+        h = v.horizontalHeader()
+        h.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        h.setMinimumSectionSize(72)
+        if stretch:
+            h.setSectionResizeMode(stretch, QHeaderView.ResizeMode.Stretch)
+        return v
+
+    def show_plan(self, plan) -> None:
+        """Fill the summary and the tables from ``plan``; ``None`` empties them."""
+        if plan is None:
+            self.summary.setText("Not checked yet.")
+            self.split_model.set_rows([])
+            self.left_model.set_rows([])
+            self.leak_model.set_findings([])
+            for i, text in enumerate(("Splits", "Left out", "Leakage")):
+                self.tabs.setTabText(i, text)
+            return
+        counts: dict[str, int] = {s: 0 for s in plan.split.ratios}
+        for s in plan.assignment.values():
+            counts[s] = counts.get(s, 0) + 1
+        sources: dict[str, int] = {}
+        for d in plan.decisions.values():
+            sources[d.source or "none"] = sources.get(d.source or "none", 0) + 1
+        rep = plan.leakage
+        self.summary.setText(
+            f"{len(plan.assignment)} clips exported: "
+            + ", ".join(f"{s} {n}" for s, n in counts.items())
+            + " · labels: " + ", ".join(f"{n} {s}" for s, n in sorted(sources.items()))
+            + f" · {len(plan.left_out)} left out · leakage: {len(rep.blocking)} blocking, "
+            f"{len(rep.warnings)} warning(s)"
+            + "".join(f" · {s} has no clips" for s, n in counts.items() if n == 0))
+        headers, rows = split_label_rows(plan.assignment,
+                                         {c: d.label for c, d in plan.decisions.items()},
+                                         list(plan.split.ratios))
+        self.split_model.set_rows(rows, headers)
+        self.left_model.set_rows([(d.clip_id, d.annotators, d.reason or "") for d in plan.left_out])
+        self.leak_model.set_findings(rep.findings)
+        self.tabs.setTabText(1, f"Left out ({len(plan.left_out)})")
+        self.tabs.setTabText(2, f"Leakage ({len(rep.blocking)} blocking, "
+                                f"{len(rep.warnings)} warning{'s' if len(rep.warnings) != 1 else ''})")
+        self.leak_view.resizeRowsToContents()
+
