@@ -223,6 +223,11 @@ class ExportDialog(QDialog):
                 self.keep_splits.isChecked())
 
     @property
+    def busy(self) -> bool:
+        """A check or a write is running."""
+        return self._job is not None
+
+    @property
     def checked_current(self) -> bool:
         """A check exists and was made with the settings now on screen."""
         return self.plan is not None and self._plan_key == self._key()
