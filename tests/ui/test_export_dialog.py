@@ -184,6 +184,19 @@ def test_cancel_stops_a_running_write(qtbot, lead, tmp_path, monkeypatch):
     assert not (tmp_path / "out").exists()
 
 
+def test_keyboard_mnemonics_are_unique_and_every_control_has_a_tooltip(qtbot, lead, tmp_path):
+    from PySide6.QtWidgets import QAbstractButton, QLabel, QWidget
+    dlg = make_dialog(qtbot, lead, tmp_path / "out")
+    texts = [w.text() for w in dlg.findChildren(QAbstractButton) + dlg.findChildren(QLabel)]
+    keys = [t[t.index("&") + 1].lower() for t in texts if "&" in t and not t.endswith("&")]
+    assert len(keys) >= 15 and len(keys) == len(set(keys)), sorted(keys)
+    for w in (*dlg.ratio_spins.values(), dlg.seed, dlg.min_agreement, dlg.radius, dlg.folder,
+              dlg.browse, dlg.media, dlg.webvtt, dlg.overwrite, dlg.check_btn, dlg.cancel_btn,
+              dlg.write_btn, dlg.override, dlg.reason, dlg.keep_splits):
+        assert isinstance(w, QWidget) and w.toolTip(), w
+        assert w.focusPolicy() & Qt.FocusPolicy.TabFocus, w
+
+
 def test_leads_only(qtbot, sample, open_window):
     w, p = open_window(sample, "annotator-1")
     act = w.actions_["export"]
@@ -224,6 +237,7 @@ def test_leakage_model_passes_the_model_tester(qtbot):
     assert m.index(0, 3).data().endswith("(+4)")  # long clip lists are shortened in the cell
     assert "11" in m.index(0, 3).data(Qt.ItemDataRole.ToolTipRole)
     assert m.index(1, 0).data(Qt.ItemDataRole.BackgroundRole) is None
+    assert m.index(1, 3).data() == "2, 11"  # clip ids in reading order
     m.set_findings([])
     assert m.rowCount() == 0
 

@@ -10,6 +10,10 @@ from PySide6.QtWidgets import (
 from .leakage_model import LeakageModel, RowsModel, split_label_rows
 
 
+def _warnings(n: int) -> str:
+    return f"{n} warning" + ("" if n == 1 else "s")
+
+
 class CheckResults(QWidget):
     """Shows an :class:`clipscribe.export.ExportPlan` (or nothing, before a check)."""
 
@@ -69,11 +73,11 @@ class CheckResults(QWidget):
             sources[d.source or "none"] = sources.get(d.source or "none", 0) + 1
         rep = plan.leakage
         self.summary.setText(
-            f"{len(plan.assignment)} clips exported: "
+            f"{len(plan.assignment)} clips to export: "
             + ", ".join(f"{s} {n}" for s, n in counts.items())
             + " · labels: " + ", ".join(f"{n} {s}" for s, n in sorted(sources.items()))
             + f" · {len(plan.left_out)} left out · leakage: {len(rep.blocking)} blocking, "
-            f"{len(rep.warnings)} warning(s)"
+            f"{_warnings(len(rep.warnings))}"
             + "".join(f" · {s} has no clips" for s, n in counts.items() if n == 0))
         headers, rows = split_label_rows(plan.assignment,
                                          {c: d.label for c, d in plan.decisions.items()},
@@ -83,6 +87,6 @@ class CheckResults(QWidget):
         self.leak_model.set_findings(rep.findings)
         self.tabs.setTabText(1, f"Left out ({len(plan.left_out)})")
         self.tabs.setTabText(2, f"Leakage ({len(rep.blocking)} blocking, "
-                                f"{len(rep.warnings)} warning{'s' if len(rep.warnings) != 1 else ''})")
+                                f"{_warnings(len(rep.warnings))})")
         self.leak_view.resizeRowsToContents()
 

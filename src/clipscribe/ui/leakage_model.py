@@ -43,6 +43,11 @@ def _mark_icon(colour: str, blocking: bool) -> QIcon:
     return QIcon(pm)
 
 
+def _natural(ids) -> list[str]:
+    """Clip ids in reading order: 2 before 11 (numeric ids are strings here)."""
+    return sorted(ids, key=lambda c: (len(c), c) if c.isdigit() else (1 << 30, c))
+
+
 class RowsModel(QAbstractTableModel):
     """Rows of plain values under ``headers``; replace them all with :meth:`set_rows`."""
 
@@ -134,12 +139,13 @@ class LeakageModel(QAbstractTableModel):
                 return f.kind
             if col == 2:
                 return f.message
-            shown = ", ".join(f.clips[:CLIPS_SHOWN])
+            clips = _natural(f.clips)
+            shown = ", ".join(clips[:CLIPS_SHOWN])
             return shown + (f" … (+{len(f.clips) - CLIPS_SHOWN})" if len(f.clips) > CLIPS_SHOWN else "")
         if role == Qt.ItemDataRole.ToolTipRole:
             stop = ("Blocking: the export is refused unless you write anyway and give a reason."
                     if blocking else "Warning: recorded in the manifest; does not stop the export.")
-            return f"{stop}\n{f.message}\nClips: {', '.join(f.clips)}"
+            return f"{stop}\n{f.message}\nClips: {', '.join(_natural(f.clips))}"
         if role == Qt.ItemDataRole.DecorationRole and col == 0:
             return self._icons.get(f.severity)
         if role == Qt.ItemDataRole.BackgroundRole and blocking:
