@@ -114,7 +114,7 @@ def confusion_figure(data: dict, pair: int = 0) -> Figure:
     tips = [[_tip(f"{p['annotator_a']} said “{labels[i]}”, {p['annotator_b']} said "
                   f"“{labels[j]}”: {m[i][j]} clip(s)", p["recipe"]) for j in range(len(labels))]
             for i in range(len(labels))]
-    return heat_map(f"Confusion: {p['annotator_a']} (rows) vs {p['annotator_b']} (columns)",
+    return heat_map(f"Confusion: {p['annotator_a']} ↓ × {p['annotator_b']} →",
                     labels, labels, [[c / peak for c in r] for r in m], colour=C.sequential,
                     cell_text=str, tips=tips,
                     legend=("clips, share of the largest cell", 0.0, 1.0, "sequential"),
@@ -144,7 +144,7 @@ def throughput_figure(data: dict) -> Figure:
 
 
 def trend_figure(data: dict) -> Figure:
-    pts = [(f"clips {t['clips'][0]}…" if t["clips"] else str(t["window"]), t["alpha"], _tip(
+    pts = [(f"#{t['window']} ({len(t['clips'])} clips)", t["alpha"], _tip(
         f"window {t['window']}: clips {', '.join(map(str, t['clips']))}, alpha {_v(t['alpha'])}"
         f"\nlabels set {t['first'][:16]} – {t['last'][:16]}", t["recipe"]))
            for t in data["trend"]]

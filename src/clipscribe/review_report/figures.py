@@ -131,7 +131,7 @@ def _legend(fig: Figure, x: float, y: float, w: float, caption: str, lo: float, 
 def interval_chart(title: str, rows: Sequence[tuple[str, float | None, float | None,
                                                     float | None, str]], *,
                    bands: Sequence[tuple[float, str]] = (), lo: float = -0.2,
-                   hi: float = 1.0, width: float = 560) -> Figure:
+                   hi: float = 1.0, width: float = 520) -> Figure:
     """Dots with 95 % interval whiskers on a [lo, hi] axis; ``rows`` are (name, value, low,
     high, tip). ``bands`` (upper bound, name) shade verbal bands behind the axis."""
     left = max([text_width(r[0]) for r in rows] + [60]) + 14
@@ -196,7 +196,7 @@ def bar_chart(title: str, rows: Sequence[tuple[str, float | None, str]], *, unit
 
 
 def line_chart(title: str, points: Sequence[tuple[str, float | None, str]], *,
-               lo: float = -0.2, hi: float = 1.0, width: float = 560,
+               lo: float = -0.2, hi: float = 1.0, width: float = 520,
                height: float = 220) -> Figure:
     """One series over ordered windows; points are (x label, value, tip)."""
     left, top, right, bottom = 44.0, 44.0, 20.0, 40.0

@@ -17,9 +17,9 @@ from ...review_report.board import board_data, board_figures, confusion_figure
 from ..workers import Job, JobRunner
 from .paint import FigureView
 
-LAYOUT = (("label_alpha", 0, 0, 1), ("pairwise", 0, 1, 1), ("confusion", 0, 2, 1),
-          ("trend", 1, 0, 1), ("caption_bleu", 1, 1, 1), ("throughput", 1, 2, 1),
-          ("caption_cider", 2, 1, 1))
+#: grid cell -> figures stacked in it
+LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",),
+          (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",)}
 
 
 class FocusFigure(FigureView):
@@ -64,41 +64,44 @@ class AgreementBoard(QWidget):
         top.addWidget(self.refresh_button)
         top.addWidget(export)
         lay.addLayout(top)
-        body = QHBoxLayout()
         self.figs: dict[str, FocusFigure] = {}
         inner = QWidget()
         grid = QGridLayout(inner)
         grid.setSpacing(10)
-        for name, r, c, span in LAYOUT:
-            v = FocusFigure()
-            v.setObjectName(f"figure_{name}")
-            v.hovered.connect(self._details)
-            v.focused.connect(self._details)
-            self.figs[name] = v
-            grid.addWidget(v, r, c, span, 1, Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
-        grid.setRowStretch(3, 1)
+        for (r, c), names in LAYOUT.items():
+            cell = QVBoxLayout()
+            cell.setSpacing(10)
+            for name in names:
+                v = FocusFigure()
+                v.setObjectName(f"figure_{name}")
+                v.hovered.connect(self._details)
+                v.focused.connect(self._details)
+                self.figs[name] = v
+                cell.addWidget(v, 0, Qt.AlignmentFlag.AlignLeft)
+            cell.addStretch(1)
+            grid.addLayout(cell, r, c)
+        grid.setRowStretch(2, 1)
         grid.setColumnStretch(3, 1)
         scroll = QScrollArea()
         scroll.setWidget(inner)
         scroll.setWidgetResizable(True)
-        body.addWidget(scroll, 1)
-        side = QVBoxLayout()
-        side.addWidget(QLabel("Details (hover a mark, or Tab to a figure)"))
+        lay.addWidget(scroll, 1)
+        bottom = QHBoxLayout()
         self.details = QPlainTextEdit()
         self.details.setReadOnly(True)
         self.details.setObjectName("boardDetails")
-        self.details.setPlaceholderText("Values and their recipes appear here.")
-        side.addWidget(self.details, 1)
-        legend = QLabel("Colours: orange below chance, pale near 0, blue agreement (−1…1); counts "
-                        "from pale to dark blue. Bands: Landis & Koch (1977), a convention.")
+        self.details.setPlaceholderText("Details: hover a mark, or Tab to a figure, to read its "
+                                        "values and their recipes here.")
+        self.details.setFixedHeight(92)
+        bottom.addWidget(self.details, 1)
+        legend = QLabel("Colours: orange below chance, pale near 0, blue agreement (−1…1); "
+                        "counts from pale to dark blue.\nBands: Landis & Koch (1977), "
+                        "a convention, not a test.")
         legend.setWordWrap(True)
         legend.setObjectName("wordCount")
-        side.addWidget(legend)
-        holder = QWidget()
-        holder.setLayout(side)
-        holder.setFixedWidth(300)
-        body.addWidget(holder)
-        lay.addLayout(body, 1)
+        legend.setFixedWidth(330)
+        bottom.addWidget(legend)
+        lay.addLayout(bottom)
 
     # ---- numbers -----------------------------------------------------------------------
     @Slot()
@@ -145,6 +148,7 @@ class AgreementBoard(QWidget):
         self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha} · "
                              f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
         self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
+        self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
 
     def _pair_changed(self, i: int) -> None:

@@ -1,0 +1,111 @@
+"""Settling on the review desk changes gold, is recorded with who and when, undoes, and is what
+the export policy uses."""
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QLabel
+
+from clipscribe import Project
+from clipscribe.export.inputs import CaptionInput
+from clipscribe.export.policy import decide_captions, decide_label
+from clipscribe.ui.review import ReviewPage
+from clipscribe.ui.review.desk import ReviewDesk
+
+import pytest
+
+
+def wait_frame(qtbot, desk):
+    qtbot.waitUntil(lambda: desk.viewer.frame_number is not None, timeout=5000)
+
+
+def test_desk_opens_on_the_most_disputed_clip(qtbot, window):
+    w, p = window()
+    page = w.review_desk
+    assert isinstance(page, ReviewPage) and w.stack.currentWidget() is page
+    desk = page.desk
+    assert desk.cmp.clip.id == p.most_disputed_clip()
+    wait_frame(qtbot, desk)
+    # one track per annotator plus gold; every annotator's captions side by side
+    assert [t[0] for t in desk.tracks.tracks] == desk.cmp.annotators + ["gold"]
+    assert desk.caption_model.names == desk.cmp.annotators
+    # the work view's shortcuts are off while the desk shows, and come back
+    assert not w.actions_["play"].isEnabled()
+    w.show_view("work")
+    assert w.actions_["play"].isEnabled()
+
+
+def test_label_segments_captions_and_comment_into_gold_with_undo(qtbot, window):
+    w, p = window()
+    desk = w.review_desk.desk
+    clip, lead = desk.cmp.clip.id, p.user
+    before = len(p.history())
+    # one click on annotator-1's label
+    votes = desk.settle._vote_buttons
+    qtbot.mouseClick(votes[0], Qt.MouseButton.LeftButton)
+    chosen = desk.cmp.labels["annotator-1"]
+    assert p.gold_labels()[clip] == chosen
+    e = p.history()[-1]
+    assert (e.who, e.entity, e.after["label_id"] is not None) == (lead, "gold_label", True)
+    assert e.at is not None and len(p.history()) > before
+    # undo and redo through the desk's stack
+    desk.undo_action.trigger()
+    assert clip not in p.gold_labels()
+    desk.redo_action.trigger()
+    assert p.gold_labels()[clip] == chosen
+    # copy annotator-2's track into gold
+    desk.copy_track("annotator-2")
+    want = [(g.label, g.start, g.end) for g in p.segments(clip=clip, annotator="annotator-2")]
+    assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)] == sorted(want, key=lambda g: g[1])
+    # edit a gold segment's end in the table
+    m = desk.segment_model
+    assert m.setData(m.index(0, 2), want[0][2] - 1)
+    assert p.gold_segments(clip)[0][3] == want[0][2] - 1
+    assert not m.setData(m.index(0, 0), "no such label")
+    # accept one caption, accept another with an edit, then reject the first again
+    cm = desk.caption_model
+    first, second = cm.caption_at(0, 0), cm.caption_at(0, 1)
+    assert cm.setData(cm.index(0, 0), Qt.CheckState.Checked.value, Qt.ItemDataRole.CheckStateRole)
+    assert cm.setData(cm.index(0, 1), "The arm sets the red block down.", Qt.ItemDataRole.EditRole)
+    rows = p.gold_caption_rows(clip)
+    assert [(g.text, g.source) for g in rows] == [
+        (first.text, first.id), ("The arm sets the red block down.", second.id)]
+    assert p.captions(clip=clip, annotator=second.annotator)[0][2] == second.text  # untouched
+    assert cm.toggle(cm.index(0, 0))
+    assert p.gold_captions(clip)[clip] == ["The arm sets the red block down."]
+    # a comment for annotator-2
+    desk.settle.text.setPlainText("Stacking on a block is 'stack', not 'put down'.")
+    desk.settle.to.setCurrentIndex(desk.settle.to.findData("annotator-2"))
+    desk.settle._send()
+    assert p.comments(clip)[-1] == (clip, "annotator-2", lead,
+                                    "Stacking on a block is 'stack', not 'put down'.")
+    assert desk.settle.text.toPlainText() == ""
+    # the export policy sees the gold: gold label wins over the annotators' majority
+    labels = [l for c, a, l in p.clip_labels() if c == clip]
+    decision = decide_label(labels, p.gold_labels().get(clip))
+    assert (decision.label, decision.source) == (chosen, "gold")
+    majority = decide_label(labels)
+    assert majority.label != chosen or majority.source == "majority"
+    caps = decide_captions([CaptionInput(t, a) for c, a, t in p.captions(clip=clip)],
+                           p.gold_captions(clip).get(clip))
+    assert caps.source == "gold" and [t for t, _ in caps.captions] == [
+        "The arm sets the red block down."]
+
+
+def test_settling_a_label_the_majority_did_not_pick_wins_in_export(qtbot, window):
+    w, p = window()
+    desk = w.review_desk.desk
+    clip = desk.cmp.clip.id
+    labels = [l for c, a, l in p.clip_labels() if c == clip]
+    minority = min(set(labels), key=labels.count)
+    assert labels.count(minority) < len(labels) / 2
+    desk.editor.settle_label(minority)
+    assert decide_label(labels, p.gold_labels()[clip]).label == minority
+    assert decide_label(labels).label != minority  # without gold the majority would win
+
+
+def test_non_lead_gets_a_message_not_the_desk(qtbot, window, sample):
+    w, p = window(user="annotator-1")
+    page = w.review_desk
+    assert isinstance(page, QLabel) and page.objectName() == "reviewRefused"
+    assert "for leads" in page.text() and "annotator-1" in page.text()
+    with pytest.raises(Exception, match="for leads"):
+        ReviewDesk(p)

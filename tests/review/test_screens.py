@@ -1,0 +1,44 @@
+"""Screenshot mode renders the review desk (and the board helper renders the board)."""
+
+import subprocess
+import sys
+
+from PySide6.QtGui import QImage
+
+
+def _run(code, *args):
+    return subprocess.run([sys.executable, "-c", code, *map(str, args)], capture_output=True,
+                          text=True, timeout=90)
+
+
+def test_open_view_review_screenshot(sample, tmp_path):
+    folder, _ = sample
+    out = tmp_path / "review.png"
+    run = _run("import sys; from clipscribe.cli import main; "
+               "sys.exit(main(['open', sys.argv[1], '--view', 'review', '--screenshot', sys.argv[2]]))",
+               folder, out)
+    assert run.returncode == 0, run.stderr
+    image = QImage(str(out))
+    assert not image.isNull() and image.width() >= 1280 and image.height() >= 800
+
+
+def test_desk_and_board_widgets_draw(qtbot, window):
+    w, p = window()
+    page = w.review_desk
+    desk = page.desk
+    qtbot.waitUntil(lambda: desk.viewer.frame_number is not None, timeout=5000)
+    # the desk's picture is the most disputed clip, with the gold track drawn
+    assert str(desk.cmp.clip.id) in desk.title.text()
+    page.show_board()
+    with qtbot.waitSignal(page.board.loaded, timeout=20000):
+        pass
+    figs = page.board.figs
+    assert all(v.fig.items for v in figs.values())
+    tips = figs["pairwise"].all_tips()
+    assert any("Cohen kappa annotator-1 vs annotator-2" in t and "recipe: kappa|cohen" in t
+               for t in tips)
+    assert "recipe: alpha|krippendorff" in page.board.details.toPlainText()
+    figs["pairwise"].setFocus()  # keyboard path: a focused figure lists its numbers
+    qtbot.waitUntil(lambda: "recipe: kappa|cohen" in page.board.details.toPlainText())
+    grab = page.board.grab()
+    assert grab.width() > 600 and grab.height() > 400
