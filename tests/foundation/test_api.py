@@ -137,3 +137,15 @@ def test_caption_segment_must_belong_to_its_clip(project):
         project.update_caption(cap, segment=other)
     with pytest.raises(RecordError, match="not a segment of clip 1"):
         project.add_caption(1, "ann-a", "Another one.", segment=other)
+
+
+def test_gold_decisions_can_be_undone(project):
+    """Regression: reverting gold captions was refused as 'changed since' on SQLite, because
+    stored times came back without a time zone and no longer matched the history row."""
+    project.set_gold_captions(1, ["The arm pushes the block."], lead="lead")
+    ids = project.last_edit_ids
+    project.revert(ids)
+    assert project.gold_captions(1) == {}
+    project.set_gold_label(1, "push", lead="lead")
+    project.revert(project.last_edit_ids)
+    assert project.gold_labels() == {}

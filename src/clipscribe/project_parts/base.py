@@ -161,7 +161,12 @@ def row_dict(obj: Any) -> dict[str, Any]:
     out: dict[str, Any] = {}
     for attr in inspect(obj).mapper.column_attrs:
         v = getattr(obj, attr.key)
-        out[attr.key] = v.isoformat() if isinstance(v, dt.datetime) else v
+        if isinstance(v, dt.datetime):
+            # times are stored in UTC; SQLite hands them back without a zone, PostgreSQL with
+            # its own zone object: write one form so history rows compare equal
+            v = (v.replace(tzinfo=dt.timezone.utc) if v.tzinfo is None
+                 else v.astimezone(dt.timezone.utc)).isoformat()
+        out[attr.key] = v
     return out
 
 

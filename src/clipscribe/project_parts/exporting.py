@@ -134,6 +134,8 @@ class ExportingMixin:
     def _require_lead(self, what: str) -> None:
         if self.role(self.user) != "lead":
             raise RecordError(f"only a lead may {what}; {self.user!r} is not a lead")
+        if self.is_server:
+            self.require_export_right()  # the server decides by the login, not by self.user
 
 
 def _manifest_assignment(path: Path) -> dict[str, str]:
