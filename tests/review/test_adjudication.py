@@ -109,3 +109,40 @@ def test_non_lead_gets_a_message_not_the_desk(qtbot, window, sample):
     assert "for leads" in page.text() and "annotator-1" in page.text()
     with pytest.raises(Exception, match="for leads"):
         ReviewDesk(p)
+
+
+def test_undo_of_segments_and_captions_and_refusal_after_a_newer_decision(qtbot, window):
+    w, p = window()
+    desk = w.review_desk.desk
+    clip, lead = desk.cmp.clip.id, p.user
+    desk.copy_track("annotator-1")
+    assert p.gold_segments(clip)
+    cm = desk.caption_model
+    cm.toggle(cm.index(0, 0))
+    assert p.gold_captions(clip)
+    desk.undo_action.trigger()               # the caption decision
+    assert p.gold_captions(clip) == {}
+    desk.undo_action.trigger()               # the segment decision
+    assert p.gold_segments(clip) == []
+    desk.redo_action.trigger()
+    assert len(p.gold_segments(clip)) == len(p.segments(clip=clip, annotator="annotator-1"))
+    # a newer decision made elsewhere (a script, another lead): undo must not overwrite it
+    desk.editor.settle_label("idle")
+    p.set_gold_label(clip, "push", lead=lead)
+    messages = []
+    desk.editor.notSaved.connect(messages.append)
+    desk.undo_action.trigger()
+    assert p.gold_labels()[clip] == "push" and "changed since" in messages[-1]
+    undo = [e for e in p.history(clip=clip) if e.entity.startswith("gold_")]
+    assert {e.who for e in undo} == {lead}   # every decision, and every undo, names the lead
+
+
+def test_gui_export_runs_in_the_background(qtbot, window, tmp_path):
+    w, _ = window()
+    page = w.review_desk
+    said = []
+    page.desk.status.connect(said.append)
+    page.export(str(tmp_path / "gui-report"))
+    assert said == ["Exporting the agreement report…"]  # returns at once; the job works on
+    qtbot.waitUntil(lambda: any("Report written" in s for s in said), timeout=30000)
+    assert said[0].startswith("Exporting") and (tmp_path / "gui-report" / "report.html").exists()

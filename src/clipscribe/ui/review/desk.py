@@ -230,7 +230,10 @@ class ReviewDesk(QWidget):
         self.refresh()
         info = self.cmp.clip
         self.viewer.clear("Loading…")
-        self.player.open(self.project.media_path(info.id), info.frame_count, info.fps, 0)
+        starts = [g.start for segs in self.cmp.segments.values() for g in segs]
+        # open on the first marked action: that is where the annotators part ways
+        self.player.open(self.project.media_path(info.id), info.frame_count, info.fps,
+                         min(starts, default=0))
         row = self.queue_model.row_of(clip_id)
         if row is not None:
             self.queue_view.selectionModel().setCurrentIndex(

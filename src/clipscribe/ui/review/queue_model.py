@@ -13,11 +13,11 @@ ClipIdRole = Qt.ItemDataRole.UserRole + 1
 SortRole = Qt.ItemDataRole.UserRole + 2
 Index = QModelIndex | QPersistentModelIndex
 
-COLUMNS = ("#", "Clip", "Label split", "Segment F1", "Caption BLEU", "Gold", "Labels")
+COLUMNS = ("#", "Clip", "Split", "Seg F1", "BLEU", "Gold", "Labels")
 TIPS = {
-    "Label split": "1 − share of the most common label among the annotators (0: all agree)",
-    "Segment F1": "mean F1 over annotator pairs of one-to-one segment matches at IoU 0.5",
-    "Caption BLEU": "mean leave-one-out sentence BLEU of the clip's captions (0–100)",
+    "Split": "label split: 1 − share of the most common label among the annotators (0: all agree)",
+    "Seg F1": "mean F1 over annotator pairs of one-to-one segment matches at IoU 0.5",
+    "BLEU": "mean leave-one-out sentence BLEU of the clip's captions (0–100)",
     "Gold": "the label the lead settled, if any",
 }
 
@@ -70,17 +70,17 @@ class DisputedClipsModel(QAbstractTableModel):
             return r.clip
         if role == Qt.ItemDataRole.DisplayRole:
             return {
-                "#": str(r.rank), "Clip": f"{r.clip}  {r.path}",
+                "#": str(r.rank), "Clip": r.path,
                 "Labels": ", ".join(sorted(set(r.labels.values()))) or "–",
-                "Label split": _num(r.label_disagreement, "{:.2f}"),
-                "Segment F1": _num(r.segment_f1, "{:.2f}"),
-                "Caption BLEU": _num(r.caption_bleu, "{:.1f}"),
+                "Split": _num(r.label_disagreement, "{:.2f}"),
+                "Seg F1": _num(r.segment_f1, "{:.2f}"),
+                "BLEU": _num(r.caption_bleu, "{:.1f}"),
                 "Gold": r.gold_label or "",
             }[col]
         if role == Qt.ItemDataRole.ToolTipRole:
             who = "\n".join(f"{a}: {lab}" for a, lab in sorted(r.labels.items()))
             return f"clip {r.clip} ({r.group or 'no group'})\n{who or 'no labels'}"
-        if role == Qt.ItemDataRole.TextAlignmentRole and col in ("#", "Label split",
-                                                                 "Segment F1", "Caption BLEU"):
+        if role == Qt.ItemDataRole.TextAlignmentRole and col in ("#", "Split", "Seg F1",
+                                                                 "BLEU"):
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         return None
