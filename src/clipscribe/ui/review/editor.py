@@ -2,11 +2,11 @@
 of the clip under review, each one transaction through the project with the lead's name (the
 edit history records who and when), and an undo command on the desk's own stack.
 
-Undo first asks ``Project.revert`` (the edit history's own undo). When revert refuses although
-the gold is exactly as this decision left it (on SQLite the stored ``decided_at`` loses its time
-zone, so revert's staleness check misfires for gold rows), the previous gold is written back
-through the same façade setters instead — a new decision in the history, never a silent one.
-When someone else changed the gold since, undo refuses either way.
+Undo asks ``Project.revert`` (the edit history's own undo). The desk first compares the gold
+with what this decision left; if someone changed it since, undo refuses. Should revert still
+refuse when the gold is exactly as left (its check compares stored rows, bookkeeping columns
+included), the previous gold is written back through the same façade setters instead — a new
+decision in the history, never a silent one.
 """
 
 from __future__ import annotations
