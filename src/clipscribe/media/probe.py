@@ -5,10 +5,10 @@ from __future__ import annotations
 import hashlib
 import os
 from dataclasses import dataclass
-from pathlib import Path
 
 import cv2
 
+from ._common import check_media_path
 from .errors import MediaError
 
 VIDEO_SUFFIXES = frozenset({".mp4", ".mov", ".mkv", ".avi", ".webm", ".m4v"})
@@ -43,13 +43,7 @@ def file_sha256(path: str | os.PathLike, *, chunk: int = 1 << 20) -> str:
 
 def probe(path: str | os.PathLike) -> ProbeInfo:
     """Open the file, read its header and decode one frame; raise MediaError if that fails."""
-    p = Path(path)
-    if not p.exists():
-        raise MediaError(f"{p}: file not found")
-    if p.is_dir():
-        raise MediaError(f"{p}: is a folder, not a video file")
-    if p.stat().st_size == 0:
-        raise MediaError(f"{p}: file is empty (0 bytes)")
+    p = check_media_path(path)
     cap = cv2.VideoCapture(str(p), cv2.CAP_FFMPEG)
     try:
         if not cap.isOpened():

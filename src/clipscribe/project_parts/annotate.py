@@ -86,16 +86,21 @@ class AnnotateMixin:
         self._log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
         return row.id
 
+    def _owned_by(self, s: Session, stmt, model, clip: Any, annotator: Any):
+        """Narrow a query over a per-annotator table to one clip and/or one annotator."""
+        if clip is not None:
+            stmt = stmt.where(model.clip_id == self._clip(s, clip).id)
+        if annotator is not None:
+            stmt = stmt.where(model.annotator_id == self._annotator(s, annotator).id)
+        return stmt
+
     def clip_labels(self, *, annotator: Any = None, clip: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         def q(s: Session) -> list[tuple[int, str, str]]:
             stmt = (select(ClipLabel.clip_id, Annotator.name, Label.name)
                     .join(Annotator, Annotator.id == ClipLabel.annotator_id)
                     .join(Label, Label.id == ClipLabel.label_id).order_by(ClipLabel.clip_id, Annotator.name))
-            if annotator is not None:
-                stmt = stmt.where(ClipLabel.annotator_id == self._annotator(s, annotator).id)
-            if clip is not None:
-                stmt = stmt.where(ClipLabel.clip_id == self._clip(s, clip).id)
+            stmt = self._owned_by(s, stmt, ClipLabel, clip, annotator)
             return [tuple(r) for r in s.execute(stmt)]
         return self._read(q)
 
@@ -193,10 +198,7 @@ class AnnotateMixin:
         def q(s: Session) -> list[SegmentInfo]:
             stmt = (select(Segment, Annotator.name).join(Annotator, Annotator.id == Segment.annotator_id)
                     .order_by(Segment.clip_id, Annotator.name, Segment.start_frame, Segment.id))
-            if clip is not None:
-                stmt = stmt.where(Segment.clip_id == self._clip(s, clip).id)
-            if annotator is not None:
-                stmt = stmt.where(Segment.annotator_id == self._annotator(s, annotator).id)
+            stmt = self._owned_by(s, stmt, Segment, clip, annotator)
             return [SegmentInfo(g.id, g.clip_id, name, g.label.name, g.start_frame, g.end_frame)
                     for g, name in s.execute(stmt)]
         return self._read(q)
@@ -282,10 +284,7 @@ class AnnotateMixin:
         def q(s: Session) -> list[CaptionInfo]:
             stmt = (select(Caption, Annotator.name).join(Annotator, Annotator.id == Caption.annotator_id)
                     .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
-            if clip is not None:
-                stmt = stmt.where(Caption.clip_id == self._clip(s, clip).id)
-            if annotator is not None:
-                stmt = stmt.where(Caption.annotator_id == self._annotator(s, annotator).id)
+            stmt = self._owned_by(s, stmt, Caption, clip, annotator)
             return [CaptionInfo(c.id, c.clip_id, name, c.position, c.text, c.segment_id)
                     for c, name in s.execute(stmt)]
         return self._read(q)
