@@ -87,9 +87,36 @@ def build_sample(folder: str | os.PathLike, *, seed: int = 7) -> dict:
             actions.append((clip, act))
         for clip, act in actions:
             _annotate(p, rng, clip, act, people)
+        _pace_history(p, rng, people)
         p.user = lead
     return {"folder": str(root), "clips": len(PLAN), "annotators": people, "lead": lead,
             "seconds": round(time.perf_counter() - t0, 2)}
+
+
+def _pace_history(p: Project, rng: random.Random, people: list[str]) -> None:
+    """Spread each simulated annotator's edits over a working morning (20-70 s apart, a
+    longer pause between clips), so throughput and trends on the board look like people's.
+    The sample writes its history within seconds; this rewrites only those simulated times
+    (edits are credited to the annotator whose work they changed)."""
+    import datetime as dt
+
+    from sqlalchemy import select
+
+    from ..store.db import transaction
+    from ..store.models import Annotator, Edit
+
+    start = dt.datetime(2026, 11, 2, 9, 0, tzinfo=dt.timezone.utc)
+    with transaction(p.engine) as s:
+        ids = {s.scalar(select(Annotator.id).where(Annotator.name == n)): k for k, n in enumerate(people)}
+        clock = {k: (start + dt.timedelta(minutes=7 * k), None) for k in ids.values()}
+        for e in s.scalars(select(Edit).order_by(Edit.id)):
+            row = e.after or e.before or {}
+            k = ids.get(row.get("annotator_id"))
+            if k is None:
+                continue  # the lead's own setup: label set, people, clips
+            at, last_clip = clock[k]
+            at += dt.timedelta(seconds=rng.uniform(20, 70) + (rng.uniform(60, 240) if e.clip_id != last_clip else 0))
+            e.at, clock[k] = at, (at, e.clip_id)
 
 
 def _annotate(p: Project, rng: random.Random, clip: int, act: scene.Action, people: list[str]) -> None:
