@@ -11,7 +11,6 @@ import os
 import sys
 import time
 from pathlib import Path
-from typing import Any
 
 from ._version import __version__
 from .errors import ProjectError, RecordError

@@ -22,6 +22,7 @@ from .project_parts.base import ProjectBase
 from .project_parts.catalog import CatalogMixin
 from .project_parts.exporting import ExportingMixin
 from .project_parts.gold import GoldMixin
+from .project_parts.history import HistoryMixin
 from .project_parts.records_io import RecordsMixin
 from .project_parts.review import ReviewMixin
 from .project_parts.team import TeamMixin
@@ -33,7 +34,7 @@ from .store.models import Annotator
 DB_FILE = "project.sqlite"
 
 
-class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
+class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, HistoryMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
     """An open project. Use as a context manager, or call :meth:`close`.
 
     Create with :meth:`create`, open with :meth:`open`. ``user`` is the person acting: their name

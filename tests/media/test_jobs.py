@@ -10,7 +10,6 @@ import pytest
 
 from clipscribe.media import JobCancelled, MediaError, motion_curve, sample_indices, thumbnail_strip
 
-from .clips import write_ffmpeg, write_opencv
 
 
 @pytest.fixture(scope="session")

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from typing import Any
 
-from sqlalchemy import delete, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import RecordError
-from ..store.models import Annotator, Clip, GoldCaption, GoldLabel, GoldSegment, ReviewComment
+from ..store.models import Annotator, GoldCaption, GoldLabel, GoldSegment, ReviewComment
 from .base import require, row_dict
 
 

@@ -23,7 +23,7 @@ from sqlalchemy.orm import Session
 from ..errors import RecordError, StaleWriteError
 from ..store import team
 from ..store.models import Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
-from .base import require, row_dict
+from .base import require
 
 T = TypeVar("T")
 DEFAULT_LEASE_S = 2 * 3600.0

@@ -9,7 +9,7 @@ from typing import Any
 from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
-from ..store.models import Assignment, Clip, ClipLabel, Label
+from ..store.models import Assignment, Caption, Clip, ClipLabel, Label
 from .catalog import ClipInfo
 
 #: per-person states that count as finished work
@@ -112,4 +112,13 @@ class WorkbenchMixin:
             c, a = self._clip(s, clip), self._annotator(s, annotator)
             return s.scalar(select(Label.name).join(ClipLabel, ClipLabel.label_id == Label.id)
                             .where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
+        return self._read(q)
+
+    def caption_versions(self, clip: Any, annotator: Any = None) -> dict[int, int]:
+        """``{caption id: version}`` of ``annotator``'s captions of ``clip`` (default: the current
+        user): the versions a later ``update_caption(..., expected_version=...)`` checks against."""
+        def q(s: Session) -> dict[int, int]:
+            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            return dict(s.execute(select(Caption.id, Caption.version).where(
+                Caption.clip_id == c.id, Caption.annotator_id == a.id)).all())
         return self._read(q)

@@ -12,7 +12,7 @@ from typing import Annotated, Any, Optional
 
 from sqlalchemy import (
     JSON, BigInteger, Boolean, CheckConstraint, DateTime, Float, ForeignKey, Integer, MetaData,
-    String, Text, UniqueConstraint, func,
+    String, Text, UniqueConstraint,
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
