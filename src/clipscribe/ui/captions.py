@@ -2,20 +2,27 @@
 
 Text is saved when an editor loses focus, when Enter is pressed, and after a short pause in
 typing; :meth:`CaptionsPanel.flush` saves whatever is pending (called on clip change and close).
+
+Every change is written only if the caption is still at the version the slot last read. A
+caption changed elsewhere meanwhile (another window, a script, a lead) is not overwritten: the
+slot keeps the person's text, is marked "Not saved", stops saving by itself, and waits for
+:meth:`CaptionsPanel.keep_mine` (Ctrl+S) or :meth:`CaptionsPanel.take_theirs` (Ctrl+R).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from PySide6.QtCore import Qt, QTimer, Slot
+from PySide6.QtCore import Qt, QTimer, Signal, Slot
 from PySide6.QtWidgets import (
-    QComboBox, QGridLayout, QLabel, QLineEdit, QScrollArea, QVBoxLayout, QWidget,
+    QComboBox, QGridLayout, QHBoxLayout, QLabel, QLineEdit, QScrollArea, QToolButton,
+    QVBoxLayout, QWidget,
 )
 
 from .caption_checks import check_caption, count_words
 
 IDLE_SAVE_MS = 600
+THEIRS_SHOWN = 80  # characters of the stored text quoted in a conflict note
 
 
 @dataclass
@@ -26,9 +33,13 @@ class Slot_:
     note: QLabel
     count: QLabel
     timer: QTimer
+    bar: QWidget                      # the conflict note with its two buttons
+    bar_text: QLabel
     caption_id: int | None = None
     saved_text: str = ""
     saved_segment: int | None = None
+    version: int | None = None        # of the stored caption the typing started from
+    theirs: tuple[str, int] | None = None  # (text, version) stored elsewhere: a conflict
     extra: dict = field(default_factory=dict)
 
     @property
@@ -37,6 +48,8 @@ class Slot_:
 
 
 class CaptionsPanel(QWidget):
+    conflictsChanged = Signal(int)  # number of slots whose caption was changed elsewhere
+
     def __init__(self, editor, guideline, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setObjectName("captions")
@@ -44,6 +57,7 @@ class CaptionsPanel(QWidget):
         self.guideline = guideline
         self.slots: list[Slot_] = []
         self._segments: list = []
+        self._clip: int | None = None
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         g = guideline
@@ -81,22 +95,47 @@ class CaptionsPanel(QWidget):
         timer = QTimer(self)
         timer.setSingleShot(True)
         timer.setInterval(IDLE_SAVE_MS)
-        slot = Slot_(edit, seg, note, count, timer)
+        bar, bar_text = self._conflict_bar(i)
+        slot = Slot_(edit, seg, note, count, timer, bar, bar_text)
         self.slots.append(slot)
-        row = 3 * i
+        row = 4 * i
         self._grid.setRowStretch(row, 0)
         self._grid.addWidget(QLabel(f"{i + 1}."), row, 0)
         self._grid.addWidget(edit, row, 1, 1, 2)
         self._grid.addWidget(seg, row + 1, 1)
         self._grid.addWidget(count, row + 1, 2, Qt.AlignmentFlag.AlignRight)
-        self._grid.addWidget(note, row + 2, 1, 1, 2)
-        self._grid.setRowStretch(row + 3, 1)  # keeps the slots packed at the top
+        self._grid.addWidget(bar, row + 2, 1, 1, 2)
+        self._grid.addWidget(note, row + 3, 1, 1, 2)
+        self._grid.setRowStretch(row + 4, 1)  # keeps the slots packed at the top
+        keep, take = bar.findChildren(QToolButton)
+        keep.clicked.connect(lambda _=False, s=slot: self._save(s, force=True))
+        take.clicked.connect(lambda _=False, s=slot: self._take_theirs(s))
         edit.textEdited.connect(lambda _t, s=slot: (s.timer.start(), self._check_all()))
         edit.editingFinished.connect(lambda s=slot: self._save(s))
         timer.timeout.connect(lambda s=slot: self._save(s))
         seg.activated.connect(lambda _i, s=slot: self._save(s))
         self._fill_segments(slot)
         return slot
+
+    def _conflict_bar(self, i: int) -> tuple[QWidget, QLabel]:
+        bar = QWidget()
+        bar.setObjectName("captionConflict")
+        bar.setAttribute(Qt.WidgetAttribute.WA_StyledBackground, True)
+        lay = QHBoxLayout(bar)
+        lay.setContentsMargins(6, 3, 6, 3)
+        text = QLabel()
+        text.setObjectName("conflictText")
+        text.setWordWrap(True)
+        lay.addWidget(text, 1)
+        for label, tip in (("Keep mine", "Save your text over the one stored elsewhere (Ctrl+S)"),
+                           ("Take theirs", "Replace your text with the stored one (Ctrl+R)")):
+            b = QToolButton()
+            b.setText(label)
+            b.setToolTip(tip)
+            b.setAccessibleName(f"{label}, caption {i + 1}")
+            lay.addWidget(b)
+        bar.hide()
+        return bar, text
 
     def _fill_segments(self, slot: Slot_) -> None:
         want = slot.segment.currentData()
@@ -110,8 +149,13 @@ class CaptionsPanel(QWidget):
         slot.segment.blockSignals(False)
 
     # ---- loading -----------------------------------------------------------------------
-    def load(self, captions: list, segments: list, *, keep_unsaved: bool = True) -> None:
-        """Show ``captions`` (CaptionInfo) of the clip; slots with unsaved typing keep it."""
+    def load(self, captions: list, segments: list, *, versions: dict[int, int] | None = None,
+             keep_unsaved: bool = True) -> None:
+        """Show ``captions`` (CaptionInfo) of the clip, at ``versions`` ({caption id: version});
+        on the same clip, slots with unsaved typing keep it and the version it started from."""
+        versions = versions or {}
+        if self.editor.clip != self._clip:  # another clip: nothing typed carries over
+            self._clip, keep_unsaved = self.editor.clip, False
         self._segments = list(segments)
         while len(self.slots) < len(captions):
             self._add_slot(len(self.slots))
@@ -124,10 +168,22 @@ class CaptionsPanel(QWidget):
         for i, slot in enumerate(self.slots):
             c = placed.get(i)
             pending = keep_unsaved and slot.dirty
+            if pending and c is not None and c.id == slot.caption_id:
+                # typing stays on its base version, so a change made elsewhere meanwhile is
+                # found when it is saved instead of being overwritten
+                if slot.theirs is not None:
+                    slot.theirs = (c.text, versions.get(c.id, slot.theirs[1]))
+                    self._mark(slot)
+                self._fill_segments(slot)
+                continue
             text = pending and slot.edit.text()
             slot.caption_id = c.id if c else None
             slot.saved_text = c.text if c else ""
             slot.saved_segment = c.segment if c else None
+            slot.version = versions.get(c.id) if c else None
+            if slot.theirs is not None:
+                slot.theirs = None
+                self._mark(slot)
             self._fill_segments(slot)
             if not pending:
                 slot.edit.setText(slot.saved_text)
@@ -141,28 +197,94 @@ class CaptionsPanel(QWidget):
         for slot in self.slots:
             slot.timer.stop()
             slot.caption_id, slot.saved_text, slot.saved_segment = None, "", None
+            slot.version, slot.theirs = None, None
             slot.edit.clear()
+            self._mark(slot)
         self._check_all()
 
     # ---- saving ------------------------------------------------------------------------
-    def _save(self, slot: Slot_) -> None:
+    def _save(self, slot: Slot_, *, force: bool = False) -> None:
+        """Write the slot if it changed. A slot in conflict waits for ``force`` (keep mine),
+        which writes over the version stored elsewhere, and only that version."""
         slot.timer.stop()
-        if self.editor.clip is None or not slot.dirty:
+        if self.editor.clip is None or (slot.theirs is not None and not force):
+            return
+        if not slot.dirty and slot.theirs is None:
             return
         text, seg = slot.edit.text(), slot.segment.currentData()
-        ok, new_id = self.editor.save_caption(slot.caption_id, text, seg, self.slots.index(slot))
-        if ok:  # on a refusal the slot stays unsaved and is tried again on the next pause
-            slot.caption_id, slot.saved_text, slot.saved_segment = new_id, text, seg
+        base = slot.theirs[1] if slot.theirs is not None else slot.version
+        res = self.editor.save_caption(slot.caption_id, text, seg, self.slots.index(slot),
+                                       expected_version=base)
+        if res.ok:
+            slot.caption_id, slot.saved_text, slot.saved_segment = res.caption_id, text, seg
+            slot.version, slot.theirs = res.version, None
+        elif res.conflict is not None:  # on other refusals the slot is tried again on the next pause
+            slot.theirs = self._stored(slot, res.conflict)
+        self._mark(slot)
+
+    def _stored(self, slot: Slot_, exc) -> tuple[str, int]:
+        """(text, version) of the slot's caption as stored now."""
+        text, version = getattr(exc, "current_text", None), getattr(exc, "current_version", None)
+        if text is None or version is None:
+            p = self.editor.project
+            text = next((c.text for c in p.caption_rows(clip=self.editor.clip, annotator=p.user)
+                         if c.id == slot.caption_id), "")
+            version = p.caption_version(slot.caption_id)
+        return text, version
+
+    def _take_theirs(self, slot: Slot_) -> None:
+        if slot.theirs is None:
+            return
+        text, version = slot.theirs
+        slot.timer.stop()
+        slot.edit.setText(text)
+        slot.edit.setCursorPosition(0)
+        slot.saved_text, slot.version, slot.theirs = text, version, None
+        slot.saved_segment = slot.segment.currentData()  # the next re-read brings the stored one
+        self._mark(slot)
+        self._check_all()
+        self.editor.changed.emit()  # re-read the clip: segment choice and versions as stored
+
+    @Slot()
+    def keep_mine(self) -> None:
+        """Save every slot now, writing over captions changed elsewhere (Ctrl+S)."""
+        for slot in self.slots:
+            self._save(slot, force=True)
+
+    @Slot()
+    def take_theirs(self) -> None:
+        """Replace the text of every slot in conflict with the stored one (Ctrl+R)."""
+        for slot in self.slots:
+            self._take_theirs(slot)
 
     @Slot()
     def flush(self) -> None:
-        """Save every slot with unsaved text now."""
+        """Save every slot with unsaved text now (slots in conflict wait to be settled)."""
         for slot in self.slots:
             self._save(slot)
 
     @property
     def has_unsaved(self) -> bool:
         return any(s.dirty for s in self.slots)
+
+    @property
+    def conflicts(self) -> list[Slot_]:
+        """Slots whose caption was changed elsewhere; their text is not saved."""
+        return [s for s in self.slots if s.theirs is not None]
+
+    def _mark(self, slot: Slot_) -> None:
+        on = slot.theirs is not None
+        if on:
+            theirs = slot.theirs[0]
+            quoted = theirs if len(theirs) <= THEIRS_SHOWN else theirs[:THEIRS_SHOWN - 1] + "…"
+            slot.bar_text.setText(f"<b>Not saved: changed elsewhere</b> to “{quoted}”. "
+                                  "Ctrl+S keeps yours, Ctrl+R takes theirs.")
+        slot.bar.setVisible(on)
+        if bool(slot.edit.property("conflict")) != on:
+            slot.edit.setProperty("conflict", on)
+            slot.edit.style().unpolish(slot.edit)
+            slot.edit.style().polish(slot.edit)
+        self.conflictsChanged.emit(len(self.conflicts))
 
     # ---- checks ------------------------------------------------------------------------
     def _check_all(self) -> None:

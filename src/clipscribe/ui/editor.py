@@ -5,13 +5,23 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
-from ..errors import RecordError
+from ..errors import RecordError, StaleWriteError
 from .undo import EditCommand
+
+
+@dataclass(frozen=True, slots=True)
+class CaptionSave:
+    """What became of one caption slot's write."""
+    ok: bool                        # written (or nothing to write)
+    caption_id: int | None          # the caption now in the slot
+    version: int | None = None      # its version after the write (None: no caption)
+    conflict: StaleWriteError | None = None  # changed elsewhere since it was read; not written
 
 
 class ClipEditor(QObject):
@@ -27,19 +37,24 @@ class ClipEditor(QObject):
         self.project = project
         self.undo_stack = QUndoStack(self)
         self.clip: int | None = None
+        self.last_refusal: RecordError | None = None
 
     @property
     def me(self) -> str:
         return self.project.user
 
-    def apply(self, text: str, fn: Callable[[], Any], *, undoable: bool = True) -> Any:
-        """Run one write; on success push an undo command; on a refusal report the reason.
-        Returns ``fn``'s result, or None when the project refused."""
+    def apply(self, text: str, fn: Callable[[], Any], *, undoable: bool = True,
+              stale: str | None = None) -> Any:
+        """Run one write; on success push an undo command; on a refusal report the reason
+        (``stale``, when given, is said instead of the message of a StaleWriteError).
+        Returns ``fn``'s result, or None when the project refused (kept in ``last_refusal``)."""
         self.saving.emit()
+        self.last_refusal = None
         try:
             out = fn()
         except RecordError as exc:
-            self.notSaved.emit(str(exc))
+            self.last_refusal = exc
+            self.notSaved.emit(stale if stale and isinstance(exc, StaleWriteError) else str(exc))
             return None
         ids = list(self.project.last_edit_ids)
         if undoable and ids:
@@ -88,18 +103,29 @@ class ClipEditor(QObject):
 
     # ---- captions -----------------------------------------------------------------------
     def save_caption(self, caption_id: int | None, text: str, segment: int | None,
-                     position: int) -> tuple[bool, int | None]:
-        """Write one caption slot: add, change or (blank text) delete. Returns (saved, the
-        caption id now in the slot); on a refusal ``saved`` is False and the reason was sent."""
+                     position: int, *, expected_version: int | None = None) -> CaptionSave:
+        """Write one caption slot: add, change or (blank text) delete. A change is written only
+        if the caption is still at ``expected_version``; otherwise nothing is written and the
+        result carries the conflict (with the text and version now stored)."""
+        p = self.project
         if caption_id is None:
             if not text.strip():
-                return True, None
-            out = self.apply("Add caption", lambda: self.project.add_caption(
+                return CaptionSave(True, None)
+            new_id = self.apply("Add caption", lambda: p.add_caption(
                 self.clip, self.me, text, segment=segment, position=position))
-            return (False, None) if out is None else (True, out)
+            if new_id is None:
+                return CaptionSave(False, None)
+            return CaptionSave(True, new_id, p.caption_version(new_id))
         if not text.strip():
-            ok = self.apply("Delete caption", lambda: self.project.delete_caption(caption_id))
-            return (ok is not None), (None if ok is not None else caption_id)
-        ok = self.apply("Edit caption", lambda: self.project.update_caption(
-            caption_id, text, segment=segment))
-        return ok is not None, caption_id
+            ok = self.apply("Delete caption", lambda: p.delete_caption(caption_id))
+            return CaptionSave(True, None) if ok is not None else CaptionSave(False, caption_id)
+        version = self.apply(
+            "Edit caption", lambda: p.update_caption(caption_id, text, segment=segment,
+                                                     expected_version=expected_version),
+            stale=f"caption {position + 1} was changed elsewhere; yours is kept — Ctrl+S "
+                  "saves it, Ctrl+R takes theirs")
+        if version is None:
+            exc = self.last_refusal
+            return CaptionSave(False, caption_id, expected_version,
+                               exc if isinstance(exc, StaleWriteError) else None)
+        return CaptionSave(True, caption_id, version)

@@ -6,7 +6,7 @@ from __future__ import annotations
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QCloseEvent, QImage
 from PySide6.QtWidgets import (
-    QDockWidget, QLabel, QMainWindow, QStackedWidget, QVBoxLayout, QWidget,
+    QDockWidget, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
 
 from .actions import build_actions
@@ -166,6 +166,9 @@ class MainWindow(SegmentOps, QMainWindow):
     def open_clip(self, clip_id: int, frame: int = 0) -> None:
         if self.clip is not None and self.clip.id == clip_id:
             return
+        if not self.settle_conflicts():
+            self.queue.select_clip(self.clip.id)
+            return
         self.captions.flush()
         self.jobs.cancel()
         self.clip = info = self.project.clip(clip_id)
@@ -190,7 +193,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.segment_model.set_segments(segments)
         if self.timeline.selected is not None and self.segment_model.by_id(self.timeline.selected) is None:
             self.timeline.set_selected(None)
-        self.captions.load(p.caption_rows(clip=cid, annotator=me), segments)
+        self.captions.load(p.caption_rows(clip=cid, annotator=me), segments,
+                           versions=p.caption_versions(cid, me))
         state, reason = p.clip_state(cid, me)
         c = self.clip
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
@@ -215,6 +219,27 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions.flush()
         if self.editor.set_state("submitted") is not None:
             self.next_unfinished()
+
+    def settle_conflicts(self) -> bool:
+        """Before leaving the clip: ask what to do with captions changed elsewhere. False when
+        the person chose to stay."""
+        n = len(self.captions.conflicts)
+        if not n:
+            return True
+        box = QMessageBox(QMessageBox.Icon.Warning, "Captions changed elsewhere",
+                          f"{n} of your captions on this clip {'was' if n == 1 else 'were'} "
+                          "changed elsewhere while you typed, and your text is not saved.",
+                          parent=self)
+        keep = box.addButton("Keep mine", QMessageBox.ButtonRole.AcceptRole)
+        take = box.addButton("Take theirs", QMessageBox.ButtonRole.DestructiveRole)
+        box.addButton("Stay here", QMessageBox.ButtonRole.RejectRole)
+        box.setDefaultButton(keep)
+        box.exec()
+        if box.clickedButton() is keep:
+            self.captions.keep_mine()
+        elif box.clickedButton() is take:
+            self.captions.take_theirs()
+        return not self.captions.conflicts
 
     # ---- frames, jobs and readiness ----------------------------------------------------
     @Slot(int, QImage)
@@ -297,6 +322,9 @@ class MainWindow(SegmentOps, QMainWindow):
             self.restoreState(state)
 
     def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
+        if not self.settle_conflicts():
+            event.ignore()
+            return
         self.captions.flush()
         self._write_resume()
         self.settings.setValue("window/geometry", self.saveGeometry())
