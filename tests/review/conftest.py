@@ -51,6 +51,10 @@ def window(qtbot, sample, tmp_path):
         qtbot.addWidget(w)
         w.show()
         made.append((w, p))
+        desk = getattr(w.review_desk, "desk", None)
+        if desk is not None:  # the queue is ranked in the background
+            qtbot.waitUntil(lambda: desk.ranking is None and desk.report is not None,
+                            timeout=20000)
         return w, p
 
     yield make

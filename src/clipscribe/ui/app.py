@@ -81,10 +81,14 @@ def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work
                 done["fired"] = True
                 QTimer.singleShot(150, grab)  # let the last paint land
 
-        window.ready.connect(once)
+        desk = getattr(window.review_desk, "desk", None) if view == "review" else None
+        if desk is not None:  # the desk ranks its queue in the background: wait for it
+            desk.ready.connect(once)
+        else:
+            window.ready.connect(once)
+            if window.clip is None:
+                once()
         QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, once)
-        if window.clip is None:
-            once()
         app.exec()
         Path(str(Path(screenshot).with_suffix(".ini"))).unlink(missing_ok=True)
     else:

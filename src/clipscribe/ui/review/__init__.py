@@ -1,10 +1,13 @@
 """The lead's review page: the review desk and the agreement board, installed into the workbench
-window with :func:`install_review_desk`. A person who is not a lead gets a message instead."""
+window with :func:`install_review_desk`. A person who is not a lead gets a message instead.
+
+The page is built the first time the review view is shown, and the desk ranks its queue on the
+worker pool, so opening the workbench on a big project costs nothing for the review view."""
 
 from __future__ import annotations
 
 from PySide6.QtCore import QEvent, QObject, Qt
-from PySide6.QtWidgets import QDockWidget, QFileDialog, QLabel, QTabWidget, QWidget
+from PySide6.QtWidgets import QDockWidget, QFileDialog, QLabel, QTabWidget, QVBoxLayout, QWidget
 
 from ...project_parts.review import NotALeadError
 from ..workers import Job, JobRunner
@@ -87,27 +90,44 @@ def refusal(project, reason: str) -> QLabel:
     return lab
 
 
+def _build_page(window, holder: QWidget) -> "ReviewPage":
+    page = ReviewPage(window.project)
+    holder.layout().addWidget(page)
+    page.show()  # at once, not on the next pass of the event loop
+    page.desk.status.connect(lambda msg: window.statusBar().showMessage(msg, 8000))
+    window.installEventFilter(_Closer(page))
+    menu = window.menuBar().addMenu("&Review")
+    for a in (page.desk.undo_action, page.desk.redo_action, page.desk.acts["next"],
+              page.desk.acts["prev"], page.export_action):
+        menu.addAction(a)
+    window.review_desk = page
+    return page
+
+
 def install_review_desk(window, *, view: str = "work") -> QWidget:
     """Put the review page into ``window`` (a workbench MainWindow) and keep the work view's
-    docks and shortcuts out of its way while it shows."""
+    docks and shortcuts out of its way while it shows. For a lead the page itself is built on
+    the first switch to the review view (``window.review_desk`` is None until then); the
+    returned widget is its holder."""
     p = window.project
+    window.review_desk = None
     try:
         p.check_reviewer()
-        page: QWidget = ReviewPage(p)
-        page.desk.status.connect(lambda msg: window.statusBar().showMessage(msg, 8000))
-        window.installEventFilter(_Closer(page))
-        menu = window.menuBar().addMenu("&Review")
-        for a in (page.desk.undo_action, page.desk.redo_action, page.desk.acts["next"],
-                  page.desk.acts["prev"], page.export_action):
-            menu.addAction(a)
+        page = QWidget()
+        page.setObjectName("reviewHolder")
+        QVBoxLayout(page).setContentsMargins(0, 0, 0, 0)
+        build = lambda: window.review_desk or _build_page(window, page)  # noqa: E731
     except NotALeadError as exc:
-        page = refusal(p, str(exc).capitalize())
+        page = window.review_desk = refusal(p, str(exc).capitalize())
+        build = lambda: page  # noqa: E731
     window.set_review_view(page)
     hidden: list[QDockWidget] = []
     was_enabled: dict[str, bool] = {}
 
     def switched(i: int) -> None:
         review = window.stack.widget(i) is page
+        if review:
+            build()
         if review and not was_enabled:
             for name, a in window.actions_.items():
                 if name not in SHARED_ACTIONS:
@@ -132,5 +152,4 @@ def install_review_desk(window, *, view: str = "work") -> QWidget:
     window.stack.currentChanged.connect(switched)
     window.show_view(view)
     switched(window.stack.currentIndex())
-    window.review_desk = page
     return page

@@ -17,6 +17,7 @@ from PySide6.QtWidgets import (
 
 from ..player import Player, TransportBar
 from ..viewer import FrameView
+from ..workers import Job, JobRunner
 from .caption_model import CaptionGridModel
 from .editor import ReviewEditor
 from .gold_segments import GoldSegmentModel
@@ -41,6 +42,8 @@ def desk_action(parent: QWidget, text: str, keys, slot, *, context=None) -> QAct
 class ReviewDesk(QWidget):
     frameReady = Signal()   # the clip under review has a frame on screen
     status = Signal(str)
+    ranked = Signal(int)    # the queue is ranked (number of disputed clips) and shown
+    ready = Signal()        # once: ranked, and the first clip's frame is on screen (or no clip)
 
     def __init__(self, project, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -53,6 +56,10 @@ class ReviewDesk(QWidget):
         self.cmp = None
         self.editor = ReviewEditor(project, self)
         self.player = Player(self)
+        self.runner = JobRunner(self)
+        self.ranking: Job | None = None  # the ranking job running now, if any
+        self._ranked_note = ""
+        self._ready = False
         self._build()
         self._wire()
         self.reload_queue()
@@ -196,22 +203,67 @@ class ReviewDesk(QWidget):
         self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
 
     # ---- the queue ---------------------------------------------------------------------
-    def reload_queue(self, *, keep: bool = False) -> None:
-        """Re-rank the clips (after gold changes or a filter change)."""
+    def reload_queue(self, *, keep: bool = False) -> Job:
+        """Re-rank the clips (on opening, after gold changes, on a filter change) on the worker
+        pool: ranking needs the agreement report over the whole project, which takes seconds
+        on a big one. A newer request supersedes one still running; its result is dropped."""
         p = self.project
-        self.report = p.agreement_report(n_boot=QUEUE_BOOT)
-        rows = p.review_queue(label=self.by_label.currentData(),
-                              annotator=self.by_person.currentData(),
-                              group=self.by_group.currentData(), report=self.report)
+        if self.ranking is not None:
+            self.ranking.cancel()
+        flt = dict(label=self.by_label.currentData(), annotator=self.by_person.currentData(),
+                   group=self.by_group.currentData())
+
+        def rank(cancel, progress):
+            report = p.agreement_report(n_boot=QUEUE_BOOT)
+            return report, p.review_queue(report=report, **flt)
+
+        job = self.ranking = Job("ranking disputed clips", rank)
+        job.signals.finished.connect(lambda out, j=job: self._ranked(j, out, keep))
+        job.signals.failed.connect(lambda msg, j=job: self._rank_failed(j, msg))
+        if self.cmp is None:  # nothing to settle until a clip is open
+            self.title.setText("Ranking disputed clips…")
+            self.viewer.clear("Ranking disputed clips…")
+            self.settle.setEnabled(False)
+            self.caption_view.setEnabled(False)
+        self.queue_note.setText(f"{self._ranked_note} Re-ranking…".lstrip() if self._ranked_note
+                                else "Ranking disputed clips…")
+        return self.runner.start(job)
+
+    def _ranked(self, job: Job, out, keep: bool) -> None:
+        if job is not self.ranking or job.cancel_event.is_set():
+            return  # superseded by a newer request
+        self.ranking = None
+        self.report, rows = out
         current = self.cmp.clip.id if self.cmp else None
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
-        self.queue_note.setText(f"{len(rows)} clip(s), {settled} settled. Ranked by label split, "
-                                "then segment F1, then caption BLEU (worst first).")
+        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label split, "
+                             "then segment F1, then caption BLEU (worst first).")
+        self.queue_note.setText(self._ranked_note)
         target = current if keep and current in self.queue_model.clips() else (
             rows[0].clip if rows else None)
-        if target is not None:
+        if target is not None and target == current:
+            self._select_row(target)  # the clip stays open where the lead is
+        elif target is not None:
             self.open_clip(target)
+        else:
+            self.title.setText("No disputed clips")
+            self.viewer.clear("No disputed clips")
+        self.ranked.emit(len(rows))
+        if target is None:
+            self._set_ready()
+
+    def _rank_failed(self, job: Job, msg: str) -> None:
+        if job is self.ranking:
+            self.ranking = None
+            self.queue_note.setText(f"Could not rank the disputed clips: {msg}")
+            self.status.emit(f"Could not rank the disputed clips: {msg}")
+            self._set_ready()
+
+    def _set_ready(self) -> None:
+        if not self._ready:
+            self._ready = True
+            self.ready.emit()
 
     def step(self, delta: int) -> None:
         if self.cmp is None or not self.queue_model.rowCount():
@@ -234,6 +286,9 @@ class ReviewDesk(QWidget):
         # open on the first marked action: that is where the annotators part ways
         self.player.open(self.project.media_path(info.id), info.frame_count, info.fps,
                          min(starts, default=0))
+        self._select_row(clip_id)
+
+    def _select_row(self, clip_id: int) -> None:
         row = self.queue_model.row_of(clip_id)
         if row is not None:
             self.queue_view.selectionModel().setCurrentIndex(
@@ -247,6 +302,8 @@ class ReviewDesk(QWidget):
         if self.editor.clip is None:
             return
         cmp = self.cmp = self.project.clip_comparison(self.editor.clip, report=self.report)
+        self.settle.setEnabled(True)
+        self.caption_view.setEnabled(True)
         c = cmp.clip
         sc = cmp.scores
         nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
@@ -296,9 +353,13 @@ class ReviewDesk(QWidget):
     def _frame(self, frame: int, image: QImage) -> None:
         self.viewer.show_frame(frame, image)
         self.frameReady.emit()
+        self._set_ready()
 
     def close_media(self) -> None:
+        if self.ranking is not None:
+            self.ranking.cancel()
         self.player.close()
+        self.runner.wait()
 
 
 def _fmt(v, f: str) -> str:

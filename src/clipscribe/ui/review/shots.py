@@ -50,7 +50,7 @@ def main(argv: list[str] | None = None) -> int:
         page.board.load_now()
         QTimer.singleShot(300, grab)
     elif hasattr(page, "desk"):
-        page.desk.frameReady.connect(lambda: QTimer.singleShot(300, grab))
+        page.desk.ready.connect(lambda: QTimer.singleShot(300, grab))  # ranked, frame shown
         QTimer.singleShot(15000, grab)
     else:
         QTimer.singleShot(300, grab)
