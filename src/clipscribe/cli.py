@@ -127,12 +127,15 @@ def cmd_schema(args: argparse.Namespace) -> int:
 
 
 def cmd_open(args: argparse.Namespace) -> int:
-    from .ui.boot import check_qt_runtime
+    from .ui.boot import check_qt_runtime, last_project
+    folder = args.project or last_project()
+    if folder is None:
+        raise ProjectError("no project given and none opened before")
     problem = check_qt_runtime(screenshot=bool(args.screenshot))
     if problem:
         raise ProjectError(problem)
     from .ui.app import run
-    return run(args.project, user=args.user, view=args.view, screenshot=args.screenshot)
+    return run(folder, user=args.user, view=args.view, screenshot=args.screenshot)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -177,7 +180,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--seed", type=int, default=7)
     sp = add("schema", cmd_schema, "write the JSON Schema of every record type", project=False)
     sp.add_argument("folder", nargs="?", default="docs/schema")
-    sp = add("open", cmd_open, "open the workbench window on a project", user=True)
+    sp = add("open", cmd_open, "open the workbench window on a project", project=False, user=True)
+    sp.add_argument("project", metavar="DIR", nargs="?",
+                    help="project folder (default: the project opened last)")
     sp.add_argument("--view", choices=("work", "review"), default="work", help="which view to open on")
     sp.add_argument("--screenshot", metavar="FILE.png", help="render the window to FILE.png and exit")
     _extend(add)

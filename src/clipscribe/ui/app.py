@@ -11,10 +11,8 @@ from PySide6.QtWidgets import QApplication
 
 from .. import Project
 from ..errors import ProjectError, RecordError
+from .boot import APPLICATION, ORGANISATION
 from .style import STYLE_SHEET
-
-ORGANISATION = "clipscribe"
-APPLICATION = "workbench"
 SCREENSHOT_SIZE = (1440, 900)
 SCREENSHOT_TIMEOUT_MS = 20000
 

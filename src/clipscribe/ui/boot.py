@@ -6,6 +6,10 @@ from __future__ import annotations
 import ctypes
 import os
 
+ORGANISATION = "clipscribe"      # QSettings names of the workbench
+APPLICATION = "workbench"
+LAST_PROJECT_KEY = "lastProject"  # the folder of the project the workbench showed last
+
 # shared library -> Debian/Ubuntu package that provides it
 LIBRARIES = {
     "libGL.so.1": "libgl1",
@@ -59,3 +63,16 @@ def check_qt_runtime(*, screenshot: bool = False) -> str | None:
         return ("Qt needs system libraries that are missing; on Debian/Ubuntu run: "
                 f"sudo apt-get install {' '.join(missing)}")
     return None
+
+
+def last_project() -> str | None:
+    """The folder of the project the workbench showed last (from the person's QSettings), or
+    None when it never showed one. Needs only QtCore: no display, no QApplication."""
+    try:
+        from PySide6.QtCore import QCoreApplication, QSettings
+    except ImportError:
+        return None
+    QCoreApplication.setOrganizationName(ORGANISATION)
+    QCoreApplication.setApplicationName(APPLICATION)
+    value = QSettings().value(LAST_PROJECT_KEY, None)
+    return str(value) if value else None

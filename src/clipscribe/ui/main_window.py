@@ -10,6 +10,7 @@ from PySide6.QtWidgets import (
 )
 
 from .actions import build_actions
+from .boot import LAST_PROJECT_KEY
 from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
 from .dialogs import CautionsNote, ShortcutSheet
@@ -53,6 +54,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self._restore_layout()
         self.show_view(view)
         self._open_first()
+        self._write_resume()  # remembered as the last project even before any clip is open
 
     # ---- building ----------------------------------------------------------------------
     def _build_widgets(self) -> None:
@@ -304,12 +306,11 @@ class MainWindow(SegmentOps, QMainWindow):
             self._resume_timer.start()
 
     def _write_resume(self) -> None:
-        if self.clip is None:
-            return
-        key = f"resume/{self.project.folder.resolve()}"
-        self.settings.setValue(f"{key}/clip", self.clip.id)
-        self.settings.setValue(f"{key}/frame", self.player.frame)
-        self.settings.setValue("lastProject", str(self.project.folder.resolve()))
+        self.settings.setValue(LAST_PROJECT_KEY, str(self.project.folder.resolve()))
+        if self.clip is not None:
+            key = f"resume/{self.project.folder.resolve()}"
+            self.settings.setValue(f"{key}/clip", self.clip.id)
+            self.settings.setValue(f"{key}/frame", self.player.frame)
         self.settings.sync()
 
     def _restore_layout(self) -> None:
