@@ -9,6 +9,8 @@ from pathlib import Path
 from PySide6.QtCore import QCoreApplication, QSettings, QTimer
 from PySide6.QtWidgets import QApplication
 
+from sqlalchemy.exc import OperationalError
+
 from .. import Project
 from ..errors import ProjectError, RecordError
 from .boot import APPLICATION, ORGANISATION
@@ -35,18 +37,24 @@ def open_window(project: Project, *, view: str = "work", settings: QSettings | N
 
 
 def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work",
-        screenshot: str | os.PathLike | None = None) -> int:
+        screenshot: str | os.PathLike | None = None, password: str | None = None) -> int:
     """Open the project in ``folder`` in the workbench; returns the exit code.
 
-    With ``screenshot`` the window is drawn on the first clip, saved to that PNG file once the
-    frame, thumbnails and motion curve are shown (or after a timeout), and the app quits.
+    A project on a server that wants a password nobody gave is opened after a login dialog
+    (cancelling it exits 0). With ``screenshot`` the window is drawn on the first clip, saved
+    to that PNG file once the frame, thumbnails and motion curve are shown (or after a
+    timeout), and the app quits; it never asks for a login.
     """
+    from .login import ask_with_dialog, open_project
     app = application()
     try:
-        project = Project.open(folder, user=user)
-    except (ProjectError, RecordError) as exc:
-        print(f"clipscribe: {exc}", file=sys.stderr)
+        project = open_project(folder, user=user, password=password,
+                               ask=None if screenshot else ask_with_dialog)
+    except (ProjectError, RecordError, OperationalError) as exc:
+        print(f"clipscribe: {(str(exc).splitlines() or [''])[0]}", file=sys.stderr)
         return 2
+    if project is None:  # the login was cancelled
+        return 0
     if project.role(project.user) is None:
         print(f"clipscribe: {project.user!r} is not a person in this project "
               "(add them, or pass --user NAME)", file=sys.stderr)
