@@ -42,3 +42,39 @@ def test_segment_model(qtbot, sample):
         assert model.at_frame(g.start) == g and model.by_id(g.id) == g
         model.set_segments([])
         assert model.rowCount() == 0
+
+
+def test_queue_jump_reads_only_the_page_of_the_target(qtbot, sample, monkeypatch):
+    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 3)  # 12 clips: pages 0..3
+    with Project.open(sample, user="annotator-3") as p:
+        model = ClipQueueModel(p)
+        QAbstractItemModelTester(model, Mode.Fatal)  # watches the inserts of the jump too
+        read = model.pages_read
+        assert model.row_of(11) == 10                # clip 11 is row 10, on page 3
+        assert model.rowCount() == 12 and not model.canFetchMore(QModelIndex())
+        assert model.pages_read == read + 1          # the pages skipped over are not read
+        assert model.index(10, 0).data(ClipIdRole) == 11
+        assert [model.index(r, 0).data(ClipIdRole) for r in range(12)] == list(range(1, 13))
+        assert model.pages_read == 4                 # read when first looked at
+        # a jump under a filter lands on the filtered row
+        model.set_filters(state="unfinished")
+        unfinished = [r.clip.id for r in p.queue_rows(state="unfinished")]
+        assert model.row_of(unfinished[-1]) == len(unfinished) - 1
+        assert model.row(len(unfinished) - 1).clip.id == unfinished[-1]
+        assert p.queue_index(unfinished[-1], state="unfinished") == len(unfinished) - 1
+        assert p.queue_count(group="cell-east") == len(p.queue_rows(group="cell-east")) > 0
+
+
+def test_queue_panel_selects_a_far_clip(qtbot, sample, monkeypatch):
+    from clipscribe.ui.queue import QueuePanel
+    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 2)
+    with Project.open(sample, user="annotator-3") as p:
+        model = ClipQueueModel(p)
+        panel = QueuePanel(model, labels=[], groups=[], people=[])
+        qtbot.addWidget(panel)
+        panel.show()
+        chosen = []
+        panel.clipChosen.connect(chosen.append)
+        assert panel.select_clip(12)
+        assert panel.view.currentIndex().row() == 11 and chosen == []
+        assert panel.neighbour(-1) == 11 and panel.neighbour(1) is None

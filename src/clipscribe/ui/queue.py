@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 from PySide6.QtCore import QItemSelectionModel, Qt, Signal, Slot
-from PySide6.QtWidgets import QComboBox, QFormLayout, QHeaderView, QLabel, QTreeView, QVBoxLayout, QWidget
+from PySide6.QtWidgets import (
+    QAbstractItemView, QComboBox, QFormLayout, QHeaderView, QLabel, QTableView, QVBoxLayout, QWidget,
+)
 
 from .queue_model import ClipIdRole, ClipQueueModel
 
@@ -32,15 +34,28 @@ class QueuePanel(QWidget):
         form.addRow("Group", self.group)
         form.addRow("Assigned to", self.assignee)
         lay.addLayout(form)
-        self.view = QTreeView()
+        # a table, not a tree: with fixed row heights it places row 100 000 by arithmetic,
+        # where a tree view lays out (and asks the model about) every row before it
+        self.view = QTableView()
         self.view.setObjectName("queueView")
         self.view.setAccessibleName("Clip queue")
-        self.view.setRootIsDecorated(False)
-        self.view.setUniformRowHeights(True)   # lets the view skip measuring 100k rows
+        self.view.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.view.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.view.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.view.setTabKeyNavigation(False)
+        self.view.setShowGrid(False)
+        self.view.setWordWrap(False)
+        self.view.setCornerButtonEnabled(False)
         self.view.setAlternatingRowColors(True)
         self.view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        rows = self.view.verticalHeader()
+        rows.setVisible(False)
+        rows.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
+        rows.setDefaultSectionSize(self.view.fontMetrics().height() + 4)
         self.view.setModel(model)
-        header = self.view.header()
+        header = self.view.horizontalHeader()
+        header.setHighlightSections(False)
+        header.setDefaultAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
         header.setStretchLastSection(False)
         # fixed widths: sizing columns to their contents would measure every loaded row
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)

@@ -1,7 +1,10 @@
-"""The clip queue model: a lazy table over ``Project.queue_rows`` pages.
+"""The clip queue model: a lazy, sparse table over ``Project.queue_rows`` pages.
 
-Only the rows scrolled into view are fetched (``canFetchMore``/``fetchMore``), so a project with
-100k clips opens with one count query and one page.
+Rows are read one page at a time and only when needed, so a project with 100k clips opens with
+one count query and one page. Scrolling down adds rows page by page (``canFetchMore`` /
+``fetchMore``); jumping to a clip far down (:meth:`ClipQueueModel.row_of`) adds every row up to
+it at once but reads only the page holding it: the pages skipped over stay unread until they
+are scrolled into view (``data`` reads a missing page on first use).
 """
 
 from __future__ import annotations
@@ -23,8 +26,9 @@ class ClipQueueModel(QAbstractTableModel):
         super().__init__(parent)
         self.project = project
         self.filters: dict[str, Any] = {}
-        self._rows: list[QueueRow] = []
-        self._total = 0
+        self._pages: dict[int, list[QueueRow]] = {}  # page number -> its rows, once read
+        self._count = 0   # rows the view has been given so far
+        self._total = 0   # rows under the filters
         self.reload()
 
     # ---- loading -----------------------------------------------------------------------
@@ -35,59 +39,81 @@ class ClipQueueModel(QAbstractTableModel):
     def reload(self) -> None:
         self.beginResetModel()
         self._total = self.project.queue_count(self.project.user, **self.filters)
-        self._rows = self._page(0)
+        self._pages = {}
+        self._count = min(self._total, PAGE)
+        if self._count:
+            self._page(0)
         self.endResetModel()
 
-    def _page(self, offset: int) -> list[QueueRow]:
-        return self.project.queue_rows(self.project.user, offset=offset, limit=PAGE, **self.filters)
+    def _page(self, k: int) -> list[QueueRow]:
+        """Rows of page ``k``, read on first use."""
+        rows = self._pages.get(k)
+        if rows is None:
+            rows = self._pages[k] = self.project.queue_rows(
+                self.project.user, offset=k * PAGE, limit=PAGE, **self.filters)
+        return rows
+
+    def _get(self, r: int) -> QueueRow | None:
+        if not 0 <= r < self._count:
+            return None
+        rows = self._page(r // PAGE)
+        return rows[r % PAGE] if r % PAGE < len(rows) else None  # None: clips vanished meanwhile
 
     @property
     def total(self) -> int:
         return self._total
 
+    @property
+    def pages_read(self) -> int:
+        """How many pages were read from the project (for tests and benchmarks)."""
+        return len(self._pages)
+
     def canFetchMore(self, parent: Index = QModelIndex()) -> bool:  # noqa: N802
-        return not parent.isValid() and len(self._rows) < self._total
+        return not parent.isValid() and self._count < self._total
 
     def fetchMore(self, parent: Index = QModelIndex()) -> None:  # noqa: N802
-        if not parent.isValid():
-            self._fetch(PAGE)
+        if not parent.isValid() and self.canFetchMore():
+            self._grow(min(self._total, self._count + PAGE))
 
-    def _fetch(self, count: int) -> None:
-        rows = self.project.queue_rows(self.project.user, offset=len(self._rows), limit=count,
-                                       **self.filters)[: self._total - len(self._rows)]
-        if not rows:
-            self._total = len(self._rows)  # clips vanished meanwhile
-            return
-        first = len(self._rows)
-        self.beginInsertRows(QModelIndex(), first, first + len(rows) - 1)
-        self._rows.extend(rows)
+    def _grow(self, count: int) -> None:
+        """Give the view rows up to ``count``, reading only the page of the last one."""
+        self.beginInsertRows(QModelIndex(), self._count, count - 1)
+        self._count = count
         self.endInsertRows()
+        self._page((count - 1) // PAGE)
 
     def row_of(self, clip_id: int) -> int | None:
-        """Row of a clip under the current filters, fetching pages up to it."""
+        """Row of a clip under the current filters; rows up to it are added, but only the
+        page holding it is read."""
         pos = self.project.queue_index(clip_id, self.project.user, **self.filters)
-        if pos is None:
+        if pos is None or pos >= self._total:
             return None
-        if pos >= len(self._rows) and self.canFetchMore():
-            self._fetch(pos + PAGE - len(self._rows))  # one query up to the row, not page by page
-        return pos if pos < len(self._rows) else None
+        if pos >= self._count:
+            self._grow(min(self._total, (pos // PAGE + 1) * PAGE))
+        row = self._get(pos)
+        return pos if row is not None and row.clip.id == clip_id else None
 
     def refresh_clip(self, clip_id: int) -> None:
         """Re-read one clip's row after an edit (state or label changed)."""
-        for r, row in enumerate(self._rows):
-            if row.clip.id == clip_id:
-                fresh = self.project.queue_rows(self.project.user, offset=r, limit=1, **self.filters)
-                if fresh and fresh[0].clip.id == clip_id:
-                    self._rows[r] = fresh[0]
-                    self.dataChanged.emit(self.index(r, 0), self.index(r, len(COLUMNS) - 1))
-                return
+        for k, rows in self._pages.items():
+            for i, row in enumerate(rows):
+                if row.clip.id == clip_id:
+                    r = k * PAGE + i
+                    fresh = self.project.queue_row(clip_id, self.project.user, **self.filters)
+                    if fresh is not None:  # (a clip that left the filter stays until a reload)
+                        rows[i] = fresh
+                        self.dataChanged.emit(self.index(r, 0), self.index(r, len(COLUMNS) - 1))
+                    return
 
     def row(self, r: int) -> QueueRow:
-        return self._rows[r]
+        row = self._get(r)
+        if row is None:
+            raise IndexError(f"queue row {r} is not there")
+        return row
 
     # ---- the Qt interface --------------------------------------------------------------
     def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self._rows)
+        return 0 if parent.isValid() else self._count
 
     def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
         return 0 if parent.isValid() else len(COLUMNS)
@@ -99,9 +125,9 @@ class ClipQueueModel(QAbstractTableModel):
         return None
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid() or not 0 <= index.row() < len(self._rows):
+        row = self._get(index.row()) if index.isValid() else None
+        if row is None:
             return None
-        row = self._rows[index.row()]
         col = index.column()
         if role == Qt.ItemDataRole.DisplayRole:
             return (f"{row.clip.id}  {row.clip.path}", row.clip.group or "",

@@ -13,6 +13,6 @@ QLineEdit[problem="true"] { border: 1px solid #d08a2c; background: #fff8ec; }
 QLineEdit[conflict="true"] { border: 2px solid #c62828; background: #fdecea; }
 QWidget#captionConflict { background: #fdecea; border: 1px solid #c62828; border-radius: 3px; }
 QLabel#conflictText { color: #7f1d1d; font-size: 9pt; }
-QTreeView#queueView { alternate-background-color: #f2f5f7; }
-QTreeView#queueView::item:selected { background: #0f766e; color: white; }
+QTableView#queueView { alternate-background-color: #f2f5f7; }
+QTableView#queueView::item:selected { background: #0f766e; color: white; }
 """
