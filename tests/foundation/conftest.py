@@ -8,7 +8,6 @@ import numpy as np
 import pytest
 
 from clipscribe import Project
-from clipscribe.sample import build_sample
 
 
 def write_video(path: Path, n: int = 12, size: tuple[int, int] = (64, 48), seed: int = 0) -> Path:
@@ -38,10 +37,8 @@ def project(tmp_path: Path):
 
 
 @pytest.fixture(scope="session")
-def sample_dir(tmp_path_factory) -> Path:
-    d = tmp_path_factory.mktemp("sample") / "sample"
-    build_sample(d)
-    return d
+def sample_dir(sample_build) -> Path:
+    return sample_build[0]
 
 
 @pytest.fixture

@@ -1,29 +1,16 @@
 """Review tests run headless on copies of the sample project (its local user is the lead)."""
 
-import os
 import shutil
-import tempfile
 
-os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-_HOME = tempfile.mkdtemp(prefix="clipscribe-review-tests-")
-os.environ["XDG_CACHE_HOME"] = os.path.join(_HOME, "cache")
-os.environ["XDG_CONFIG_HOME"] = os.path.join(_HOME, "config")
+import pytest
+from PySide6.QtCore import QSettings
 
-import pytest  # noqa: E402
-from PySide6.QtCore import QSettings  # noqa: E402
-
-from clipscribe import Project  # noqa: E402
-from clipscribe.sample.build import build_sample  # noqa: E402
-
-QSettings.setDefaultFormat(QSettings.Format.IniFormat)
-QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope,
-                  os.path.join(_HOME, "config"))
+from clipscribe import Project
 
 
 @pytest.fixture(scope="session")
-def sample_master(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("sample") / "project"
-    out = build_sample(folder)
+def sample_master(sample_build):
+    folder, out = sample_build
     return folder, out["lead"]
 
 

@@ -4,7 +4,6 @@ the export policy uses."""
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel
 
-from clipscribe import Project
 from clipscribe.export.inputs import CaptionInput
 from clipscribe.export.policy import decide_captions, decide_label
 from clipscribe.ui.review import ReviewPage

@@ -1,30 +1,16 @@
-"""UI tests run headless, with QSettings and caches in temporary folders."""
+"""UI tests: headless, on copies of the sample project (tests/conftest.py sets Qt up)."""
 
-import os
 import shutil
-import tempfile
 
-os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")  # before Qt is imported anywhere
-_HOME = tempfile.mkdtemp(prefix="clipscribe-ui-tests-")
-os.environ["XDG_CACHE_HOME"] = os.path.join(_HOME, "cache")     # media job caches
-os.environ["XDG_CONFIG_HOME"] = os.path.join(_HOME, "config")   # QSettings of subprocesses
+import pytest
+from PySide6.QtCore import QSettings
 
-import pytest  # noqa: E402
-from PySide6.QtCore import QSettings  # noqa: E402
-
-from clipscribe import Project  # noqa: E402
-from clipscribe.sample.build import build_sample  # noqa: E402
-
-QSettings.setDefaultFormat(QSettings.Format.IniFormat)
-QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope,
-                  os.path.join(_HOME, "config"))
+from clipscribe import Project
 
 
 @pytest.fixture(scope="session")
-def sample_master(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("sample") / "project"
-    build_sample(folder)
-    return folder
+def sample_master(sample_build):
+    return sample_build[0]
 
 
 @pytest.fixture

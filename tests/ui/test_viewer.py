@@ -1,7 +1,6 @@
 """Frame conversion, the viewer's aspect-correct placement, playback with a loop."""
 
 import numpy as np
-from PySide6.QtCore import Qt
 
 from clipscribe.ui.images import bgr_to_qimage
 from clipscribe.ui.viewer import FrameView
