@@ -32,6 +32,8 @@ def cmd_export(args: argparse.Namespace) -> int:
     from . import export
     from .cli import Bar, _open
     with _open(args) as p:
+        if args.folds:
+            return _export_folds(p, args)
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
                              frozen=args.frozen, hamming_radius=args.radius,
                              progress=Bar("fingerprints"))
@@ -58,6 +60,35 @@ def cmd_export(args: argparse.Namespace) -> int:
     return 0
 
 
+def _export_folds(p, args: argparse.Namespace) -> int:
+    from . import export
+    from .cli import Bar
+    plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
+                         min_agreement=args.min_agreement, hamming_radius=args.radius,
+                         progress=Bar("fingerprints"))
+    for i, plan in enumerate(plans, start=1):
+        counts: dict[str, int] = {}
+        for split in plan.assignment.values():
+            counts[split] = counts.get(split, 0) + 1
+        print(f"split {i}: " + ", ".join(f"{k} {v}" for k, v in sorted(counts.items())))
+        print_leakage(plan.leakage)
+    if plans and plans[0].left_out:
+        print(f"left out {len(plans[0].left_out)} clip(s) in every split:")
+        for d in plans[0].left_out:
+            print(f"  clip {d.clip_id}: {d.reason}")
+    if args.dry_run:
+        return 0
+    try:
+        ms = p.write_folds(args.out, plans, media_mode=args.media, webvtt=args.webvtt,
+                           override_reason=args.override, progress=Bar("writing"))
+    except export.ExportBlocked as exc:
+        raise RecordError(f"{exc} (nothing was written; use --override REASON to accept them)") from None
+    except export.ExportError as exc:
+        raise RecordError(str(exc)) from None
+    print(f"wrote {len(ms)} splits ({sum(len(m.files) for m in ms)} files) to {args.out}")
+    return 0
+
+
 def register(add) -> None:
     sp = add("export", cmd_export, "write train/val/test splits, checked for leakage first", user=True)
     sp.add_argument("out", help="output folder (must be empty or new)")
@@ -73,4 +104,8 @@ def register(add) -> None:
     sp.add_argument("--media", choices=("copy", "hardlink"), help="copy or hard-link the media into the export")
     sp.add_argument("--override", metavar="REASON", help="write despite blocking findings; recorded in the manifest")
     sp.add_argument("--overwrite", action="store_true", help="replace a non-empty output folder")
+    sp.add_argument("--folds", type=int, metavar="K",
+                    help="instead of one split: K rotating group-exclusive folds, written as split-1..split-K")
+    sp.add_argument("--val-fraction", type=float, default=0.0,
+                    help="with --folds: share of each training side held out as val (default 0)")
     sp.add_argument("--dry-run", action="store_true", help="plan and check only; write nothing")

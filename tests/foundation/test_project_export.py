@@ -33,3 +33,35 @@ def test_only_leads_export(sample_copy, tmp_path):
     with Project.open(sample_copy, user="annotator-1") as p:
         with pytest.raises(RecordError, match="only a lead may export"):
             p.plan_export()
+
+
+def test_rotating_folds_test_every_clip_once(sample_copy, tmp_path):
+    with Project.open(sample_copy) as p:
+        plans = p.plan_folds(3, seed=1)
+        groups = {str(c.id): c.group for c in p.clips()}
+        tested = [c for plan in plans for c, s in plan.assignment.items() if s == "test"]
+        assert sorted(tested, key=int) == sorted(groups, key=int)  # each clip tested exactly once
+        for plan in plans:
+            for g in set(groups.values()):
+                assert len({plan.assignment[c] for c in groups if groups[c] == g}) == 1
+        p.write_folds(tmp_path / "folds", plans)
+        for i in (1, 2, 3):
+            m = json.loads((tmp_path / "folds" / f"split-{i}" / "manifest.json").read_text())
+            assert m["assignment"] == plans[i - 1].assignment
+
+
+def test_blocked_folds_write_nothing(sample_copy, tmp_path):
+    import shutil
+
+    from clipscribe.export import ExportBlocked
+    with Project.open(sample_copy) as p:
+        # the same media in two groups: identical sha256 across splits in some fold
+        shutil.copy(p.media_root / "cell-north" / "take-01.mp4", p.media_root / "copy.mp4")
+        twin = p.add_clip(p.media_root / "copy.mp4", group="elsewhere")
+        p.set_clip_label(twin, "annotator-1", "pick up")
+        plans = p.plan_folds(3)
+        assert any(pl.leakage.blocking for pl in plans)
+        with pytest.raises(ExportBlocked):
+            p.write_folds(tmp_path / "folds", plans)
+        assert not (tmp_path / "folds").exists()
+        assert not list(tmp_path.glob(".folds*"))

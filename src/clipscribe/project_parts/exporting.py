@@ -131,6 +131,62 @@ class ExportingMixin:
         self._write(work)
         return manifest
 
+    def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
+                   min_agreement: float = 0.6, hamming_radius: int = 8,
+                   caption_threshold: float = 0.9, progress: Progress = None) -> list[export.ExportPlan]:
+        """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
+        groups), each planned and leakage-checked like a single export; writes nothing."""
+        self._require_lead("export")
+        self.compute_fingerprints(progress=progress)
+        inputs = self.export_inputs()
+        opts = dict(project=self.settings.name, policy=export.LabelPolicy(min_agreement=min_agreement),
+                    seed=seed, require_consent=self.settings.require_consent,
+                    hamming_radius=hamming_radius, caption_threshold=caption_threshold)
+        try:
+            base = export.build_plan(inputs, {"all": 1.0}, **opts)
+            items = [(c.clip_id, c.group, base.decisions[c.clip_id].label) for c in base.clips]
+            folds = export.assign_folds(items, k, seed=seed, val_fraction=val_fraction)
+            ratios = {"train": (k - 1) / k * (1 - val_fraction), "test": 1 / k}
+            if val_fraction:
+                ratios["val"] = (k - 1) / k * val_fraction
+            # every kept clip is frozen to its fold's split, so planning only checks leakage
+            return [export.build_plan(inputs, ratios, frozen=fold, **opts) for fold in folds]
+        except ValueError as exc:
+            raise RecordError(f"export: {exc}") from None
+
+    def write_folds(self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *,
+                    media_mode: str | None = None, webvtt: bool = False,
+                    override_reason: str | None = None, progress: Progress = None,
+                    cancel: threading.Event | None = None) -> list:
+        """Write folds as ``out_dir/split-1 .. split-k``, all or nothing: nothing is written when
+        any fold has blocking findings (unless overridden) or a write fails."""
+        self._require_lead("export")
+        out = Path(out_dir)
+        if out.exists() and any(out.iterdir()):
+            raise RecordError(f"{out}: exists and is not empty")
+        blocked = [i + 1 for i, pl in enumerate(plans) if pl.leakage.blocking]
+        if blocked and not override_reason:
+            raise export.ExportBlocked(plans[blocked[0] - 1].leakage)
+        override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
+        tmp = out.with_name(f".{out.name}.folds-{os.getpid()}")
+        manifests = []
+        try:
+            for i, plan in enumerate(plans, start=1):
+                manifests.append(export.write_export(
+                    tmp / f"split-{i}", plan, media_mode=media_mode, webvtt=webvtt, override=override,
+                    progress=(lambda d, n, i=i: progress((i - 1) * n + d, len(plans) * n)) if progress else None,
+                    cancel=cancel))
+            if out.exists():
+                out.rmdir()
+            os.replace(tmp, out)
+        finally:
+            if tmp.exists():
+                import shutil
+                shutil.rmtree(tmp, ignore_errors=True)
+        self._write(lambda s: self._log(s, "export", "dataset", None, None, None,
+                                        {"folder": str(out), "folds": len(plans), "override": override_reason}))
+        return manifests
+
     def _require_lead(self, what: str) -> None:
         if self.role(self.user) != "lead":
             raise RecordError(f"only a lead may {what}; {self.user!r} is not a lead")
