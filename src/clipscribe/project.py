@@ -60,10 +60,12 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         media = cfg.media_root
         (root / media if not Path(media).is_absolute() else Path(media)).mkdir(
             parents=True, exist_ok=True)
-        tmp = root / (SETTINGS_FILE + ".tmp")
-        tmp.write_text(cfg.model_dump_json(indent=2) + "\n", encoding="utf-8")
-        os.replace(tmp, root / SETTINGS_FILE)
-        project = cls._connect(root, cfg, user=user, password=None, url=database_url)
+        _write_settings(root, cfg)
+        try:
+            project = cls._connect(root, cfg, user=user, password=None, url=database_url)
+        except Exception:
+            (root / SETTINGS_FILE).unlink(missing_ok=True)  # no half-made project left behind
+            raise
         local = user or project.local_user_name()
         project.add_annotator(local, role="lead", exist_ok=True)
         project.user = local
@@ -125,11 +127,16 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             cfg = ProjectSettings.model_validate({**self.settings.model_dump(), **changes})
         except ValidationError as exc:
             raise RecordError(f"project settings: {_first_error(exc)}") from None
-        tmp = self.folder / (SETTINGS_FILE + ".tmp")
-        tmp.write_text(cfg.model_dump_json(indent=2) + "\n", encoding="utf-8")
-        os.replace(tmp, self.folder / SETTINGS_FILE)
+        _write_settings(self.folder, cfg)
         self.settings = cfg
         return cfg
+
+
+def _write_settings(folder: Path, cfg: ProjectSettings) -> None:
+    """Write the settings file atomically (a temporary file renamed into place)."""
+    tmp = folder / (SETTINGS_FILE + ".tmp")
+    tmp.write_text(cfg.model_dump_json(indent=2) + "\n", encoding="utf-8")
+    os.replace(tmp, folder / SETTINGS_FILE)
 
 
 def _with_login(url: str, user: str | None, password: str | None) -> str:

@@ -79,3 +79,9 @@ def test_optimistic_version_refuses_stale_caption(project):
     with pytest.raises(StaleWriteError, match="changed by someone else"):
         project.update_caption(cid, "My stale edit", expected_version=v - 1)
     assert project.captions(clip=1)[0][2] == "The arm lifts the blue block."
+
+
+def test_create_on_unreachable_server_leaves_no_project(tmp_path):
+    with pytest.raises(ProjectError, match="cannot open the project database"):
+        Project.create(tmp_path / "p", database_url="postgresql://nobody@127.0.0.1:1/none")
+    assert not (tmp_path / "p" / "clipscribe-project.json").exists()
