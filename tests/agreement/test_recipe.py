@@ -22,7 +22,7 @@ def test_recipe_text_and_dict():
     a = krippendorff_alpha([[1, 2], [1, 2]], level="ordinal")
     assert a.recipe.option("level") == "ordinal"
     r = Recipe.make("x", "y", label_set_version="v3", n_items=2)
-    assert r.replace(note="n").text() == f"x|y|n=2|labels=v3|note=n|v{__version__}"
+    assert r.replace(note="n").text() == f"x|y|n=2|labelset=v3|note=n|v{__version__}"
 
 
 @pytest.mark.parametrize("value,expected", [

@@ -75,7 +75,7 @@ class Recipe:
         if self.n_items is not None:
             parts.append(f"n={self.n_items}")
         if self.label_set_version:
-            parts.append(f"labels={self.label_set_version}")
+            parts.append(f"labelset={self.label_set_version}")
         if self.note:
             parts.append(f"note={self.note}")
         parts.append(f"v{self.version}")

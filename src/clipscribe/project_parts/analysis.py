@@ -22,7 +22,7 @@ class AnalysisMixin:
             labels, segs, caps, label_order=[l.name for l in self.labels()],
             ordinal=self.labels_ordinal(), fps={c.id: c.fps for c in clips},
             frame_count={c.id: c.frame_count for c in clips}, seed=seed, n_boot=n_boot,
-            label_set_version=str(self.label_set_version()))
+            label_set_version=f"v{self.label_set_version()}")
 
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""
