@@ -1,5 +1,6 @@
 """Queries the annotator workbench needs: queue pages with one person's state, the next clip
-they have not finished, and their own label of one clip."""
+they have not finished, their own label of one clip and, with blind mode off, what the others
+did on it."""
 
 from __future__ import annotations
 
@@ -10,6 +11,7 @@ from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
 from ..store.models import Assignment, Caption, Clip, ClipLabel, Label
+from .annotate import CaptionInfo, SegmentInfo
 from .catalog import ClipInfo
 
 #: per-person states that count as finished work
@@ -27,6 +29,18 @@ class QueueRow:
     clip: ClipInfo
     my_state: str          # open / submitted / skipped / unsure ("open" when never touched)
     my_label: str | None   # the person's own clip label, if any
+
+
+@dataclass(frozen=True, slots=True)
+class OthersWork:
+    """The other annotators' work on one clip, for reading only (empty in blind mode)."""
+    labels: list[tuple[str, str]]    # (annotator, label), by annotator name
+    captions: list[CaptionInfo]      # by annotator, then position
+    segments: list[SegmentInfo]      # by annotator, then start frame
+
+    @property
+    def empty(self) -> bool:
+        return not (self.labels or self.captions or self.segments)
 
 
 class WorkbenchMixin:
@@ -144,3 +158,15 @@ class WorkbenchMixin:
             return dict(s.execute(select(Caption.id, Caption.version).where(
                 Caption.clip_id == c.id, Caption.annotator_id == a.id)).all())
         return self._read(q)
+
+    def others_work(self, clip: Any, annotator: Any = None) -> OthersWork:
+        """Everyone else's clip label, captions and segments of ``clip`` (others than
+        ``annotator``, default the current user). Blind mode on (:meth:`blind_mode`) gives an
+        empty :class:`OthersWork` without reading any of it."""
+        if self.blind_mode():
+            return OthersWork([], [], [])
+        me = self._read(lambda s: self._annotator(s, annotator).name)
+        labels = [(who, label) for _c, who, label in self.clip_labels(clip=clip) if who != me]
+        captions = [c for c in self.caption_rows(clip=clip) if c.annotator != me]
+        segments = [g for g in self.segments(clip=clip) if g.annotator != me]
+        return OthersWork(labels, captions, segments)

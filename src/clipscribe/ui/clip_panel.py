@@ -1,4 +1,5 @@
-"""The clip panel: the clip label buttons, the clip's state and the inline skip prompt.
+"""The clip panel: the clip label buttons, the clip's state, the inline skip prompt and, with
+blind mode off, a muted read-only line of the labels the other annotators gave.
 
 Buttons are bound to the window's actions, so a key and a click do the same thing.
 """
@@ -32,6 +33,13 @@ class ClipPanel(QWidget):
         lay.addLayout(self._labels)
         self.current = QLabel("Your label: none")
         lay.addWidget(self.current)
+        self.others = QLabel()
+        self.others.setObjectName("othersLabels")
+        self.others.setWordWrap(True)
+        self.others.setToolTip("Labels the other annotators gave this clip (blind mode is off); "
+                               "read only")
+        self.others.hide()
+        lay.addWidget(self.others)
         self._states = QHBoxLayout()
         lay.addLayout(self._states)
         self.state = QLabel("Your state: open")
@@ -91,6 +99,11 @@ class ClipPanel(QWidget):
         for name, b in self.label_buttons.items():
             b.setChecked(name == label)
         self.state.setText(f"Your state: {state}" + (f" ({reason})" if reason else ""))
+
+    def show_others(self, labels: list[tuple[str, str]]) -> None:
+        """Show ``(annotator, label)`` pairs of the others; none hides the line."""
+        self.others.setText("Others: " + " · ".join(f"{who} {label}" for who, label in labels))
+        self.others.setVisible(bool(labels))
 
     @Slot()
     def show_skip_prompt(self) -> None:

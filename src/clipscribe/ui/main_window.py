@@ -17,6 +17,7 @@ from .dialogs import CautionsNote, ShortcutSheet
 from .editor import ClipEditor
 from .jobs_view import ClipJobs
 from .menus import build_menus
+from .others_captions import OthersCaptions
 from .player import Player, TransportBar
 from .queue import QueuePanel
 from .queue_model import ClipQueueModel
@@ -69,6 +70,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.timeline.colours = self.colours
         self.clip_panel = ClipPanel()
         self.captions = CaptionsPanel(self.editor, p.settings.caption_guideline)
+        self.others_captions = OthersCaptions()
         self.jobs = ClipJobs(self)
         self.save_state = QLabel("Nothing changed yet")
         self.save_state.setObjectName("saveState")
@@ -105,6 +107,7 @@ class MainWindow(SegmentOps, QMainWindow):
         heading.setObjectName("heading")
         sl.addWidget(heading)
         sl.addWidget(self.captions, 1)
+        sl.addWidget(self.others_captions, 1)
         self._dock("Clip queue", "queueDock", self.queue, Qt.DockWidgetArea.LeftDockWidgetArea)
         clip_dock = self._dock("Clip", "clipDock", side, Qt.DockWidgetArea.RightDockWidgetArea)
         self.resizeDocks([self.findChild(QDockWidget, "queueDock"), clip_dock], [330, 420],
@@ -187,7 +190,8 @@ class MainWindow(SegmentOps, QMainWindow):
 
     @Slot()
     def refresh(self) -> None:
-        """Re-read the current person's work on the clip on screen."""
+        """Re-read the current person's work on the clip on screen and, with blind mode off,
+        the others' (read only)."""
         if self.clip is None:
             return
         p, me, cid = self.project, self.project.user, self.clip.id
@@ -201,6 +205,10 @@ class MainWindow(SegmentOps, QMainWindow):
         c = self.clip
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
                                   f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
+        others = p.others_work(cid, me)
+        self.clip_panel.show_others(others.labels)
+        self.others_captions.set_captions(others.captions)
+        self.timeline.set_others(others.segments)
         self.queue_model.refresh_clip(cid)
 
     def step_clip(self, step: int) -> None:

@@ -13,6 +13,10 @@ QLineEdit[problem="true"] { border: 1px solid #d08a2c; background: #fff8ec; }
 QLineEdit[conflict="true"] { border: 2px solid #c62828; background: #fdecea; }
 QWidget#captionConflict { background: #fdecea; border: 1px solid #c62828; border-radius: 3px; }
 QLabel#conflictText { color: #7f1d1d; font-size: 9pt; }
+QLabel#othersLabels { color: #6b7683; font-style: italic; font-size: 9pt; }
+QToolButton#othersToggle { border: none; color: #5f6b78; font-weight: bold; }
+QLabel#othersCaption { color: #6b7683; font-size: 9pt; padding-left: 10px;
+                       border-left: 2px solid #c9d1d9; }
 QTableView#queueView { alternate-background-color: #f2f5f7; }
 QTableView#queueView::item:selected { background: #0f766e; color: white; }
 """

@@ -3,6 +3,7 @@
 VIEWER_BG = "#1d2126"
 TRACK_BG = "#2a3038"
 TRACK_GRID = "#3a424d"
+OTHERS_BG = "#232931"   # the others' thin tracks, a shade under one's own
 MUTED_TEXT = "#9aa4b0"
 PLAYHEAD = "#ffd166"
 MARK = "#06d6a0"

@@ -1,4 +1,5 @@
-"""The timeline: one track of the annotator's segments under the scrub bar.
+"""The timeline: one track of the annotator's segments under the scrub bar and, with blind mode
+off, one thin muted read-only track per other annotator under it.
 
 Drag a segment's edge to move it (snapped to whole frames); click a segment to select it;
 click empty track to move the playhead. The widget changes nothing itself: it emits
@@ -16,6 +17,14 @@ from .segment_model import SegmentModel
 
 TRACK_H = 34
 EDGE_GRAB_PX = 6
+SCALE_H = 18         # ticks and the frame count under one's own track
+OTHER_H = 12         # one other annotator's track
+OTHER_ALPHA = 110    # their label colours, faded over the track background
+
+
+def _height(n_others: int) -> int:
+    """Widget height for one's own track, its scale and ``n_others`` thin tracks under it."""
+    return TRACK_H + SCALE_H + (4 + OTHER_H * n_others if n_others else 0)
 
 
 class Timeline(QWidget):
@@ -28,7 +37,7 @@ class Timeline(QWidget):
         self.setObjectName("timeline")
         self.setAccessibleName("Timeline")
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
-        self.setMinimumHeight(TRACK_H + 18)
+        self.setMinimumHeight(TRACK_H + SCALE_H)
         self.setMouseTracking(True)
         self.model = model
         for sig in (model.modelReset, model.rowsInserted, model.rowsRemoved, model.dataChanged):
@@ -40,9 +49,22 @@ class Timeline(QWidget):
         self.pending_start: int | None = None
         self.loop: tuple[int, int] | None = None
         self._drag: tuple[int, str, int, int] | None = None  # id, "start"|"end", start, end
+        self.others: list[tuple[str, list]] = []  # (annotator, their segments), read only
 
     def sizeHint(self) -> QSize:
-        return QSize(800, TRACK_H + 18)
+        return QSize(800, _height(len(self.others)))
+
+    def set_others(self, segments: list) -> None:
+        """Show other annotators' segments (SegmentInfo), one thin track per person."""
+        by: dict[str, list] = {}
+        for g in segments:
+            by.setdefault(g.annotator, []).append(g)
+        others = sorted(by.items())
+        if len(others) != len(self.others):
+            self.setMinimumHeight(_height(len(others)))
+            self.updateGeometry()
+        self.others = others
+        self.update()
 
     # ---- inputs ------------------------------------------------------------------------
     def reset(self, frame_count: int) -> None:
@@ -121,12 +143,29 @@ class Timeline(QWidget):
             p.setPen(QPen(QColor(theme.MARK), 2, Qt.PenStyle.DashLine))
             p.drawLine(QPointF(x, 0), QPointF(x, top + TRACK_H))
             p.drawLine(QPointF(x, top + TRACK_H), QPointF(self.x_of(self.playhead + 1), top + TRACK_H))
+        self._paint_others(p, top + TRACK_H + SCALE_H)
         x = self.x_of(self.playhead + 0.5)
         p.setPen(QPen(QColor(theme.PLAYHEAD), 2))
         p.drawLine(QPointF(x, 0), QPointF(x, self.height()))
         p.setPen(QColor(theme.MUTED_TEXT))
         p.drawText(QRectF(4, top + TRACK_H, w - 8, 14), Qt.AlignmentFlag.AlignRight,
                    f"{self.frame_count} frames")
+
+    def _paint_others(self, p: QPainter, y0: float) -> None:
+        """Thin faded tracks of the other annotators, each named at its left end."""
+        font = p.font()
+        font.setPointSizeF(max(6.0, font.pointSizeF() * 0.75))
+        p.setFont(font)
+        for i, (who, segs) in enumerate(self.others):
+            y = y0 + i * OTHER_H
+            p.fillRect(QRectF(0, y, self.width(), OTHER_H - 2), QColor(theme.OTHERS_BG))
+            for g in segs:
+                c = QColor(self.colours.get(g.label, "#888888"))
+                c.setAlpha(OTHER_ALPHA)
+                p.fillRect(QRectF(self.x_of(g.start), y + 1,
+                                  max(2.0, self.x_of(g.end) - self.x_of(g.start)), OTHER_H - 4), c)
+            p.setPen(QColor(theme.MUTED_TEXT))
+            p.drawText(QRectF(4, y, 200, OTHER_H - 2), Qt.AlignmentFlag.AlignVCenter, who)
 
     # ---- mouse -------------------------------------------------------------------------
     def mousePressEvent(self, event) -> None:  # noqa: N802
