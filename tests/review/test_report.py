@@ -24,7 +24,7 @@ def direct_report(p, seed=0, n_boot=1000):
                             label_order=[l.name for l in p.labels()], ordinal=p.labels_ordinal(),
                             fps={c.id: c.fps for c in clips},
                             frame_count={c.id: c.frame_count for c in clips}, seed=seed,
-                            n_boot=n_boot, label_set_version=str(p.label_set_version()))
+                            n_boot=n_boot, label_set_version=f"v{p.label_set_version()}")
 
 
 def same(a, b, path="agreement"):
