@@ -1,31 +1,28 @@
 """The dataset export dialog: choose splits and options, check for leakage, then write.
 
-Step 1 (Check) runs :meth:`Project.plan_export` on the worker pool and shows the split counts,
-the clips left out and the leakage findings; nothing is written. Step 2 (Write) runs
-:meth:`Project.write_export` with the checked plan. Write stays disabled until a check made with
+Step 1 (Check) runs :meth:`Project.plan_export` (one split by ratios) or
+:meth:`Project.plan_folds` (k rotating splits) on the worker pool and shows the split counts,
+the clips left out and the leakage findings of every split; nothing is written. Step 2 (Write)
+runs :meth:`Project.write_export` or :meth:`Project.write_folds` (``split-1 .. split-k``, all or
+nothing) with the checked plans. Write stays disabled until a check made with
 the settings now on screen exists, and, when that check found blocking leakage, until the lead
 ticks "Write anyway" and gives a reason (recorded in the manifest as the override).
 """
 
 from __future__ import annotations
 
-from datetime import datetime
 from pathlib import Path
 
 from PySide6.QtCore import Qt, Signal, Slot
 from PySide6.QtWidgets import (
-    QCheckBox, QComboBox, QDialog, QDialogButtonBox, QDoubleSpinBox, QFileDialog, QFormLayout,
-    QGroupBox, QHBoxLayout, QLabel, QLineEdit, QProgressBar, QPushButton, QSpinBox, QVBoxLayout,
-    QWidget,
+    QCheckBox, QDialog, QDialogButtonBox, QFileDialog, QHBoxLayout, QLabel, QLineEdit,
+    QProgressBar, QPushButton, QVBoxLayout, QWidget,
 )
 
 from ..media import JobCancelled
+from .export_options import ExportOptions
 from .export_results import CheckResults
 from .workers import Job, JobRunner
-
-SPLITS = (("train", "&Train", 70), ("val", "&Val", 15), ("test", "Te&st", 15))
-MEDIA_MODES = (("Leave media where they are", None), ("Copy media into the export", "copy"),
-               ("Hard-link media (same disk only)", "hardlink"))
 NOTE_STYLE = {"info": "color: palette(text);", "ok": "color: #2e7d32;", "bad": "color: #b3261e;"}
 
 
@@ -49,7 +46,7 @@ def _plain_errors(fn):
     return run
 
 
-class ExportDialog(QDialog):
+class ExportDialog(ExportOptions, QDialog):
     """Check and write a dataset export of ``project`` (leads only)."""
 
     exported = Signal(str, int)  # output folder, number of files written (manifest included)
@@ -58,8 +55,9 @@ class ExportDialog(QDialog):
         super().__init__(parent)
         self.project = project
         self.is_lead = project.role(project.user) == "lead"
-        self.plan = None
-        self.manifest = None
+        self.plans: list | None = None   # the checked plans: one, or one per rotating split
+        self.manifest = None             # of the last single export written
+        self.manifests: list = []        # of the last rotating splits written
         self._plan_key: tuple | None = None
         self._job: Job | None = None
         self._job_name = ""
@@ -127,82 +125,10 @@ class ExportDialog(QDialog):
         self.buttons.rejected.connect(self.reject)
         lay.addWidget(self.buttons)
 
-    def _build_split_box(self) -> QGroupBox:
-        box = QGroupBox("Splits and labels")
-        form = QFormLayout(box)
-        self.ratio_spins: dict[str, QSpinBox] = {}
-        for name, text, value in SPLITS:
-            s = QSpinBox()
-            s.setRange(0, 100)
-            s.setSingleStep(5)
-            s.setSuffix(" %")
-            s.setValue(value)
-            s.setToolTip(f"Share of clips for the {name} split; 0 leaves the split out. "
-                         "Shares are scaled to add up to 100 %.")
-            form.addRow(text, s)
-            self.ratio_spins[name] = s
-        self.ratio_total = QLabel()
-        form.addRow("", self.ratio_total)
-        self.seed = QSpinBox()
-        self.seed.setRange(0, 2_147_483_647)
-        self.seed.setToolTip("Seed for placing groups into splits; the same seed and project give "
-                             "the same splits")
-        form.addRow("See&d", self.seed)
-        self.min_agreement = QDoubleSpinBox()
-        self.min_agreement.setRange(0.0, 1.0)
-        self.min_agreement.setSingleStep(0.05)
-        self.min_agreement.setDecimals(2)
-        self.min_agreement.setValue(0.6)
-        self.min_agreement.setToolTip("Without gold, the majority label must be given by at least "
-                                      "this share of the clip's annotators; otherwise the clip is "
-                                      "left out")
-        form.addRow("Minimum a&greement", self.min_agreement)
-        self.radius = QSpinBox()
-        self.radius.setRange(0, 64)
-        self.radius.setValue(8)
-        self.radius.setToolTip("Two clips whose 64-bit fingerprints differ in at most this many "
-                               "bits count as near-duplicate footage")
-        form.addRow("Hamming &radius", self.radius)
-        self.keep_splits = QCheckBox("&Keep clips in the split of the last export")
-        self.keep_splits.setChecked(True)
-        self.keep_splits.setToolTip("Clips exported before stay where they were, so a test set "
-                                    "never leaks into a later training set")
-        form.addRow(self.keep_splits)
-        return box
-
-    def _build_output_box(self) -> QGroupBox:
-        box = QGroupBox("Output")
-        form = QFormLayout(box)
-        self.folder = QLineEdit(str(self.project.folder / "exports" /
-                                    f"export-{datetime.now():%Y%m%d-%H%M}"))
-        self.folder.setToolTip("A new or empty folder; the export appears there only when "
-                               "complete")
-        self.browse = QPushButton("C&hoose…")
-        self.browse.setToolTip("Pick the output folder")
-        row = QHBoxLayout()
-        row.addWidget(self.folder, 1)
-        row.addWidget(self.browse)
-        label = QLabel("&Folder")
-        label.setBuddy(self.folder)
-        form.addRow(label, row)
-        self.media = QComboBox()
-        for text, mode in MEDIA_MODES:
-            self.media.addItem(text, mode)
-        self.media.setToolTip("Leave in place: records name the media path in the project. "
-                              "Copy or hard-link: media go under media/<split>/ in the export.")
-        form.addRow("&Media", self.media)
-        self.webvtt = QCheckBox("&One WebVTT file per clip")
-        self.webvtt.setToolTip("Also write webvtt/<clip>.vtt with the clip's segments and "
-                               "captions")
-        form.addRow(self.webvtt)
-        self.overwrite = QCheckBox("Re&place the folder if it is not empty")
-        self.overwrite.setToolTip("Replace an existing, non-empty output folder as a whole")
-        form.addRow(self.overwrite)
-        return box
-
     def _wire(self) -> None:
-        for s in (*self.ratio_spins.values(), self.seed, self.radius):
+        for s in (*self.ratio_spins.values(), self.seed, self.radius, self.k, self.val_share):
             s.valueChanged.connect(self._refresh)
+        self.folds.toggled.connect(self._refresh)
         self.min_agreement.valueChanged.connect(self._refresh)
         self.keep_splits.toggled.connect(self._refresh)
         self.folder.textChanged.connect(self._refresh)
@@ -214,13 +140,16 @@ class ExportDialog(QDialog):
         self.cancel_btn.clicked.connect(self.cancel)
 
     # ---- settings and state ------------------------------------------------------------
-    def ratios(self) -> dict[str, float]:
-        return {n: s.value() / 100 for n, s in self.ratio_spins.items() if s.value() > 0}
+    @property
+    def plan(self):
+        """The checked plan of one split by ratios (None before a check, or for folds)."""
+        one = self.plans is not None and self._plan_key is not None and self._plan_key[0] == "one"
+        return self.plans[0] if one else None
 
-    def _key(self) -> tuple:
-        return (tuple(sorted(self.ratios().items())), self.seed.value(),
-                round(self.min_agreement.value(), 4), self.radius.value(),
-                self.keep_splits.isChecked())
+    @property
+    def blocking(self) -> int:
+        """Blocking findings of the checked plans, all splits together."""
+        return sum(len(pl.leakage.blocking) for pl in self.plans or [])
 
     @property
     def busy(self) -> bool:
@@ -230,7 +159,7 @@ class ExportDialog(QDialog):
     @property
     def checked_current(self) -> bool:
         """A check exists and was made with the settings now on screen."""
-        return self.plan is not None and self._plan_key == self._key()
+        return self.plans is not None and self._plan_key == self._key()
 
     def _write_blocker(self) -> str | None:
         """Why Write is disabled, or None."""
@@ -238,15 +167,15 @@ class ExportDialog(QDialog):
             return "only a lead can export"
         if self._job is not None:
             return "a job is running"
-        if self.plan is None:
+        if self.plans is None:
             return "run the check first"
         if not self.checked_current:
             return "settings changed since the check; check again"
         if not self.folder.text().strip():
             return "choose an output folder"
-        if self.plan.leakage.blocking and not self.override.isChecked():
+        if self.blocking and not self.override.isChecked():
             return "the check found blocking leakage; tick “Write anyway” and give a reason"
-        if self.plan.leakage.blocking and not self.reason.text().strip():
+        if self.blocking and not self.reason.text().strip():
             return "give a reason for writing despite blocking findings"
         return None
 
@@ -256,20 +185,18 @@ class ExportDialog(QDialog):
         total = sum(s.value() for s in self.ratio_spins.values())
         self.ratio_total.setText(f"Total {total} %" if total == 100 or total == 0 else
                                  f"Total {total} % (scaled to 100 %)")
-        for w in (*self.ratio_spins.values(), self.seed, self.min_agreement, self.radius,
-                  self.keep_splits, self.folder, self.browse, self.media, self.webvtt,
-                  self.overwrite):
-            w.setEnabled(self.is_lead and not busy)
-        self.check_btn.setEnabled(self.is_lead and not busy and total > 0)
+        for w, on in self._option_widgets():
+            w.setEnabled(self.is_lead and not busy and on)
+        self.check_btn.setEnabled(self.is_lead and not busy and (total > 0 or self.fold_mode))
         self.cancel_btn.setEnabled(busy)
-        blocking = bool(self.checked_current and self.plan.leakage.blocking)
+        blocking = bool(self.checked_current and self.blocking)
         self.override.setEnabled(blocking and not busy)
         self.reason.setEnabled(blocking and not busy and self.override.isChecked())
         why = self._write_blocker()
         self.write_btn.setEnabled(why is None)
         self.write_btn.setToolTip("Step 2: write the checked export into the folder"
                                   if why is None else f"Write is off: {why}")
-        if self.plan is not None and not self.checked_current and not busy:
+        if self.plans is not None and not self.checked_current and not busy:
             self._say("Settings changed since the check; check again before writing.", "info")
 
     def _say(self, text: str, kind: str = "info") -> None:
@@ -331,24 +258,28 @@ class ExportDialog(QDialog):
         p, key = self.project, self._key()
         ratios, seed, agree, radius = self.ratios(), self.seed.value(), self.min_agreement.value(), self.radius.value()
         frozen = None if self.keep_splits.isChecked() else {}
+        k, val = (self.k.value(), self.val_share.value() / 100) if self.fold_mode else (0, 0.0)
 
         def work(*, cancel, progress):  # worker thread
             progress(0, 0)
             p.compute_fingerprints(progress=lambda d, t: progress(d, t), cancel=cancel)
             if cancel.is_set():
                 raise JobCancelled("check cancelled")
-            return p.plan_export(ratios, seed=seed, min_agreement=agree, frozen=frozen,
-                                 hamming_radius=radius)
+            if k:
+                return p.plan_folds(k, seed=seed, val_fraction=val, min_agreement=agree,
+                                    hamming_radius=radius)
+            return [p.plan_export(ratios, seed=seed, min_agreement=agree, frozen=frozen,
+                                  hamming_radius=radius)]
 
-        self.plan, self._plan_key = None, None
-        self.results.show_plan(None)
-        self._start("Check", work, lambda plan: self._checked(plan, key))
+        self.plans, self._plan_key = None, None
+        self.results.show_plans(None)
+        self._start("Check", work, lambda plans: self._checked(plans, key))
 
-    def _checked(self, plan, key: tuple) -> None:
-        self.plan, self._plan_key = plan, key
+    def _checked(self, plans: list, key: tuple) -> None:
+        self.plans, self._plan_key = plans, key
         self.override.setChecked(False)
-        self.results.show_plan(plan)
-        n_block = len(plan.leakage.blocking)
+        self.results.show_plans(plans, folds=key[0] == "folds")
+        n_block = self.blocking
         if n_block:
             self._say(f"Checked: {n_block} blocking leakage finding(s). Fix them, or tick "
                       "“Write anyway” and give a reason.", "bad")
@@ -360,21 +291,31 @@ class ExportDialog(QDialog):
     def write(self) -> None:
         if self._write_blocker() is not None:
             return
-        p, plan, folder = self.project, self.plan, self.folder.text().strip()
+        p, plans, folder = self.project, self.plans, self.folder.text().strip()
         mode, vtt, overwrite = self.media.currentData(), self.webvtt.isChecked(), self.overwrite.isChecked()
-        reason = self.reason.text().strip() if plan.leakage.blocking else None
+        reason = self.reason.text().strip() if self.blocking else None
+        folds = self._plan_key[0] == "folds"
 
         def work(*, cancel, progress):  # worker thread
-            return p.write_export(folder, plan, media_mode=mode, webvtt=vtt,
+            if folds:
+                return p.write_folds(folder, plans, media_mode=mode, webvtt=vtt,
+                                     override_reason=reason, progress=progress, cancel=cancel)
+            return p.write_export(folder, plans[0], media_mode=mode, webvtt=vtt,
                                   override_reason=reason, overwrite=overwrite,
                                   progress=progress, cancel=cancel)
 
-        self._start("Write", work, lambda m: self._written(m, folder))
+        self._start("Write", work, lambda m: self._written(m, folder, folds))
 
-    def _written(self, manifest, folder: str) -> None:
-        self.manifest = manifest
-        files = len(manifest.files) + 1  # the listed files and manifest.json itself
-        text = f"Wrote {files} files ({len(self.plan.assignment)} clips) to {folder}"
+    def _written(self, written, folder: str, folds: bool) -> None:
+        manifests = written if folds else [written]
+        if folds:
+            self.manifests = manifests
+        else:
+            self.manifest = written
+        files = sum(len(m.files) + 1 for m in manifests)  # listed files and each manifest.json
+        clips = len(self.plans[0].assignment)
+        text = (f"Wrote {len(manifests)} rotating splits ({files} files, {clips} clips each) "
+                f"to {folder}" if folds else f"Wrote {files} files ({clips} clips) to {folder}")
         self._say(text + ".", "ok")
         self._status(text)
         self.exported.emit(folder, files)

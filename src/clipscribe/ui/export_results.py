@@ -1,5 +1,6 @@
 """The results of an export check: a one-line summary and three tables (label x split counts,
-clips left out, leakage findings) over the read-only models of :mod:`.leakage_model`."""
+or train/val/test counts per rotating split; clips left out; leakage findings of every split)
+over the read-only models of :mod:`.leakage_model`."""
 
 from __future__ import annotations
 
@@ -55,6 +56,52 @@ class CheckResults(QWidget):
             h.setSectionResizeMode(stretch, QHeaderView.ResizeMode.Stretch)
         return v
 
+    def show_plans(self, plans: list | None, *, folds: bool = False) -> None:
+        """Show one checked plan, or with ``folds`` the plans of split 1..k; None empties."""
+        if plans and folds:
+            self.show_folds(plans)
+        else:
+            self.show_plan(plans[0] if plans else None)
+
+    def show_folds(self, plans: list) -> None:
+        """Counts per rotating split, the clips left out (the same in every split) and the
+        leakage findings of all splits, each row naming its split."""
+        names = [f"split {i}" for i in range(1, len(plans) + 1)]
+        cols = ["train", "val", "test"]
+        rows = []
+        for name, pl in zip(names, plans):
+            n = {c: sum(1 for s in pl.assignment.values() if s == c) for c in cols}
+            rows.append((name, *(n[c] for c in cols), len(pl.assignment)))
+        rows.append(("All splits", *(sum(r[i] for r in rows) for i in range(1, 5))))
+        self.split_model.set_rows(rows, ["Split", *cols, "Total"])
+        left = plans[0].left_out
+        self.left_model.set_rows([(d.clip_id, d.annotators, d.reason or "") for d in left])
+        findings = [(name, f) for name, pl in zip(names, plans) for f in pl.leakage.findings]
+        self.leak_model.set_findings([f for _, f in findings], [n for n, _ in findings])
+        n_block = sum(len(pl.leakage.blocking) for pl in plans)
+        n_warn = sum(len(pl.leakage.warnings) for pl in plans)
+        bad = [n for n, pl in zip(names, plans) if pl.leakage.blocking]
+        once = all(sum(pl.assignment.get(c) == "test" for pl in plans) == 1
+                   for c in plans[0].assignment)
+        self.summary.setText(
+            f"{len(plans)} rotating splits of {len(plans[0].assignment)} clips"
+            + ("; each clip is tested in exactly one" if once else "; some clips are tested "
+               "more than once or never") + f" · {len(left)} left out in every split · leakage: "
+            f"{n_block} blocking" + (f" (in {', '.join(bad)})" if bad else "")
+            + f", {_warnings(n_warn)}")
+        self.tabs.setTabText(1, f"Left out ({len(left)})")
+        self.tabs.setTabText(2, f"Leakage ({n_block} blocking, {_warnings(n_warn)})")
+        self._stretch_message()
+        self.leak_view.resizeRowsToContents()
+
+    def _stretch_message(self) -> None:
+        """Give the spare width to the "What was found" column, wherever it is now."""
+        h = self.leak_view.horizontalHeader()
+        cols = self.leak_model.headers
+        for i in range(len(cols)):
+            h.setSectionResizeMode(i, QHeaderView.ResizeMode.Stretch if cols[i] == "What was found"
+                                   else QHeaderView.ResizeMode.ResizeToContents)
+
     def show_plan(self, plan) -> None:
         """Fill the summary and the tables from ``plan``; ``None`` empties them."""
         if plan is None:
@@ -85,6 +132,7 @@ class CheckResults(QWidget):
         self.split_model.set_rows(rows, headers)
         self.left_model.set_rows([(d.clip_id, d.annotators, d.reason or "") for d in plan.left_out])
         self.leak_model.set_findings(rep.findings)
+        self._stretch_message()
         self.tabs.setTabText(1, f"Left out ({len(plan.left_out)})")
         self.tabs.setTabText(2, f"Leakage ({len(rep.blocking)} blocking, "
                                 f"{_warnings(len(rep.warnings))})")

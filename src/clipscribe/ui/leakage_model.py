@@ -93,20 +93,30 @@ class RowsModel(QAbstractTableModel):
 
 
 class LeakageModel(QAbstractTableModel):
-    """Leakage findings (objects with ``kind severity message clips``), blocking first."""
+    """Leakage findings (objects with ``kind severity message clips``), blocking first; with
+    rotating splits, a first "Split" column names the split each finding was found in."""
 
     HEADERS = ("Severity", "Kind", "What was found", "Clips")
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
         self.findings: list = []
+        self.splits: list[str] | None = None  # split name per finding, or no split column
         self._icons = {"blocking": _mark_icon(BLOCKING_MARK, True),
                        "warning": _mark_icon(WARNING_MARK, False)}
 
-    def set_findings(self, findings: Sequence) -> None:
+    def set_findings(self, findings: Sequence, splits: Sequence[str] | None = None) -> None:
+        """Show ``findings``; ``splits`` (one name per finding) adds the "Split" column."""
+        rows = list(zip(findings, splits if splits is not None else [None] * len(findings)))
+        rows.sort(key=lambda r: r[0].severity != "blocking")  # stable: split order kept
         self.beginResetModel()
-        self.findings = sorted(findings, key=lambda f: f.severity != "blocking")  # stable
+        self.findings = [f for f, _ in rows]
+        self.splits = [n for _, n in rows] if splits is not None else None
         self.endResetModel()
+
+    @property
+    def headers(self) -> tuple[str, ...]:
+        return self.HEADERS if self.splits is None else ("Split", *self.HEADERS)
 
     def blocking_count(self) -> int:
         return sum(f.severity == "blocking" for f in self.findings)
@@ -118,13 +128,13 @@ class LeakageModel(QAbstractTableModel):
         return 0 if parent.isValid() else len(self.findings)
 
     def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self.HEADERS)
+        return 0 if parent.isValid() else len(self.headers)
 
     def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
                    role: int = Qt.ItemDataRole.DisplayRole) -> Any:
         if (role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal
-                and 0 <= section < len(self.HEADERS)):
-            return self.HEADERS[section]
+                and 0 <= section < len(self.headers)):
+            return self.headers[section]
         return None
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
@@ -132,6 +142,16 @@ class LeakageModel(QAbstractTableModel):
             return None
         f, col = self.findings[index.row()], index.column()
         blocking = f.severity == "blocking"
+        if self.splits is not None:
+            col -= 1  # the split column comes first; the others keep their meaning
+            if col < 0:
+                if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.ToolTipRole):
+                    return self.splits[index.row()]
+                if role == Qt.ItemDataRole.BackgroundRole and blocking:
+                    return QBrush(QColor(BLOCKING_BG))
+                if role == Qt.ItemDataRole.ForegroundRole and blocking:
+                    return QBrush(QColor(BLOCKING_FG))
+                return None
         if role == Qt.ItemDataRole.DisplayRole:
             if col == 0:
                 return SEVERITY_TEXT.get(f.severity, f.severity)
@@ -157,7 +177,8 @@ class LeakageModel(QAbstractTableModel):
             font.setBold(True)
             return font
         if role == Qt.ItemDataRole.AccessibleTextRole:
-            return f"{SEVERITY_TEXT.get(f.severity, f.severity)} {f.kind}: {f.message}"
+            where = f"{self.splits[index.row()]}: " if self.splits is not None else ""
+            return f"{where}{SEVERITY_TEXT.get(f.severity, f.severity)} {f.kind}: {f.message}"
         return None
 
 

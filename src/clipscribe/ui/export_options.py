@@ -1,0 +1,141 @@
+"""The option boxes of the export dialog: how to split (one split by ratios, or k rotating
+splits), the label and leakage settings, and the output. Widgets only; the dialog reads them."""
+
+from __future__ import annotations
+
+from datetime import datetime
+
+from PySide6.QtWidgets import (
+    QCheckBox, QComboBox, QDoubleSpinBox, QFormLayout, QGroupBox, QHBoxLayout, QLabel, QLineEdit,
+    QPushButton, QRadioButton, QSpinBox,
+)
+
+SPLITS = (("train", "&Train", 70), ("val", "&Val", 15), ("test", "Te&st", 15))
+MEDIA_MODES = (("Leave media where they are", None), ("Copy media into the export", "copy"),
+               ("Hard-link media (same disk only)", "hardlink"))
+
+
+class ExportOptions:
+    """Mixin of :class:`~.export_dialog.ExportDialog`: builds the option boxes and reads them."""
+
+    def _build_split_box(self) -> QGroupBox:
+        box = QGroupBox("Splits and labels")
+        form = QFormLayout(box)
+        self.one_split = QRadioButton("One split by r&atios")
+        self.one_split.setToolTip("One train/val/test split with the shares below")
+        self.folds = QRadioButton("K rotat&ing splits")
+        self.folds.setToolTip("k splits (split-1 .. split-k): each tests on its own k-th of the "
+                              "groups and trains on the rest, so every clip is tested once")
+        self.one_split.setChecked(True)
+        modes = QHBoxLayout()
+        modes.addWidget(self.one_split)
+        modes.addWidget(self.folds)
+        modes.addStretch(1)
+        form.addRow(modes)
+        self.ratio_spins: dict[str, QSpinBox] = {}
+        for name, text, value in SPLITS:
+            s = QSpinBox()
+            s.setRange(0, 100)
+            s.setSingleStep(5)
+            s.setSuffix(" %")
+            s.setValue(value)
+            s.setToolTip(f"Share of clips for the {name} split; 0 leaves the split out. "
+                         "Shares are scaled to add up to 100 %.")
+            form.addRow(text, s)
+            self.ratio_spins[name] = s
+        self.ratio_total = QLabel()
+        form.addRow("", self.ratio_total)
+        self.k = QSpinBox()
+        self.k.setRange(2, 10)
+        self.k.setValue(5)
+        self.k.setToolTip("Number of rotating splits; at most the number of groups")
+        form.addRow("N&umber of splits", self.k)
+        self.val_share = QSpinBox()
+        self.val_share.setRange(0, 50)
+        self.val_share.setSingleStep(5)
+        self.val_share.setSuffix(" %")
+        self.val_share.setToolTip("Share of each split's training side held out as val "
+                                  "(group-exclusive); 0 for no val")
+        form.addRow("Val shar&e of training", self.val_share)
+        self.seed = QSpinBox()
+        self.seed.setRange(0, 2_147_483_647)
+        self.seed.setToolTip("Seed for placing groups into splits; the same seed and project give "
+                             "the same splits")
+        form.addRow("See&d", self.seed)
+        self.min_agreement = QDoubleSpinBox()
+        self.min_agreement.setRange(0.0, 1.0)
+        self.min_agreement.setSingleStep(0.05)
+        self.min_agreement.setDecimals(2)
+        self.min_agreement.setValue(0.6)
+        self.min_agreement.setToolTip("Without gold, the majority label must be given by at least "
+                                      "this share of the clip's annotators; otherwise the clip is "
+                                      "left out")
+        form.addRow("Minimum a&greement", self.min_agreement)
+        self.radius = QSpinBox()
+        self.radius.setRange(0, 64)
+        self.radius.setValue(8)
+        self.radius.setToolTip("Two clips whose 64-bit fingerprints differ in at most this many "
+                               "bits count as near-duplicate footage")
+        form.addRow("Hamming &radius", self.radius)
+        self.keep_splits = QCheckBox("&Keep clips in the split of the last export")
+        self.keep_splits.setChecked(True)
+        self.keep_splits.setToolTip("Clips exported before stay where they were, so a test set "
+                                    "never leaks into a later training set")
+        form.addRow(self.keep_splits)
+        return box
+
+    def _build_output_box(self) -> QGroupBox:
+        box = QGroupBox("Output")
+        form = QFormLayout(box)
+        self.folder = QLineEdit(str(self.project.folder / "exports" /
+                                    f"export-{datetime.now():%Y%m%d-%H%M}"))
+        self.folder.setToolTip("A new or empty folder; the export appears there only when "
+                               "complete")
+        self.browse = QPushButton("C&hoose…")
+        self.browse.setToolTip("Pick the output folder")
+        row = QHBoxLayout()
+        row.addWidget(self.folder, 1)
+        row.addWidget(self.browse)
+        label = QLabel("&Folder")
+        label.setBuddy(self.folder)
+        form.addRow(label, row)
+        self.media = QComboBox()
+        for text, mode in MEDIA_MODES:
+            self.media.addItem(text, mode)
+        self.media.setToolTip("Leave in place: records name the media path in the project. "
+                              "Copy or hard-link: media go under media/<split>/ in the export.")
+        form.addRow("&Media", self.media)
+        self.webvtt = QCheckBox("&One WebVTT file per clip")
+        self.webvtt.setToolTip("Also write webvtt/<clip>.vtt with the clip's segments and "
+                               "captions")
+        form.addRow(self.webvtt)
+        self.overwrite = QCheckBox("Re&place the folder if it is not empty")
+        self.overwrite.setToolTip("Replace an existing, non-empty output folder as a whole")
+        form.addRow(self.overwrite)
+        return box
+
+    # ---- reading -----------------------------------------------------------------------
+    @property
+    def fold_mode(self) -> bool:
+        """K rotating splits are chosen (else one split by ratios)."""
+        return self.folds.isChecked()
+
+    def ratios(self) -> dict[str, float]:
+        return {n: s.value() / 100 for n, s in self.ratio_spins.items() if s.value() > 0}
+
+    def _key(self) -> tuple:
+        """The settings a check depends on; a check is current while this stays the same."""
+        common = (self.seed.value(), round(self.min_agreement.value(), 4), self.radius.value())
+        if self.fold_mode:
+            return ("folds", self.k.value(), self.val_share.value(), *common)
+        return ("one", tuple(sorted(self.ratios().items())), *common, self.keep_splits.isChecked())
+
+    def _option_widgets(self) -> list:
+        """(widget, enabled when idle) for every option, by the mode now chosen."""
+        folds = self.fold_mode
+        return [(self.one_split, True), (self.folds, True),
+                *((s, not folds) for s in self.ratio_spins.values()),
+                (self.k, folds), (self.val_share, folds), (self.seed, True),
+                (self.min_agreement, True), (self.radius, True), (self.keep_splits, not folds),
+                (self.folder, True), (self.browse, True), (self.media, True), (self.webvtt, True),
+                (self.overwrite, not folds)]  # folds go only into a new or empty folder
