@@ -102,3 +102,23 @@ def test_blocking_finding_in_one_split_needs_override(qtbot, lead, sample, tmp_p
         dlg.grab().save(__import__("os").environ["CLIPSCRIBE_SHOT"])
     manifest = json.loads((out / "split-1" / "manifest.json").read_text(encoding="utf-8"))
     assert manifest["override"]["reason"] == "second camera angle; accepted for the pilot"
+
+
+def test_leakage_model_with_split_column_passes_the_model_tester(qtbot):
+    from PySide6.QtTest import QAbstractItemModelTester
+
+    from clipscribe.export import Finding
+    from clipscribe.ui.app import application
+    from clipscribe.ui.leakage_model import LeakageModel
+    application()
+    m = LeakageModel()
+    QAbstractItemModelTester(m, QAbstractItemModelTester.FailureReportingMode.Fatal)
+    warn = Finding("duplicate-caption", "warning", "a caption in two splits", ("2", "11"))
+    block = Finding("duplicate-media", "blocking", "one file in two splits", ("7", "13"))
+    m.set_findings([warn, block, warn], ["split 1", "split 2", "split 3"])
+    assert m.columnCount() == 5 and m.headers[0] == "Split"
+    # blocking first, each finding still beside its own split
+    assert [m.index(r, 0).data() for r in range(3)] == ["split 2", "split 1", "split 3"]
+    assert m.index(0, 1).data() == "Blocking" and m.index(0, 2).data() == "duplicate-media"
+    m.set_findings([warn])                              # one split again: no split column
+    assert m.columnCount() == 4 and m.index(0, 0).data() == "Warning"
