@@ -24,3 +24,12 @@ def sample_build(tmp_path_factory):
     """(folder, build summary) of the sample project, built once; copy it before changing it."""
     folder = tmp_path_factory.mktemp("sample") / "project"
     return folder, build_sample(folder)
+
+
+@pytest.fixture(autouse=True)
+def _garbage_on_gui_thread(request):
+    """Tests with a Qt application collect garbage on the GUI thread, as the app does."""
+    if "qapp" in request.fixturenames or "qtbot" in request.fixturenames:
+        from clipscribe.ui import gc_guard
+        gc_guard.install(request.getfixturevalue("qapp"))
+    yield

@@ -13,6 +13,7 @@ from sqlalchemy.exc import OperationalError
 
 from .. import Project
 from ..errors import ProjectError, RecordError
+from . import gc_guard
 from .boot import APPLICATION, ORGANISATION
 from .style import STYLE_SHEET
 SCREENSHOT_SIZE = (1440, 900)
@@ -25,6 +26,7 @@ def application() -> QApplication:
     QCoreApplication.setApplicationName(APPLICATION)
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setStyleSheet(STYLE_SHEET)
+    gc_guard.install(app)
     return app
 
 
