@@ -28,8 +28,32 @@ def print_leakage(report) -> None:
         print(f"  [{f.severity}] {f.kind}: {f.message}")
 
 
-def cmd_export(args: argparse.Namespace) -> int:
+def _split_counts(plan) -> str:
+    counts: dict[str, int] = {}
+    for split in plan.assignment.values():
+        counts[split] = counts.get(split, 0) + 1
+    return ", ".join(f"{k} {v}" for k, v in sorted(counts.items()))
+
+
+def _print_left_out(left_out, where: str = "") -> None:
+    if left_out:
+        print(f"left out {len(left_out)} clip(s){where}:")
+        for d in left_out:
+            print(f"  clip {d.clip_id}: {d.reason}")
+
+
+def _write(fn):
+    """Run a write; blocked or failed exports become one-line errors (nothing was written)."""
     from . import export
+    try:
+        return fn()
+    except export.ExportBlocked as exc:
+        raise RecordError(f"{exc} (nothing was written; use --override REASON to accept them)") from None
+    except export.ExportError as exc:
+        raise RecordError(str(exc)) from None
+
+
+def cmd_export(args: argparse.Namespace) -> int:
     from .cli import Bar, _open
     with _open(args) as p:
         if args.folds:
@@ -37,54 +61,31 @@ def cmd_export(args: argparse.Namespace) -> int:
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
                              frozen=args.frozen, hamming_radius=args.radius,
                              progress=Bar("fingerprints"))
-        counts: dict[str, int] = {}
-        for split in plan.assignment.values():
-            counts[split] = counts.get(split, 0) + 1
-        print("splits: " + ", ".join(f"{k} {v}" for k, v in sorted(counts.items())))
-        if plan.left_out:
-            print(f"left out {len(plan.left_out)} clip(s):")
-            for d in plan.left_out:
-                print(f"  clip {d.clip_id}: {d.reason}")
+        print("splits: " + _split_counts(plan))
+        _print_left_out(plan.left_out)
         print_leakage(plan.leakage)
         if args.dry_run:
             return 0
-        try:
-            m = p.write_export(args.out, plan, media_mode=args.media, webvtt=args.webvtt,
-                               override_reason=args.override, overwrite=args.overwrite,
-                               progress=Bar("writing"))
-        except export.ExportBlocked as exc:
-            raise RecordError(f"{exc} (nothing was written; use --override REASON to accept them)") from None
-        except export.ExportError as exc:
-            raise RecordError(str(exc)) from None
+        m = _write(lambda: p.write_export(args.out, plan, media_mode=args.media, webvtt=args.webvtt,
+                                          override_reason=args.override, overwrite=args.overwrite,
+                                          progress=Bar("writing")))
         print(f"wrote {len(m.files)} file(s) to {args.out}")
     return 0
 
 
 def _export_folds(p, args: argparse.Namespace) -> int:
-    from . import export
     from .cli import Bar
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
                          progress=Bar("fingerprints"))
     for i, plan in enumerate(plans, start=1):
-        counts: dict[str, int] = {}
-        for split in plan.assignment.values():
-            counts[split] = counts.get(split, 0) + 1
-        print(f"split {i}: " + ", ".join(f"{k} {v}" for k, v in sorted(counts.items())))
+        print(f"split {i}: " + _split_counts(plan))
         print_leakage(plan.leakage)
-    if plans and plans[0].left_out:
-        print(f"left out {len(plans[0].left_out)} clip(s) in every split:")
-        for d in plans[0].left_out:
-            print(f"  clip {d.clip_id}: {d.reason}")
+    _print_left_out(plans[0].left_out if plans else (), " in every split")
     if args.dry_run:
         return 0
-    try:
-        ms = p.write_folds(args.out, plans, media_mode=args.media, webvtt=args.webvtt,
-                           override_reason=args.override, progress=Bar("writing"))
-    except export.ExportBlocked as exc:
-        raise RecordError(f"{exc} (nothing was written; use --override REASON to accept them)") from None
-    except export.ExportError as exc:
-        raise RecordError(str(exc)) from None
+    ms = _write(lambda: p.write_folds(args.out, plans, media_mode=args.media, webvtt=args.webvtt,
+                                      override_reason=args.override, progress=Bar("writing")))
     print(f"wrote {len(ms)} splits ({sum(len(m.files) for m in ms)} files) to {args.out}")
     return 0
 

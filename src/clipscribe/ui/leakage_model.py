@@ -48,7 +48,30 @@ def _natural(ids) -> list[str]:
     return sorted(ids, key=lambda c: (len(c), c) if c.isdigit() else (1 << 30, c))
 
 
-class RowsModel(QAbstractTableModel):
+class _Table(QAbstractTableModel):
+    """Counts and horizontal headers shared by the tables of this file (``headers`` and
+    ``_count`` come from the subclass)."""
+
+    headers: Sequence[str] = ()
+
+    def _count(self) -> int:
+        raise NotImplementedError
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
+        return 0 if parent.isValid() else self._count()
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
+        return 0 if parent.isValid() else len(self.headers)
+
+    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if (role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal
+                and 0 <= section < len(self.headers)):
+            return self.headers[section]
+        return None
+
+
+class RowsModel(_Table):
     """Rows of plain values under ``headers``; replace them all with :meth:`set_rows`."""
 
     def __init__(self, headers: Sequence[str], parent=None, *, total_row: bool = False) -> None:
@@ -64,18 +87,8 @@ class RowsModel(QAbstractTableModel):
         self.rows = [tuple(r) for r in rows]
         self.endResetModel()
 
-    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self.rows)
-
-    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self.headers)
-
-    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
-                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if (role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal
-                and 0 <= section < len(self.headers)):
-            return self.headers[section]
-        return None
+    def _count(self) -> int:
+        return len(self.rows)
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
         if not index.isValid() or index.row() >= len(self.rows):
@@ -92,7 +105,7 @@ class RowsModel(QAbstractTableModel):
         return None
 
 
-class LeakageModel(QAbstractTableModel):
+class LeakageModel(_Table):
     """Leakage findings (objects with ``kind severity message clips``), blocking first; with
     rotating splits, a first "Split" column names the split each finding was found in."""
 
@@ -124,18 +137,8 @@ class LeakageModel(QAbstractTableModel):
     def finding(self, row: int):
         return self.findings[row]
 
-    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self.findings)
-
-    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: N802
-        return 0 if parent.isValid() else len(self.headers)
-
-    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
-                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if (role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal
-                and 0 <= section < len(self.headers)):
-            return self.headers[section]
-        return None
+    def _count(self) -> int:
+        return len(self.findings)
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
         if not index.isValid() or index.row() >= len(self.findings):
