@@ -43,15 +43,19 @@ class GoldMixin:
             self._log(s, "set", "gold_label", row.id, c.id, before, row_dict(row), who=who)
         self._refresh_clip_state(s, c)
 
+    def _drop_gold_rows(self, s: Session, model, entity: str, clip_id: int, who) -> None:
+        """Delete a clip's gold rows of one kind, each deletion in the edit history."""
+        for row in s.scalars(select(model).where(model.clip_id == clip_id)):
+            before = row_dict(row)
+            s.delete(row)
+            s.flush()
+            self._log(s, "delete", entity, before["id"], clip_id, before, None, who=who)
+
     def set_gold_segments(self, clip: Any, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
         """Replace a clip's gold segments with ``(label, start, end)`` triples."""
         def work(s: Session) -> None:
             c, who = self._clip(s, clip), self._lead(s, lead)
-            for row in s.scalars(select(GoldSegment).where(GoldSegment.clip_id == c.id)):
-                before = row_dict(row)
-                s.delete(row)
-                s.flush()
-                self._log(s, "delete", "gold_segment", before["id"], c.id, before, None, who=who)
+            self._drop_gold_rows(s, GoldSegment, "gold_segment", c.id, who)
             for label, start, end in segments:
                 require(0 <= start < end <= c.frame_count, f"gold segment [{start}, {end}): outside clip {c.id}")
                 row = GoldSegment(clip_id=c.id, label_id=self._label(s, label).id, start_frame=start,
@@ -68,11 +72,7 @@ class GoldMixin:
 
     def _set_gold_captions(self, s: Session, clip: Any, captions: list, lead: Any) -> None:
         c, who = self._clip(s, clip), self._lead(s, lead)
-        for row in s.scalars(select(GoldCaption).where(GoldCaption.clip_id == c.id)):
-            before = row_dict(row)
-            s.delete(row)
-            s.flush()
-            self._log(s, "delete", "gold_caption", before["id"], c.id, before, None, who=who)
+        self._drop_gold_rows(s, GoldCaption, "gold_caption", c.id, who)
         for pos, item in enumerate(captions):
             text, source = (item, None) if isinstance(item, str) else item
             require(bool(text and text.strip()), "gold caption text is blank")
