@@ -127,15 +127,21 @@ def cmd_schema(args: argparse.Namespace) -> int:
 
 
 def cmd_open(args: argparse.Namespace) -> int:
+    from .schema.settings import SETTINGS_FILE
     from .ui.boot import check_qt_runtime, last_project
-    folder = args.project or last_project()
+    folder, note = args.project, ""
     if folder is None:
-        raise ProjectError("no project given and none opened before")
+        folder = last_project()
+        if folder is not None and not (Path(folder) / SETTINGS_FILE).is_file():
+            folder, note = None, f"The project opened last, {folder}, is no longer there."
+        if folder is None and args.screenshot:
+            raise ProjectError(note or "no project given and none opened before")
     problem = check_qt_runtime(screenshot=bool(args.screenshot))
     if problem:
         raise ProjectError(problem)
     from .ui.app import run
-    return run(folder, user=args.user, view=args.view, screenshot=args.screenshot)
+    # with no folder, the window starts by asking for one (open, new, or the sample)
+    return run(folder, user=args.user, view=args.view, screenshot=args.screenshot, note=note)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -182,7 +188,7 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("folder", nargs="?", default="docs/schema")
     sp = add("open", cmd_open, "open the workbench window on a project", project=False, user=True)
     sp.add_argument("project", metavar="DIR", nargs="?",
-                    help="project folder (default: the project opened last)")
+                    help="project folder (default: the project opened last; with none, a start window asks)")
     sp.add_argument("--view", choices=("work", "review"), default="work", help="which view to open on")
     sp.add_argument("--screenshot", metavar="FILE.png", help="render the window to FILE.png and exit")
     _extend(add)

@@ -1,4 +1,5 @@
-"""``clipscribe open`` with no folder reopens the project the workbench showed last."""
+"""``clipscribe open`` with no folder reopens the project the workbench showed last, or starts
+on the start window when there is none (or it is gone)."""
 
 import os
 import subprocess
@@ -12,7 +13,7 @@ from clipscribe.ui.boot import APPLICATION, LAST_PROJECT_KEY, ORGANISATION
 OPEN = "import sys; from clipscribe.cli import main; sys.exit(main(['open', *sys.argv[1:]]))"
 # the folder run() was given, instead of a window
 OPEN_SPY = ("import sys; import clipscribe.ui.app as a; "
-            "a.run = lambda folder, **kw: print('opening', folder) or 0; "
+            "a.run = lambda folder, **kw: print('opening', folder, kw.get('note', '')) or 0; "
             "from clipscribe.cli import main; sys.exit(main(['open', *sys.argv[1:]]))")
 
 
@@ -29,8 +30,22 @@ def _remember(config, folder):
     s.sync()
 
 
-def test_no_folder_and_none_before_is_one_line_and_exit_1(tmp_path):
-    run = _run(OPEN, tmp_path / "config")
+def test_no_folder_and_none_before_starts_on_the_start_window(tmp_path):
+    spied = _run(OPEN_SPY, tmp_path / "config")
+    assert spied.returncode == 0, spied.stderr
+    assert spied.stdout.strip() == "opening None"
+
+
+def test_a_remembered_project_that_is_gone_is_said_on_the_start_window(tmp_path):
+    config = tmp_path / "config"
+    _remember(config, tmp_path / "moved-away")
+    spied = _run(OPEN_SPY, config)
+    assert spied.stdout.strip() == (f"opening None The project opened last, "
+                                    f"{tmp_path / 'moved-away'}, is no longer there.")
+
+
+def test_screenshot_with_no_folder_and_none_before_is_one_line_and_exit_1(tmp_path):
+    run = _run(OPEN, tmp_path / "config", "--screenshot", tmp_path / "x.png")
     assert run.returncode == 1
     assert run.stderr.strip().splitlines() == [
         "clipscribe: error: no project given and none opened before"]

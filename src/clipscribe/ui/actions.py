@@ -100,6 +100,8 @@ def build_actions(w) -> dict[str, QAction]:
         "export": A("Export dataset…", "Ctrl+Shift+E", lambda: _open_export(w), "File",
                     tip="Check train/val/test splits for leakage, then write the dataset"
                     if lead else "Only a lead can export a dataset"),
+        "open_other": A("Open another project…", "Ctrl+O", w.open_other_project, "File",
+                        tip="Close this project and open, make or build another"),
         "quit": A("Quit", Key.Quit, w.close, "File"),
     }
     acts["export"].setEnabled(lead)

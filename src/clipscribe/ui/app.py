@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 from PySide6.QtCore import QCoreApplication, QSettings, QTimer
+from PySide6.QtGui import QIcon
 from PySide6.QtWidgets import QApplication
 
 from sqlalchemy.exc import OperationalError
@@ -16,6 +17,8 @@ from ..errors import ProjectError, RecordError
 from . import gc_guard
 from .boot import APPLICATION, ORGANISATION
 from .style import STYLE_SHEET
+
+ICON = Path(__file__).with_name("assets") / "clipscribe.svg"
 SCREENSHOT_SIZE = (1440, 900)
 SCREENSHOT_TIMEOUT_MS = 20000
 
@@ -26,6 +29,8 @@ def application() -> QApplication:
     QCoreApplication.setApplicationName(APPLICATION)
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setStyleSheet(STYLE_SHEET)
+    app.setWindowIcon(QIcon(str(ICON)))
+    app.setDesktopFileName("clipscribe")  # matches clipscribe.desktop (Wayland app id)
     gc_guard.install(app)
     return app
 
@@ -38,30 +43,65 @@ def open_window(project: Project, *, view: str = "work", settings: QSettings | N
     return window
 
 
-def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work",
-        screenshot: str | os.PathLike | None = None, password: str | None = None) -> int:
+def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str = "work",
+        screenshot: str | os.PathLike | None = None, password: str | None = None,
+        note: str = "") -> int:
     """Open the project in ``folder`` in the workbench; returns the exit code.
 
-    A project on a server that wants a password nobody gave is opened after a login dialog
-    (cancelling it exits 0). With ``screenshot`` the window is drawn on the first clip, saved
-    to that PNG file once the frame, thumbnails and motion curve are shown (or after a
-    timeout), and the app quits; it never asks for a login.
+    With ``folder`` None the start window asks for one (open, make new, or build the sample;
+    ``note`` says why it shows). A project that cannot be opened is reported on stderr and, in
+    the window, brings the start window back with the reason. A project on a server that wants
+    a password nobody gave is opened after a login dialog (cancelling it exits 0). With
+    ``screenshot`` the window is drawn on the first clip, saved to that PNG file once the
+    frame, thumbnails and motion curve are shown (or after a timeout), and the app quits; it
+    never asks for anything and an unopenable project exits 2.
     """
-    from .login import ask_with_dialog, open_project
+    from . import start
     app = application()
+    code = 0
+    while True:
+        if folder is None:
+            if screenshot:
+                print("clipscribe: --screenshot needs a project folder", file=sys.stderr)
+                return 2
+            folder = start.choose_project(note)
+            if folder is None:  # the start window was closed
+                return code
+        project, problem = _open(folder, user=user, password=password, ask=not screenshot)
+        if problem is not None:
+            print(f"clipscribe: {problem}", file=sys.stderr)
+            if screenshot:
+                return 2
+            folder, note = None, problem  # back to the start window, saying why
+            continue
+        if project is None:  # the login was cancelled
+            return code
+        code = _show(app, project, view=view, screenshot=screenshot)
+        project.close()
+        folder = None if screenshot else start.take_switch()  # File > Open another project
+        if folder is None:
+            return code
+        user = password = None
+        view, note = "work", ""
+
+
+def _open(folder, *, user, password, ask: bool) -> tuple[Project | None, str | None]:
+    """(project or None if the login was cancelled, None) or (None, one line saying why not)."""
+    from .login import ask_with_dialog, open_project
     try:
         project = open_project(folder, user=user, password=password,
-                               ask=None if screenshot else ask_with_dialog)
+                               ask=ask_with_dialog if ask else None)
     except (ProjectError, RecordError, OperationalError) as exc:
-        print(f"clipscribe: {(str(exc).splitlines() or [''])[0]}", file=sys.stderr)
-        return 2
-    if project is None:  # the login was cancelled
-        return 0
-    if project.role(project.user) is None:
-        print(f"clipscribe: {project.user!r} is not a person in this project "
-              "(add them, or pass --user NAME)", file=sys.stderr)
+        return None, (str(exc).splitlines() or [""])[0]
+    if project is not None and project.role(project.user) is None:
+        name = project.user
         project.close()
-        return 2
+        return None, f"{name!r} is not a person in this project (add them, or pass --user NAME)"
+    return project, None
+
+
+def _show(app: QApplication, project: Project, *, view: str, screenshot) -> int:
+    """Show the window on ``project`` until it closes (or render it to ``screenshot``)."""
     settings = QSettings()
     if screenshot:
         settings = QSettings(str(Path(screenshot).with_suffix(".ini")), QSettings.Format.IniFormat)
@@ -102,5 +142,4 @@ def run(folder: str | os.PathLike, *, user: str | None = None, view: str = "work
     else:
         window.show()
         code = app.exec()
-    project.close()
     return code

@@ -5,10 +5,13 @@ from __future__ import annotations
 
 import ctypes
 import os
+from pathlib import Path
 
-ORGANISATION = "clipscribe"      # QSettings names of the workbench
-APPLICATION = "workbench"
+ORGANISATION = "clipscribe"      # QSettings names of the workbench; APPLICATION is also the
+APPLICATION = "clipscribe"       # X11 window class, matched by StartupWMClass in clipscribe.desktop
 LAST_PROJECT_KEY = "lastProject"  # the folder of the project the workbench showed last
+RECENT_KEY = "recentProjects"     # folders of the projects shown lately, newest first
+RECENT_MAX = 8
 
 # shared library -> Debian/Ubuntu package that provides it
 LIBRARIES = {
@@ -76,3 +79,25 @@ def last_project() -> str | None:
     QCoreApplication.setApplicationName(APPLICATION)
     value = QSettings().value(LAST_PROJECT_KEY, None)
     return str(value) if value else None
+
+
+def remember_project(settings, folder) -> None:
+    """Note ``folder`` as the project shown last and at the head of the recent list."""
+    folder = str(Path(folder).resolve())
+    settings.setValue(LAST_PROJECT_KEY, folder)
+    recent = [f for f in _as_list(settings.value(RECENT_KEY, [])) if f != folder]
+    settings.setValue(RECENT_KEY, [folder, *recent][:RECENT_MAX])
+
+
+def recent_projects(settings) -> list[Path]:
+    """The recent project folders that still hold a project, newest first."""
+    from ..schema.settings import SETTINGS_FILE
+    folders = [Path(f) for f in _as_list(settings.value(RECENT_KEY, []))]
+    return [f for f in folders if (f / SETTINGS_FILE).is_file()]
+
+
+def _as_list(value) -> list[str]:
+    # QSettings hands back a one-element list as a plain string on some back ends
+    if value is None:
+        return []
+    return [value] if isinstance(value, str) else [str(v) for v in value]

@@ -6,11 +6,11 @@ from __future__ import annotations
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QCloseEvent, QImage
 from PySide6.QtWidgets import (
-    QDockWidget, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
+    QDialog, QDockWidget, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
 
 from .actions import build_actions
-from .boot import LAST_PROJECT_KEY
+from .boot import remember_project
 from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
 from .dialogs import CautionsNote, ShortcutSheet
@@ -304,6 +304,18 @@ class MainWindow(SegmentOps, QMainWindow):
     def show_shortcuts(self) -> None:
         ShortcutSheet(self.all_actions(), self).exec()
 
+    def open_other_project(self) -> None:
+        """Choose another project in the start window; this window closes and it opens."""
+        from .start import StartWindow, request_switch, take_switch
+        chooser = StartWindow(settings=self.settings, parent=self)
+        if chooser.exec() != QDialog.DialogCode.Accepted or chooser.chosen is None:
+            return
+        if chooser.chosen.resolve() == self.project.folder.resolve():
+            return
+        request_switch(chooser.chosen)
+        if not self.close():  # refused: a caption conflict is still open
+            take_switch()
+
     def show_cautions(self) -> None:
         CautionsNote(self).exec()
 
@@ -314,7 +326,7 @@ class MainWindow(SegmentOps, QMainWindow):
             self._resume_timer.start()
 
     def _write_resume(self) -> None:
-        self.settings.setValue(LAST_PROJECT_KEY, str(self.project.folder.resolve()))
+        remember_project(self.settings, self.project.folder)
         if self.clip is not None:
             key = f"resume/{self.project.folder.resolve()}"
             self.settings.setValue(f"{key}/clip", self.clip.id)

@@ -9,6 +9,7 @@ def build_menus(w) -> None:
     a = w.actions_
     bar = w.menuBar()
     m = bar.addMenu("&File")
+    m.addAction(a["open_other"])
     m.addAction(a["export"])
     m.addSeparator()
     m.addAction(a["quit"])
