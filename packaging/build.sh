@@ -10,13 +10,14 @@
 #   clipscribe-<version>-linux-<arch>.tar.gz   that folder plus the desktop entry, the icons and
 #                                       install.sh, ready to hand to annotators
 # Needs Python 3.11+ with venv and network access to PyPI (for the build tools and the
-# dependencies); nothing else. PYTHON=... picks the interpreter.
+# dependencies); nothing else. PYTHON=... picks the interpreter; CLIPSCRIBE_DIST=... writes
+# somewhere other than dist/ (the scratch files stay in build/).
 set -euo pipefail
 ROOT="$(cd "$(dirname "$0")/.." && pwd)"
 cd "$ROOT"
 PYTHON="${PYTHON:-python3}"
 VENV="$ROOT/build/packaging-venv"
-DIST="$ROOT/dist"
+DIST="${CLIPSCRIBE_DIST:-$ROOT/dist}"
 step() { printf '\n== %s\n' "$*"; }
 
 step "build tools in $VENV"
@@ -27,7 +28,9 @@ fi
 "$VENV/bin/python" -m pip install --quiet -r packaging/requirements-build.txt
 
 step "wheel and sdist"
-rm -rf "$DIST" build/pyinstaller
+mkdir -p "$DIST"
+# only what this script writes: CLIPSCRIBE_DIST may well be a folder holding other things
+rm -rf "$DIST/clipscribe" "$DIST"/clipscribe-*.whl "$DIST"/clipscribe-*.tar.gz build/pyinstaller
 "$VENV/bin/python" -m build --outdir "$DIST" . >build/python-build.log 2>&1 \
     || { tail -40 build/python-build.log; exit 1; }
 "$VENV/bin/python" -m twine check --strict "$DIST"/*.whl "$DIST"/*.tar.gz
@@ -55,6 +58,7 @@ if [ "$(uname -s)" = "Linux" ]; then
     cp -a packaging/icons/hicolor "$STAGE/icons"
     cp packaging/linux/README.txt "$STAGE/README.txt"
     tar -C "$ROOT/build" -czf "$DIST/$NAME.tar.gz" "$NAME"
+    rm -rf "$STAGE"
 fi
 
 step "done"

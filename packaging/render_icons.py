@@ -41,7 +41,8 @@ def render_png(size: int, source: Path = SOURCE) -> bytes:
     from PySide6.QtGui import QGuiApplication, QImage, QPainter
     from PySide6.QtSvg import QSvgRenderer
 
-    _app = QGuiApplication.instance() or QGuiApplication([])  # QImage text/fonts need one
+    if QGuiApplication.instance() is None:  # the SVG renderer's fonts and paint engine need one
+        render_png.app = QGuiApplication([])
     renderer = QSvgRenderer(str(source))
     if not renderer.isValid():
         raise SystemExit(f"render_icons: {source} is not a valid SVG")
@@ -108,7 +109,7 @@ def main(argv: list[str] | None = None) -> int:
             path.parent.mkdir(parents=True, exist_ok=True)
             path.write_bytes(data)
     for path in stale:
-        print(("stale: " if args.check else "wrote ") + str(path.relative_to(HERE.parent)))
+        print(("stale: " if args.check else "wrote ") + os.path.relpath(path, HERE.parent))
     return 1 if args.check and stale else 0
 
 

@@ -10,12 +10,15 @@
 # a dry-run `export` answer; the Linux archive installs into a scratch prefix with install.sh,
 # the installed link starts, the desktop entry validates (when desktop-file-validate is
 # installed), and --uninstall takes everything out again. Exit status 0 means all passed.
+# CLIPSCRIBE_DIST=... checks (and builds into) another folder than dist/.
 set -euo pipefail
 ROOT="$(cd "$(dirname "$0")/.." && pwd)"
+DIST="${CLIPSCRIBE_DIST:-$ROOT/dist}"
+export CLIPSCRIBE_DIST="$DIST"
 if [ "${1:-}" != "--no-build" ]; then
     "$ROOT/packaging/build.sh"
 fi
-APP="$ROOT/dist/clipscribe/clipscribe"
+APP="$DIST/clipscribe/clipscribe"
 [ -x "$APP" ] || { echo "smoke: $APP not built" >&2; exit 1; }
 WORK="$(mktemp -d -t clipscribe-smoke.XXXXXX)"
 trap 'rm -rf "$WORK"' EXIT
@@ -41,6 +44,9 @@ print(f"{w}x{h}, {len(data) // 1024} KiB")
 PY
 }
 
+for data in clipscribe/ui/assets/clipscribe.svg clipscribe/store/migrations/env.py; do
+    [ -f "$DIST/clipscribe/_internal/$data" ] || fail "not bundled: $data"
+done
 out="$("${BARE[@]}" "$APP" --version)" && [[ "$out" == clipscribe\ * ]] || fail "--version: $out"
 pass "--version: $out"
 t=$(date +%s.%N)
@@ -59,7 +65,7 @@ pass "agreement --json"
 "${BARE[@]}" "$APP" export "$WORK/sample" "$WORK/export" --dry-run >"$WORK/export.txt" || fail "export --dry-run"
 pass "export --dry-run: $(head -1 "$WORK/export.txt")"
 
-ARCHIVE="$(ls "$ROOT"/dist/clipscribe-*-linux-*.tar.gz 2>/dev/null | head -1)"
+ARCHIVE="$(ls "$DIST"/clipscribe-*-linux-*.tar.gz 2>/dev/null | head -1)"
 if [ -n "$ARCHIVE" ]; then
     tar -C "$WORK" -xzf "$ARCHIVE"
     UNPACKED="$(ls -d "$WORK"/clipscribe-*-linux-*/)"
@@ -81,4 +87,4 @@ if [ -n "$ARCHIVE" ]; then
     [ -z "$left" ] || fail "left after --uninstall: $left"
     pass "install.sh --uninstall leaves nothing"
 fi
-echo "smoke: all passed ($(du -sh "$ROOT/dist/clipscribe" | cut -f1) app folder)"
+echo "smoke: all passed ($(du -sh "$DIST/clipscribe" | cut -f1) app folder)"
