@@ -189,7 +189,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("open", cmd_open, "open the workbench window on a project", project=False, user=True)
     sp.add_argument("project", metavar="DIR", nargs="?",
                     help="project folder (default: the project opened last; with none, a start window asks)")
-    sp.add_argument("--view", choices=("work", "review"), default="work", help="which view to open on")
+    sp.add_argument("--view", choices=("work", "review", "board"), default="work",
+                    help="which view to open on: work, the review desk, or the agreement board")
     sp.add_argument("--screenshot", metavar="FILE.png", help="render the window to FILE.png and exit")
     _extend(add)
     return ap

@@ -42,3 +42,34 @@ def test_desk_and_board_widgets_draw(qtbot, window):
     qtbot.waitUntil(lambda: "recipe: kappa|cohen" in page.board.details.toPlainText())
     grab = page.board.grab()
     assert grab.width() > 600 and grab.height() > 400
+
+
+def test_open_view_board_screenshot_waits_for_the_numbers(sample, tmp_path):
+    folder, _ = sample
+    out = tmp_path / "board.png"
+    run = _run("import sys; from clipscribe.cli import main; "
+               "sys.exit(main(['open', sys.argv[1], '--view', 'board', '--screenshot', sys.argv[2]]))",
+               folder, out)
+    assert run.returncode == 0, run.stderr
+    image = QImage(str(out))
+    assert not image.isNull() and image.width() >= 1280 and image.height() >= 800
+
+
+def test_view_board_opens_on_the_agreement_board(qtbot, sample, tmp_path):
+    from PySide6.QtCore import QSettings
+
+    from clipscribe import Project
+    from clipscribe.ui.app import application, open_window
+    folder, _ = sample
+    application()
+    with Project.open(folder) as p:
+        w = open_window(p, view="board",
+                        settings=QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat))
+        qtbot.addWidget(w)
+        page = w.review_desk
+        assert w.stack.currentWidget() is not w.stack.widget(0)   # the review view
+        assert page.currentWidget() is page.board
+        with qtbot.waitSignal(page.board.loaded, timeout=30000):
+            pass
+        assert "Krippendorff alpha" in page.board.summary.text()
+        w.close()

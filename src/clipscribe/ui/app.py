@@ -36,10 +36,15 @@ def application() -> QApplication:
 
 
 def open_window(project: Project, *, view: str = "work", settings: QSettings | None = None):
+    """The workbench window on ``view``: "work", "review" (the review desk) or "board" (the
+    agreement board, the review view's second tab)."""
     from .main_window import MainWindow
     from .review import install_review_desk
-    window = MainWindow(project, settings=settings, view=view)
-    install_review_desk(window, view=view)
+    page_view = "review" if view == "board" else view
+    window = MainWindow(project, settings=settings, view=page_view)
+    install_review_desk(window, view=page_view)
+    if view == "board" and hasattr(window.review_desk, "show_board"):
+        window.review_desk.show_board()  # starts computing the board in the background
     return window
 
 
@@ -129,9 +134,13 @@ def _show(app: QApplication, project: Project, *, view: str, screenshot) -> int:
                 done["fired"] = True
                 QTimer.singleShot(150, grab)  # let the last paint land
 
-        desk = getattr(window.review_desk, "desk", None) if view == "review" else None
-        if desk is not None:  # the desk ranks its queue in the background: wait for it
-            desk.ready.connect(once)
+        page = window.review_desk if view in ("review", "board") else None
+        if view == "board" and hasattr(page, "board"):  # computed in the background: wait
+            page.board.loaded.connect(once)
+        elif hasattr(page, "desk"):  # the desk ranks its queue in the background: wait for it
+            page.desk.ready.connect(once)
+        elif page is not None:  # the refusal note of a non-lead: nothing to wait for
+            once()
         else:
             window.ready.connect(once)
             if window.clip is None:
