@@ -3,6 +3,7 @@
 import subprocess
 import sys
 
+import pytest
 from PySide6.QtGui import QImage
 
 
@@ -11,12 +12,13 @@ def _run(code, *args):
                           text=True, timeout=90)
 
 
-def test_open_view_review_screenshot(sample, tmp_path):
+@pytest.mark.parametrize("view", ["review", "board"])  # the board waits for its numbers
+def test_open_view_screenshot(sample, tmp_path, view):
     folder, _ = sample
-    out = tmp_path / "review.png"
+    out = tmp_path / f"{view}.png"
     run = _run("import sys; from clipscribe.cli import main; "
-               "sys.exit(main(['open', sys.argv[1], '--view', 'review', '--screenshot', sys.argv[2]]))",
-               folder, out)
+               "sys.exit(main(['open', sys.argv[1], '--view', sys.argv[3], '--screenshot', sys.argv[2]]))",
+               folder, out, view)
     assert run.returncode == 0, run.stderr
     image = QImage(str(out))
     assert not image.isNull() and image.width() >= 1280 and image.height() >= 800
@@ -42,17 +44,6 @@ def test_desk_and_board_widgets_draw(qtbot, window):
     qtbot.waitUntil(lambda: "recipe: kappa|cohen" in page.board.details.toPlainText())
     grab = page.board.grab()
     assert grab.width() > 600 and grab.height() > 400
-
-
-def test_open_view_board_screenshot_waits_for_the_numbers(sample, tmp_path):
-    folder, _ = sample
-    out = tmp_path / "board.png"
-    run = _run("import sys; from clipscribe.cli import main; "
-               "sys.exit(main(['open', sys.argv[1], '--view', 'board', '--screenshot', sys.argv[2]]))",
-               folder, out)
-    assert run.returncode == 0, run.stderr
-    image = QImage(str(out))
-    assert not image.isNull() and image.width() >= 1280 and image.height() >= 800
 
 
 def test_view_board_opens_on_the_agreement_board(qtbot, sample, tmp_path):
