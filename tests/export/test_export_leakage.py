@@ -177,3 +177,40 @@ def test_ascii_fast_path_matches_the_general_rule():
         t = "".join(rng.choice(alphabet) for _ in range(rng.randint(0, 30)))
         general = re.sub(r"[\W_]+", " ", unicodedata.normalize("NFKC", t).casefold()).strip()
         assert normalise_caption(t) == general
+
+
+def test_near_duplicates_of_different_groups_within_one_split_are_a_warning_per_cluster():
+    far = _flip(BASE_FP, range(0, 64, 2))  # 32 bits from BASE_FP: another scene
+    clips = [_clip("a", fp=BASE_FP), _clip("b", fp=_flip(BASE_FP, [3])),            # 1 bit
+             _clip("c", fp=_flip(BASE_FP, [3, 10, 20, 30, 40, 50, 60, 61, 62])),   # 8 from b, 9 from a
+             _clip("x", fp=far), _clip("y", fp=_flip(far, [7, 9])),                # 2 bits
+             _clip("z", fp=_flip(BASE_FP, [1, 2]))]                                # in test
+    a = {"a": "train", "b": "train", "c": "train", "x": "train", "y": "train", "z": "test"}
+    r = check_leakage(clips, a)
+    within = [f for f in r.findings if f.kind == "near-duplicate-media-in-split"]
+    # a-b-c are one cluster through b (a-c is 9 bits, beyond radius 8, joined by the chain)
+    assert [(f.clips, f.severity, f.details["split"]) for f in within] == [
+        (("a", "b", "c"), "warning", "train"), (("x", "y"), "warning", "train")]
+    assert within[0].details["pairs"] == [["a", "b", 1], ["b", "c", 8]]
+    assert "different groups" in within[0].message
+    # z in test is near a and b: those pairs block, and z joins no within-split cluster
+    assert sorted(f.clips for f in r.blocking) == [("a", "z"), ("b", "z")]
+    strict = check_leakage(clips, a, hamming_radius=1)
+    assert [f.clips for f in strict.findings if f.kind == "near-duplicate-media-in-split"] == [
+        ("a", "b")]
+
+
+def test_identical_media_within_a_split_is_not_also_a_near_duplicate_cluster():
+    clips = [_clip("a", sha="d" * 64, fp=BASE_FP), _clip("b", sha="d" * 64, fp=BASE_FP)]
+    assert _kinds(check_leakage(clips, {"a": "train", "b": "train"})) == ["duplicate-media-in-split"]
+
+
+def test_look_alikes_of_one_group_in_one_split_are_expected_and_not_reported():
+    clips = [_clip("a", group="cam-1", fp=BASE_FP), _clip("b", group="cam-1", fp=_flip(BASE_FP, [3])),
+             _clip("c", group="cam-2", fp=_flip(BASE_FP, [9]))]
+    r = check_leakage(clips, {"a": "train", "b": "train", "c": "train"})
+    [f] = [f for f in r.findings if f.kind == "near-duplicate-media-in-split"]
+    assert f.clips == ("a", "b", "c")  # c joins through its own near pairs with a and b
+    assert [p[:2] for p in f.details["pairs"]] == [["a", "c"], ["b", "c"]]  # a-b (one group) left out
+    same = [_clip("a", group="cam-1", fp=BASE_FP), _clip("b", group="cam-1", fp=_flip(BASE_FP, [3]))]
+    assert _kinds(check_leakage(same, {"a": "train", "b": "train"})) == []

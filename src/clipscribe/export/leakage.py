@@ -2,8 +2,8 @@
 
 Blocking kinds (stop an export unless overridden): ``group-split``, ``duplicate-media``,
 ``near-duplicate-media``, ``missing-consent``, ``missing-licence``. Warning kinds:
-``duplicate-media-in-split``, ``duplicate-caption``, ``near-duplicate-caption``,
-``no-checksum``, ``no-fingerprint``. Caption findings are warnings because short captions of
+``duplicate-media-in-split``, ``near-duplicate-media-in-split``, ``duplicate-caption``,
+``near-duplicate-caption``, ``no-checksum``, ``no-fingerprint``. Caption findings are warnings because short captions of
 different clips often coincide; the media checks decide whether the same footage crossed splits.
 """
 
@@ -22,7 +22,8 @@ from .textdup import normalise_caption, similar_pairs
 
 Severity = Literal["blocking", "warning"]
 _KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missing-consent",
-               "missing-licence", "duplicate-media-in-split", "duplicate-caption",
+               "missing-licence", "duplicate-media-in-split", "near-duplicate-media-in-split",
+               "duplicate-caption",
                "near-duplicate-caption", "no-checksum", "no-fingerprint"]
 
 
@@ -118,21 +119,25 @@ def _identical_media(clips: Sequence[ClipInput], assignment: Mapping[str, str]) 
 
 def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                 radius: int) -> list[Finding]:
+    """Cross-split pairs block, one finding per pair. Look-alikes within one split from
+    different groups are a warning, one per cluster (clips joined by any chain of near pairs):
+    the grouping probably missed that they share a source, so a later split could part them.
+    Look-alikes of one group are expected (takes of the same source) and not reported."""
     have = [c for c in clips if c.fingerprint is not None]
     if len(have) < 2:
         return []
     codes = as_uint64([c.fingerprint for c in have])
-    names, split_idx = np.unique([assignment[c.clip_id] for c in have], return_inverse=True)
-    # Every cross-split pair has a member outside the largest split: query only those.
-    largest = np.argmax(np.bincount(split_idx))
-    queries = np.flatnonzero(split_idx != largest)
-    i, j, d = near_pairs(codes, radius, queries=queries)
-    cross = split_idx[i] != split_idx[j]
-    out = []
-    for a, b, dist in zip(i[cross].tolist(), j[cross].tolist(), d[cross].tolist()):
+    split_of = [assignment[c.clip_id] for c in have]
+    i, j, d = near_pairs(codes, radius)
+    out, within = [], []
+    for a, b, dist in zip(i.tolist(), j.tolist(), d.tolist()):
         ca, cb = have[a], have[b]
         if ca.sha256 and cb.sha256 and ca.sha256.lower() == cb.sha256.lower():
             continue  # already a duplicate-media finding
+        if split_of[a] == split_of[b]:
+            if ca.group is None or ca.group != cb.group:
+                within.append((a, b, dist))
+            continue
         pair = tuple(sorted((ca.clip_id, cb.clip_id)))
         out.append(Finding(
             "near-duplicate-media", "blocking",
@@ -140,6 +145,36 @@ def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
             f"({assignment[pair[1]]}) look alike: fingerprints differ in {dist} of 64 bits "
             f"(radius {radius})",
             pair, {"hamming": dist, "splits": {p: assignment[p] for p in pair}}))
+    out.sort(key=lambda f: f.clips)
+    return out + _clusters_in_split(have, split_of, within, radius)
+
+
+def _clusters_in_split(have: Sequence[ClipInput], split_of: Sequence[str],
+                       pairs: list[tuple[int, int, int]], radius: int) -> list[Finding]:
+    parent = list(range(len(have)))  # union-find over the clips that have near pairs
+
+    def root(x: int) -> int:
+        while parent[x] != x:
+            parent[x] = parent[parent[x]]
+            x = parent[x]
+        return x
+
+    for a, b, _ in pairs:
+        parent[root(a)] = root(b)
+    clusters: dict[int, list[tuple[int, int, int]]] = defaultdict(list)
+    for a, b, dist in pairs:
+        clusters[root(a)].append((a, b, dist))
+    out = []
+    for members in clusters.values():
+        ids = sorted({have[x].clip_id for p in members for x in p[:2]})
+        split = split_of[members[0][0]]
+        out.append(Finding(
+            "near-duplicate-media-in-split", "warning",
+            f"{len(ids)} clips of different groups in split {split!r} look alike (fingerprints "
+            f"within {radius} of 64 bits): check their groups, or a later split may part them",
+            tuple(ids),
+            {"split": split, "pairs": sorted([sorted((have[a].clip_id, have[b].clip_id)) + [dist]
+                                              for a, b, dist in members])}))
     return sorted(out, key=lambda f: f.clips)
 
 
@@ -220,9 +255,9 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     Only clips present in ``assignment`` are checked. Near-duplicate media: two clips in
     different splits whose 64-bit perceptual fingerprints differ in at most ``hamming_radius``
     bits (Hamming distance, found exactly by multi-index hashing; see
-    :mod:`clipscribe.export.neardup`); near-duplicates within one split are not leakage and are
-    not reported. Every cross-split pair has a member outside the largest split, so only those
-    clips are looked up in the index. Captions:
+    :mod:`clipscribe.export.neardup`). Near-duplicates within one split are not leakage; those
+    of different groups are one warning per cluster (a grouping that missed a shared source
+    leaks in a later split). Captions:
     identical after normalisation, or word 3-gram shingle Jaccard >= ``caption_threshold``
     (see :mod:`clipscribe.export.textdup`); ``caption_threshold=1.0`` keeps only identical text.
 
@@ -255,7 +290,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         "clips_checked": len(clips),
         "hamming_radius": hamming_radius,
         "near_duplicate_media": "64-bit perceptual fingerprints with Hamming distance <= radius, "
-                                "across splits; exact multi-index hashing search",
+                                "across splits (blocking) and within one across groups (a "
+                                "warning per cluster); exact multi-index hashing search",
         "identical_media": "equal sha256 of the media file",
         "caption_normalisation": "NFKC, case fold, punctuation to space, collapse whitespace",
         "caption_threshold": caption_threshold,
