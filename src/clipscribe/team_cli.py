@@ -1,5 +1,6 @@
-"""Team-mode commands: move a project onto a server, give people logins, plan assignments,
-pull the next clip, switch blind mode. Registered by :func:`clipscribe.cli._extend`."""
+"""Team-mode commands: move a project onto a server, give people logins, change their roles,
+plan assignments, pull the next clip, switch blind mode. Registered by
+:func:`clipscribe.cli._extend`."""
 
 from __future__ import annotations
 
@@ -63,6 +64,15 @@ def cmd_password(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_role(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        before = p.role(args.name)
+        p.set_role(args.name, args.role)
+        article = "a" if args.role == "lead" else "an"
+        print(f"{args.name!r} is {'still' if before == args.role else 'now'} {article} {args.role}")
+    return 0
+
+
 def cmd_blind(args: argparse.Namespace) -> int:
     with _open(args) as p:
         if args.mode is not None:
@@ -90,6 +100,11 @@ def register(add) -> None:
     sp = add("set-password", cmd_password, "give a person a login or a new password "
              "(from CLIPSCRIBE_NEW_PASSWORD)", user=True)
     sp.add_argument("name")
+    sp = add("set-role", cmd_role, "make a person an annotator or a lead (leads only; on a "
+             "server their login moves group too, which needs CREATEROLE, as the admin has)",
+             user=True)
+    sp.add_argument("name", metavar="NAME", help="the person, as added with add-person")
+    sp.add_argument("role", choices=("annotator", "lead"), help="their new role")
     sp = add("blind", cmd_blind, "show or set blind mode (annotators cannot read each other's work)",
              user=True)
     sp.add_argument("mode", nargs="?", choices=("on", "off"))

@@ -22,8 +22,8 @@ from sqlalchemy.orm import Session
 
 from ..errors import RecordError, StaleWriteError
 from ..store import team
-from ..store.models import Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
-from .base import require
+from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
+from .base import require, row_dict
 
 T = TypeVar("T")
 DEFAULT_LEASE_S = 2 * 3600.0
@@ -131,6 +131,46 @@ class TeamMixin:
             self._log(s, "login", "annotator", row.id, None, None, {"db_login": row.db_login})
             return row.db_login
         return self._write(work)
+
+    def set_role(self, name: str, role: str) -> None:
+        """Make a person an annotator or a lead. Lead only; the last lead stays a lead.
+        Setting the role a person already has changes nothing. On a server their login (if
+        they have one) moves to the matching group role in the same transaction; the
+        connected login needs CREATEROLE (the admin) for that."""
+        require(role in ROLES, f"annotator {name!r}: role must be one of {', '.join(ROLES)}, not {role!r}")
+        def work(s: Session) -> None:
+            self._team_lead(s, "change roles")
+            row = self._annotator(s, name)
+            if row.role == role:
+                return
+            # the lead rows stay locked to the end, so two leads demoting each other at once
+            # on a server cannot leave none
+            leads = s.scalars(select(Annotator.id).where(Annotator.role == "lead").with_for_update()).all()
+            if row.role == "lead" and len(leads) <= 1:
+                raise RecordError(f"annotator {row.name!r}: the only lead; at least one lead must remain")
+            before = row_dict(row)
+            row.role = role
+            s.flush()
+            self._move_login(s, row)
+            self._log(s, "set", "annotator", row.id, None, before, row_dict(row))
+        self._write(work)
+
+    def _move_login(self, s: Session, row: Annotator) -> None:
+        """On a server, put the person's login into the group of their (new) role. Leads are
+        told apart by group membership and the annotators row together, so both change."""
+        if not self.is_server or not row.db_login or not team.role_exists(s.connection(), row.db_login):
+            return  # no login yet: set_password later creates it in the right group
+        if row.role != "lead" and row.db_login == team.database_owner(s.connection()):
+            raise RecordError(f"annotator {row.name!r}: their login {row.db_login!r} owns the "
+                              "project's database and passes every check as a lead; it stays a lead")
+        try:
+            team.move_group(s.connection(), row.db_login, row.role)
+        except PermissionError as exc:
+            raise TeamPermissionError(f"{row.name!r}: the server refused to move login "
+                                      f"{row.db_login!r} ({exc}); changing roles needs a login "
+                                      "with CREATEROLE, such as the admin") from None
+        except ValueError as exc:
+            raise RecordError(f"{row.name!r}: {exc}") from None
 
     def _team_lead(self, s: Session, what: str) -> Annotator:
         who = self._annotator(s, None)

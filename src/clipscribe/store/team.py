@@ -304,6 +304,36 @@ def grant_group(conn: Any, login: str, role: str) -> None:
         sql.Identifier(raw.info.dbname), sql.Identifier(login)))
 
 
+def move_group(conn: Any, login: str, role: str) -> None:
+    """Move ``login`` into the group of ``role`` and out of every other clipscribe group.
+
+    Changing memberships needs CREATEROLE (PostgreSQL 15) or ADMIN OPTION on both groups
+    (16 and later, where a REVOKE also removes only the grants the revoking login made).
+    Raises PermissionError when the server refuses, ValueError when the login still belongs
+    to another group afterwards (a grant made by someone else, or through a third role).
+    """
+    import psycopg
+    from psycopg import sql
+    raw = _driver(conn)
+    others = [g for r, g in GROUPS.items() if r != role]
+    try:
+        for group in others:
+            raw.execute(sql.SQL("REVOKE {} FROM {}").format(sql.Identifier(group), sql.Identifier(login)))
+        grant_group(conn, login, role)
+    except psycopg.errors.InsufficientPrivilege as exc:
+        raise PermissionError(str(exc).strip().splitlines()[0]) from None
+    kept = [g for g in others if raw.execute("SELECT pg_has_role(%s, %s, 'MEMBER')",
+                                             (login, g)).fetchone()[0]]
+    if kept:
+        raise ValueError(f"login {login!r} still belongs to {', '.join(kept)} through a grant "
+                         "this login cannot revoke; revoke it as the role that granted it")
+
+
+def database_owner(conn: Any) -> str:
+    return _driver(conn).execute("SELECT pg_get_userbyid(datdba) FROM pg_database "
+                                 "WHERE datname = current_database()").fetchone()[0]
+
+
 def current_login(conn: Any) -> str:
     return _driver(conn).execute("SELECT current_user").fetchone()[0]
 
