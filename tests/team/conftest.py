@@ -29,6 +29,14 @@ def write_clip(path: Path, seed: int, frames: int = 12) -> Path:
     return path
 
 
+def connect_as(p: Project, login: str, password: str):
+    """A raw autocommit psycopg connection to ``p``'s server database as ``login``."""
+    import psycopg
+    url = p.engine.url
+    return psycopg.connect(host=url.host, port=url.port, dbname=url.database, user=login,
+                           password=password, autocommit=True)
+
+
 def add_clips(p: Project, n: int) -> list[int]:
     ids = []
     for i in range(n):

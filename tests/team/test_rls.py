@@ -11,7 +11,7 @@ from psycopg import sql
 from clipscribe import Project
 from clipscribe.project_parts.team import TeamPermissionError
 
-from .conftest import add_clips
+from .conftest import add_clips, connect_as
 
 pytestmark = pytest.mark.postgres
 SECRET = "SECRET-of-the-other-annotator"
@@ -40,12 +40,6 @@ def team(server_project, uid):
     return p, ann, bob, ids
 
 
-def _connect(p: Project, login: str, password: str) -> psycopg.Connection:
-    url = p.engine.url
-    return psycopg.connect(host=url.host, port=url.port, dbname=url.database, user=login,
-                           password=password, autocommit=True)
-
-
 def _relations(conn: psycopg.Connection) -> list[tuple[str, str, str]]:
     """Every table, view, materialized view and foreign table outside the system schemas."""
     return conn.execute(
@@ -65,7 +59,7 @@ def _readable_rows(conn, schema: str, name: str):
 
 def test_blind_annotator_sees_nothing_of_another_by_any_query(team):
     p, ann, bob, ids = team
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         rels = _relations(conn)
         names = {r[1] for r in rels}
         assert {"captions", "clip_labels", "segments", "edits", "gold_captions"} <= names
@@ -90,7 +84,7 @@ def test_blind_annotator_sees_nothing_of_another_by_any_query(team):
 def test_open_mode_lets_annotators_read_but_not_write_others(team):
     p, ann, bob, ids = team
     p.set_blind(False)
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         texts = [r[0] for r in conn.execute("SELECT text FROM captions")]
         assert any(SECRET in t for t in texts)
         cur = conn.execute("UPDATE captions SET text = 'overwritten' WHERE annotator_id = %s", (ids[bob],))
@@ -120,7 +114,7 @@ def test_open_mode_lets_annotators_read_but_not_write_others(team):
 ])
 def test_annotator_login_is_refused(team, statement):
     p, ann, bob, ids = team
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         with pytest.raises((psycopg.errors.InsufficientPrivilege, psycopg.errors.InvalidSchemaName)):
             conn.execute(statement.format(bob=ids[bob], ann=ids[ann]))
 
@@ -128,7 +122,7 @@ def test_annotator_login_is_refused(team, statement):
 def test_history_is_append_only_even_for_leads(team, uid):
     p, *_ = team
     p.add_annotator(f"lead_{uid}", role="lead", password="pw-l")
-    with _connect(p, f"lead_{uid}", "pw-l") as conn:
+    with connect_as(p, f"lead_{uid}", "pw-l") as conn:
         assert conn.execute("SELECT count(*) FROM edits").fetchone()[0] > 5  # leads read everything
         for statement in ("UPDATE edits SET action = 'x'", "DELETE FROM edits"):
             with pytest.raises(psycopg.errors.InsufficientPrivilege):

@@ -13,7 +13,7 @@ from clipscribe.project_parts.review import NotALeadError
 from clipscribe.project_parts.team import TeamPermissionError
 from clipscribe.store.team import ANNOTATOR_GROUP, LEAD_GROUP
 
-from .conftest import add_clips
+from .conftest import add_clips, connect_as
 
 BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
 
@@ -158,12 +158,6 @@ def test_cli_set_role(tmp_path, capsys):
 
 # ---- on a server: the login follows the role ------------------------------------------------
 
-def _connect(p: Project, login: str, password: str) -> psycopg.Connection:
-    url = p.engine.url
-    return psycopg.connect(host=url.host, port=url.port, dbname=url.database, user=login,
-                           password=password, autocommit=True)
-
-
 def _groups(p: Project, login: str) -> set[str]:
     """The clipscribe groups ``login`` belongs to, asked of the server."""
     with p.engine.connect() as c:
@@ -185,13 +179,13 @@ def team(server_project, uid):
 @pytest.mark.postgres
 def test_promoted_login_does_lead_things_and_demoted_does_not(team, tmp_path):
     p, ann, clip = team
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         assert conn.execute("SELECT count(*) FROM gold_labels").fetchone()[0] == 0
     assert _groups(p, ann) == {ANNOTATOR_GROUP}
 
     p.set_role(ann, "lead")
     assert _groups(p, ann) == {LEAD_GROUP}
-    with _connect(p, ann, "pw-ann") as conn:              # a new connection of their own login
+    with connect_as(p, ann, "pw-ann") as conn:              # a new connection of their own login
         assert conn.execute("SELECT clip_id FROM gold_labels").fetchall() == [(clip,)]
         assert conn.execute("SELECT clipscribe_is_lead()").fetchone()[0] is True
     with Project.open(p.folder, user=ann, password="pw-ann") as a:
@@ -203,7 +197,7 @@ def test_promoted_login_does_lead_things_and_demoted_does_not(team, tmp_path):
 
     p.set_role(ann, "annotator")
     assert _groups(p, ann) == {ANNOTATOR_GROUP}
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         assert conn.execute("SELECT count(*) FROM gold_labels").fetchone()[0] == 0
         assert conn.execute("SELECT clipscribe_is_lead()").fetchone()[0] is False
         with pytest.raises(psycopg.errors.InsufficientPrivilege):    # cannot promote themself back
@@ -227,7 +221,7 @@ def test_person_without_login_changes_only_the_row(server_project, uid):
     assert p.role(name) == "lead"
     p.set_password(name, "pw-later")                     # the login is made in the group of the role
     assert _groups(p, name) == {LEAD_GROUP}
-    with _connect(p, name, "pw-later") as conn:
+    with connect_as(p, name, "pw-later") as conn:
         assert conn.execute("SELECT clipscribe_is_lead()").fetchone()[0] is True
 
 
@@ -260,7 +254,7 @@ def test_lead_login_with_createrole_changes_roles_and_itself(team, uid, pg):
     last = p.history()[-1]
     assert (last.who, last.entity, last.entity_id) == (mo, "annotator", ids_of(p)[mo])
     assert (last.before["role"], last.after["role"]) == ("lead", "annotator")
-    with _connect(p, mo, "pw-mo") as conn:
+    with connect_as(p, mo, "pw-mo") as conn:
         assert conn.execute("SELECT count(*) FROM gold_labels").fetchone()[0] == 0
 
 
@@ -295,7 +289,7 @@ def test_a_membership_the_move_cannot_undo_refuses_the_change(team, uid, pg):
 @pytest.mark.postgres
 def test_an_open_connection_follows_the_change_at_its_next_statement(team):
     p, ann, clip = team
-    with _connect(p, ann, "pw-ann") as conn:
+    with connect_as(p, ann, "pw-ann") as conn:
         assert conn.execute("SELECT count(*) FROM gold_labels").fetchone()[0] == 0
         p.set_role(ann, "lead")
         assert conn.execute("SELECT clip_id FROM gold_labels").fetchall() == [(clip,)]
