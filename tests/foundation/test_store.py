@@ -10,7 +10,7 @@ from alembic.runtime.migration import MigrationContext
 from sqlalchemy import text
 from sqlalchemy.exc import IntegrityError
 
-from clipscribe import Project, ProjectError
+from clipscribe import Project, ProjectError, RecordError
 from clipscribe.store import db
 from clipscribe.store.models import Base
 
@@ -79,6 +79,54 @@ def test_optimistic_version_refuses_stale_caption(project):
     with pytest.raises(StaleWriteError, match="changed by someone else"):
         project.update_caption(cid, "My stale edit", expected_version=v - 1)
     assert project.captions(clip=1)[0][2] == "The arm lifts the blue block."
+
+
+def _caption_deletes(project, cid):
+    return [e for e in project.history(clip=1) if e.entity == "caption" and e.entity_id == cid
+            and e.action == "delete"]
+
+
+def test_delete_with_a_stale_version_is_refused_and_deletes_nothing(project):
+    from clipscribe.errors import StaleWriteError
+    cid = project.add_caption(1, "ann-a", "The arm lifts the red block.")
+    v = project.update_caption(cid, "The arm lifts the blue block.")
+    with pytest.raises(StaleWriteError, match="changed by someone else.*nothing was deleted") as err:
+        project.delete_caption(cid, expected_version=v - 1)
+    assert (err.value.current_text, err.value.current_version) == ("The arm lifts the blue block.", v)
+    assert project.captions(clip=1) == [(1, "ann-a", "The arm lifts the blue block.")]
+    assert _caption_deletes(project, cid) == []
+
+
+def test_delete_at_the_right_version_deletes_with_one_history_row(project):
+    cid = project.add_caption(1, "ann-a", "The arm lifts the red block.")
+    project.delete_caption(cid, expected_version=project.caption_version(cid))
+    assert project.captions(clip=1) == []
+    assert len(_caption_deletes(project, cid)) == 1
+
+
+def test_delete_without_a_version_still_works(project):
+    cid = project.add_caption(1, "ann-a", "The arm lifts the red block.")
+    project.update_caption(cid, "The arm lifts the blue block.")
+    project.delete_caption(cid)
+    assert project.captions(clip=1) == []
+    assert len(_caption_deletes(project, cid)) == 1
+    with pytest.raises(RecordError, match="no such caption"):
+        project.delete_caption(cid)
+
+
+@pytest.mark.parametrize("write", [
+    lambda p, cid, v: p.update_caption(cid, "My edit of a caption now gone", expected_version=v),
+    lambda p, cid, v: p.delete_caption(cid, expected_version=v),
+], ids=["update", "delete"])
+def test_a_versioned_write_to_a_deleted_caption_is_a_stale_write(project, write):
+    from clipscribe.errors import StaleWriteError
+    cid = project.add_caption(1, "ann-a", "The arm lifts the red block.")
+    v = project.caption_version(cid)
+    project.delete_caption(cid)
+    with pytest.raises(StaleWriteError, match="deleted by someone else") as err:
+        write(project, cid, v)
+    assert (err.value.current_text, err.value.current_version) == (None, None)
+    assert project.captions(clip=1) == [] and len(_caption_deletes(project, cid)) == 1
 
 
 def test_create_on_unreachable_server_leaves_no_project(tmp_path):

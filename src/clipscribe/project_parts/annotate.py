@@ -224,13 +224,10 @@ class AnnotateMixin:
     def update_caption(self, caption_id: int, text: str | None = None, *,
                        segment: int | None | type(...) = ..., expected_version: int | None = None) -> int:
         """Change a caption's text and/or segment; returns the new version. With
-        ``expected_version`` a caption changed meanwhile by someone else raises StaleWriteError."""
+        ``expected_version`` a caption changed or deleted meanwhile by someone else raises
+        StaleWriteError."""
         def work(s: Session) -> int:
-            row = s.get(Caption, caption_id)
-            require(row is not None, f"caption {caption_id}: no such caption")
-            if expected_version is not None and row.version != expected_version:
-                raise StaleWriteError(f"caption {caption_id} was changed by someone else "
-                                      f"(version {row.version}, you edited {expected_version}); your text was not saved")
+            row = _caption_to_write(s, caption_id, expected_version, "your text was not saved")
             before = row_dict(row)
             if text is not None:
                 row.text = _caption_text(text)
@@ -246,10 +243,11 @@ class AnnotateMixin:
             return row.version
         return self._write(work)
 
-    def delete_caption(self, caption_id: int) -> None:
+    def delete_caption(self, caption_id: int, *, expected_version: int | None = None) -> None:
+        """Delete a caption. With ``expected_version`` a caption changed or deleted meanwhile by
+        someone else raises StaleWriteError and nothing is deleted."""
         def work(s: Session) -> None:
-            row = s.get(Caption, caption_id)
-            require(row is not None, f"caption {caption_id}: no such caption")
+            row = _caption_to_write(s, caption_id, expected_version, "nothing was deleted")
             before = row_dict(row)
             s.delete(row)
             s.flush()
@@ -316,6 +314,21 @@ class AnnotateMixin:
             c.state = "in_progress"
         else:
             c.state = "new"
+
+
+def _caption_to_write(s: Session, caption_id: int, expected_version: int | None,
+                      not_done: str) -> Caption:
+    """The caption row a write is about to change, refused (StaleWriteError) when it is no
+    longer at ``expected_version``."""
+    row = s.get(Caption, caption_id)
+    if expected_version is not None and row is None:
+        raise StaleWriteError(f"caption {caption_id} was deleted by someone else "
+                              f"(you edited version {expected_version}); {not_done}")
+    require(row is not None, f"caption {caption_id}: no such caption")
+    if expected_version is not None and row.version != expected_version:
+        raise StaleWriteError(f"caption {caption_id} was changed by someone else "
+                              f"(version {row.version}, you edited {expected_version}); {not_done}")
+    return row
 
 
 def _caption_text(text: str) -> str:

@@ -316,16 +316,29 @@ class TeamMixin:
     def update_caption(self, caption_id: int, text: str | None = None, *,
                        segment: Any = ..., expected_version: int | None = None) -> int:
         """As :meth:`AnnotateMixin.update_caption`; a refused write raises StaleWriteError with
-        ``kept_text`` (yours, not saved), ``current_text`` and ``current_version`` attached."""
+        ``kept_text`` (yours, not saved), ``current_text`` and ``current_version`` attached
+        (both None when it was deleted)."""
         try:
             return super().update_caption(caption_id, text, segment=segment,
                                           expected_version=expected_version)
         except StaleWriteError as exc:
-            cur = self._read(lambda s: s.get(Caption, caption_id))
-            exc.kept_text = text
-            exc.current_text = cur.text if cur is not None else None
-            exc.current_version = cur.version if cur is not None else None
+            self._attach_stored_caption(exc, caption_id, text)
             raise
+
+    def delete_caption(self, caption_id: int, *, expected_version: int | None = None) -> None:
+        """As :meth:`AnnotateMixin.delete_caption`; a refused delete raises StaleWriteError with
+        ``current_text`` and ``current_version`` attached (both None when it was deleted)."""
+        try:
+            super().delete_caption(caption_id, expected_version=expected_version)
+        except StaleWriteError as exc:
+            self._attach_stored_caption(exc, caption_id, None)
+            raise
+
+    def _attach_stored_caption(self, exc: StaleWriteError, caption_id: int, kept: str | None) -> None:
+        cur = self._read(lambda s: s.get(Caption, caption_id))
+        exc.kept_text = kept
+        exc.current_text = cur.text if cur is not None else None
+        exc.current_version = cur.version if cur is not None else None
 
     def gold_label_version(self, clip: Any) -> int:
         """Version of a clip's gold label; 0 when it has none yet."""

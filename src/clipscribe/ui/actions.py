@@ -87,9 +87,11 @@ def build_actions(w) -> dict[str, QAction]:
         "captions": A("Write captions", "Ctrl+E", w.captions.focus_first_empty, "Edit",
                       tip="Put the cursor in the first empty caption"),
         "save_captions": A("Save captions, keeping mine", "Ctrl+S", w.captions.keep_mine, "Edit",
-                           tip="Save every caption now, also over one changed elsewhere"),
+                           tip="Save every caption now, also over one changed elsewhere "
+                               "or anew when it was deleted elsewhere"),
         "reload_captions": A("Reload captions, taking theirs", "Ctrl+R", w.captions.take_theirs,
-                             "Edit", tip="Replace captions changed elsewhere with the stored text"),
+                             "Edit", tip="Replace captions changed elsewhere with the stored text, "
+                                         "clear those deleted elsewhere"),
         "viewer": A("Back to viewer", "Esc", w.focus_viewer, "Edit"),
         "queue": A("Go to clip queue", "Ctrl+L", w.focus_queue, "Edit"),
         # views and help

@@ -3,14 +3,17 @@
 Text is saved when an editor loses focus, when Enter is pressed, and after a short pause in
 typing; :meth:`CaptionsPanel.flush` saves whatever is pending (called on clip change and close).
 
-Every change is written only if the caption is still at the version the slot last read. A
-caption changed elsewhere meanwhile (another window, a script, a lead) is not overwritten: the
-slot keeps the person's text, is marked "Not saved", stops saving by itself, and waits for
-:meth:`CaptionsPanel.keep_mine` (Ctrl+S) or :meth:`CaptionsPanel.take_theirs` (Ctrl+R).
+Every change (and every delete: a cleared slot) is written only if the caption is still at the
+version the slot last read. A caption changed or deleted elsewhere meanwhile (another window, a
+script, a lead) is not overwritten: the slot keeps the person's text, is marked "Not saved",
+stops saving by itself, and waits for :meth:`CaptionsPanel.keep_mine` (Ctrl+S; a deleted
+caption is added again with their text) or :meth:`CaptionsPanel.take_theirs` (Ctrl+R; a deleted
+caption's slot is cleared).
 """
 
 from __future__ import annotations
 
+import html
 from dataclasses import dataclass, field
 
 from PySide6.QtCore import Qt, QTimer, Signal, Slot
@@ -23,6 +26,11 @@ from .caption_checks import check_caption, count_words
 
 IDLE_SAVE_MS = 600
 THEIRS_SHOWN = 80  # characters of the stored text quoted in a conflict note
+DELETED = (None, None)  # what a slot in conflict holds as "theirs" when the caption is gone
+TIPS = {False: ("Save your text over the one stored elsewhere (Ctrl+S)",
+                "Replace your text with the stored one (Ctrl+R)"),
+        True: ("Save your text as a new caption (Ctrl+S)",
+               "Accept the deletion and clear your text (Ctrl+R)")}
 
 
 @dataclass
@@ -39,16 +47,21 @@ class Slot_:
     saved_text: str = ""
     saved_segment: int | None = None
     version: int | None = None        # of the stored caption the typing started from
-    theirs: tuple[str, int] | None = None  # (text, version) stored elsewhere: a conflict
+    theirs: tuple[str | None, int | None] | None = None  # (text, version) stored elsewhere: a conflict
     extra: dict = field(default_factory=dict)
 
     @property
     def dirty(self) -> bool:
         return self.edit.text() != self.saved_text or self.segment.currentData() != self.saved_segment
 
+    @property
+    def gone(self) -> bool:
+        """In conflict because the caption was deleted elsewhere."""
+        return self.theirs == DELETED
+
 
 class CaptionsPanel(QWidget):
-    conflictsChanged = Signal(int)  # number of slots whose caption was changed elsewhere
+    conflictsChanged = Signal(int)  # number of slots whose caption was changed or deleted elsewhere
 
     def __init__(self, editor, guideline, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -127,8 +140,7 @@ class CaptionsPanel(QWidget):
         text.setObjectName("conflictText")
         text.setWordWrap(True)
         lay.addWidget(text, 1)
-        for label, tip in (("Keep mine", "Save your text over the one stored elsewhere (Ctrl+S)"),
-                           ("Take theirs", "Replace your text with the stored one (Ctrl+R)")):
+        for label, tip in zip(("Keep mine", "Take theirs"), TIPS[False]):
             b = QToolButton()
             b.setText(label)
             b.setToolTip(tip)
@@ -157,15 +169,24 @@ class CaptionsPanel(QWidget):
         if self.editor.clip != self._clip:  # another clip: nothing typed carries over
             self._clip, keep_unsaved = self.editor.clip, False
         self._segments = list(segments)
-        while len(self.slots) < len(captions):
+        held = self._typed_over_deleted(captions) if keep_unsaved else set()
+        while len(self.slots) < len(captions) + len(held):
             self._add_slot(len(self.slots))
-        free = list(range(len(self.slots)))
+        free = [i for i in range(len(self.slots)) if i not in held]
         placed: dict[int, object] = {}
         for c in sorted(captions, key=lambda c: (c.position, c.id)):
             i = c.position if c.position in free else free[0]
             free.remove(i)
             placed[i] = c
         for i, slot in enumerate(self.slots):
+            if i in held:
+                # the typing keeps the deleted caption's id, so saving it finds the deletion
+                # instead of quietly adding the text back
+                if slot.theirs is not None and not slot.gone:
+                    slot.theirs = DELETED
+                    self._mark(slot)
+                self._fill_segments(slot)
+                continue
             c = placed.get(i)
             pending = keep_unsaved and slot.dirty
             if pending and c is not None and c.id == slot.caption_id:
@@ -193,6 +214,12 @@ class CaptionsPanel(QWidget):
                 slot.edit.setText(text)
         self._check_all()
 
+    def _typed_over_deleted(self, captions: list) -> set[int]:
+        """Slots with unsaved typing whose caption is no longer among ``captions``."""
+        there = {c.id for c in captions}
+        return {i for i, s in enumerate(self.slots)
+                if s.dirty and s.caption_id is not None and s.caption_id not in there}
+
     def clear(self) -> None:
         for slot in self.slots:
             slot.timer.stop()
@@ -205,15 +232,17 @@ class CaptionsPanel(QWidget):
     # ---- saving ------------------------------------------------------------------------
     def _save(self, slot: Slot_, *, force: bool = False) -> None:
         """Write the slot if it changed. A slot in conflict waits for ``force`` (keep mine),
-        which writes over the version stored elsewhere, and only that version."""
+        which writes over the version stored elsewhere, and only that version, or adds the
+        text as a new caption when the stored one was deleted."""
         slot.timer.stop()
         if self.editor.clip is None or (slot.theirs is not None and not force):
             return
         if not slot.dirty and slot.theirs is None:
             return
         text, seg = slot.edit.text(), slot.segment.currentData()
+        caption_id = None if slot.gone else slot.caption_id
         base = slot.theirs[1] if slot.theirs is not None else slot.version
-        res = self.editor.save_caption(slot.caption_id, text, seg, self.slots.index(slot),
+        res = self.editor.save_caption(caption_id, text, seg, self.slots.index(slot),
                                        expected_version=base)
         if res.ok:
             slot.caption_id, slot.saved_text, slot.saved_segment = res.caption_id, text, seg
@@ -222,20 +251,22 @@ class CaptionsPanel(QWidget):
             slot.theirs = self._stored(slot, res.conflict)
         self._mark(slot)
 
-    def _stored(self, slot: Slot_, exc) -> tuple[str, int]:
-        """(text, version) of the slot's caption as stored now."""
-        text, version = getattr(exc, "current_text", None), getattr(exc, "current_version", None)
-        if text is None or version is None:
-            p = self.editor.project
-            text = next((c.text for c in p.caption_rows(clip=self.editor.clip, annotator=p.user)
-                         if c.id == slot.caption_id), "")
-            version = p.caption_version(slot.caption_id)
-        return text, version
+    def _stored(self, slot: Slot_, exc) -> tuple[str | None, int | None]:
+        """(text, version) of the slot's caption as stored now; DELETED when it is gone."""
+        if hasattr(exc, "current_version"):
+            return exc.current_text, exc.current_version
+        p = self.editor.project
+        version = p.caption_versions(self.editor.clip, p.user).get(slot.caption_id)
+        text = next((c.text for c in p.caption_rows(clip=self.editor.clip, annotator=p.user)
+                     if c.id == slot.caption_id), None)
+        return DELETED if text is None or version is None else (text, version)
 
     def _take_theirs(self, slot: Slot_) -> None:
         if slot.theirs is None:
             return
         text, version = slot.theirs
+        if slot.gone:  # the deletion stands: the slot is empty again
+            slot.caption_id, text = None, ""
         slot.timer.stop()
         slot.edit.setText(text)
         slot.edit.setCursorPosition(0)
@@ -253,7 +284,8 @@ class CaptionsPanel(QWidget):
 
     @Slot()
     def take_theirs(self) -> None:
-        """Replace the text of every slot in conflict with the stored one (Ctrl+R)."""
+        """Replace the text of every slot in conflict with the stored one, or clear it when the
+        caption was deleted elsewhere (Ctrl+R)."""
         for slot in self.slots:
             self._take_theirs(slot)
 
@@ -269,16 +301,15 @@ class CaptionsPanel(QWidget):
 
     @property
     def conflicts(self) -> list[Slot_]:
-        """Slots whose caption was changed elsewhere; their text is not saved."""
+        """Slots whose caption was changed or deleted elsewhere; their text is not saved."""
         return [s for s in self.slots if s.theirs is not None]
 
     def _mark(self, slot: Slot_) -> None:
         on = slot.theirs is not None
         if on:
-            theirs = slot.theirs[0]
-            quoted = theirs if len(theirs) <= THEIRS_SHOWN else theirs[:THEIRS_SHOWN - 1] + "…"
-            slot.bar_text.setText(f"<b>Not saved: changed elsewhere</b> to “{quoted}”. "
-                                  "Ctrl+S keeps yours, Ctrl+R takes theirs.")
+            slot.bar_text.setText(_conflict_note(slot.theirs[0]))
+            for button, tip in zip(slot.bar.findChildren(QToolButton), TIPS[slot.gone]):
+                button.setToolTip(tip)
         slot.bar.setVisible(on)
         if bool(slot.edit.property("conflict")) != on:
             slot.edit.setProperty("conflict", on)
@@ -310,3 +341,12 @@ class CaptionsPanel(QWidget):
                 return
         if self.slots:
             self.slots[0].edit.setFocus(Qt.FocusReason.ShortcutFocusReason)
+
+
+def _conflict_note(theirs: str | None) -> str:
+    if theirs is None:
+        return ("<b>Not saved: deleted elsewhere</b>. Ctrl+S keeps yours as a new caption, "
+                "Ctrl+R lets it go.")
+    quoted = theirs if len(theirs) <= THEIRS_SHOWN else theirs[:THEIRS_SHOWN - 1] + "…"
+    return (f"<b>Not saved: changed elsewhere</b> to “{html.escape(quoted)}”. "
+            "Ctrl+S keeps yours, Ctrl+R takes theirs.")

@@ -21,7 +21,12 @@ class CaptionSave:
     ok: bool                        # written (or nothing to write)
     caption_id: int | None          # the caption now in the slot
     version: int | None = None      # its version after the write (None: no caption)
-    conflict: StaleWriteError | None = None  # changed elsewhere since it was read; not written
+    conflict: StaleWriteError | None = None  # changed or deleted elsewhere since it was read; not written
+
+
+def _deleted_elsewhere(exc: StaleWriteError) -> bool:
+    """Whether a refused caption write found its caption deleted (see Project.update_caption)."""
+    return hasattr(exc, "current_version") and exc.current_version is None
 
 
 class ClipEditor(QObject):
@@ -44,9 +49,9 @@ class ClipEditor(QObject):
         return self.project.user
 
     def apply(self, text: str, fn: Callable[[], Any], *, undoable: bool = True,
-              stale: str | None = None) -> Any:
+              stale: Callable[[StaleWriteError], str] | None = None) -> Any:
         """Run one write; on success push an undo command; on a refusal report the reason
-        (``stale``, when given, is said instead of the message of a StaleWriteError).
+        (``stale``, when given, words a StaleWriteError instead of its message).
         Returns ``fn``'s result, or None when the project refused (kept in ``last_refusal``)."""
         self.saving.emit()
         self.last_refusal = None
@@ -54,7 +59,7 @@ class ClipEditor(QObject):
             out = fn()
         except RecordError as exc:
             self.last_refusal = exc
-            self.notSaved.emit(stale if stale and isinstance(exc, StaleWriteError) else str(exc))
+            self.notSaved.emit(stale(exc) if stale and isinstance(exc, StaleWriteError) else str(exc))
             return None
         ids = list(self.project.last_edit_ids)
         if undoable and ids:
@@ -104,9 +109,10 @@ class ClipEditor(QObject):
     # ---- captions -----------------------------------------------------------------------
     def save_caption(self, caption_id: int | None, text: str, segment: int | None,
                      position: int, *, expected_version: int | None = None) -> CaptionSave:
-        """Write one caption slot: add, change or (blank text) delete. A change is written only
-        if the caption is still at ``expected_version``; otherwise nothing is written and the
-        result carries the conflict (with the text and version now stored)."""
+        """Write one caption slot: add, change or (blank text) delete. A change or delete is
+        written only if the caption is still at ``expected_version``; otherwise nothing is
+        written and the result carries the conflict (with the text and version now stored,
+        None for a caption deleted elsewhere)."""
         p = self.project
         if caption_id is None:
             if not text.strip():
@@ -117,15 +123,34 @@ class ClipEditor(QObject):
                 return CaptionSave(False, None)
             return CaptionSave(True, new_id, p.caption_version(new_id))
         if not text.strip():
-            ok = self.apply("Delete caption", lambda: p.delete_caption(caption_id))
-            return CaptionSave(True, None) if ok is not None else CaptionSave(False, caption_id)
+            if caption_id not in p.caption_versions(self.clip, self.me):
+                return CaptionSave(True, None)  # deleted elsewhere too: nothing to settle
+            ok = self.apply("Delete caption", lambda: p.delete_caption(
+                caption_id, expected_version=expected_version),
+                stale=lambda exc: _conflict_words(position, exc, deleting=True))
+            if ok is None:
+                return self._refused(caption_id, expected_version)
+            return CaptionSave(True, None)
         version = self.apply(
             "Edit caption", lambda: p.update_caption(caption_id, text, segment=segment,
                                                      expected_version=expected_version),
-            stale=f"caption {position + 1} was changed elsewhere; yours is kept — Ctrl+S "
-                  "saves it, Ctrl+R takes theirs")
+            stale=lambda exc: _conflict_words(position, exc, deleting=False))
         if version is None:
-            exc = self.last_refusal
-            return CaptionSave(False, caption_id, expected_version,
-                               exc if isinstance(exc, StaleWriteError) else None)
+            return self._refused(caption_id, expected_version)
         return CaptionSave(True, caption_id, version)
+
+    def _refused(self, caption_id: int, expected_version: int | None) -> CaptionSave:
+        exc = self.last_refusal
+        return CaptionSave(False, caption_id, expected_version,
+                           exc if isinstance(exc, StaleWriteError) else None)
+
+
+def _conflict_words(position: int, exc: StaleWriteError, *, deleting: bool) -> str:
+    n = position + 1
+    if _deleted_elsewhere(exc):
+        return (f"caption {n} was deleted elsewhere; yours is kept — Ctrl+S saves it as a new "
+                "caption, Ctrl+R lets it go")
+    if deleting:
+        return (f"caption {n} was changed elsewhere, so it was not deleted — Ctrl+S deletes it, "
+                "Ctrl+R takes theirs")
+    return f"caption {n} was changed elsewhere; yours is kept — Ctrl+S saves it, Ctrl+R takes theirs"

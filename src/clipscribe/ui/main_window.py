@@ -231,14 +231,17 @@ class MainWindow(SegmentOps, QMainWindow):
             self.next_unfinished()
 
     def settle_conflicts(self) -> bool:
-        """Before leaving the clip: ask what to do with captions changed elsewhere. False when
-        the person chose to stay."""
-        n = len(self.captions.conflicts)
+        """Before leaving the clip: ask what to do with captions changed or deleted elsewhere.
+        False when the person chose to stay."""
+        conflicts = self.captions.conflicts
+        n = len(conflicts)
         if not n:
             return True
+        gone = sum(s.gone for s in conflicts)
+        what = "deleted" if gone == n else "changed or deleted" if gone else "changed"
         box = QMessageBox(QMessageBox.Icon.Warning, "Captions changed elsewhere",
                           f"{n} of your captions on this clip {'was' if n == 1 else 'were'} "
-                          "changed elsewhere while you typed, and your text is not saved.",
+                          f"{what} elsewhere while you typed, and your text is not saved.",
                           parent=self)
         keep = box.addButton("Keep mine", QMessageBox.ButtonRole.AcceptRole)
         take = box.addButton("Take theirs", QMessageBox.ButtonRole.DestructiveRole)
@@ -275,8 +278,6 @@ class MainWindow(SegmentOps, QMainWindow):
         colour = {True: "#2e7d32", False: "#c62828", None: "palette(text)"}[ok]
         self.save_state.setStyleSheet(f"color: {colour};")
         self.save_state.setText(text)
-        if ok is False:
-            self.statusBar().showMessage(text, 10000)
 
     # ---- views, focus, help ------------------------------------------------------------
     def set_review_view(self, widget: QWidget) -> None:
