@@ -70,6 +70,11 @@ def cmd_person(args: argparse.Namespace) -> int:
 def cmd_add_media(args: argparse.Namespace) -> int:
     with _open(args) as p:
         folder = Path(args.folder) if args.folder else p.media_root
+        if args.copy_from:
+            if args.folder:
+                raise ProjectError("give either FOLDER or --copy-from, not both")
+            folder = p.copy_media_in(args.copy_from, progress=Bar("copying videos (bytes)"))
+            print(f"copied into {folder}")
         rep = p.add_media(folder, group_pattern=args.group_pattern, group_csv=args.group_csv,
                           progress=Bar("adding media"))
         print(f"added {len(rep.added)} clip(s); {len(rep.already_present)} already present; "
@@ -171,6 +176,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--role", choices=("annotator", "lead"), default="annotator")
     sp = add("add-media", cmd_add_media, "add every video below a folder inside the media root", user=True)
     sp.add_argument("folder", nargs="?", help="folder to scan (default: the whole media root)")
+    sp.add_argument("--copy-from", metavar="SRC",
+                    help="first copy the videos below SRC (outside the project) into a new folder "
+                         "of the media root named after it, then add them")
     grp = sp.add_mutually_exclusive_group()
     grp.add_argument("--group-pattern", metavar="REGEX",
                      help="regular expression with a named group (?P<group>...) matched on the relative path")

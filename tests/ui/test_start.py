@@ -10,7 +10,8 @@ from clipscribe.schema.settings import SETTINGS_FILE
 from clipscribe.ui import app as app_module
 from clipscribe.ui import start
 from clipscribe.ui.boot import LAST_PROJECT_KEY, RECENT_MAX, recent_projects, remember_project
-from clipscribe.ui.start import StartWindow, free_folder
+from clipscribe.media.copy_in import free_folder
+from clipscribe.ui.start import SAMPLE_NAME, StartWindow
 
 
 def _window(qtbot, settings, *picks):
@@ -22,10 +23,10 @@ def _window(qtbot, settings, *picks):
 
 
 def test_free_folder_never_reuses_an_existing_one(tmp_path):
-    assert free_folder(tmp_path) == tmp_path / "clipscribe-sample"
+    assert free_folder(tmp_path, SAMPLE_NAME) == tmp_path / "clipscribe-sample"
     (tmp_path / "clipscribe-sample").mkdir()
     (tmp_path / "clipscribe-sample-2").mkdir()
-    assert free_folder(tmp_path) == tmp_path / "clipscribe-sample-3"
+    assert free_folder(tmp_path, SAMPLE_NAME) == tmp_path / "clipscribe-sample-3"
 
 
 def test_open_folder_takes_a_project_and_refuses_anything_else(qtbot, settings, sample, tmp_path):

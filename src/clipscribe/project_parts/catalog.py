@@ -15,6 +15,7 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
+from ..media.copy_in import copy_videos, free_folder
 from ..errors import RecordError
 from ..schema.settings import LabelSpec
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
@@ -255,6 +256,24 @@ class CatalogMixin:
         if progress:
             progress(len(files), len(files))
         return report
+
+    def copy_media_in(self, source: str | os.PathLike, *, cancel: Any = None,
+                      progress: Progress | None = None) -> Path:
+        """Copy the videos below ``source``, a folder outside the media root, into a new folder
+        of the media root named after it (``name``, ``name-2``…), keeping sub-folders; all or
+        nothing. Returns the new folder; :meth:`add_media` on it adds the clips."""
+        src = Path(os.path.realpath(source))
+        root = Path(os.path.realpath(self.media_root))
+        if src == root or root in src.parents:
+            raise RecordError(f"{source}: already inside the media root {self.media_root}; "
+                              "add it without copying")
+        root.mkdir(parents=True, exist_ok=True)
+        dest = free_folder(root, src.name or "videos")
+        try:
+            copy_videos(src, dest, cancel=cancel, progress=progress)
+        except (media.MediaError, OSError) as exc:
+            raise RecordError(str(exc)) from None
+        return dest
 
     def clip(self, ref: Any) -> ClipInfo:
         return self._read(lambda s: clip_info(self._clip(s, ref)))

@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
     QPushButton, QVBoxLayout, QWidget,
 )
 
+from ..media.copy_in import free_folder
 from ..schema.settings import SETTINGS_FILE
 from .boot import recent_projects
 from .dialogs import CautionsNote
@@ -32,15 +33,6 @@ Pick = Callable[[str, str], str]
 
 def _file_dialog(parent: QWidget) -> Pick:
     return lambda caption, start: QFileDialog.getExistingDirectory(parent, caption, start)
-
-
-def free_folder(parent: Path, name: str = SAMPLE_NAME) -> Path:
-    """``parent/name``, or ``parent/name-2``, ``-3``… whichever does not exist yet."""
-    target, n = parent / name, 1
-    while target.exists():
-        n += 1
-        target = parent / f"{name}-{n}"
-    return target
 
 
 def _build_sample(folder: Path, *, cancel, progress) -> Path:  # worker thread
@@ -173,7 +165,7 @@ class StartWindow(QDialog):
         if not picked:
             return
         self._run("Building the sample project (about 3 seconds)…", _build_sample,
-                  free_folder(Path(picked)))
+                  free_folder(Path(picked), SAMPLE_NAME))
 
     # ---- plumbing -------------------------------------------------------------------------
     def say(self, text: str) -> None:
