@@ -104,9 +104,12 @@ def build_actions(w) -> dict[str, QAction]:
                     if lead else "Only a lead can export a dataset"),
         "open_other": A("Open another project…", "Ctrl+O", w.open_other_project, "File",
                         tip="Close this project and open, make or build another"),
+        "setup": A("Set up project…", "Ctrl+Shift+P", w.show_setup, "File",
+                   tip="The label set, and the videos of this project (leads)"),
         "quit": A("Quit", Key.Quit, w.close, "File"),
     }
     acts["export"].setEnabled(lead)
+    acts["setup"].setEnabled(lead)
     for name, short in (("back_second", "−1 s"), ("back_frame", "−1 frame"), ("play", "Play"),
                         ("fwd_frame", "+1 frame"), ("fwd_second", "+1 s"), ("loop", "Loop")):
         acts[name].setIconText(short)

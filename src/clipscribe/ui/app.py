@@ -81,12 +81,14 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
             continue
         if project is None:  # the login was cancelled
             return code
+        shown = Path(project.folder).resolve()
         code = _show(app, project, view=view, screenshot=screenshot)
         project.close()
         folder = None if screenshot else start.take_switch()  # File > Open another project
         if folder is None:
             return code
-        user = password = None
+        if Path(folder).resolve() != shown:  # the same project again keeps its login
+            user = password = None
         view, note = "work", ""
 
 
@@ -150,5 +152,7 @@ def _show(app: QApplication, project: Project, *, view: str, screenshot) -> int:
         Path(str(Path(screenshot).with_suffix(".ini"))).unlink(missing_ok=True)
     else:
         window.show()
+        if project.role(project.user) == "lead" and not project.clip_count():
+            QTimer.singleShot(0, window.show_setup)  # a new project: labels and videos first
         code = app.exec()
     return code

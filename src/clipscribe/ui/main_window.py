@@ -165,7 +165,13 @@ class MainWindow(SegmentOps, QMainWindow):
         if clip is not None:
             self.open_clip(clip, frame)
         else:
-            self.viewer.set_note("This project has no clips yet")
+            self.viewer.set_note(self.empty_note())
+
+    def empty_note(self) -> str:
+        if self.project.role(self.project.user) != "lead":
+            return "This project has no clips yet.\nYour lead adds them."
+        return ("This project has no clips yet.\nFile > Set up project… (Ctrl+Shift+P) "
+                "sets its labels and adds videos.")
 
     @Slot(int)
     def open_clip(self, clip_id: int, frame: int = 0) -> None:
@@ -316,6 +322,18 @@ class MainWindow(SegmentOps, QMainWindow):
         request_switch(chooser.chosen)
         if not self.close():  # refused: a caption conflict is still open
             take_switch()
+
+    def show_setup(self) -> None:
+        """The label set and videos; when anything changed, the window reopens on the project
+        (label keys, buttons and the queue are built when the window is)."""
+        from .setup import ProjectSetup
+        from .start import request_switch, take_switch
+        dialog = ProjectSetup(self.project, self)
+        dialog.exec()
+        if dialog.changed:
+            request_switch(self.project.folder)
+            if not self.close():  # refused: a caption conflict is still open
+                take_switch()
 
     def show_cautions(self) -> None:
         CautionsNote(self).exec()

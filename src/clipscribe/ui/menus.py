@@ -10,6 +10,7 @@ def build_menus(w) -> None:
     bar = w.menuBar()
     m = bar.addMenu("&File")
     m.addAction(a["open_other"])
+    m.addAction(a["setup"])
     m.addAction(a["export"])
     m.addSeparator()
     m.addAction(a["quit"])

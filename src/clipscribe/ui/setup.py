@@ -1,0 +1,208 @@
+"""Setting a project up without the command line: its label set, and its videos (those already
+in the media folder, or a folder copied in from elsewhere). For leads; the work runs on the
+worker pool with progress and cancel, and everything goes through the project's own methods
+(``define_labels``, ``copy_media_in``, ``add_media``), as the CLI does."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QCheckBox, QComboBox, QDialog, QDialogButtonBox, QFileDialog, QFormLayout, QGroupBox,
+    QHBoxLayout, QLabel, QPlainTextEdit, QProgressBar, QPushButton, QVBoxLayout, QWidget,
+)
+
+from ..errors import RecordError
+from .workers import Job, JobRunner
+
+#: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
+GROUPINGS = {
+    "their folder (one folder per source video or person)": r"^(?P<group>.+)/[^/]+$",
+    "nothing (each clip is its own group)": None,
+}
+
+
+def ingest(project, source: Path | None, pattern: str | None, *, cancel, progress):  # worker
+    """Copy ``source`` in first when given, then add every new video of that folder (or of
+    the whole media folder). Returns (folder added, IngestReport)."""
+    folder = project.media_root
+    if source is not None:
+        folder = project.copy_media_in(source, cancel=cancel, progress=progress)
+    return folder, project.add_media(folder, group_pattern=pattern, progress=progress)
+
+
+class ProjectSetup(QDialog):
+    """Labels and videos of one project; ``changed`` says whether anything was saved."""
+
+    def __init__(self, project, parent: QWidget | None = None, *, pick=None) -> None:
+        super().__init__(parent)
+        self.setObjectName("projectSetup")
+        self.setWindowTitle("Set up the project")
+        self.setMinimumWidth(620)
+        self.project = project
+        self.changed = False
+        self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
+        self.jobs = JobRunner(self)
+        self._job: Job | None = None
+        lay = QVBoxLayout(self)
+        lay.addWidget(self._labels_box())
+        lay.addWidget(self._videos_box())
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
+        buttons.rejected.connect(self.reject)
+        lay.addWidget(buttons)
+
+    # ---- labels ---------------------------------------------------------------------------
+    def _labels_box(self) -> QGroupBox:
+        box = QGroupBox("Labels")
+        lay = QVBoxLayout(box)
+        intro = QLabel("One activity label per line, in the order the label buttons show them. "
+                       "A label taken off the list is retired: kept in the history, no longer "
+                       "offered.")
+        intro.setWordWrap(True)
+        lay.addWidget(intro)
+        self.label_text = QPlainTextEdit("\n".join(lab.name for lab in self.project.labels()))
+        self.label_text.setObjectName("labelList")
+        self.label_text.setAccessibleName("Labels, one per line")
+        self.label_text.setPlaceholderText("pick up\nput down\n…")
+        self.label_text.setFixedHeight(self.fontMetrics().height() * 7)
+        lay.addWidget(self.label_text)
+        row = QHBoxLayout()
+        self.ordinal = QCheckBox("The labels are &ordered (weighted kappa applies)")
+        self.ordinal.setChecked(self.project.labels_ordinal())
+        row.addWidget(self.ordinal, 1)
+        self.save_labels_button = QPushButton("&Save labels")
+        self.save_labels_button.clicked.connect(self.save_labels)
+        row.addWidget(self.save_labels_button)
+        lay.addLayout(row)
+        self.label_note = QLabel()
+        self.label_note.setObjectName("setupNote")
+        self.label_note.setWordWrap(True)
+        lay.addWidget(self.label_note)
+        return box
+
+    def label_names(self) -> list[str]:
+        return [line.strip() for line in self.label_text.toPlainText().splitlines() if line.strip()]
+
+    def save_labels(self) -> bool:
+        names = self.label_names()
+        if not names:
+            self.label_note.setText("Write at least one label.")
+            return False
+        known = {lab.name: lab for lab in self.project.labels()}
+        # labels kept by name keep their key, colour and guideline
+        specs = [{"name": n, "key": known[n].key, "colour": known[n].colour,
+                  "guideline": known[n].guideline} if n in known else n for n in names]
+        try:
+            self.project.define_labels(specs, ordinal=self.ordinal.isChecked())
+        except RecordError as exc:
+            self.label_note.setText(f"Not saved: {exc}")
+            return False
+        self.changed = True
+        keys = ", ".join(f"{lab.name} [{lab.key}]" for lab in self.project.labels() if lab.key)
+        self.label_note.setText(f"Saved {len(names)} labels (label set "
+                                f"v{self.project.label_set_version()}). Keys: {keys}")
+        return True
+
+    # ---- videos ---------------------------------------------------------------------------
+    def _videos_box(self) -> QGroupBox:
+        box = QGroupBox("Videos")
+        lay = QVBoxLayout(box)
+        self.video_count = QLabel()
+        self.video_count.setWordWrap(True)
+        self.video_count.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        lay.addWidget(self.video_count)
+        form = QFormLayout()
+        self.grouping = QComboBox()
+        self.grouping.addItems(list(GROUPINGS))
+        self.grouping.setToolTip("Clips of one group always land in the same split, so that no "
+                                 "source video or person is on both sides of train and test")
+        form.addRow("&Group clips by:", self.grouping)
+        lay.addLayout(form)
+        row = QHBoxLayout()
+        self.scan_button = QPushButton("&Add the videos in the media folder")
+        self.scan_button.clicked.connect(lambda: self._ingest(None))
+        self.copy_button = QPushButton("&Copy in a folder of videos…")
+        self.copy_button.setToolTip("The videos are copied into a new folder of the media folder, "
+                                    "then added; the originals are not touched")
+        self.copy_button.clicked.connect(self.copy_in)
+        row.addWidget(self.scan_button)
+        row.addWidget(self.copy_button)
+        lay.addLayout(row)
+        bar = QHBoxLayout()
+        self.progress = QProgressBar()
+        self.progress.setObjectName("setupProgress")
+        self.progress.hide()
+        self.cancel_button = QPushButton("Cancel")
+        self.cancel_button.hide()
+        self.cancel_button.clicked.connect(self.cancel)
+        bar.addWidget(self.progress, 1)
+        bar.addWidget(self.cancel_button)
+        lay.addLayout(bar)
+        self.video_note = QLabel()
+        self.video_note.setObjectName("setupNote")
+        self.video_note.setWordWrap(True)
+        lay.addWidget(self.video_note)
+        self._count()
+        return box
+
+    def _count(self) -> None:
+        n = self.project.clip_count()
+        self.video_count.setText(f"{n} clip{'s' if n != 1 else ''} in this project. Its media "
+                                 f"folder is <b>{self.project.media_root}</b>.")
+
+    def copy_in(self) -> None:
+        picked = self.pick("Choose a folder of videos to copy into the project")
+        if picked:
+            self._ingest(Path(picked))
+
+    def _ingest(self, source: Path | None) -> None:
+        pattern = GROUPINGS[self.grouping.currentText()]
+        self.video_note.setText(f"Copying the videos of {source}…" if source else
+                                "Adding the videos of the media folder…")
+        self._busy(True)
+        p = self.project
+        job = Job("adding videos",
+                  lambda *, cancel, progress: ingest(p, source, pattern, cancel=cancel,
+                                                     progress=progress))
+        job.signals.progress.connect(self._progress)
+        job.signals.finished.connect(self._done)
+        job.signals.failed.connect(lambda msg: self._ended(f"Not added: {msg.splitlines()[-1]}"))
+        job.signals.cancelled.connect(lambda: self._ended("Cancelled: nothing was copied."))
+        self._job = self.jobs.start(job)
+
+    def _progress(self, done: int, total: int) -> None:
+        self.progress.setRange(0, max(total, 1))
+        self.progress.setValue(done)
+
+    def _done(self, out) -> None:
+        folder, rep = out
+        self.changed = self.changed or bool(rep.added)
+        lines = [f"Added {len(rep.added)} clip(s) from {folder}; {len(rep.already_present)} "
+                 f"already present; {len(rep.skipped)} skipped."]
+        lines += [f"Skipped {path}: {why}" for path, why in rep.skipped[:8]]
+        if len(rep.skipped) > 8:
+            lines.append(f"… and {len(rep.skipped) - 8} more")
+        self._ended("<br>".join(lines))
+
+    def _ended(self, text: str) -> None:
+        self._busy(False)
+        self.video_note.setText(text)
+        self._count()
+
+    def _busy(self, busy: bool) -> None:
+        self.progress.setVisible(busy)
+        self.progress.setRange(0, 0)
+        self.cancel_button.setVisible(busy)
+        for w in (self.scan_button, self.copy_button, self.save_labels_button, self.grouping):
+            w.setEnabled(not busy)
+
+    def cancel(self) -> None:
+        if self._job is not None:
+            self._job.cancel()
+
+    def reject(self) -> None:
+        if not self.progress.isHidden():  # finish or cancel the copy first: nothing half-done
+            self.video_note.setText("Videos are being added: wait, or press Cancel first.")
+            return
+        super().reject()
