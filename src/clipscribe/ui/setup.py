@@ -32,6 +32,15 @@ def ingest(project, source: Path | None, pattern: str | None, *, cancel, progres
     return folder, project.add_media(folder, group_pattern=pattern, progress=progress)
 
 
+def _note(layout) -> QLabel:
+    """A wrapped line under a part of the dialog saying how its last action went."""
+    note = QLabel()
+    note.setObjectName("setupNote")
+    note.setWordWrap(True)
+    layout.addWidget(note)
+    return note
+
+
 class ProjectSetup(QDialog):
     """Labels and videos of one project; ``changed`` says whether anything was saved."""
 
@@ -75,10 +84,7 @@ class ProjectSetup(QDialog):
         self.save_labels_button.clicked.connect(self.save_labels)
         row.addWidget(self.save_labels_button)
         lay.addLayout(row)
-        self.label_note = QLabel()
-        self.label_note.setObjectName("setupNote")
-        self.label_note.setWordWrap(True)
-        lay.addWidget(self.label_note)
+        self.label_note = _note(lay)
         return box
 
     def label_names(self) -> list[str]:
@@ -139,10 +145,7 @@ class ProjectSetup(QDialog):
         bar.addWidget(self.progress, 1)
         bar.addWidget(self.cancel_button)
         lay.addLayout(bar)
-        self.video_note = QLabel()
-        self.video_note.setObjectName("setupNote")
-        self.video_note.setWordWrap(True)
-        lay.addWidget(self.video_note)
+        self.video_note = _note(lay)
         self._count()
         return box
 
