@@ -295,3 +295,19 @@ def test_an_open_connection_follows_the_change_at_its_next_statement(team):
         assert conn.execute("SELECT clip_id FROM gold_labels").fetchall() == [(clip,)]
         p.set_role(ann, "annotator")
         assert conn.execute("SELECT count(*) FROM gold_labels").fetchone()[0] == 0
+
+
+@pytest.mark.postgres
+def test_a_lead_without_createrole_gets_a_clear_refusal_for_logins_and_passwords(team, uid):
+    p, ann, _ = team
+    mo = f"mo2_{uid}"
+    p.add_annotator(mo, role="lead", password="pw-mo")
+    n = len(p.annotators())
+    with Project.open(p.folder, user=mo, password="pw-mo") as m:
+        with pytest.raises(TeamPermissionError, match="refused to make a login.*CREATEROLE"):
+            m.add_annotator(f"new_{uid}", password="pw-new")
+        with pytest.raises(TeamPermissionError, match="refused the new password.*CREATEROLE"):
+            m.set_password(ann, "pw-other")
+    assert len(p.annotators()) == n                       # the person was not added either
+    with connect_as(p, ann, "pw-ann") as conn:            # the old password still works
+        assert conn.execute("SELECT 1").fetchone() == (1,)

@@ -116,6 +116,9 @@ class TeamMixin:
             team.create_login(s.connection(), login, password, role)
         except ValueError as exc:
             raise RecordError(f"{name!r}: {exc}") from None
+        except PermissionError as exc:
+            raise TeamPermissionError(f"{name!r}: the server refused to make a login ({exc}); "
+                                      "making logins needs CREATEROLE (the admin)") from None
         return login
 
     def set_password(self, name: str, password: str) -> str:
@@ -125,7 +128,12 @@ class TeamMixin:
         def work(s: Session) -> str:
             row = self._annotator(s, name)
             if row.db_login and team.role_exists(s.connection(), row.db_login):
-                team.set_password(s.connection(), row.db_login, password)
+                try:
+                    team.set_password(s.connection(), row.db_login, password)
+                except PermissionError as exc:
+                    raise TeamPermissionError(
+                        f"{row.name!r}: the server refused the new password ({exc}); setting "
+                        "another login's password needs CREATEROLE (the admin)") from None
                 return row.db_login
             row.db_login = self._make_login(s, row.name, row.role, password)
             self._log(s, "login", "annotator", row.id, None, None, {"db_login": row.db_login})

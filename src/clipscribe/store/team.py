@@ -22,6 +22,8 @@ clip id. Names are never formatted into SQL by Python: identifiers go through
 
 from __future__ import annotations
 
+from contextlib import contextmanager
+
 from typing import Any
 
 ANNOTATOR_GROUP = "clipscribe_annotator"
@@ -283,17 +285,30 @@ def create_login(conn: Any, login: str, password: str, role: str) -> None:
     from psycopg import sql
     raw = _driver(conn)
     hashed = _hash(raw, login, password)
-    raw.execute(sql.SQL("CREATE ROLE {} LOGIN PASSWORD {} IN ROLE {}").format(
-        sql.Identifier(login), sql.Literal(hashed), sql.Identifier(GROUPS[role])))
-    raw.execute(sql.SQL("GRANT CONNECT ON DATABASE {} TO {}").format(
-        sql.Identifier(raw.info.dbname), sql.Identifier(login)))
+    with _privileged():
+        raw.execute(sql.SQL("CREATE ROLE {} LOGIN PASSWORD {} IN ROLE {}").format(
+            sql.Identifier(login), sql.Literal(hashed), sql.Identifier(GROUPS[role])))
+        raw.execute(sql.SQL("GRANT CONNECT ON DATABASE {} TO {}").format(
+            sql.Identifier(raw.info.dbname), sql.Identifier(login)))
 
 
 def set_password(conn: Any, login: str, password: str) -> None:
     from psycopg import sql
     raw = _driver(conn)
-    raw.execute(sql.SQL("ALTER ROLE {} PASSWORD {}").format(
-        sql.Identifier(login), sql.Literal(_hash(raw, login, password))))
+    with _privileged():
+        raw.execute(sql.SQL("ALTER ROLE {} PASSWORD {}").format(
+            sql.Identifier(login), sql.Literal(_hash(raw, login, password))))
+
+
+@contextmanager
+def _privileged():
+    """Statements on roles, sent on the raw driver connection: the server's refusal there is
+    not wrapped by SQLAlchemy, so it becomes a PermissionError (its first line) here."""
+    import psycopg
+    try:
+        yield
+    except psycopg.errors.InsufficientPrivilege as exc:
+        raise PermissionError(str(exc).strip().splitlines()[0]) from None
 
 
 def grant_group(conn: Any, login: str, role: str) -> None:
@@ -312,16 +327,13 @@ def move_group(conn: Any, login: str, role: str) -> None:
     Raises PermissionError when the server refuses, ValueError when the login still belongs
     to another group afterwards (a grant made by someone else, or through a third role).
     """
-    import psycopg
     from psycopg import sql
     raw = _driver(conn)
     others = [g for r, g in GROUPS.items() if r != role]
-    try:
+    with _privileged():
         for group in others:
             raw.execute(sql.SQL("REVOKE {} FROM {}").format(sql.Identifier(group), sql.Identifier(login)))
         grant_group(conn, login, role)
-    except psycopg.errors.InsufficientPrivilege as exc:
-        raise PermissionError(str(exc).strip().splitlines()[0]) from None
     kept = [g for g in others if raw.execute("SELECT pg_has_role(%s, %s, 'MEMBER')",
                                              (login, g)).fetchone()[0]]
     if kept:
