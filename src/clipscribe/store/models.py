@@ -39,6 +39,13 @@ def utcnow() -> dt.datetime:
     return dt.datetime.now(dt.timezone.utc)
 
 
+#: SQLite reuses the id of the newest row once it is deleted, unless the table is AUTOINCREMENT.
+#: Rows people edit and delete must never hand their id to a new row: a client holding
+#: (id, version) of a deleted caption would otherwise pass the version check on a stranger's
+#: new row, and the edit history would mix two rows under one id. (PostgreSQL never reuses.)
+NO_ID_REUSE = {"sqlite_autoincrement": True}
+
+
 class Base(DeclarativeBase):
     metadata = MetaData(naming_convention=NAMING)
     type_annotation_map = {dict[str, Any]: JSON}
@@ -108,6 +115,7 @@ class Assignment(Base):
     __table_args__ = (
         UniqueConstraint("clip_id", "annotator_id"),
         CheckConstraint("state IN ('open', 'submitted', 'skipped', 'unsure', 'expired')", name="state"),
+        NO_ID_REUSE,
     )
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
@@ -123,7 +131,7 @@ class Assignment(Base):
 
 class ClipLabel(Base):
     __tablename__ = "clip_labels"
-    __table_args__ = (UniqueConstraint("clip_id", "annotator_id"),)
+    __table_args__ = (UniqueConstraint("clip_id", "annotator_id"), NO_ID_REUSE)
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[annotator_fk]
@@ -139,6 +147,7 @@ class Segment(Base):
     __table_args__ = (
         CheckConstraint("start_frame >= 0", name="start"),
         CheckConstraint("end_frame > start_frame", name="order"),
+        NO_ID_REUSE,
     )
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
@@ -154,6 +163,7 @@ class Segment(Base):
 
 class Caption(Base):
     __tablename__ = "captions"
+    __table_args__ = NO_ID_REUSE
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[annotator_fk]
@@ -167,7 +177,7 @@ class Caption(Base):
 
 class GoldLabel(Base):
     __tablename__ = "gold_labels"
-    __table_args__ = (UniqueConstraint("clip_id"),)
+    __table_args__ = (UniqueConstraint("clip_id"), NO_ID_REUSE)
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     label_id: Mapped[label_fk]
@@ -180,7 +190,8 @@ class GoldLabel(Base):
 
 class GoldSegment(Base):
     __tablename__ = "gold_segments"
-    __table_args__ = (CheckConstraint("end_frame > start_frame AND start_frame >= 0", name="order"),)
+    __table_args__ = (CheckConstraint("end_frame > start_frame AND start_frame >= 0", name="order"),
+                      NO_ID_REUSE)
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     label_id: Mapped[label_fk]
@@ -193,6 +204,7 @@ class GoldSegment(Base):
 
 class GoldCaption(Base):
     __tablename__ = "gold_captions"
+    __table_args__ = NO_ID_REUSE
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     position: Mapped[int] = mapped_column(Integer, default=0)
@@ -205,6 +217,7 @@ class GoldCaption(Base):
 
 class ReviewComment(Base):
     __tablename__ = "review_comments"
+    __table_args__ = NO_ID_REUSE
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[Optional[int]] = mapped_column(ForeignKey("annotators.id", ondelete="CASCADE"))
