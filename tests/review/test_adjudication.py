@@ -145,3 +145,52 @@ def test_gui_export_runs_in_the_background(qtbot, window, tmp_path):
     assert said == ["Exporting the agreement report…"]  # returns at once; the job works on
     qtbot.waitUntil(lambda: any("Report written" in s for s in said), timeout=30000)
     assert said[0].startswith("Exporting") and (tmp_path / "gui-report" / "report.html").exists()
+
+
+def test_dragging_a_gold_edge_moves_it_to_a_frame_boundary_with_undo(qtbot, window):
+    from PySide6.QtCore import QPoint
+
+    from clipscribe.ui.review.tracks import ROW_H, GAP
+    w, p = window()
+    desk = w.review_desk.desk
+    clip = desk.cmp.clip.id
+    desk.copy_track("annotator-1")
+    (label, start, end), *rest = [(l, s, e) for _, l, s, e in p.gold_segments(clip)]
+    t = desk.tracks
+    row = [name for name, _ in t.tracks].index("gold")
+    y = row * (ROW_H + GAP) + 2 + ROW_H // 2
+    grab = QPoint(round(t.x_of(end)), y)
+    assert t.edge_at(grab.x(), y) == (0, "end")
+    target = max(start + 1, end - 3)                    # three frames shorter (or as short as can be)
+    drop = QPoint(round(t.x_of(target)), y)
+    assert t.boundary_at(drop.x()) == target
+    n = len(p.history())
+    qtbot.mousePress(t, Qt.MouseButton.LeftButton, pos=grab)
+    qtbot.mouseMove(t, drop)
+    assert t.tracks[row][1][0] == (label, start, target)  # previewed while dragging
+    assert p.gold_segments(clip)[0][3] == end               # nothing written before the release
+    qtbot.mouseRelease(t, Qt.MouseButton.LeftButton, pos=drop)
+    assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)][0] == (label, start, target)
+    assert len(p.history()) > n and p.history()[-1].entity == "gold_segment"
+    assert desk.tracks.tracks[row][1][0] == (label, start, target)
+    # an edge never crosses its other edge: dragged past the start, it stops one frame after
+    qtbot.mousePress(t, Qt.MouseButton.LeftButton, pos=QPoint(round(t.x_of(target)), y))
+    qtbot.mouseMove(t, QPoint(round(t.x_of(0)) - 20, y))
+    qtbot.mouseRelease(t, Qt.MouseButton.LeftButton, pos=QPoint(round(t.x_of(0)) - 20, y))
+    assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)][0] == (label, start, start + 1)
+    desk.undo_action.trigger()
+    desk.undo_action.trigger()
+    assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)][0] == (label, start, end)
+
+
+def test_a_refused_gold_drag_puts_the_tracks_back(qtbot, window, monkeypatch):
+    w, p = window()
+    desk = w.review_desk.desk
+    clip = desk.cmp.clip.id
+    desk.copy_track("annotator-1")
+    shown = list(desk.tracks.tracks[-1][1])
+    monkeypatch.setattr(desk.editor, "settle_segments", lambda segs, what="": None)  # refused
+    label, start, end = shown[0]
+    desk.drag_gold([(label, start, end + 1)] + shown[1:])
+    assert desk.tracks.tracks[-1][1] == shown
+    assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)] == shown

@@ -188,6 +188,7 @@ class ReviewDesk(QWidget):
         pl.playheadMoved.connect(self.tracks.set_playhead)
         pl.failed.connect(self.status)
         self.tracks.seekRequested.connect(pl.seek)
+        self.tracks.goldEdited.connect(self.drag_gold)
         for box in (self.by_label, self.by_person, self.by_group):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
@@ -297,6 +298,12 @@ class ReviewDesk(QWidget):
                 | QItemSelectionModel.SelectionFlag.Rows)
 
     @Slot()
+    def drag_gold(self, segments: list) -> None:
+        """A gold edge dragged on the tracks: written like a table edit (one decision, undoable);
+        refused, the tracks go back to what the project holds."""
+        if not self.segment_model.replace(segments):
+            self.refresh()
+
     def refresh(self) -> None:
         """Re-read the clip under review (after every decision, undo and redo)."""
         if self.editor.clip is None:

@@ -72,6 +72,10 @@ class GoldSegmentModel(QAbstractTableModel):
     def add(self, seg: Seg) -> bool:
         return self._write(self.rows + [seg])
 
+    def replace(self, rows: list[Seg]) -> bool:
+        """The whole gold list at once (a dragged edge on the tracks)."""
+        return self._write(list(rows))
+
     def remove(self, row: int) -> bool:
         if not 0 <= row < len(self.rows):
             return False

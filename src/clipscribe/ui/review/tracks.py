@@ -1,6 +1,8 @@
 """Stacked tracks: every annotator's segments on one timeline, one row each, with the gold
 track at the bottom and one playhead across all rows. Click a segment to jump to its start,
-click empty track to move the playhead. The widget only shows and emits."""
+click empty track to move the playhead; drag an edge of a gold segment to move it (snapped to
+frame boundaries, previewed while dragging). The widget only shows and emits: a finished drag
+emits the whole new gold list, and whoever writes it reloads the tracks."""
 
 from __future__ import annotations
 
@@ -14,10 +16,12 @@ ROW_H = 24
 GAP = 4
 NAME_W = 112
 GOLD = "gold"
+EDGE_PX = 5  # how close to a gold segment's edge a press grabs it
 
 
 class TrackStack(QWidget):
     seekRequested = Signal(int)
+    goldEdited = Signal(list)  # [(label, start, end)] after an edge drag
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -28,6 +32,8 @@ class TrackStack(QWidget):
         self.tracks: list[tuple[str, list[tuple[str, int, int]]]] = []
         self.frame_count = 1
         self.playhead = 0
+        self._drag: tuple[int, str, list] | None = None  # (gold index, "start"|"end", before)
+        self.setMouseTracking(True)  # the resize cursor over gold edges
 
     def set_tracks(self, tracks: list[tuple[str, list[tuple[str, int, int]]]],
                    frame_count: int) -> None:
@@ -90,12 +96,59 @@ class TrackStack(QWidget):
         p.setPen(QPen(QColor(theme.PLAYHEAD), 2))
         p.drawLine(QPointF(x, 0), QPointF(x, bottom))
 
+    # ---- gold edges ------------------------------------------------------------------------
+    def _gold_row(self) -> int | None:
+        return next((i for i, (name, _) in enumerate(self.tracks) if name == GOLD), None)
+
+    def edge_at(self, x: float, y: float) -> tuple[int, str] | None:
+        """(index, "start"|"end") of the gold segment edge under (x, y), or None."""
+        row = self._gold_row()
+        if row is None or int(y // (ROW_H + GAP)) != row:
+            return None
+        for i, (_, start, end) in enumerate(self.tracks[row][1]):
+            for side, f in (("end", end), ("start", start)):
+                if abs(x - self.x_of(f)) <= EDGE_PX:
+                    return i, side
+        return None
+
+    def boundary_at(self, x: float) -> int:
+        """The frame boundary nearest ``x`` (0..frame_count): where a dragged edge lands."""
+        w = max(1, self.width() - NAME_W - 6)
+        return int(min(self.frame_count, max(0, round((x - NAME_W) * self.frame_count / w))))
+
+    def mouseMoveEvent(self, event) -> None:  # noqa: N802
+        x, y = event.position().x(), event.position().y()
+        if self._drag is None:
+            edge = self.edge_at(x, y)
+            self.setCursor(Qt.CursorShape.SizeHorCursor if edge else Qt.CursorShape.ArrowCursor)
+            return
+        i, side, _ = self._drag
+        row = self._gold_row()
+        segs = list(self.tracks[row][1])
+        label, start, end = segs[i]
+        f = self.boundary_at(x)
+        segs[i] = (label, min(f, end - 1), end) if side == "start" else (label, start, max(f, start + 1))
+        self.tracks[row] = (GOLD, segs)
+        self.update()
+
+    def mouseReleaseEvent(self, event) -> None:  # noqa: N802
+        if self._drag is None or event.button() != Qt.MouseButton.LeftButton:
+            return
+        before, self._drag = self._drag[2], None
+        after = self.tracks[self._gold_row()][1]
+        if after != before:
+            self.goldEdited.emit(sorted(after, key=lambda g: (g[1], g[2])))
+
     def mousePressEvent(self, event) -> None:  # noqa: N802
         if event.button() != Qt.MouseButton.LeftButton:
             return
         x, y = event.position().x(), event.position().y()
         row = int(y // (ROW_H + GAP))
         if x < NAME_W:
+            return
+        edge = self.edge_at(x, y)
+        if edge is not None:
+            self._drag = (*edge, list(self.tracks[self._gold_row()][1]))
             return
         if 0 <= row < len(self.tracks):
             for _, start, end in self.tracks[row][1]:
