@@ -91,3 +91,53 @@ def test_trend_windows_agree_with_the_krippendorff_package(sample):
             # reference: the krippendorff package (test-only dependency)
             ref = krippendorff.alpha(reliability_data=data, level_of_measurement="nominal")
             assert math.isclose(t.alpha, ref, abs_tol=1e-9)
+
+
+def _spread_over_weeks(folder, weeks):
+    """Move every edit of clip c into the week ``weeks[c]`` (a Monday, 09:00 UTC, plus c minutes)."""
+    import datetime as dt
+    import sqlite3
+    db = sqlite3.connect(folder / "project.sqlite")
+    for clip, monday in weeks.items():
+        at = dt.datetime.combine(monday, dt.time(9, 0)) + dt.timedelta(minutes=clip)
+        db.execute("UPDATE edits SET at = ? WHERE clip_id = ?", (at.isoformat(" "), clip))
+    db.commit()
+    db.close()
+
+
+def test_trend_by_iso_week_once_labels_span_three_weeks(sample):
+    import datetime as dt
+    folder, lead = sample
+    mondays = [dt.date(2026, 11, 2) + dt.timedelta(weeks=k) for k in range(4)]   # W45..W48
+    with Project.open(folder, user=lead) as p:
+        clips = sorted(c.id for c in p.clips())
+    _spread_over_weeks(folder, {c: mondays[i % 4] for i, c in enumerate(clips)})
+    with Project.open(folder, user=lead) as p:
+        trend = p.agreement_trend()                                   # auto: 4 weeks, so by week
+        assert [t.period for t in trend] == ["2026-W45", "2026-W46", "2026-W47", "2026-W48"]
+        assert [t.clips for t in trend] == [[c for i, c in enumerate(clips) if i % 4 == k]
+                                            for k in range(4)]
+        assert all("ISO week" in t.recipe.text() for t in trend)
+        labels = [l.name for l in p.labels()]
+        cell = {(c, a): l for c, a, l in p.clip_labels()}
+        names = sorted({a for _, a, _ in p.clip_labels()})
+        for t in trend:
+            data = np.array([[labels.index(cell[(c, a)]) if (c, a) in cell else np.nan
+                              for c in t.clips] for a in names], dtype=float)
+            if np.unique(data[~np.isnan(data)]).size < 2:
+                assert t.alpha == 1.0
+                continue
+            # reference: the krippendorff package (test-only dependency)
+            ref = krippendorff.alpha(reliability_data=data, level_of_measurement="nominal")
+            assert math.isclose(t.alpha, ref, abs_tol=1e-9)
+        assert all(t.period == "" for t in p.agreement_trend(by="clips"))
+        assert all(t.period == "" for t in p.agreement_trend(window=4))  # a window asks for clips
+        with pytest.raises(RecordError, match="use auto, clips or week"):
+            p.agreement_trend(by="month")
+
+
+def test_trend_stays_by_clips_within_fewer_weeks(sample):
+    folder, lead = sample
+    with Project.open(folder, user=lead) as p:            # the sample's work fits in one morning
+        assert {t.period for t in p.agreement_trend()} == {""}
+        assert len({t.period for t in p.agreement_trend(by="week")}) == 1

@@ -83,9 +83,24 @@ class Throughput:
     recipe: Recipe
 
 
+MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
+
+
+def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[int]]:
+    """Clips (in ``order``) grouped by the ISO week of their last label; undated clips left out."""
+    out: dict[str, list[int]] = {}
+    for c in order:
+        if c in when:
+            t = when[c].astimezone(dt.timezone.utc) if when[c].tzinfo else when[c]
+            year, week, _ = t.isocalendar()
+            out.setdefault(f"{year}-W{week:02d}", []).append(c)
+    return out
+
+
 @dataclass(frozen=True, slots=True)
 class TrendPoint:
-    """Label agreement over one window of clips (ordered by when their labels were set)."""
+    """Label agreement over one window of clips (ordered by when their labels were set), or
+    over the clips last labelled in one ISO week (``period`` "2026-W49"; "" for windows)."""
 
     window: int
     first: dt.datetime
@@ -93,6 +108,7 @@ class TrendPoint:
     clips: list[int]
     alpha: float
     recipe: Recipe
+    period: str = ""
 
 
 class ReviewMixin:
@@ -241,11 +257,16 @@ class ReviewMixin:
             out[name] = Throughput(name, n, len(ev), active, rate, rec)
         return out
 
-    def agreement_trend(self, *, window: int | None = None) -> list[TrendPoint]:
-        r"""Krippendorff's alpha (nominal) of the annotators' labels over consecutive windows of
-        ``window`` clips, clips ordered by when their last label was set (default: six windows,
-        at least three clips each). Alpha as in :func:`clipscribe.agreement.krippendorff_alpha`
-        (Krippendorff 2004, *Content Analysis*, ch. 11)."""
+    def agreement_trend(self, *, window: int | None = None, by: str = "auto") -> list[TrendPoint]:
+        r"""Krippendorff's alpha (nominal) of the annotators' labels over time, clips ordered by
+        when their last label was set. ``by="clips"``: consecutive windows of ``window`` clips
+        (default: six windows, at least three clips each). ``by="week"``: one point per ISO
+        calendar week (UTC). ``by="auto"``: weeks when the labels span at least
+        :data:`MIN_WEEKS` weeks, else windows of clips. Alpha as in
+        :func:`clipscribe.agreement.krippendorff_alpha` (Krippendorff 2004, *Content Analysis*,
+        ch. 11)."""
+        if by not in ("auto", "clips", "week"):
+            raise RecordError(f"trend by {by!r}: use auto, clips or week")
         workers = self._workers()
         rows = [r for r in self.clip_labels() if r[1] in workers]
         when: dict[int, dt.datetime] = {}
@@ -254,17 +275,22 @@ class ReviewMixin:
         order = sorted({c for c, _, _ in rows}, key=lambda c: (when.get(c, dt.datetime.min), c))
         if not order:
             return []
-        size = window or max(3, math.ceil(len(order) / 6))
+        weeks = _by_week(order, when)
+        if by == "week" or (by == "auto" and window is None and len(weeks) >= MIN_WEEKS):
+            parts, how = list(weeks.items()), "ISO week (UTC) of the last label"
+        else:
+            size = window or max(3, math.ceil(len(order) / 6))
+            parts = [("", order[k:k + size]) for k in range(0, len(order), size)]
+            how = f"windows of {size} clips by time of last label"
         names = sorted({a for _, a, _ in rows})
         labels = [l.name for l in self.labels()]
         cell = {(c, a): lab for c, a, lab in rows}
         out = []
-        for k in range(0, len(order), size):
-            part = order[k:k + size]
+        for period, part in parts:
             data = [[cell.get((c, a)) for c in part] for a in names]
             val = krippendorff_alpha(data, labels=labels)
             times = [when[c] for c in part if c in when] or [dt.datetime.min]
-            rec = val.recipe.replace(options={**dict(val.recipe.options), "window": size,
-                                              "order": "time of last label"})
-            out.append(TrendPoint(len(out) + 1, min(times), max(times), part, float(val), rec))
+            rec = val.recipe.replace(options={**dict(val.recipe.options), "trend": how})
+            out.append(TrendPoint(len(out) + 1, min(times), max(times), part, float(val), rec,
+                                  period))
         return out

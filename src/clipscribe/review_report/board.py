@@ -44,8 +44,9 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
                         "active_seconds": t.active_seconds,
                         "clips_per_hour": _clean(t.clips_per_hour), "recipe": t.recipe.to_dict()}
                        for t in project.throughput().values()],
-        "trend": [{"window": t.window, "first": t.first.isoformat(), "last": t.last.isoformat(),
-                   "clips": t.clips, "alpha": _clean(t.alpha), "recipe": t.recipe.to_dict()}
+        "trend": [{"window": t.window, "period": t.period, "first": t.first.isoformat(),
+                   "last": t.last.isoformat(), "clips": t.clips, "alpha": _clean(t.alpha),
+                   "recipe": t.recipe.to_dict()}
                   for t in project.agreement_trend()],
         "queue": [{"rank": r.rank, "clip": r.clip, "path": r.path, "group": r.group,
                    "label_disagreement": _clean(r.label_disagreement),
@@ -144,11 +145,14 @@ def throughput_figure(data: dict) -> Figure:
 
 
 def trend_figure(data: dict) -> Figure:
-    pts = [(f"#{t['window']} ({len(t['clips'])} clips)", t["alpha"], _tip(
-        f"window {t['window']}: clips {', '.join(map(str, t['clips']))}, alpha {_v(t['alpha'])}"
+    weekly = any(t.get("period") for t in data["trend"])
+    pts = [(f"{t['period'] or '#' + str(t['window'])} ({len(t['clips'])} clips)", t["alpha"], _tip(
+        f"{'week ' + t['period'] if t.get('period') else 'window ' + str(t['window'])}: clips "
+        f"{', '.join(map(str, t['clips']))}, alpha {_v(t['alpha'])}"
         f"\nlabels set {t['first'][:16]} – {t['last'][:16]}", t["recipe"]))
            for t in data["trend"]]
-    return line_chart("Label agreement over time (alpha per window of clips)", pts)
+    return line_chart("Label agreement over time (alpha per "
+                      f"{'ISO week' if weekly else 'window of clips'})", pts)
 
 
 def board_figures(data: dict) -> dict[str, Figure]:

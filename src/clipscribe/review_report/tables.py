@@ -112,9 +112,9 @@ def throughput(data: dict) -> Table:
 
 
 def trend(data: dict) -> Table:
-    return (["window", "first", "last", "clips", "alpha", "recipe"],
-            [[t["window"], t["first"], t["last"], " ".join(map(str, t["clips"])), t["alpha"],
-              t["recipe"]["text"]] for t in data["trend"]])
+    return (["window", "period", "first", "last", "clips", "alpha", "recipe"],
+            [[t["window"], t.get("period", ""), t["first"], t["last"], " ".join(map(str, t["clips"])),
+              t["alpha"], t["recipe"]["text"]] for t in data["trend"]])
 
 
 ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
