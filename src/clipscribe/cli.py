@@ -217,6 +217,11 @@ def _extend(add) -> None:
 
 
 def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else list(argv)
+    if not argv and not sys.stdout.isatty():
+        # started with no command and no terminal (a double-click on the app in a file
+        # manager): open the window, as the menu entry does; in a terminal, show the usage
+        argv = ["open"]
     args = build_parser().parse_args(argv)
     try:
         return args.fn(args) or 0

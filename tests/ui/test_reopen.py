@@ -68,3 +68,11 @@ def test_no_folder_opens_the_remembered_project(sample, tmp_path):
     run = _run(OPEN, config, "--user", "annotator-1", "--screenshot", out)
     assert run.returncode == 0, run.stderr
     assert not QImage(str(out)).isNull()
+
+
+def test_no_command_without_a_terminal_opens_the_window(tmp_path):
+    # a double-click in a file manager: no arguments, stdout not a terminal (here: a pipe)
+    code = OPEN_SPY.replace("main(['open', *sys.argv[1:]])", "main([])")
+    spied = _run(code, tmp_path / "config")
+    assert spied.returncode == 0, spied.stderr
+    assert spied.stdout.strip() == "opening None"
