@@ -140,3 +140,32 @@ def test_an_empty_project_says_how_to_add_clips(qtbot, open_window, empty):
     empty.close()
     w, _ = open_window(folder, None)
     assert "Set up project" in w.empty_note()
+
+
+def test_people_are_added_and_change_role_and_refusals_are_said(qtbot, empty):
+    d = _dialog(qtbot, empty)
+    people = d.people
+    assert people.password.isHidden() and people.password_button.isHidden()  # no logins locally
+    lead = empty.user
+    assert [people.list.item(i).text() for i in range(people.list.count())] == [f"{lead} — lead"]
+    people.name.setText("annotator-4")
+    assert people.add_person() and d.changed
+    assert people.name.text() == "" and "Added annotator-4 as annotator" in people.note.text()
+    assert [(a.name, a.role) for a in empty.annotators()] == [(lead, "lead"), ("annotator-4", "annotator")]
+    people.name.setText("annotator-4")                       # the same name again
+    assert not people.add_person() and people.note.text().startswith("Not saved:")
+    assert people.selected() == ("annotator-4", "annotator")  # the one just added stays selected
+    people.list.setCurrentRow(0)                              # the only lead cannot step down
+    assert not people.toggle_role() and "at least one lead" in people.note.text()
+    assert empty.role(lead) == "lead"
+    people.list.setCurrentRow(1)
+    assert people.toggle_button.text().replace("&", "") == "Make lead"
+    assert people.toggle_role() and empty.role("annotator-4") == "lead"
+    assert people.toggle_button.text().replace("&", "") == "Make annotator"
+    people.list.setCurrentRow(0)                              # now the local user may step down,
+    assert people.toggle_role() and empty.role(lead) == "annotator"
+    people.list.setCurrentRow(1)                              # and, no longer a lead, changes nothing
+    assert not people.toggle_role() and "only leads" in people.note.text()
+    assert empty.role("annotator-4") == "lead"
+    people.name.setText("  ")
+    assert not people.add_person() and "name first" in people.note.text()

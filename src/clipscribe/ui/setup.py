@@ -1,5 +1,5 @@
-"""Setting a project up without the command line: its label set, and its videos (those already
-in the media folder, or a folder copied in from elsewhere). For leads; the work runs on the
+"""Setting a project up without the command line: its label set, its videos (those already in
+the media folder, or a folder copied in from elsewhere) and its people. For leads; the work runs on the
 worker pool with progress and cancel, and everything goes through the project's own methods
 (``define_labels``, ``copy_media_in``, ``add_media``), as the CLI does."""
 
@@ -14,6 +14,7 @@ from PySide6.QtWidgets import (
 )
 
 from ..errors import RecordError
+from .people import PeopleBox
 from .workers import Job, JobRunner
 
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
@@ -42,7 +43,7 @@ def _note(layout) -> QLabel:
 
 
 class ProjectSetup(QDialog):
-    """Labels and videos of one project; ``changed`` says whether anything was saved."""
+    """Labels, videos and people of one project; ``changed`` says whether anything was saved."""
 
     def __init__(self, project, parent: QWidget | None = None, *, pick=None) -> None:
         super().__init__(parent)
@@ -50,16 +51,23 @@ class ProjectSetup(QDialog):
         self.setWindowTitle("Set up the project")
         self.setMinimumWidth(620)
         self.project = project
-        self.changed = False
+        self._changed = False
         self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
         self.jobs = JobRunner(self)
         self._job: Job | None = None
         lay = QVBoxLayout(self)
         lay.addWidget(self._labels_box())
         lay.addWidget(self._videos_box())
+        self.people = PeopleBox(project)
+        lay.addWidget(self.people)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
         buttons.rejected.connect(self.reject)
         lay.addWidget(buttons)
+
+    @property
+    def changed(self) -> bool:
+        """Whether anything was saved (labels, videos or people): the window then reopens."""
+        return self._changed or self.people.changed
 
     # ---- labels ---------------------------------------------------------------------------
     def _labels_box(self) -> QGroupBox:
@@ -104,7 +112,7 @@ class ProjectSetup(QDialog):
         except RecordError as exc:
             self.label_note.setText(f"Not saved: {exc}")
             return False
-        self.changed = True
+        self._changed = True
         keys = ", ".join(f"{lab.name} [{lab.key}]" for lab in self.project.labels() if lab.key)
         self.label_note.setText(f"Saved {len(names)} labels (label set "
                                 f"v{self.project.label_set_version()}). Keys: {keys}")
@@ -180,7 +188,7 @@ class ProjectSetup(QDialog):
 
     def _done(self, out) -> None:
         folder, rep = out
-        self.changed = self.changed or bool(rep.added)
+        self._changed = self._changed or bool(rep.added)
         lines = [f"Added {len(rep.added)} clip(s) from {folder}; {len(rep.already_present)} "
                  f"already present; {len(rep.skipped)} skipped."]
         lines += [f"Skipped {path}: {why}" for path, why in rep.skipped[:8]]
