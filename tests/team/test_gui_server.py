@@ -87,6 +87,28 @@ def test_cancelling_the_login_of_clipscribe_open_exits_0(team, monkeypatch):
     assert run(p.folder, user=ann) == 0 and len(asked) == 1
 
 
+def test_reopening_the_same_project_keeps_the_login_it_asked_for(team, monkeypatch):
+    """After Set up project the window reopens on the same project: the password the login
+    dialog gave is used again, not asked for twice; another project starts afresh."""
+    import clipscribe.ui.app as app_module
+    import clipscribe.ui.login as login
+    from clipscribe.ui import start
+    p, ann, _ = team
+    monkeypatch.delenv("CLIPSCRIBE_PASSWORD", raising=False)
+    asked, shown = [], []
+    monkeypatch.setattr(login, "ask_with_dialog",
+                        lambda folder, user, reason: asked.append(user) or (user, "pw-ann"))
+
+    def show(app, project, *, view, screenshot):
+        shown.append(project.user)
+        if len(shown) == 1:
+            start.request_switch(project.folder)  # what Set up project does after a change
+        return 0
+    monkeypatch.setattr(app_module, "_show", show)
+    assert app_module.run(p.folder, user=ann) == 0
+    assert shown == [ann, ann] and asked == [ann]
+
+
 def test_annotator_work_reaches_the_lead_and_blind_mode_hides_it(qtbot, team, gui):
     p, ann, bob = team
     asked = []

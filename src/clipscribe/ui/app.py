@@ -82,13 +82,14 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
         if project is None:  # the login was cancelled
             return code
         shown = Path(project.folder).resolve()
+        login = (project.user, project.engine.url.password)  # a server login's, maybe asked for
         code = _show(app, project, view=view, screenshot=screenshot)
         project.close()
         folder = None if screenshot else start.take_switch()  # File > Open another project
         if folder is None:
             return code
-        if Path(folder).resolve() != shown:  # the same project again keeps its login
-            user = password = None
+        # the same project again (after Set up project) keeps its login; another starts afresh
+        user, password = login if Path(folder).resolve() == shown else (None, None)
         view, note = "work", ""
 
 
