@@ -3,12 +3,15 @@ user's; the sample project built once per run."""
 
 import os
 import tempfile
+from pathlib import Path
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")  # before Qt is imported anywhere
 _HOME = tempfile.mkdtemp(prefix="clipscribe-tests-")
 os.environ["XDG_CACHE_HOME"] = os.path.join(_HOME, "cache")    # frame indexes, job results
 os.environ["XDG_CONFIG_HOME"] = os.path.join(_HOME, "config")  # QSettings of subprocesses
 
+import cv2  # noqa: E402
+import numpy as np  # noqa: E402
 import pytest  # noqa: E402
 from PySide6.QtCore import QSettings  # noqa: E402
 
@@ -17,6 +20,24 @@ from clipscribe.sample import build_sample  # noqa: E402
 QSettings.setDefaultFormat(QSettings.Format.IniFormat)
 QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope,
                   os.path.join(_HOME, "config"))
+
+
+def write_video(path: Path, n: int = 12, size: tuple[int, int] = (64, 48), seed: int = 0) -> Path:
+    path.parent.mkdir(parents=True, exist_ok=True)
+    out = cv2.VideoWriter(str(path), cv2.VideoWriter_fourcc(*"mp4v"), 10.0, size)
+    rng = np.random.default_rng(seed)
+    for i in range(n):
+        img = np.full((size[1], size[0], 3), (i * 20) % 255, np.uint8)
+        img[:8, :8] = rng.integers(0, 255, 3)
+        out.write(img)
+    out.release()
+    return path
+
+
+@pytest.fixture
+def make_video():
+    """``make_video(path, n=12, size=(64, 48), seed=0)``: a small mp4v test video at ``path``."""
+    return write_video
 
 
 @pytest.fixture(scope="session")

@@ -2,24 +2,12 @@
 
 import threading
 
-import cv2
-import numpy as np
 import pytest
 
 from clipscribe import Project
 from clipscribe.media import copy_in
 from clipscribe.ui import start
 from clipscribe.ui.setup import GROUPINGS, ProjectSetup
-
-
-def _video(path, seed, n=8):
-    path.parent.mkdir(parents=True, exist_ok=True)
-    out = cv2.VideoWriter(str(path), cv2.VideoWriter_fourcc(*"mp4v"), 10.0, (64, 48))
-    rng = np.random.default_rng(seed)
-    for i in range(n):
-        out.write(np.full((48, 64, 3), rng.integers(0, 255, 3), np.uint8))
-    out.release()
-    return path
 
 
 @pytest.fixture
@@ -29,11 +17,11 @@ def empty(tmp_path):
 
 
 @pytest.fixture
-def shoot(tmp_path):
+def shoot(tmp_path, make_video):
     src = tmp_path / "shoot"
-    for cam in ("cam-a", "cam-b"):
+    for c, cam in enumerate(("cam-a", "cam-b")):
         for k in range(2):
-            _video(src / cam / f"take-{k}.mp4", seed=hash((cam, k)) % 1000)
+            make_video(src / cam / f"take-{k}.mp4", n=8, seed=10 * c + k)
     return src
 
 
@@ -81,8 +69,8 @@ def test_copy_in_adds_the_clips_grouped_by_folder(qtbot, empty, shoot):
     assert "4 clips in this project" in d.video_count.text()
 
 
-def test_scan_adds_what_is_already_in_the_media_folder_once(qtbot, empty):
-    _video(empty.media_root / "take-1.mp4", seed=1)
+def test_scan_adds_what_is_already_in_the_media_folder_once(qtbot, empty, make_video):
+    make_video(empty.media_root / "take-1.mp4", n=8, seed=1)
     (empty.media_root / "broken.mp4").write_bytes(b"not a video")
     d = _dialog(qtbot, empty)
     d.grouping.setCurrentText(next(k for k, v in GROUPINGS.items() if v is None))

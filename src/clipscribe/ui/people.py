@@ -13,7 +13,7 @@ from PySide6.QtWidgets import (
 
 from ..errors import RecordError
 
-ROLE_TEXT = {"annotator": "annotator", "lead": "lead"}
+ROLES = ("annotator", "lead")
 
 
 class PeopleBox(QGroupBox):
@@ -48,7 +48,7 @@ class PeopleBox(QGroupBox):
         self.name.setPlaceholderText("name, e.g. annotator-4")
         self.name.setAccessibleName("Name of a new person")
         self.role = QComboBox()
-        self.role.addItems(list(ROLE_TEXT))
+        self.role.addItems(list(ROLES))
         self.password = QLineEdit()
         self.password.setEchoMode(QLineEdit.EchoMode.Password)
         self.password.setPlaceholderText("login password")
@@ -70,7 +70,7 @@ class PeopleBox(QGroupBox):
     def reload(self, select: str | None = None) -> None:
         self.list.clear()
         for person in self.project.annotators():
-            item = QListWidgetItem(f"{person.name} — {ROLE_TEXT.get(person.role, person.role)}")
+            item = QListWidgetItem(f"{person.name} — {person.role}")
             item.setData(Qt.ItemDataRole.UserRole, (person.name, person.role))
             self.list.addItem(item)
             if person.name == select:
