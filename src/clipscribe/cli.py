@@ -133,7 +133,7 @@ def cmd_schema(args: argparse.Namespace) -> int:
 
 def cmd_open(args: argparse.Namespace) -> int:
     from .schema.settings import SETTINGS_FILE
-    from .ui.boot import check_qt_runtime, last_project
+    from .ui.boot import check_bindings, check_qt_runtime, last_project
     folder, note = args.project, ""
     if folder is None:
         folder = last_project()
@@ -141,7 +141,7 @@ def cmd_open(args: argparse.Namespace) -> int:
             folder, note = None, f"The project opened last, {folder}, is no longer there."
         if folder is None and args.screenshot:
             raise ProjectError(note or "no project given and none opened before")
-    problem = check_qt_runtime(screenshot=bool(args.screenshot))
+    problem = check_qt_runtime(screenshot=bool(args.screenshot)) or check_bindings()
     if problem:
         raise ProjectError(problem)
     from .ui.app import run

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import ctypes
 import os
+import sys
 from pathlib import Path
 
 ORGANISATION = "clipscribe"      # QSettings names of the workbench; APPLICATION is also the
@@ -66,6 +67,50 @@ def check_qt_runtime(*, screenshot: bool = False) -> str | None:
         return ("Qt needs system libraries that are missing; on Debian/Ubuntu run: "
                 f"sudo apt-get install {' '.join(missing)}")
     return None
+
+
+#: (PySide6 version, the Python versions it fails on, what goes wrong). 6.12.0's bindings give up
+#: one reference to ``None`` on every wrapped call that returns nothing (``QPainter.setPen``,
+#: ``QPainterPath.lineTo``, ...); Python before 3.12 counts references to ``None`` and aborts
+#: ("Fatal Python error: none_dealloc") once the count reaches zero, seconds into painting.
+KNOWN_BAD_BINDINGS = (
+    ("6.12.0", (3, 12), "loses a reference to None on every call that returns nothing"),
+)
+PROBE_CALLS = 64
+
+
+def none_references_lost(calls: int = PROBE_CALLS) -> int:
+    """How many references to ``None`` ``calls`` void Qt calls give up (0 when sound).
+
+    Measured, not looked up, so a faulty build we have not heard of is caught too. Only
+    meaningful before Python 3.12; from 3.12 ``None`` is immortal and its count never moves."""
+    from PySide6.QtGui import QPainterPath
+    path = QPainterPath()
+    before = sys.getrefcount(None)
+    for i in range(calls):
+        path.lineTo(i, i)
+    return max(0, before - sys.getrefcount(None))
+
+
+def check_bindings() -> str | None:
+    """One line naming a Python/PySide6 pairing that would crash the window, or None."""
+    try:
+        import PySide6
+    except ImportError:
+        return "PySide6 is not installed: pip install 'PySide6-Essentials!=6.12.0'"
+    version = PySide6.__version__
+    for bad, fixed_in, what in KNOWN_BAD_BINDINGS:
+        if version == bad and sys.version_info[:2] < fixed_in:
+            break
+    else:
+        what = None
+    if what is None and sys.version_info[:2] < (3, 12) and none_references_lost() >= PROBE_CALLS // 2:
+        what = "loses references to None"
+    if what is None:
+        return None
+    py = ".".join(map(str, sys.version_info[:3]))
+    return (f"PySide6 {version} {what}, and Python {py} would abort a few seconds into use "
+            f"(none_dealloc); install another version: pip install 'PySide6-Essentials!={version}'")
 
 
 def last_project() -> str | None:
