@@ -19,6 +19,7 @@ import numpy as np
 from sqlalchemy import exists, func, select, text, update
 from sqlalchemy.exc import DBAPIError, IntegrityError
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.attributes import set_committed_value
 
 from ..errors import RecordError, StaleWriteError
 from ..store import team
@@ -308,12 +309,23 @@ class TeamMixin:
         return len(stale)
 
     def _refresh_clip_state(self, s: Session, c: Clip) -> None:
-        """On a server an annotator's login sees only its own assignments, so the clip's
-        state is worked out by the database from everyone's (``clipscribe_clip_state``)."""
+        """On a server an annotator's login sees only its own assignments and may not write
+        ``clips.state``: the database works the state out from everyone's assignments and
+        writes it (``clipscribe_refresh_clip_state``, for a clip the caller has an
+        assignment on); the loaded row takes the result without writing it again."""
         if not self.is_server:
             return super()._refresh_clip_state(s, c)
         s.flush()
-        c.state = s.scalar(text("SELECT clipscribe_clip_state(:c)"), {"c": c.id})
+        state = s.scalar(text("SELECT clipscribe_refresh_clip_state(:c)"), {"c": c.id})
+        set_committed_value(c, "state", state)
+
+    def _touch(self, s: Session, c: Clip, a: Annotator) -> Assignment:
+        if not self.is_server or c.state != "new":
+            return super()._touch(s, c, a)
+        set_committed_value(c, "state", "in_progress")  # written by the database below
+        row = super()._touch(s, c, a)
+        self._refresh_clip_state(s, c)
+        return row
 
     # ---- conflict-aware edits -----------------------------------------------------------
     def caption_version(self, caption_id: int) -> int:
