@@ -18,7 +18,7 @@ from alembic.config import Config
 from alembic.runtime.migration import MigrationContext
 from alembic.script import ScriptDirectory
 from sqlalchemy import Engine, create_engine, event
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session
 
 from ..errors import ProjectError
@@ -129,4 +129,13 @@ def migrate(engine: Engine) -> None:
             ) from None
         if current == head_revision():
             return
-    command.upgrade(alembic_config(engine), "head")
+    try:
+        command.upgrade(alembic_config(engine), "head")
+    except Exception as exc:  # wrapped by SQLAlchemy, or raw from the driver (team SQL)
+        inner = exc.orig if isinstance(exc, DBAPIError) else exc
+        if getattr(inner, "sqlstate", None) != "42501":
+            raise
+        raise ProjectError(
+            f"the project database is at schema revision {current!r} and this clipscribe needs "
+            f"{head_revision()!r}; only the database's owner may upgrade it: ask the admin to "
+            "open the project once with this version") from None
