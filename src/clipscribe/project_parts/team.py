@@ -21,7 +21,7 @@ from sqlalchemy.exc import DBAPIError, IntegrityError
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.attributes import set_committed_value
 
-from ..errors import RecordError, StaleWriteError
+from ..errors import RecordError, ServerBusyError, StaleWriteError
 from ..store import team
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
 from .base import require, row_dict
@@ -31,6 +31,8 @@ DEFAULT_LEASE_S = 2 * 3600.0
 #: SQLSTATEs worth running the whole transaction again for (serialization failure, deadlock)
 _RETRY_STATES = ("40001", "40P01")
 _DENIED = "42501"
+#: lock not available (lock_timeout), query cancelled (statement_timeout)
+_BUSY_STATES = ("55P03", "57014")
 
 
 class TeamPermissionError(RecordError, PermissionError):
@@ -77,7 +79,7 @@ class TeamMixin:
                 if code in _RETRY_STATES and attempt < 5:
                     time.sleep(0.02 * (2 ** attempt))
                     continue
-                _raise_denied(exc)
+                self._raise_server_refusal(exc)
                 raise
         raise AssertionError("unreachable")
 
@@ -85,8 +87,44 @@ class TeamMixin:
         try:
             return super()._read(fn)
         except DBAPIError as exc:
-            _raise_denied(exc)
+            self._raise_server_refusal(exc)
             raise
+
+    def _raise_server_refusal(self, exc: DBAPIError) -> None:
+        """A refusal by the server as one clear line (never the SQL or its parameters):
+        no right -> TeamPermissionError; a lock not granted in time or a time limit ->
+        ServerBusyError naming who holds strong locks; a value the server cannot store ->
+        RecordError."""
+        _raise_denied(exc)
+        code = getattr(exc.orig, "sqlstate", None) or ""
+        first = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+        if code in _BUSY_STATES:
+            why = "a lock was not granted in time" if code == "55P03" else "a time limit was reached"
+            raise ServerBusyError(f"the server is busy ({self._lock_holders()}): {why}; "
+                                  "nothing was saved, try again in a moment") from None
+        if code.startswith("22"):
+            raise RecordError(f"the server refused a value: {first}") from None
+
+    def _lock_holders(self) -> str:
+        """Who holds table locks that stop other writers in this database, as far as the
+        server shows it to this login (login names and tables, never their statements)."""
+        try:
+            with self.engine.connect() as conn:
+                rows = conn.execute(text(
+                    "SELECT DISTINCT a.usename, c.relname FROM pg_catalog.pg_locks l "
+                    "JOIN pg_catalog.pg_stat_activity a ON a.pid = l.pid "
+                    "LEFT JOIN pg_catalog.pg_class c ON c.oid = l.relation "
+                    "WHERE l.granted AND l.locktype = 'relation' AND l.pid <> pg_backend_pid() "
+                    "AND l.database = (SELECT oid FROM pg_catalog.pg_database "
+                    "                  WHERE datname = current_database()) "
+                    "AND l.mode IN ('ShareLock', 'ShareRowExclusiveLock', 'ExclusiveLock', "
+                    "               'AccessExclusiveLock') ORDER BY 1, 2")).all()
+        except Exception:  # noqa: BLE001 - the message matters more than the detail
+            rows = []
+        if not rows:
+            return "locked by another session"
+        return "locked by " + ", ".join(f"{who or 'another login'} on {rel or 'a table'}"
+                                        for who, rel in rows[:3])
 
     # ---- people and logins ------------------------------------------------------------
     def _after_add_annotator(self, s: Session, row: Annotator, password: str | None) -> None:
