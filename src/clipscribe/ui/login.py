@@ -4,10 +4,12 @@ workbench asks for the login name and password in a small dialog, then tries aga
 
 from __future__ import annotations
 
+import html
 import os
 from collections.abc import Callable
 from pathlib import Path
 
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QDialog, QDialogButtonBox, QFormLayout, QLabel, QLineEdit, QVBoxLayout, QWidget,
 )
@@ -30,7 +32,7 @@ class LoginDialog(QDialog):
     """Login name (prefilled) and password for one project on a server."""
 
     def __init__(self, folder: Path, user: str, reason: str = "",
-                 parent: QWidget | None = None) -> None:
+                 parent: QWidget | None = None, *, server: str | None = None) -> None:
         super().__init__(parent)
         self.setWindowTitle("Log in to the project server")
         self.setObjectName("loginDialog")
@@ -40,6 +42,11 @@ class LoginDialog(QDialog):
                        "Log in with the name and password your lead gave you.")
         intro.setWordWrap(True)
         lay.addWidget(intro)
+        # the folder's settings name the server; a folder edited to point elsewhere shows here
+        self.server = QLabel(f"Server: <b>{html.escape(server or 'unknown')}</b>")
+        self.server.setObjectName("loginServer")
+        self.server.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        lay.addWidget(self.server)
         self.reason = QLabel(reason)
         self.reason.setObjectName("captionNote")
         self.reason.setWordWrap(True)
@@ -66,8 +73,19 @@ class LoginDialog(QDialog):
         return self.user.text().strip(), self.password.text()
 
 
+def server_of(folder: Path) -> str | None:
+    """``host:port/database`` the folder's settings point at, or None."""
+    from ..schema.settings import SETTINGS_FILE, ProjectSettings
+    from ..store.urls import host_of
+    try:
+        cfg = ProjectSettings.model_validate_json((folder / SETTINGS_FILE).read_text(encoding="utf-8"))
+    except Exception:  # noqa: BLE001 - the dialog still works without it
+        return None
+    return host_of(cfg.database_url)
+
+
 def ask_with_dialog(folder: Path, user: str, reason: str) -> tuple[str, str] | None:
-    dlg = LoginDialog(folder, user, reason)
+    dlg = LoginDialog(folder, user, reason, server=server_of(folder))
     return dlg.answer() if dlg.exec() == QDialog.DialogCode.Accepted else None
 
 
