@@ -17,7 +17,7 @@ from typing import Any, TypeVar
 
 import numpy as np
 from sqlalchemy import exists, func, select, text, update
-from sqlalchemy.exc import DBAPIError, IntegrityError
+from sqlalchemy.exc import DataError, DBAPIError, IntegrityError
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.attributes import set_committed_value
 
@@ -102,7 +102,7 @@ class TeamMixin:
             why = "a lock was not granted in time" if code == "55P03" else "a time limit was reached"
             raise ServerBusyError(f"the server is busy ({self._lock_holders()}): {why}; "
                                   "nothing was saved, try again in a moment") from None
-        if code.startswith("22"):
+        if code.startswith("22") or isinstance(exc, DataError):  # psycopg's own: no code
             raise RecordError(f"the server refused a value: {first}") from None
 
     def _lock_holders(self) -> str:
@@ -127,6 +127,29 @@ class TeamMixin:
                                         for who, rel in rows[:3])
 
     # ---- people and logins ------------------------------------------------------------
+    def add_annotator(self, name: str, role: str = "annotator", password: str | None = None, *,
+                      exist_ok: bool = False) -> int:
+        """As :meth:`CatalogMixin.add_annotator`; on a server, a name that cannot become a
+        login (too long, reserved) is refused before anything is written."""
+        if self.is_server and password is not None and (name or "").strip():
+            try:
+                team.login_name(name)
+            except ValueError as exc:
+                raise RecordError(str(exc)) from None
+        return super().add_annotator(name, role, password, exist_ok=exist_ok)
+
+    def require_full_view(self, what: str) -> None:
+        """Refuse ``what`` (a report over everyone's work) to a login the server shows only
+        its own work: an annotator in blind mode. Solo projects see everything."""
+        if not self.is_server:
+            return
+        if self._read(lambda s: bool(s.scalar(text("SELECT clipscribe_is_lead()")))):
+            return
+        if self.blind_mode():
+            raise TeamPermissionError(
+                f"{self.user!r} is an annotator and blind mode is on: {what} needs every "
+                "annotator's work, which the server shows only to leads; ask a lead for it")
+
     def _after_add_annotator(self, s: Session, row: Annotator, password: str | None) -> None:
         super()._after_add_annotator(s, row, password)
         if not self.is_server:

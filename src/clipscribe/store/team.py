@@ -39,6 +39,8 @@ BLIND_KEY = "team.blind"
 LEASE_KEY = "team.lease_seconds"
 PLAN_KEY = "team.assignment_plan"
 MAX_LOGIN_BYTES = 63  # PostgreSQL's NAMEDATALEN - 1
+#: role names PostgreSQL refuses to create (besides every name starting with ``pg_``)
+RESERVED_LOGINS = ("public", "none", "current_user", "session_user", "current_role", "user")
 
 #: the schema clipscribe's tables live in (the migrations create them in the default one)
 SCHEMA = "public"
@@ -403,8 +405,13 @@ def uninstall(conn: Any) -> None:
 def login_name(person: str) -> str:
     """The login of a person: their name in lower case (what ``Project.open(user=...)`` uses)."""
     login = person.strip().lower()
+    shown = person if len(person) <= 40 else person[:40] + "…"
     if not login or len(login.encode("utf-8")) > MAX_LOGIN_BYTES or "\x00" in login:
-        raise ValueError(f"{person!r}: a login name must be 1 to {MAX_LOGIN_BYTES} bytes")
+        raise ValueError(f"{shown!r}: a login name must be 1 to {MAX_LOGIN_BYTES} bytes "
+                         f"(this one is {len(login.encode('utf-8'))}); choose a shorter name")
+    if login.startswith("pg_") or login in RESERVED_LOGINS:
+        raise ValueError(f"{shown!r}: the login name {login!r} is reserved by PostgreSQL "
+                         "(names starting pg_, and public, none); choose another name")
     return login
 
 
@@ -447,6 +454,9 @@ def _privileged():
         yield
     except psycopg.errors.InsufficientPrivilege as exc:
         raise PermissionError(str(exc).strip().splitlines()[0]) from None
+    except (psycopg.errors.ReservedName, psycopg.errors.InvalidName,
+            psycopg.errors.DuplicateObject) as exc:
+        raise ValueError(str(exc).strip().splitlines()[0]) from None
 
 
 def grant_group(conn: Any, login: str, role: str) -> None:
