@@ -194,6 +194,27 @@ $$;
 REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(integer) FROM PUBLIC;
 """
 
+# A foreign key is checked with the table owner's rights, past row-level security, so a
+# caption pointing at a segment the caller cannot see would tell them whether that segment
+# exists (and tie their caption to someone else's segment). This check runs first, with the
+# caller's rights: a hidden segment and a missing one get the same refusal.
+_TRIGGERS = f"""
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_check_caption_segment() RETURNS trigger
+LANGUAGE plpgsql {_PATH} AS $$
+BEGIN
+  IF NEW.segment_id IS NOT NULL
+     AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.segments s WHERE s.id = NEW.segment_id) THEN
+    RAISE EXCEPTION 'segment %: no such segment among those this login may see', NEW.segment_id
+      USING ERRCODE = '23503';
+  END IF;
+  RETURN NEW;
+END
+$$;
+DROP TRIGGER IF EXISTS clipscribe_caption_segment ON {SCHEMA}.captions;
+CREATE TRIGGER clipscribe_caption_segment BEFORE INSERT OR UPDATE OF segment_id
+  ON {SCHEMA}.captions FOR EACH ROW EXECUTE FUNCTION {SCHEMA}.clipscribe_check_caption_segment();
+"""
+
 _ME = f"(SELECT {SCHEMA}.clipscribe_me())"
 _LEAD = f"((SELECT {SCHEMA}.clipscribe_is_lead()))"
 #: the tables an annotator's login adds rows to (their id sequences need USAGE for nextval)
@@ -327,6 +348,8 @@ END $$;
 """
 
 _UNINSTALL = f"""
+DROP TRIGGER IF EXISTS clipscribe_caption_segment ON {SCHEMA}.captions;
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_check_caption_segment();
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_pull(integer, double precision);
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_refresh_clip_state(integer);
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_clip_state(integer);
@@ -359,7 +382,7 @@ def harden(conn: Any) -> None:
     place (the policies refer to them, not to their text), grants and revocations repeat.
     """
     raw = _driver(conn)
-    for block in (_FUNCTIONS, _PULL, _grants()):
+    for block in (_FUNCTIONS, _PULL, _TRIGGERS, _grants()):
         raw.execute(block)
     for login, role in raw.execute(
             f"SELECT a.db_login, a.role FROM {_q('annotators')} a JOIN pg_catalog.pg_roles r "
