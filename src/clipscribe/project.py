@@ -115,6 +115,18 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         return lead or local
 
     @staticmethod
+    def server_of(folder: str | os.PathLike) -> str | None:
+        """``host:port/database`` of the server a project folder's settings name (what a
+        login there would reach), or None for a solo project or unreadable settings."""
+        from .store.urls import host_of
+        try:
+            cfg = ProjectSettings.model_validate_json(
+                (Path(folder) / SETTINGS_FILE).read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            return None
+        return host_of(cfg.database_url)
+
+    @staticmethod
     def local_user_name() -> str:
         try:
             return getpass.getuser() or "owner"

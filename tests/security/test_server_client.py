@@ -170,3 +170,10 @@ def test_login_dialog_names_the_server(qtbot, tmp_path):
     qtbot.addWidget(dlg)
     texts = " ".join(w.text() for w in dlg.findChildren(type(dlg.reason)))
     assert "db.example.test:5432/kitchen" in texts
+
+
+def test_the_dialog_is_given_the_server_the_folder_names(server_project, tmp_path):
+    p = server_project
+    url = p.engine.url
+    assert Project.server_of(p.folder) == f"{url.host}:{url.port}/{url.database}"
+    assert Project.server_of(tmp_path) is None  # no settings: nothing to show

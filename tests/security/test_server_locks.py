@@ -55,3 +55,14 @@ def test_a_reader_blocked_by_a_lock_gets_one_clear_line(locked, capsys):
     assert main(["dump", str(p.folder), str(p.folder / "out.jsonl")]) == 1
     err = capsys.readouterr().err.strip()
     assert err.startswith("clipscribe: error: the server is busy") and "\n" not in err
+
+
+def test_the_workbench_says_not_saved_and_why(locked, qtbot):
+    from clipscribe.ui.editor import ClipEditor
+    p, ann, bob, c1, _conn = locked
+    with Project.open(p.folder, user=bob, password="pw-bob") as b:
+        editor = ClipEditor(b)
+        with qtbot.waitSignal(editor.notSaved) as said:
+            out = editor.apply("Add caption", lambda: b.add_caption(c1, bob, "a hand waves"))
+        assert out is None and editor.undo_stack.count() == 0
+        assert said.args[0].startswith("the server is busy") and ann in said.args[0]

@@ -73,19 +73,8 @@ class LoginDialog(QDialog):
         return self.user.text().strip(), self.password.text()
 
 
-def server_of(folder: Path) -> str | None:
-    """``host:port/database`` the folder's settings point at, or None."""
-    from ..schema.settings import SETTINGS_FILE, ProjectSettings
-    from ..store.urls import host_of
-    try:
-        cfg = ProjectSettings.model_validate_json((folder / SETTINGS_FILE).read_text(encoding="utf-8"))
-    except Exception:  # noqa: BLE001 - the dialog still works without it
-        return None
-    return host_of(cfg.database_url)
-
-
 def ask_with_dialog(folder: Path, user: str, reason: str) -> tuple[str, str] | None:
-    dlg = LoginDialog(folder, user, reason, server=server_of(folder))
+    dlg = LoginDialog(folder, user, reason, server=Project.server_of(folder))
     return dlg.answer() if dlg.exec() == QDialog.DialogCode.Accepted else None
 
 
