@@ -71,6 +71,10 @@ def test_what_postgresql_shows_every_login_is_documented(pair, pg):
         plan = "\n".join(r[0] for r in conn.execute(
             "EXPLAIN (ANALYZE, COSTS OFF, TIMING OFF) SELECT * FROM public.captions").fetchall())
         assert "Rows Removed by Filter: 5" in plan and "Rows Removed by Filter" in threat
+        # the position of a sequence the annotator inserts with (USAGE is enough for the view)
+        pos = conn.execute("SELECT last_value FROM pg_catalog.pg_sequences "
+                           "WHERE sequencename = 'captions_id_seq'").fetchone()[0]
+        assert pos == 5 and "pg_sequences" in threat
     for words in ("pg_stat_user_tables", "nextval", "TLS", "scram-sha-256", "lock_timeout",
                   "idle_in_transaction_session_timeout", "statement_timeout"):
         assert words in threat, words
