@@ -177,6 +177,9 @@ def _one_line(exc: Exception, url: str) -> str:
     lines = [ln.strip() for ln in str(inner).strip().splitlines() if ln.strip()]
     # libpq puts the reason after "connection to server at ... failed:" on the same line
     first = next((ln for ln in lines if "password" in ln.lower()), lines[0] if lines else repr(inner))
+    if "authentication method requirement" in first:
+        first += ("; no password was sent (clipscribe logs in only by SCRAM; is this the team's "
+                  "server? see the threat model in docs/team-server.md)")
     where = host_of(url)
     if where is None:
         return first

@@ -25,7 +25,10 @@ Ask = Callable[[Path, str, str], "tuple[str, str] | None"]
 def needs_password(exc: Exception) -> bool:
     """Whether the server refused the connection for want of a (right) password: libpq says
     "no password supplied" or "password authentication failed"."""
-    return isinstance(exc, (ProjectError, OperationalError)) and "password" in str(exc).lower()
+    text = str(exc).lower()
+    if "authentication method requirement" in text:
+        return False  # the server wanted a weaker method than SCRAM: no password is sent to it
+    return isinstance(exc, (ProjectError, OperationalError)) and "password" in text
 
 
 class LoginDialog(QDialog):
