@@ -133,3 +133,30 @@ def test_logins_get_server_side_timeouts(crew, uid):
     with connect_as(p, ann, "pw-ann") as conn:
         assert conn.execute("SHOW statement_timeout").fetchone()[0] == "0"
         assert conn.execute("SHOW idle_in_transaction_session_timeout").fetchone()[0] == "10min"
+
+
+def test_assignments_made_wholesale_do_not_empty_the_queue(crew):
+    p, ann, bob, clips = crew
+    p.assign(per_clip=1)
+    with connect_as(p, ann, "pw-ann") as conn:
+        # a lease on every clip: refused (only the pull hands out leases)
+        with pytest.raises(psycopg.errors.InsufficientPrivilege):
+            conn.execute("INSERT INTO public.assignments (clip_id, annotator_id, state, assigned_at, "
+                         "expires_at, updated_at, version) SELECT id, public.clipscribe_me(), 'open', "
+                         "now(), now() + interval '100 years', now(), 1 FROM public.clips")
+        # no lease, on every clip ann has not touched: accepted, but holds no place
+        n = conn.execute("INSERT INTO public.assignments (clip_id, annotator_id, state, assigned_at, "
+                         "expires_at, updated_at, version) SELECT c.id, public.clipscribe_me(), "
+                         "'submitted', now(), NULL, now(), 1 FROM public.clips c WHERE NOT EXISTS "
+                         "(SELECT 1 FROM public.assignments a WHERE a.clip_id = c.id)").rowcount
+        assert n == 3
+        with pytest.raises(psycopg.errors.InsufficientPrivilege):
+            conn.execute("UPDATE public.assignments SET expires_at = now() + interval '100 years'")
+    got = []
+    with Project.open(p.folder, user=bob, password="pw-bob") as b:
+        while (clip := b.next_clip()) is not None:
+            got.append(clip)
+            b.set_clip_label(clip, bob, "stack")
+            b.set_clip_state(clip, bob, "submitted")
+    # clip 1 holds ann's real work (a label), so its one place is taken; the rest are bob's
+    assert got == clips[1:]

@@ -90,6 +90,15 @@ _CALLER_IS_LEAD = f"""(
       AND EXISTS (SELECT 1 FROM {SCHEMA}.annotators n
                    WHERE n.db_login = session_user AND n.role = 'lead')))"""
 
+# Whether assignment ``a`` holds one of its clip's places: live, and either handed out by the
+# pull (it has a lease) or with the person's work on the clip. An assignment someone made
+# for themself and left empty holds no place, so making such rows wholesale cannot empty the
+# others' queues.
+_HOLDS = f"""(a.state NOT IN ('expired', 'skipped') AND (a.expires_at IS NOT NULL
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.clip_labels w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.segments w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.captions w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)))"""
+
 # Pull the next clip for one annotator, atomically. Runs with the owner's rights because the
 # caller cannot see other people's assignments; it checks the caller itself (session_user)
 # and returns nothing but a clip id. The count is checked again after the clip row is locked,
@@ -136,14 +145,13 @@ BEGIN
        AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
                        AND a.annotator_id = p_annotator)
        AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-            AND a.state NOT IN ('expired', 'skipped')) < coalesce(c.annotators_wanted, 1)
+            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
      ORDER BY c.id LIMIT 1
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
       RETURN NULL;
     END IF;
-    IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip
-        AND a.state NOT IN ('expired', 'skipped'))
+    IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip AND {_HOLDS})
        < (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
       INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
                                         updated_at, version)
@@ -220,8 +228,9 @@ _LEAD = f"((SELECT {SCHEMA}.clipscribe_is_lead()))"
 #: the tables an annotator's login adds rows to (their id sequences need USAGE for nextval)
 ANNOTATOR_INSERTS = (*PERSON_TABLES, "assignments", "edits")
 #: the columns of an assignment an annotator's login may change (no table-wide UPDATE, no
-#: DELETE: either would also let it LOCK the table in a mode that stops everyone)
-ASSIGNMENT_COLUMNS = ("state", "reason", "expires_at", "updated_at", "version")
+#: DELETE: either would also let it LOCK the table in a mode that stops everyone; no lease:
+#: only the pull gives one)
+ASSIGNMENT_COLUMNS = ("state", "reason", "updated_at", "version")
 #: server-side limits per login in this database (``ALTER ROLE … IN DATABASE … SET``): a
 #: statement waiting longer than lock_timeout for a lock fails instead of hanging, and a
 #: session left idle inside a transaction is ended (with its locks)
@@ -301,6 +310,11 @@ def _grants() -> str:
         f"REVOKE UPDATE, DELETE, INSERT, TRUNCATE ON {_q('clips')} FROM {a};",
         f"REVOKE UPDATE, DELETE, TRUNCATE ON {_q('assignments')} FROM {a};",
         f"GRANT UPDATE ({cols}) ON {_q('assignments')} TO {a};",
+        # an annotator's own new assignment carries no lease (a lease holds a place in the
+        # plan until it runs out; only clipscribe_pull hands one out)
+        f"DROP POLICY IF EXISTS no_own_lease ON {_q('assignments')};",
+        f"CREATE POLICY no_own_lease ON {_q('assignments')} AS RESTRICTIVE FOR INSERT TO {a} "
+        "WITH CHECK (expires_at IS NULL);",
         # sequences: no SELECT (last_value) for annotators, USAGE (nextval) only where they
         # insert; leads see every row anyway
         f"REVOKE ALL ON ALL SEQUENCES IN SCHEMA {SCHEMA} FROM {a};",
