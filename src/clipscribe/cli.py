@@ -45,6 +45,9 @@ def _open(args: argparse.Namespace):
 
 def cmd_new(args: argparse.Namespace) -> int:
     from .project import Project
+    from .store.urls import secret_warning
+    if warning := secret_warning(args.database_url, "--database-url"):
+        print(f"clipscribe: {warning}", file=sys.stderr)
     with Project.create(args.project, database_url=args.database_url, name=args.name) as p:
         print(f"created project {p.settings.name!r} in {args.project} (you are lead {p.user!r})")
         print(f"put media under {p.media_root}")
@@ -62,7 +65,9 @@ def cmd_labels(args: argparse.Namespace) -> int:
 
 def cmd_person(args: argparse.Namespace) -> int:
     with _open(args) as p:
-        pid = p.add_annotator(args.name, role=args.role, password=os.environ.get("CLIPSCRIBE_NEW_PASSWORD"))
+        from .team_cli import new_password
+        pid = p.add_annotator(args.name, role=args.role,
+                              password=new_password(args.name) if p.is_server else None)
         print(f"added {args.role} {args.name!r} (id {pid})")
     return 0
 

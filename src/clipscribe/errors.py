@@ -11,3 +11,7 @@ class ProjectError(RuntimeError):
 
 class StaleWriteError(RecordError):
     """Someone else changed the row since it was read; the caller's value is kept, not written."""
+
+
+class ServerBusyError(ProjectError):
+    """The database server gave up waiting: a lock held by another session, or a time limit."""

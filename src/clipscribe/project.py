@@ -99,7 +99,8 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             raise
         except Exception as exc:
             engine.dispose()
-            raise ProjectError(f"{root}: cannot open the project database: {exc}") from exc
+            raise ProjectError(f"{root}: cannot open the project database: "
+                               f"{_one_line(exc, url)}") from exc
         project = cls(root, cfg, engine)
         project.user = user or project._default_user()
         return project
@@ -112,6 +113,18 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             lead = s.scalar(select(Annotator.name).where(Annotator.role == "lead")
                             .order_by(Annotator.id))
         return lead or local
+
+    @staticmethod
+    def server_of(folder: str | os.PathLike) -> str | None:
+        """``host:port/database`` of the server a project folder's settings name (what a
+        login there would reach), or None for a solo project or unreadable settings."""
+        from .store.urls import host_of
+        try:
+            cfg = ProjectSettings.model_validate_json(
+                (Path(folder) / SETTINGS_FILE).read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            return None
+        return host_of(cfg.database_url)
 
     @staticmethod
     def local_user_name() -> str:
@@ -149,11 +162,29 @@ def _with_login(url: str, user: str | None, password: str | None) -> str:
 
 
 def _without_password(url: str | None) -> str | None:
-    """The URL to keep in the settings file: never a password (libpq's ~/.pgpass has it)."""
-    if not url or not url.startswith("postgresql"):
-        return url
+    """The URL to keep in the settings file: never a password, in user-info or query
+    (libpq's ~/.pgpass has it)."""
+    from .store.urls import without_secrets
+    return without_secrets(url)
+
+
+def _one_line(exc: Exception, url: str) -> str:
+    """The driver's own first line (not SQLAlchemy's wrapping with SQL and links), naming the
+    server and login for a server URL; never a password."""
+    from sqlalchemy.exc import DBAPIError
+    from .store.urls import host_of
+    inner = exc.orig if isinstance(exc, DBAPIError) and exc.orig is not None else exc
+    lines = [ln.strip() for ln in str(inner).strip().splitlines() if ln.strip()]
+    # libpq puts the reason after "connection to server at ... failed:" on the same line
+    first = next((ln for ln in lines if "password" in ln.lower()), lines[0] if lines else repr(inner))
+    if "authentication method requirement" in first:
+        first += ("; no password was sent (clipscribe logs in only by SCRAM; is this the team's "
+                  "server? see the threat model in docs/team-server.md)")
+    where = host_of(url)
+    if where is None:
+        return first
     from sqlalchemy.engine import make_url
-    return make_url(url)._replace(password=None).render_as_string(hide_password=False)
+    return f"server {where}, login {make_url(url).username!r}: {first}"
 
 
 def _first_error(exc: ValidationError) -> str:

@@ -5,8 +5,10 @@ plan assignments, pull the next clip, switch blind mode. Registered by
 from __future__ import annotations
 
 import argparse
+import getpass
 import json
 import os
+import sys
 
 from .errors import RecordError
 
@@ -25,6 +27,9 @@ def cmd_move(args: argparse.Namespace) -> int:
     if pw:
         from sqlalchemy.engine import make_url
         url = make_url(url).set(password=pw).render_as_string(hide_password=False)
+    from .store.urls import secret_warning
+    if warning := secret_warning(url, "the URL"):
+        print(f"clipscribe: {warning}", file=sys.stderr)
     report = Project.move_to_server(args.project, url, lead=args.lead)
     print(write_report(report))
     print(f"all {len(report.tables)} tables match; {args.project} now opens on the server")
@@ -53,11 +58,26 @@ def cmd_next(args: argparse.Namespace) -> int:
     return 0
 
 
+def new_password(name: str, *, required: bool = False) -> str | None:
+    """A new password for ``name``: asked twice without echo on a terminal; from
+    CLIPSCRIBE_NEW_PASSWORD only when not on one (scripts). None when neither gives one
+    (the person gets no login yet) unless ``required``."""
+    if sys.stdin.isatty():
+        first = getpass.getpass(f"new password for {name!r}: ")
+        if first and getpass.getpass("again: ") != first:
+            raise RecordError(f"{name!r}: the two passwords differ; nothing was changed")
+        if first or not required:
+            return first or None
+    else:
+        pw = os.environ.get("CLIPSCRIBE_NEW_PASSWORD")
+        if pw or not required:
+            return pw or None
+    raise RecordError("no password given: type one when asked, or (in a script, without a "
+                      "terminal) set CLIPSCRIBE_NEW_PASSWORD")
+
+
 def cmd_password(args: argparse.Namespace) -> int:
-    pw = os.environ.get("CLIPSCRIBE_NEW_PASSWORD")
-    if not pw:
-        raise RecordError("set CLIPSCRIBE_NEW_PASSWORD to the new password (kept out of the "
-                          "command line so it does not land in shell history)")
+    pw = new_password(args.name, required=True)
     with _open(args) as p:
         login = p.set_password(args.name, pw)
         print(f"{args.name!r} logs in as {login!r}")
@@ -98,7 +118,7 @@ def register(add) -> None:
     sp.add_argument("--json", action="store_true", help="print the plan's recipe as JSON")
     add("next", cmd_next, "reserve and print the next clip for --user", user=True)
     sp = add("set-password", cmd_password, "give a person a login or a new password "
-             "(from CLIPSCRIBE_NEW_PASSWORD)", user=True)
+             "(asked without echo; in scripts from CLIPSCRIBE_NEW_PASSWORD)", user=True)
     sp.add_argument("name")
     sp = add("set-role", cmd_role, "make a person an annotator or a lead (leads only; on a "
              "server their login moves group too, which needs CREATEROLE, as the admin has)",

@@ -12,6 +12,7 @@ class AnalysisMixin:
                          n_boot: int = 1000) -> AgreementReport:
         """Labels, segments and captions agreement over every annotator's work (leads' gold
         decisions excluded), with bootstrap confidence intervals resampling clips."""
+        self.require_full_view("the agreement report")
         leads = {a.name for a in self.annotators() if a.role == "lead"}
         clips = self.clips()
         labels = [r for r in self.clip_labels() if r[1] not in leads]

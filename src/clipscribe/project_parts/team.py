@@ -17,10 +17,11 @@ from typing import Any, TypeVar
 
 import numpy as np
 from sqlalchemy import exists, func, select, text, update
-from sqlalchemy.exc import DBAPIError, IntegrityError
+from sqlalchemy.exc import DataError, DBAPIError, IntegrityError
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.attributes import set_committed_value
 
-from ..errors import RecordError, StaleWriteError
+from ..errors import RecordError, ServerBusyError, StaleWriteError
 from ..store import team
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
 from .base import require, row_dict
@@ -30,6 +31,8 @@ DEFAULT_LEASE_S = 2 * 3600.0
 #: SQLSTATEs worth running the whole transaction again for (serialization failure, deadlock)
 _RETRY_STATES = ("40001", "40P01")
 _DENIED = "42501"
+#: lock not available (lock_timeout), query cancelled (statement_timeout)
+_BUSY_STATES = ("55P03", "57014")
 
 
 class TeamPermissionError(RecordError, PermissionError):
@@ -76,7 +79,7 @@ class TeamMixin:
                 if code in _RETRY_STATES and attempt < 5:
                     time.sleep(0.02 * (2 ** attempt))
                     continue
-                _raise_denied(exc)
+                self._raise_server_refusal(exc)
                 raise
         raise AssertionError("unreachable")
 
@@ -84,10 +87,69 @@ class TeamMixin:
         try:
             return super()._read(fn)
         except DBAPIError as exc:
-            _raise_denied(exc)
+            self._raise_server_refusal(exc)
             raise
 
+    def _raise_server_refusal(self, exc: DBAPIError) -> None:
+        """A refusal by the server as one clear line (never the SQL or its parameters):
+        no right -> TeamPermissionError; a lock not granted in time or a time limit ->
+        ServerBusyError naming who holds strong locks; a value the server cannot store ->
+        RecordError."""
+        _raise_denied(exc)
+        code = getattr(exc.orig, "sqlstate", None) or ""
+        first = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+        if code in _BUSY_STATES:
+            why = "a lock was not granted in time" if code == "55P03" else "a time limit was reached"
+            raise ServerBusyError(f"the server is busy ({self._lock_holders()}): {why}; "
+                                  "nothing was saved, try again in a moment") from None
+        if code.startswith("22") or isinstance(exc, DataError):  # psycopg's own: no code
+            raise RecordError(f"the server refused a value: {first}") from None
+
+    def _lock_holders(self) -> str:
+        """Who holds table locks that stop other writers in this database, as far as the
+        server shows it to this login (login names and tables, never their statements)."""
+        try:
+            with self.engine.connect() as conn:
+                rows = conn.execute(text(
+                    "SELECT DISTINCT a.usename, c.relname FROM pg_catalog.pg_locks l "
+                    "JOIN pg_catalog.pg_stat_activity a ON a.pid = l.pid "
+                    "LEFT JOIN pg_catalog.pg_class c ON c.oid = l.relation "
+                    "WHERE l.granted AND l.locktype = 'relation' AND l.pid <> pg_backend_pid() "
+                    "AND l.database = (SELECT oid FROM pg_catalog.pg_database "
+                    "                  WHERE datname = current_database()) "
+                    "AND l.mode IN ('ShareLock', 'ShareRowExclusiveLock', 'ExclusiveLock', "
+                    "               'AccessExclusiveLock') ORDER BY 1, 2")).all()
+        except Exception:  # noqa: BLE001 - the message matters more than the detail
+            rows = []
+        if not rows:
+            return "locked by another session"
+        return "locked by " + ", ".join(f"{who or 'another login'} on {rel or 'a table'}"
+                                        for who, rel in rows[:3])
+
     # ---- people and logins ------------------------------------------------------------
+    def add_annotator(self, name: str, role: str = "annotator", password: str | None = None, *,
+                      exist_ok: bool = False) -> int:
+        """As :meth:`CatalogMixin.add_annotator`; on a server, a name that cannot become a
+        login (too long, reserved) is refused before anything is written."""
+        if self.is_server and password is not None and (name or "").strip():
+            try:
+                team.login_name(name)
+            except ValueError as exc:
+                raise RecordError(str(exc)) from None
+        return super().add_annotator(name, role, password, exist_ok=exist_ok)
+
+    def require_full_view(self, what: str) -> None:
+        """Refuse ``what`` (a report over everyone's work) to a login the server shows only
+        its own work: an annotator in blind mode. Solo projects see everything."""
+        if not self.is_server:
+            return
+        if self._read(lambda s: bool(s.scalar(text("SELECT clipscribe_is_lead()")))):
+            return
+        if self.blind_mode():
+            raise TeamPermissionError(
+                f"{self.user!r} is an annotator and blind mode is on: {what} needs every "
+                "annotator's work, which the server shows only to leads; ask a lead for it")
+
     def _after_add_annotator(self, s: Session, row: Annotator, password: str | None) -> None:
         super()._after_add_annotator(s, row, password)
         if not self.is_server:
@@ -308,12 +370,23 @@ class TeamMixin:
         return len(stale)
 
     def _refresh_clip_state(self, s: Session, c: Clip) -> None:
-        """On a server an annotator's login sees only its own assignments, so the clip's
-        state is worked out by the database from everyone's (``clipscribe_clip_state``)."""
+        """On a server an annotator's login sees only its own assignments and may not write
+        ``clips.state``: the database works the state out from everyone's assignments and
+        writes it (``clipscribe_refresh_clip_state``, for a clip the caller has an
+        assignment on); the loaded row takes the result without writing it again."""
         if not self.is_server:
             return super()._refresh_clip_state(s, c)
         s.flush()
-        c.state = s.scalar(text("SELECT clipscribe_clip_state(:c)"), {"c": c.id})
+        state = s.scalar(text("SELECT clipscribe_refresh_clip_state(:c)"), {"c": c.id})
+        set_committed_value(c, "state", state)
+
+    def _touch(self, s: Session, c: Clip, a: Annotator) -> Assignment:
+        if not self.is_server or c.state != "new":
+            return super()._touch(s, c, a)
+        set_committed_value(c, "state", "in_progress")  # written by the database below
+        row = super()._touch(s, c, a)
+        self._refresh_clip_state(s, c)
+        return row
 
     # ---- conflict-aware edits -----------------------------------------------------------
     def caption_version(self, caption_id: int) -> int:

@@ -20,6 +20,7 @@ from sqlalchemy import Connection, Table, delete, func, select, update
 
 from ..errors import ProjectError
 from ..store import db, team
+from ..store import urls as db_urls
 from ..store.models import Annotator, Base, Setting
 
 BATCH = 1000
@@ -165,8 +166,7 @@ def _map_admin(conn: Connection, lead: str | None) -> str | None:
 
 
 def _safe(url: str) -> str:
-    from sqlalchemy.engine import make_url
-    return make_url(url).render_as_string(hide_password=True)
+    return db_urls.without_secrets(url)
 
 
 def write_report(report: MoveReport) -> str:

@@ -7,6 +7,7 @@ PostgreSQL: psycopg 3 (team mode).
 
 from __future__ import annotations
 
+import os
 import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
@@ -18,13 +19,14 @@ from alembic.config import Config
 from alembic.runtime.migration import MigrationContext
 from alembic.script import ScriptDirectory
 from sqlalchemy import Engine, create_engine, event
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session
 
 from ..errors import ProjectError
 
 MIGRATIONS = Path(__file__).with_name("migrations")
 SQLITE_BUSY_MS = 15_000
+LOCK_TIMEOUT_S = 10.0
 T = TypeVar("T")
 
 
@@ -41,8 +43,35 @@ def make_engine(url: str) -> Engine:
         _sqlite_setup(engine)
         return engine
     if url.startswith("postgresql+psycopg"):
-        return create_engine(url, pool_pre_ping=True)
+        return create_engine(url, pool_pre_ping=True, connect_args=server_connect_args())
     raise ProjectError(f"database URL {url!r}: only sqlite and postgresql are supported")
+
+
+def server_connect_args() -> dict[str, str]:
+    """libpq options every server connection gets, whatever the project folder's URL says
+    (the folder may have been edited to point anywhere):
+
+    * ``require_auth``: the server must authenticate by SCRAM-SHA-256, so the password never
+      crosses the wire, in clear or as an MD5 hash; a server asking for anything else is
+      refused before the password leaves (libpq 16 or newer; ``CLIPSCRIBE_REQUIRE_AUTH``
+      names other methods, e.g. ``scram-sha-256,none`` for a local socket with peer login);
+    * ``lock_timeout``: a statement waiting longer than ``CLIPSCRIBE_LOCK_TIMEOUT`` seconds
+      (default 10) for a lock another session holds fails instead of hanging.
+    """
+    seconds = float(os.environ.get("CLIPSCRIBE_LOCK_TIMEOUT") or LOCK_TIMEOUT_S)
+    args = {"options": f"-c lock_timeout={max(1, int(seconds * 1000))}"}
+    if libpq_version() >= 160000:
+        args["require_auth"] = os.environ.get("CLIPSCRIBE_REQUIRE_AUTH") or "scram-sha-256"
+    return args
+
+
+def libpq_version() -> int:
+    """The client library's version as libpq reports it (e.g. 170002), 0 when unknown."""
+    try:
+        import psycopg
+        return int(psycopg.pq.version())
+    except Exception:  # noqa: BLE001 - no driver: no server connections either
+        return 0
 
 
 def _sqlite_setup(engine: Engine) -> None:
@@ -129,4 +158,13 @@ def migrate(engine: Engine) -> None:
             ) from None
         if current == head_revision():
             return
-    command.upgrade(alembic_config(engine), "head")
+    try:
+        command.upgrade(alembic_config(engine), "head")
+    except Exception as exc:  # wrapped by SQLAlchemy, or raw from the driver (team SQL)
+        inner = exc.orig if isinstance(exc, DBAPIError) else exc
+        if getattr(inner, "sqlstate", None) != "42501":
+            raise
+        raise ProjectError(
+            f"the project database is at schema revision {current!r} and this clipscribe needs "
+            f"{head_revision()!r}; only the database's owner may upgrade it: ask the admin to "
+            "open the project once with this version") from None

@@ -39,192 +39,334 @@ BLIND_KEY = "team.blind"
 LEASE_KEY = "team.lease_seconds"
 PLAN_KEY = "team.assignment_plan"
 MAX_LOGIN_BYTES = 63  # PostgreSQL's NAMEDATALEN - 1
+#: role names PostgreSQL refuses to create (besides every name starting with ``pg_``)
+RESERVED_LOGINS = ("public", "none", "current_user", "session_user", "current_role", "user")
 
+#: the schema clipscribe's tables live in (the migrations create them in the default one)
+SCHEMA = "public"
+#: every helper pins its search_path: the catalog first, then the project's schema, and the
+#: session's temporary schema last, so no table the caller makes can stand in for ours; each
+#: also names its tables with their schema
+_PATH = f"SET search_path = pg_catalog, {SCHEMA}, pg_temp"
+
+# Row-level-security helpers. They run with the caller's rights (nothing they read is hidden
+# from any login), so none needs SECURITY DEFINER.
 _FUNCTIONS = f"""
-CREATE OR REPLACE FUNCTION clipscribe_me() RETURNS integer
-LANGUAGE sql STABLE AS $$ SELECT id FROM annotators WHERE db_login = current_user $$;
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_me() RETURNS integer
+LANGUAGE sql STABLE {_PATH} AS $$
+  SELECT a.id FROM {SCHEMA}.annotators a WHERE a.db_login = CURRENT_USER
+$$;
 
-CREATE OR REPLACE FUNCTION clipscribe_is_owner() RETURNS boolean
-LANGUAGE sql STABLE AS $$
-  SELECT pg_get_userbyid(datdba) = current_user FROM pg_database WHERE datname = current_database()
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_is_owner() RETURNS boolean
+LANGUAGE sql STABLE {_PATH} AS $$
+  SELECT coalesce((SELECT pg_catalog.pg_get_userbyid(d.datdba) = CURRENT_USER
+                     FROM pg_catalog.pg_database d
+                    WHERE d.datname = pg_catalog.current_database()), false)
 $$;
 
 -- Group roles are shared by every database of the server, so lead rights also need this
 -- project's annotators row to say lead.
-CREATE OR REPLACE FUNCTION clipscribe_is_lead() RETURNS boolean
-LANGUAGE sql STABLE AS $$
-  SELECT clipscribe_is_owner() OR (
-    pg_has_role(current_user, '{LEAD_GROUP}', 'MEMBER')
-    AND EXISTS (SELECT 1 FROM annotators WHERE db_login = current_user AND role = 'lead'))
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_is_lead() RETURNS boolean
+LANGUAGE sql STABLE {_PATH} AS $$
+  SELECT {SCHEMA}.clipscribe_is_owner() OR (
+    pg_catalog.pg_has_role(CURRENT_USER, '{LEAD_GROUP}', 'MEMBER')
+    AND EXISTS (SELECT 1 FROM {SCHEMA}.annotators a
+                 WHERE a.db_login = CURRENT_USER AND a.role = 'lead'))
 $$;
 
-CREATE OR REPLACE FUNCTION clipscribe_blind() RETURNS boolean
-LANGUAGE sql STABLE AS $$
-  SELECT coalesce((SELECT value::text FROM settings WHERE key = '{BLIND_KEY}'), 'true') <> 'false'
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_blind() RETURNS boolean
+LANGUAGE sql STABLE {_PATH} AS $$
+  SELECT coalesce((SELECT s.value::text FROM {SCHEMA}.settings s WHERE s.key = '{BLIND_KEY}'),
+                  'true') <> 'false'
 $$;
 """
+
+# Runs with the owner's rights; checks the caller itself (session_user: the login, whatever
+# role it has SET) and answers only yes or no.
+_CALLER_IS_LEAD = f"""(
+  session_user = (SELECT pg_catalog.pg_get_userbyid(d.datdba) FROM pg_catalog.pg_database d
+                   WHERE d.datname = pg_catalog.current_database())
+  OR (pg_catalog.pg_has_role(session_user, '{LEAD_GROUP}', 'MEMBER')
+      AND EXISTS (SELECT 1 FROM {SCHEMA}.annotators n
+                   WHERE n.db_login = session_user AND n.role = 'lead')))"""
+
+# Whether assignment ``a`` holds one of its clip's places: live, and either handed out by the
+# pull (it has a lease) or with the person's work on the clip. An assignment someone made
+# for themself and left empty holds no place, so making such rows wholesale cannot empty the
+# others' queues.
+_HOLDS = f"""(a.state NOT IN ('expired', 'skipped') AND (a.expires_at IS NOT NULL
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.clip_labels w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.segments w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)
+  OR EXISTS (SELECT 1 FROM {SCHEMA}.captions w WHERE w.clip_id = a.clip_id AND w.annotator_id = a.annotator_id)))"""
 
 # Pull the next clip for one annotator, atomically. Runs with the owner's rights because the
 # caller cannot see other people's assignments; it checks the caller itself (session_user)
 # and returns nothing but a clip id. The count is checked again after the clip row is locked,
 # in a fresh statement (a fresh snapshot under READ COMMITTED), so two pulls racing for the
 # last free place of a clip cannot both win.
-_PULL = """
-CREATE OR REPLACE FUNCTION clipscribe_pull(p_annotator integer, p_lease_seconds double precision)
-RETURNS integer LANGUAGE plpgsql SECURITY DEFINER SET search_path = public, pg_temp AS $$
+_PULL = f"""
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_pull(p_annotator integer, p_lease_seconds double precision)
+RETURNS integer LANGUAGE plpgsql SECURITY DEFINER {_PATH} AS $$
 DECLARE
-  v_now timestamptz := clock_timestamp();
-  v_lease interval := make_interval(secs => p_lease_seconds);
+  v_now timestamptz := pg_catalog.clock_timestamp();
+  v_lease interval := pg_catalog.make_interval(secs => p_lease_seconds);
   v_clip integer;
 BEGIN
-  IF NOT EXISTS (SELECT 1 FROM annotators WHERE id = p_annotator AND db_login = session_user)
-     AND NOT EXISTS (SELECT 1 FROM annotators WHERE db_login = session_user AND role = 'lead')
-     AND session_user <> (SELECT pg_get_userbyid(datdba) FROM pg_database
-                          WHERE datname = current_database()) THEN
+  IF NOT EXISTS (SELECT 1 FROM {SCHEMA}.annotators WHERE id = p_annotator AND db_login = session_user)
+     AND NOT {_CALLER_IS_LEAD} THEN
     RAISE EXCEPTION 'login % may not pull clips for annotator %', session_user, p_annotator
       USING ERRCODE = '42501';
   END IF;
 
   WITH gone AS (
-    UPDATE assignments a SET state = 'expired', updated_at = v_now, version = a.version + 1
+    UPDATE {SCHEMA}.assignments a SET state = 'expired', updated_at = v_now, version = a.version + 1
      WHERE a.state = 'open' AND a.expires_at IS NOT NULL AND a.expires_at < v_now
-       AND NOT EXISTS (SELECT 1 FROM edits e WHERE e.clip_id = a.clip_id
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.edits e WHERE e.clip_id = a.clip_id
                        AND e.annotator_id = a.annotator_id AND e.at > v_now - v_lease)
     RETURNING a.id, a.clip_id, a.annotator_id)
-  INSERT INTO edits (at, annotator_id, action, entity, entity_id, clip_id, before, after)
+  INSERT INTO {SCHEMA}.edits (at, annotator_id, action, entity, entity_id, clip_id, before, after)
   SELECT v_now, NULL, 'expire', 'assignment_lease', g.id, g.clip_id,
-         json_build_object('state', 'open', 'annotator_id', g.annotator_id),
-         json_build_object('state', 'expired', 'annotator_id', g.annotator_id)
+         pg_catalog.json_build_object('state', 'open', 'annotator_id', g.annotator_id),
+         pg_catalog.json_build_object('state', 'expired', 'annotator_id', g.annotator_id)
     FROM gone g;
 
-  SELECT a.clip_id INTO v_clip FROM assignments a
+  SELECT a.clip_id INTO v_clip FROM {SCHEMA}.assignments a
    WHERE a.annotator_id = p_annotator AND a.state = 'open'
    ORDER BY a.assigned_at, a.id LIMIT 1;
   IF v_clip IS NOT NULL THEN
-    UPDATE assignments SET expires_at = v_now + v_lease
+    UPDATE {SCHEMA}.assignments SET expires_at = v_now + v_lease
      WHERE clip_id = v_clip AND annotator_id = p_annotator;
     RETURN v_clip;
   END IF;
 
   LOOP
-    SELECT c.id INTO v_clip FROM clips c
+    SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
      WHERE c.state <> 'settled'
-       AND NOT EXISTS (SELECT 1 FROM assignments a WHERE a.clip_id = c.id
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
                        AND a.annotator_id = p_annotator)
-       AND (SELECT count(*) FROM assignments a WHERE a.clip_id = c.id
-            AND a.state NOT IN ('expired', 'skipped')) < coalesce(c.annotators_wanted, 1)
+       AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
      ORDER BY c.id LIMIT 1
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
       RETURN NULL;
     END IF;
-    IF (SELECT count(*) FROM assignments a WHERE a.clip_id = v_clip
-        AND a.state NOT IN ('expired', 'skipped'))
-       < (SELECT coalesce(annotators_wanted, 1) FROM clips WHERE id = v_clip) THEN
-      INSERT INTO assignments (clip_id, annotator_id, state, assigned_at, expires_at,
-                               updated_at, version)
+    IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip AND {_HOLDS})
+       < (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
+      INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
+                                        updated_at, version)
       VALUES (v_clip, p_annotator, 'open', v_now, v_now + v_lease, v_now, 1);
-      UPDATE clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
+      UPDATE {SCHEMA}.clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
       RETURN v_clip;
     END IF;
   END LOOP;
 END
 $$;
-REVOKE ALL ON FUNCTION clipscribe_pull(integer, double precision) FROM PUBLIC;
+REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_pull(integer, double precision) FROM PUBLIC;
 
 -- A clip's state from everybody's assignments (an annotator's own login sees only theirs):
 -- settled with a gold label; done when every live assignment is submitted or skipped;
 -- in progress while any is live; else new. Returns only the state word.
-CREATE OR REPLACE FUNCTION clipscribe_clip_state(p_clip integer)
-RETURNS text LANGUAGE sql STABLE SECURITY DEFINER SET search_path = public, pg_temp AS $$
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_clip_state(p_clip integer)
+RETURNS text LANGUAGE sql STABLE SECURITY DEFINER {_PATH} AS $$
   SELECT CASE
-    WHEN EXISTS (SELECT 1 FROM gold_labels WHERE clip_id = p_clip) THEN 'settled'
-    WHEN NOT EXISTS (SELECT 1 FROM assignments WHERE clip_id = p_clip AND state <> 'expired') THEN 'new'
+    WHEN EXISTS (SELECT 1 FROM {SCHEMA}.gold_labels WHERE clip_id = p_clip) THEN 'settled'
+    WHEN NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments WHERE clip_id = p_clip
+                     AND state <> 'expired') THEN 'new'
     WHEN bool_and(state IN ('submitted', 'skipped')) THEN 'done'
     ELSE 'in_progress' END
-  FROM assignments WHERE clip_id = p_clip AND state <> 'expired'
+  FROM {SCHEMA}.assignments WHERE clip_id = p_clip AND state <> 'expired'
 $$;
-REVOKE ALL ON FUNCTION clipscribe_clip_state(integer) FROM PUBLIC;
+REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_clip_state(integer) FROM PUBLIC;
+
+-- The one way an annotator changes a clip's state: the state is worked out from everybody's
+-- assignments (never taken from the caller), and only for a clip the caller has an
+-- assignment on (any lead or the owner for any clip). Returns the state it wrote.
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(p_clip integer)
+RETURNS text LANGUAGE plpgsql SECURITY DEFINER {_PATH} AS $$
+DECLARE
+  v_state text;
+BEGIN
+  IF NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a JOIN {SCHEMA}.annotators n
+                   ON n.id = a.annotator_id
+                  WHERE a.clip_id = p_clip AND n.db_login = session_user)
+     AND NOT {_CALLER_IS_LEAD} THEN
+    RAISE EXCEPTION 'login % has no assignment on clip %', session_user, p_clip
+      USING ERRCODE = '42501';
+  END IF;
+  v_state := {SCHEMA}.clipscribe_clip_state(p_clip);
+  UPDATE {SCHEMA}.clips SET state = v_state WHERE id = p_clip AND state IS DISTINCT FROM v_state;
+  RETURN v_state;
+END
+$$;
+REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(integer) FROM PUBLIC;
 """
 
-_ME = "(SELECT clipscribe_me())"
-_LEAD = "((SELECT clipscribe_is_lead()))"
+# A foreign key is checked with the table owner's rights, past row-level security, so a
+# caption pointing at a segment the caller cannot see would tell them whether that segment
+# exists (and tie their caption to someone else's segment). This check runs first, with the
+# caller's rights: a hidden segment and a missing one get the same refusal.
+_TRIGGERS = f"""
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_check_caption_segment() RETURNS trigger
+LANGUAGE plpgsql {_PATH} AS $$
+BEGIN
+  IF NEW.segment_id IS NOT NULL
+     AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.segments s WHERE s.id = NEW.segment_id) THEN
+    RAISE EXCEPTION 'segment %: no such segment among those this login may see', NEW.segment_id
+      USING ERRCODE = '23503';
+  END IF;
+  RETURN NEW;
+END
+$$;
+DROP TRIGGER IF EXISTS clipscribe_caption_segment ON {SCHEMA}.captions;
+CREATE TRIGGER clipscribe_caption_segment BEFORE INSERT OR UPDATE OF segment_id
+  ON {SCHEMA}.captions FOR EACH ROW EXECUTE FUNCTION {SCHEMA}.clipscribe_check_caption_segment();
+"""
+
+_ME = f"(SELECT {SCHEMA}.clipscribe_me())"
+_LEAD = f"((SELECT {SCHEMA}.clipscribe_is_lead()))"
+#: the tables an annotator's login adds rows to (their id sequences need USAGE for nextval)
+ANNOTATOR_INSERTS = (*PERSON_TABLES, "assignments", "edits")
+#: the columns of an assignment an annotator's login may change (no table-wide UPDATE, no
+#: DELETE: either would also let it LOCK the table in a mode that stops everyone; no lease:
+#: only the pull gives one)
+ASSIGNMENT_COLUMNS = ("state", "reason", "updated_at", "version")
+#: server-side limits per login in this database (``ALTER ROLE … IN DATABASE … SET``): a
+#: statement waiting longer than lock_timeout for a lock fails instead of hanging, and a
+#: session left idle inside a transaction is ended (with its locks)
+TIMEOUTS = {
+    "annotator": {"lock_timeout": "10s", "statement_timeout": "2min",
+                  "idle_in_transaction_session_timeout": "1min"},
+    "lead": {"lock_timeout": "10s", "idle_in_transaction_session_timeout": "10min"},
+}
+
+
+def _q(table: str) -> str:
+    return f"{SCHEMA}.{table}"
 
 
 def _policies() -> str:
     a, l = ANNOTATOR_GROUP, LEAD_GROUP
     out = [f"GRANT {l} TO CURRENT_USER;"]
     for t in SHARED_TABLES:
-        out.append(f"GRANT SELECT ON {t} TO {a}, {l};")
-        out.append(f"GRANT INSERT, UPDATE, DELETE ON {t} TO {l};")
-    out.append(f"GRANT UPDATE (state) ON clips TO {a};")
-    out.append(f"GRANT SELECT ON alembic_version TO {a}, {l};")
+        out.append(f"GRANT SELECT ON {_q(t)} TO {a}, {l};")
+        out.append(f"GRANT INSERT, UPDATE, DELETE ON {_q(t)} TO {l};")
+    out.append(f"GRANT SELECT ON {_q('alembic_version')} TO {a}, {l};")
     for t in (*PERSON_TABLES, "assignments"):
+        grant = ("SELECT, INSERT" if t == "assignments" else "SELECT, INSERT, UPDATE, DELETE")
         out += [
-            f"ALTER TABLE {t} ENABLE ROW LEVEL SECURITY;",
-            f"ALTER TABLE {t} FORCE ROW LEVEL SECURITY;",
-            f"GRANT SELECT, INSERT, UPDATE, DELETE ON {t} TO {a}, {l};",
-            f"CREATE POLICY own_rows ON {t} TO {a} USING (annotator_id = {_ME}) "
+            f"ALTER TABLE {_q(t)} ENABLE ROW LEVEL SECURITY;",
+            f"ALTER TABLE {_q(t)} FORCE ROW LEVEL SECURITY;",
+            f"GRANT {grant} ON {_q(t)} TO {a};",
+            f"GRANT SELECT, INSERT, UPDATE, DELETE ON {_q(t)} TO {l};",
+            f"CREATE POLICY own_rows ON {_q(t)} TO {a} USING (annotator_id = {_ME}) "
             f"WITH CHECK (annotator_id = {_ME});",
-            f"CREATE POLICY lead_rows ON {t} USING {_LEAD} WITH CHECK {_LEAD};",
+            f"CREATE POLICY lead_rows ON {_q(t)} USING {_LEAD} WITH CHECK {_LEAD};",
         ]
     for t in PERSON_TABLES:
-        out.append(f"CREATE POLICY open_reading ON {t} FOR SELECT TO {a} "
-                   f"USING (NOT (SELECT clipscribe_blind()));")
+        out.append(f"CREATE POLICY open_reading ON {_q(t)} FOR SELECT TO {a} "
+                   f"USING (NOT (SELECT {SCHEMA}.clipscribe_blind()));")
     for t in GOLD_TABLES:
         out += [
-            f"ALTER TABLE {t} ENABLE ROW LEVEL SECURITY;",
-            f"ALTER TABLE {t} FORCE ROW LEVEL SECURITY;",
-            f"GRANT SELECT ON {t} TO {a};",  # readable, but no row passes a policy
-            f"GRANT SELECT, INSERT, UPDATE, DELETE ON {t} TO {l};",
-            f"CREATE POLICY lead_rows ON {t} USING {_LEAD} WITH CHECK {_LEAD};",
+            f"ALTER TABLE {_q(t)} ENABLE ROW LEVEL SECURITY;",
+            f"ALTER TABLE {_q(t)} FORCE ROW LEVEL SECURITY;",
+            f"GRANT SELECT ON {_q(t)} TO {a};",  # readable, but no row passes a policy
+            f"GRANT SELECT, INSERT, UPDATE, DELETE ON {_q(t)} TO {l};",
+            f"CREATE POLICY lead_rows ON {_q(t)} USING {_LEAD} WITH CHECK {_LEAD};",
         ]
+    rc, ed = _q("review_comments"), _q("edits")
     out += [
-        "ALTER TABLE review_comments ENABLE ROW LEVEL SECURITY;",
-        "ALTER TABLE review_comments FORCE ROW LEVEL SECURITY;",
-        f"GRANT SELECT ON review_comments TO {a};",
-        f"GRANT SELECT, INSERT, UPDATE, DELETE ON review_comments TO {l};",
-        f"CREATE POLICY addressed_to_me ON review_comments FOR SELECT TO {a} "
+        f"ALTER TABLE {rc} ENABLE ROW LEVEL SECURITY;",
+        f"ALTER TABLE {rc} FORCE ROW LEVEL SECURITY;",
+        f"GRANT SELECT ON {rc} TO {a};",
+        f"GRANT SELECT, INSERT, UPDATE, DELETE ON {rc} TO {l};",
+        f"CREATE POLICY addressed_to_me ON {rc} FOR SELECT TO {a} "
         f"USING (annotator_id = {_ME});",
-        f"CREATE POLICY lead_rows ON review_comments USING {_LEAD} WITH CHECK {_LEAD};",
+        f"CREATE POLICY lead_rows ON {rc} USING {_LEAD} WITH CHECK {_LEAD};",
         # the edit history: append-only for every login, own rows only for annotators
-        "ALTER TABLE edits ENABLE ROW LEVEL SECURITY;",
-        "ALTER TABLE edits FORCE ROW LEVEL SECURITY;",
-        f"GRANT SELECT, INSERT ON edits TO {a}, {l};",
-        f"CREATE POLICY own_read ON edits FOR SELECT TO {a} USING (annotator_id = {_ME});",
-        f"CREATE POLICY own_insert ON edits FOR INSERT TO {a} WITH CHECK (annotator_id = {_ME});",
-        f"CREATE POLICY lead_read ON edits FOR SELECT USING {_LEAD};",
-        f"CREATE POLICY lead_insert ON edits FOR INSERT WITH CHECK {_LEAD};",
-        f"GRANT USAGE, SELECT ON ALL SEQUENCES IN SCHEMA public TO {a}, {l};",
-        f"GRANT EXECUTE ON FUNCTION clipscribe_pull(integer, double precision) TO {a}, {l};",
-        f"GRANT EXECUTE ON FUNCTION clipscribe_clip_state(integer) TO {a}, {l};",
+        f"ALTER TABLE {ed} ENABLE ROW LEVEL SECURITY;",
+        f"ALTER TABLE {ed} FORCE ROW LEVEL SECURITY;",
+        f"GRANT SELECT, INSERT ON {ed} TO {a}, {l};",
+        f"CREATE POLICY own_read ON {ed} FOR SELECT TO {a} USING (annotator_id = {_ME});",
+        f"CREATE POLICY own_insert ON {ed} FOR INSERT TO {a} WITH CHECK (annotator_id = {_ME});",
+        f"CREATE POLICY lead_read ON {ed} FOR SELECT USING {_LEAD};",
+        f"CREATE POLICY lead_insert ON {ed} FOR INSERT WITH CHECK {_LEAD};",
         # tables added by later migrations: readable by leads only until they say otherwise
-        f"ALTER DEFAULT PRIVILEGES IN SCHEMA public GRANT SELECT ON TABLES TO {l};",
-        f"INSERT INTO settings (key, value) VALUES ('{BLIND_KEY}', 'true') ON CONFLICT DO NOTHING;",
+        f"ALTER DEFAULT PRIVILEGES IN SCHEMA {SCHEMA} GRANT SELECT ON TABLES TO {l};",
+        f"INSERT INTO {_q('settings')} (key, value) VALUES ('{BLIND_KEY}', 'true') "
+        "ON CONFLICT DO NOTHING;",
+    ]
+    return "\n".join(out)
+
+
+def _grants() -> str:
+    """Grants and revocations that may be applied again to a database already set up (they
+    bring one made by an older clipscribe to the current rules)."""
+    a, l = ANNOTATOR_GROUP, LEAD_GROUP
+    cols = ", ".join(ASSIGNMENT_COLUMNS)
+    out = [
+        # clips.state changes only through clipscribe_refresh_clip_state; without any UPDATE
+        # right on clips an annotator can neither LOCK it nor SELECT … FOR UPDATE its rows
+        f"REVOKE UPDATE, DELETE, INSERT, TRUNCATE ON {_q('clips')} FROM {a};",
+        f"REVOKE UPDATE, DELETE, TRUNCATE ON {_q('assignments')} FROM {a};",
+        f"GRANT UPDATE ({cols}) ON {_q('assignments')} TO {a};",
+        # an annotator's own new assignment carries no lease (a lease holds a place in the
+        # plan until it runs out; only clipscribe_pull hands one out)
+        f"DROP POLICY IF EXISTS no_own_lease ON {_q('assignments')};",
+        f"CREATE POLICY no_own_lease ON {_q('assignments')} AS RESTRICTIVE FOR INSERT TO {a} "
+        "WITH CHECK (expires_at IS NULL);",
+        # sequences: no SELECT (last_value) for annotators, USAGE (nextval) only where they
+        # insert; leads see every row anyway
+        f"REVOKE ALL ON ALL SEQUENCES IN SCHEMA {SCHEMA} FROM {a};",
+        f"GRANT USAGE, SELECT ON ALL SEQUENCES IN SCHEMA {SCHEMA} TO {l};",
+    ]
+    for t in ANNOTATOR_INSERTS:
+        out.append(f"DO $$ BEGIN EXECUTE format('GRANT USAGE ON SEQUENCE %s TO {a}', "
+                   f"pg_catalog.pg_get_serial_sequence('{_q(t)}', 'id')); END $$;")
+    out += [
+        f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_pull(integer, double precision) TO {a}, {l};",
+        f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_clip_state(integer) TO {a}, {l};",
+        f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(integer) TO {a}, {l};",
+        # no temporary tables (they could stand in for ours in an unqualified name) and no
+        # new schemas or tables anywhere for anyone but the owner
+        f"""DO $$ BEGIN
+  EXECUTE pg_catalog.format('REVOKE TEMPORARY, CREATE ON DATABASE %I FROM PUBLIC, {a}, {l}',
+                            pg_catalog.current_database());
+EXCEPTION WHEN insufficient_privilege THEN
+  RAISE WARNING 'clipscribe: not the database owner, TEMPORARY stays open to PUBLIC';
+END $$;""",
+        f"""DO $$ BEGIN
+  REVOKE CREATE ON SCHEMA {SCHEMA} FROM PUBLIC;
+EXCEPTION WHEN insufficient_privilege THEN
+  RAISE WARNING 'clipscribe: not the owner of schema {SCHEMA}, cannot revoke CREATE from PUBLIC';
+END $$;""",
     ]
     return "\n".join(out)
 
 
 _GROUPS_SQL = f"""
 DO $$ BEGIN
-  IF NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = '{ANNOTATOR_GROUP}') THEN
+  IF NOT EXISTS (SELECT 1 FROM pg_catalog.pg_roles WHERE rolname = '{ANNOTATOR_GROUP}') THEN
     CREATE ROLE {ANNOTATOR_GROUP} NOLOGIN;
   END IF;
-  IF NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = '{LEAD_GROUP}') THEN
+  IF NOT EXISTS (SELECT 1 FROM pg_catalog.pg_roles WHERE rolname = '{LEAD_GROUP}') THEN
     CREATE ROLE {LEAD_GROUP} NOLOGIN;
   END IF;
 END $$;
 -- Only logins granted CONNECT one by one may reach this project's database.
 DO $$ BEGIN
-  EXECUTE format('REVOKE CONNECT ON DATABASE %I FROM PUBLIC', current_database());
+  EXECUTE pg_catalog.format('REVOKE CONNECT ON DATABASE %I FROM PUBLIC', pg_catalog.current_database());
 EXCEPTION WHEN insufficient_privilege THEN
   RAISE WARNING 'clipscribe: not the database owner, CONNECT stays open to PUBLIC';
 END $$;
 """
 
-_UNINSTALL = """
-DROP FUNCTION IF EXISTS clipscribe_pull(integer, double precision);
-DROP FUNCTION IF EXISTS clipscribe_clip_state(integer);
+_UNINSTALL = f"""
+DROP TRIGGER IF EXISTS clipscribe_caption_segment ON {SCHEMA}.captions;
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_check_caption_segment();
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_pull(integer, double precision);
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_refresh_clip_state(integer);
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_clip_state(integer);
 """
 
 
@@ -244,6 +386,40 @@ def install(conn: Any) -> None:
     raw = _driver(conn)
     for block in (_GROUPS_SQL, _FUNCTIONS, _PULL, _policies()):
         raw.execute(block)
+    harden(conn)
+
+
+def harden(conn: Any) -> None:
+    """(Re)write the helper functions and apply the current grants and per-login limits.
+
+    Safe to run again on a database set up by an older clipscribe: functions are replaced in
+    place (the policies refer to them, not to their text), grants and revocations repeat.
+    """
+    raw = _driver(conn)
+    for block in (_FUNCTIONS, _PULL, _TRIGGERS, _grants()):
+        raw.execute(block)
+    for login, role in raw.execute(
+            f"SELECT a.db_login, a.role FROM {_q('annotators')} a JOIN pg_catalog.pg_roles r "
+            "ON r.rolname = a.db_login WHERE a.db_login <> current_user").fetchall():
+        set_timeouts(conn, login, role)
+
+
+def set_timeouts(conn: Any, login: str, role: str) -> None:
+    """Give ``login`` this database's server-side limits for ``role``, replacing any it had
+    here. Needs CREATEROLE (the admin); a refused setting is skipped, the rest still apply."""
+    from psycopg import sql
+    raw = _driver(conn)
+    reset = sql.SQL("ALTER ROLE {} IN DATABASE {} RESET ALL").format(
+        sql.Identifier(login), sql.Identifier(raw.info.dbname))
+    for stmt in [reset, *(
+            sql.SQL("ALTER ROLE {} IN DATABASE {} SET {} = {}").format(
+                sql.Identifier(login), sql.Identifier(raw.info.dbname), sql.Identifier(name),
+                sql.Literal(value)) for name, value in TIMEOUTS[role].items())]:
+        try:
+            with raw.transaction():  # a savepoint: a refusal leaves the rest standing
+                raw.execute(stmt)
+        except Exception:  # noqa: BLE001 - lacking CREATEROLE is not fatal here
+            continue
 
 
 def uninstall(conn: Any) -> None:
@@ -258,7 +434,7 @@ def uninstall(conn: Any) -> None:
         raw.execute(f"ALTER TABLE {t} DISABLE ROW LEVEL SECURITY")
     raw.execute(_UNINSTALL)
     for fn in ("clipscribe_me()", "clipscribe_is_lead()", "clipscribe_is_owner()", "clipscribe_blind()"):
-        raw.execute(f"DROP FUNCTION IF EXISTS {fn}")
+        raw.execute(f"DROP FUNCTION IF EXISTS {SCHEMA}.{fn}")
 
 
 # ---- logins -------------------------------------------------------------------------------
@@ -266,8 +442,13 @@ def uninstall(conn: Any) -> None:
 def login_name(person: str) -> str:
     """The login of a person: their name in lower case (what ``Project.open(user=...)`` uses)."""
     login = person.strip().lower()
+    shown = person if len(person) <= 40 else person[:40] + "…"
     if not login or len(login.encode("utf-8")) > MAX_LOGIN_BYTES or "\x00" in login:
-        raise ValueError(f"{person!r}: a login name must be 1 to {MAX_LOGIN_BYTES} bytes")
+        raise ValueError(f"{shown!r}: a login name must be 1 to {MAX_LOGIN_BYTES} bytes "
+                         f"(this one is {len(login.encode('utf-8'))}); choose a shorter name")
+    if login.startswith("pg_") or login in RESERVED_LOGINS:
+        raise ValueError(f"{shown!r}: the login name {login!r} is reserved by PostgreSQL "
+                         "(names starting pg_, and public, none); choose another name")
     return login
 
 
@@ -290,6 +471,7 @@ def create_login(conn: Any, login: str, password: str, role: str) -> None:
             sql.Identifier(login), sql.Literal(hashed), sql.Identifier(GROUPS[role])))
         raw.execute(sql.SQL("GRANT CONNECT ON DATABASE {} TO {}").format(
             sql.Identifier(raw.info.dbname), sql.Identifier(login)))
+    set_timeouts(conn, login, role)
 
 
 def set_password(conn: Any, login: str, password: str) -> None:
@@ -309,6 +491,9 @@ def _privileged():
         yield
     except psycopg.errors.InsufficientPrivilege as exc:
         raise PermissionError(str(exc).strip().splitlines()[0]) from None
+    except (psycopg.errors.ReservedName, psycopg.errors.InvalidName,
+            psycopg.errors.DuplicateObject) as exc:
+        raise ValueError(str(exc).strip().splitlines()[0]) from None
 
 
 def grant_group(conn: Any, login: str, role: str) -> None:
@@ -334,6 +519,7 @@ def move_group(conn: Any, login: str, role: str) -> None:
         for group in others:
             raw.execute(sql.SQL("REVOKE {} FROM {}").format(sql.Identifier(group), sql.Identifier(login)))
         grant_group(conn, login, role)
+    set_timeouts(conn, login, role)
     kept = [g for g in others if raw.execute("SELECT pg_has_role(%s, %s, 'MEMBER')",
                                              (login, g)).fetchone()[0]]
     if kept:

@@ -11,7 +11,7 @@ from typing import Any
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
-from ..errors import RecordError, StaleWriteError
+from ..errors import RecordError, ServerBusyError, StaleWriteError
 from .undo import EditCommand
 
 
@@ -42,7 +42,7 @@ class ClipEditor(QObject):
         self.project = project
         self.undo_stack = QUndoStack(self)
         self.clip: int | None = None
-        self.last_refusal: RecordError | None = None
+        self.last_refusal: RecordError | ServerBusyError | None = None
 
     @property
     def me(self) -> str:
@@ -57,7 +57,7 @@ class ClipEditor(QObject):
         self.last_refusal = None
         try:
             out = fn()
-        except RecordError as exc:
+        except (RecordError, ServerBusyError) as exc:  # busy: a lock elsewhere, try again
             self.last_refusal = exc
             self.notSaved.emit(stale(exc) if stale and isinstance(exc, StaleWriteError) else str(exc))
             return None

@@ -4,10 +4,12 @@ workbench asks for the login name and password in a small dialog, then tries aga
 
 from __future__ import annotations
 
+import html
 import os
 from collections.abc import Callable
 from pathlib import Path
 
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QDialog, QDialogButtonBox, QFormLayout, QLabel, QLineEdit, QVBoxLayout, QWidget,
 )
@@ -23,14 +25,17 @@ Ask = Callable[[Path, str, str], "tuple[str, str] | None"]
 def needs_password(exc: Exception) -> bool:
     """Whether the server refused the connection for want of a (right) password: libpq says
     "no password supplied" or "password authentication failed"."""
-    return isinstance(exc, (ProjectError, OperationalError)) and "password" in str(exc).lower()
+    text = str(exc).lower()
+    if "authentication method requirement" in text:
+        return False  # the server wanted a weaker method than SCRAM: no password is sent to it
+    return isinstance(exc, (ProjectError, OperationalError)) and "password" in text
 
 
 class LoginDialog(QDialog):
     """Login name (prefilled) and password for one project on a server."""
 
     def __init__(self, folder: Path, user: str, reason: str = "",
-                 parent: QWidget | None = None) -> None:
+                 parent: QWidget | None = None, *, server: str | None = None) -> None:
         super().__init__(parent)
         self.setWindowTitle("Log in to the project server")
         self.setObjectName("loginDialog")
@@ -40,6 +45,11 @@ class LoginDialog(QDialog):
                        "Log in with the name and password your lead gave you.")
         intro.setWordWrap(True)
         lay.addWidget(intro)
+        # the folder's settings name the server; a folder edited to point elsewhere shows here
+        self.server = QLabel(f"Server: <b>{html.escape(server or 'unknown')}</b>")
+        self.server.setObjectName("loginServer")
+        self.server.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        lay.addWidget(self.server)
         self.reason = QLabel(reason)
         self.reason.setObjectName("captionNote")
         self.reason.setWordWrap(True)
@@ -67,7 +77,7 @@ class LoginDialog(QDialog):
 
 
 def ask_with_dialog(folder: Path, user: str, reason: str) -> tuple[str, str] | None:
-    dlg = LoginDialog(folder, user, reason)
+    dlg = LoginDialog(folder, user, reason, server=Project.server_of(folder))
     return dlg.answer() if dlg.exec() == QDialog.DialogCode.Accepted else None
 
 
