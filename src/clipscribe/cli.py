@@ -87,8 +87,11 @@ def cmd_add_media(args: argparse.Namespace) -> int:
 def cmd_import(args: argparse.Namespace) -> int:
     with _open(args) as p:
         counts = p.import_records(args.file)
+        dups = counts.pop("duplicate", 0)
         print("imported " + ", ".join(f"{n} {k}" for k, n in counts.items() if n) if any(counts.values())
               else "nothing new to import")
+        if dups:
+            print(f"{dups} duplicate record(s) in the file were taken once")
     return 0
 
 

@@ -12,7 +12,8 @@ Layout of the export folder::
 
 Captions get their own CSV rather than being joined into one cell: caption text may hold any
 separator, and one row per caption keeps the file loadable by any CSV reader without a second
-parsing step.
+parsing step. Text cells that a spreadsheet would run as a formula get a leading ``'``
+(:mod:`clipscribe.export.csvsafe`); the JSON Lines files keep every text exactly.
 
 Everything is written into a temporary folder beside ``out_dir`` and renamed into place at the
 end, so a failed, blocked or cancelled export leaves nothing behind.
@@ -20,7 +21,6 @@ end, so a failed, blocked or cancelled export leaves nothing behind.
 
 from __future__ import annotations
 
-import csv
 import hashlib
 import os
 import re
@@ -35,6 +35,7 @@ from ..schema.export import (
     ExportCaption, ExportManifest, ExportRecord, ExportSegment, FileEntry, LabelPolicyModel,
     LeakageReportModel, LeftOut, OverrideModel,
 )
+from . import csvsafe, jsonl
 from .inputs import ClipInput
 from .plan import ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override
 from .policy import decide_captions
@@ -107,7 +108,7 @@ def _sha256(path: Path) -> str:
 def _write_csvs(tmp: Path, split: str, records: list[ExportRecord]) -> list[str]:
     names = [f"{split}.csv", f"{split}_segments.csv", f"{split}_captions.csv"]
     with open(tmp / names[0], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "split", "media", "sha256", "group", "label", "label_source",
                     "agreement", "annotators", "fps", "frame_count", "segments", "captions"])
         for r in records:
@@ -116,13 +117,13 @@ def _write_csvs(tmp: Path, split: str, records: list[ExportRecord]) -> list[str]
                         r.annotators, r.fps or "", "" if r.frame_count is None else r.frame_count,
                         len(r.segments), len(r.captions)])
     with open(tmp / names[1], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "index", "label", "start", "end", "start_s", "end_s"])
         for r in records:
             for i, s in enumerate(r.segments):
                 w.writerow([r.clip, i, s.label, s.start, s.end, s.start_s, s.end_s])
     with open(tmp / names[2], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "index", "text", "source", "start", "end", "start_s", "end_s"])
         for r in records:
             for i, c in enumerate(r.captions):
@@ -266,7 +267,7 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
         for split, recs in by_split.items():
             with open(tmp / f"{split}.jsonl", "w", encoding="utf-8", newline="\n") as fh:
                 for r in recs:
-                    fh.write(r.model_dump_json() + "\n")
+                    fh.write(jsonl.line(r.model_dump_json()))
             written.append(f"{split}.jsonl")
             if csv_files:
                 written += _write_csvs(tmp, split, recs)

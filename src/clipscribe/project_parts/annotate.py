@@ -9,6 +9,7 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ..errors import RecordError, StaleWriteError
+from ..schema.records import MAX_CAPTION_CHARS
 from ..store.models import (
     Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, utcnow,
 )
@@ -334,4 +335,12 @@ def _caption_to_write(s: Session, caption_id: int, expected_version: int | None,
 def _caption_text(text: str) -> str:
     if not isinstance(text, str) or not text.strip():
         raise RecordError("caption text is blank")
+    check_caption_length(text)
     return text
+
+
+def check_caption_length(text: str, what: str = "caption") -> None:
+    """RecordError when ``text`` is longer than the one caption limit (every door uses it)."""
+    if len(text) > MAX_CAPTION_CHARS:
+        raise RecordError(f"{what} is {len(text):,} characters long; the limit is "
+                          f"{MAX_CAPTION_CHARS:,} — shorten it (nothing was saved)")

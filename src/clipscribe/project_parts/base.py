@@ -18,6 +18,7 @@ from ..store import db
 from ..store.models import Annotator, Clip, Edit, Label
 
 T = TypeVar("T")
+MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
 
 
 class ProjectBase:
@@ -101,9 +102,9 @@ class ProjectBase:
             return ref
         row = None
         if isinstance(ref, int) and not isinstance(ref, bool):
-            row = s.get(Clip, ref)
+            row = s.get(Clip, ref) if 0 < ref <= MAX_ID else None
         elif isinstance(ref, str):
-            if ref.isdigit():
+            if ref.isascii() and ref.isdigit() and len(ref) <= 19 and int(ref) <= MAX_ID:
                 row = s.get(Clip, int(ref))
             if row is None:
                 rel = PurePosixPath(ref.replace("\\", "/"))
@@ -122,7 +123,7 @@ class ProjectBase:
         if ref is None:
             ref = self.user
         if isinstance(ref, int) and not isinstance(ref, bool):
-            row = s.get(Annotator, ref)
+            row = s.get(Annotator, ref) if 0 < ref <= MAX_ID else None
         else:
             row = s.scalar(select(Annotator).where(Annotator.name == str(ref)))
         if row is None:
