@@ -219,6 +219,19 @@ def _extend(add) -> None:
         mod.register(add)
 
 
+def _known_problem(exc: Exception, project: str | None) -> str | None:
+    """One plain line for faults of the machine rather than of clipscribe: a database that is
+    read-only, full, damaged or busy; a full disk or a refused file elsewhere."""
+    from sqlalchemy.exc import DBAPIError
+    from .store.sqlite_check import explain
+    if isinstance(exc, DBAPIError):
+        return explain(exc, project)
+    if isinstance(exc, OSError) and exc.strerror:
+        where = exc.filename if exc.filename is not None else project
+        return f"{where}: {exc.strerror}" if where else exc.strerror
+    return None
+
+
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
     if not argv and not sys.stdout.isatty():
@@ -236,6 +249,12 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except Exception as exc:  # the last line of defence: one line, never a traceback
         from .media import MediaError
+        known = _known_problem(exc, getattr(args, "project", None))
+        if known:
+            print(f"clipscribe: error: {known}", file=sys.stderr)
+            if os.environ.get("CLIPSCRIBE_DEBUG"):
+                raise
+            return 1
         kind = "error" if isinstance(exc, (MediaError, OSError)) else f"unexpected {type(exc).__name__}"
         print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
         if os.environ.get("CLIPSCRIBE_DEBUG"):

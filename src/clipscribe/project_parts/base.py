@@ -8,13 +8,14 @@ from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import Any, TypeVar
 
-from sqlalchemy import Engine, inspect, select
+from sqlalchemy import Engine, inspect, select, text
+from sqlalchemy.exc import DBAPIError
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.exc import StaleDataError
 
 from ..errors import ProjectError, RecordError, StaleWriteError
 from ..schema.settings import ProjectSettings
-from ..store import db
+from ..store import db, sqlite_check
 from ..store.models import Annotator, Clip, Edit, Label
 
 T = TypeVar("T")
@@ -30,9 +31,13 @@ class ProjectBase:
         self.user: str | None = None
         #: id of the last edit-history row written by this object (for undo stacks)
         self.last_edit_ids: list[int] = []
+        #: the background page check of a SQLite file (set by open); writes wait for it
+        self._page_check = None
 
     # ---- lifetime ---------------------------------------------------------------------
     def close(self) -> None:
+        if self._page_check is not None:
+            self._page_check.stop()
         self.engine.dispose()
 
     def __enter__(self):
@@ -51,6 +56,8 @@ class ProjectBase:
     # ---- transactions -----------------------------------------------------------------
     def _write(self, fn: Callable[[Session], T]) -> T:
         """Run ``fn`` in one write transaction (retried while SQLite reports busy)."""
+        if self._page_check is not None:  # never write into a damaged file
+            self._page_check.verdict()
         def attempt() -> T:
             edits: list[int] = []
             try:
@@ -63,6 +70,18 @@ class ProjectBase:
             self.last_edit_ids = edits
             return out
         return db.with_retry(attempt)
+
+    def check_writable(self, what: str) -> None:
+        """ProjectError before ``what`` starts when the database cannot take a write (a
+        read-only file or folder), so a command never does its work and then fails to record
+        it. Costs one empty write transaction."""
+        if self.engine.dialect.name != "sqlite":
+            return
+        try:
+            self._write(lambda s: s.execute(text("UPDATE settings SET key = key WHERE 0")))
+        except DBAPIError as exc:
+            reason = sqlite_check.explain(exc, self.folder) or str(exc.orig or exc).splitlines()[0]
+            raise ProjectError(f"{what}: not started, {reason}") from None
 
     def _read(self, fn: Callable[[Session], T]) -> T:
         with db.transaction(self.engine) as s:
