@@ -60,6 +60,7 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         except ValidationError as exc:
             raise RecordError(f"project settings: {_first_error(exc)}") from None
         root.mkdir(parents=True, exist_ok=True)
+        _check_media_root(root, cfg)
         media = cfg.media_root
         (root / media if not Path(media).is_absolute() else Path(media)).mkdir(
             parents=True, exist_ok=True)
@@ -90,6 +91,7 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             raise ProjectError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
         except OSError as exc:
             raise ProjectError(f"{path}: cannot read the settings ({exc.strerror or exc})") from None
+        _check_media_root(root, cfg)
         local_db = cfg.database_url is None
         if local_db:  # only create makes a database: a missing or empty file is an error
             check_sqlite_file(root / DB_FILE)
@@ -184,6 +186,19 @@ def _prepare_settings(folder: Path, cfg: ProjectSettings) -> Path:
 def _write_settings(folder: Path, cfg: ProjectSettings) -> None:
     """Write the settings file atomically (a temporary file renamed into place)."""
     os.replace(_prepare_settings(folder, cfg), folder / SETTINGS_FILE)
+
+
+def _check_media_root(root: Path, cfg: ProjectSettings) -> None:
+    """ProjectError when an absolute (shared-storage) media root holds the project folder
+    itself: scanning it would walk the project and everything beside it."""
+    media = Path(cfg.media_root)
+    if not media.is_absolute():
+        return
+    real_media, real_root = Path(os.path.realpath(media)), Path(os.path.realpath(root))
+    if real_media == real_root or real_media in real_root.parents:
+        raise ProjectError(f"{root / SETTINGS_FILE}: media_root {cfg.media_root!r} contains the "
+                           "project folder; point it at the shared-storage folder that holds "
+                           "the videos")
 
 
 def _disk_full(folder: Path) -> bool:

@@ -15,7 +15,9 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
+from ..media._common import shown
 from ..media.copy_in import copy_videos, free_folder
+from ..media.scan import find_videos
 from ..errors import RecordError
 from ..schema.settings import LabelSpec
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
@@ -232,9 +234,10 @@ class CatalogMixin:
             if "group" not in pattern.groupindex:
                 raise RecordError(f"group pattern {group_pattern!r}: needs a named group (?P<group>...)")
         groups = _read_group_csv(group_csv) if group_csv else {}
-        files = sorted(p for p in base.rglob("*") if p.suffix.lower() in media.VIDEO_SUFFIXES and p.is_file())
+        found = find_videos(base)  # links, unreadable folders and non-UTF-8 names set aside
+        files = found.files
         known = set(self._read(lambda s: list(s.scalars(select(Clip.path)))))
-        report = IngestReport()
+        report = IngestReport(skipped=[(_shown_below(self.media_root, p), why) for p, why in found.skipped])
         for i, path in enumerate(files):
             if progress:
                 progress(i, len(files))
@@ -350,6 +353,15 @@ def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
     info = media.ProbeInfo(fps=header.fps, frame_count=index.frame_count, width=header.width,
                            height=header.height)
     return info, digest
+
+
+def _shown_below(root: Path, path: Path) -> str:
+    """``path`` relative to the media root where it lies below it, as printable text."""
+    try:
+        path = path.relative_to(root)
+    except ValueError:
+        pass
+    return shown(path.as_posix())
 
 
 def _media_problem(path: Path, exc: Exception) -> str:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from pathlib import PurePosixPath, PureWindowsPath
 from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
@@ -11,6 +12,9 @@ SETTINGS_FILE = "clipscribe-project.json"
 SETTINGS_FORMAT = "clipscribe-project/1"
 
 _HEX_COLOUR = re.compile(r"^#[0-9a-fA-F]{6}$")
+#: top-level folders of a Unix system that never hold a project's videos
+_SYSTEM_FOLDERS = frozenset({"proc", "sys", "dev", "run", "boot", "etc", "usr", "bin", "sbin",
+                             "lib", "lib32", "lib64", "libx32"})
 
 
 class LabelSpec(BaseModel):
@@ -61,3 +65,26 @@ class ProjectSettings(BaseModel):
     segments_may_overlap: bool = False
     require_consent: bool = False
     caption_guideline: CaptionGuideline = Field(default_factory=CaptionGuideline)
+
+    @field_validator("media_root")
+    @classmethod
+    def _media_root(cls, v: str) -> str:
+        """A relative media root stays inside the project folder; an absolute one is shared
+        storage and must be a folder of its own, never a file-system root or a system folder
+        (a scan of it would walk the whole machine)."""
+        if not v.strip():
+            raise ValueError("media root is empty")
+        posix, win = PurePosixPath(v.replace("\\", "/")), PureWindowsPath(v)
+        if not (posix.is_absolute() or win.is_absolute() or win.drive):
+            if ".." in posix.parts:
+                raise ValueError(f"media root {v!r} leaves the project folder; keep it inside, or "
+                                 "give the absolute path of a shared-storage folder")
+            return v
+        if posix.as_posix() in ("/", "//") or (win.drive and str(win) in (win.anchor, win.drive)):
+            raise ValueError(f"media root {v!r} is the root of a file system; give the folder "
+                             "on shared storage that holds the videos")
+        top = posix.parts[1] if len(posix.parts) > 1 else ""
+        if not win.drive and top in _SYSTEM_FOLDERS:
+            raise ValueError(f"media root {v!r} lies in the system folder /{top}; give the folder "
+                             "on shared storage that holds the videos")
+        return v
