@@ -15,6 +15,7 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
+from ..export.csvsafe import read_cell
 from ..media._common import shown
 from ..media.copy_in import copy_videos, free_folder
 from ..media.scan import find_videos
@@ -380,7 +381,11 @@ def _read_group_csv(path: str | os.PathLike) -> dict[str, str]:
             for line, row in enumerate(reader, start=2):
                 if not row["path"]:
                     raise RecordError(f"{path}:{line}: path is empty")
-                out[row["path"].replace("\\", "/")] = row["group"] or None
+                out[read_cell(row["path"]).replace("\\", "/")] = read_cell(row["group"] or "") or None
     except OSError as exc:
         raise RecordError(f"{path}: {exc.strerror or exc}") from None
+    except UnicodeDecodeError as exc:
+        raise RecordError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    except csv.Error as exc:
+        raise RecordError(f"{path}: not a readable CSV file ({exc})") from None
     return out
