@@ -9,7 +9,7 @@ import json
 import pytest
 from sqlalchemy import update
 
-from clipscribe import Project, RecordError
+from clipscribe import RecordError
 from clipscribe.cli import main
 from clipscribe.schema.records import MAX_CAPTION_CHARS
 from clipscribe.store.models import Caption
@@ -46,12 +46,7 @@ def test_line_and_paragraph_separators_survive_dump_and_import(proj, tmp_path, m
     proj.export_records(out)
     raw = out.read_text("utf-8")
     assert "\u2028" not in raw and "\x85" not in raw and "\\u2028" in raw
-    with Project.create(tmp_path / "again", user="lead") as q:
-        q.define_labels(["pick up", "put down", "stack"])
-        q.add_annotator("ann-a")
-        q.add_annotator("ann-b")
-        for i in range(2):
-            make_video(q.media_root / "g1" / f"c{i}.mp4", seed=i)
+    with small_project(tmp_path / "again", make_video) as q:
         q.import_records(out)
         assert text in [t for _, _, t in q.captions()]
     # a file written by someone else with the separators raw imports too: lines end at \n only
