@@ -235,7 +235,9 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
     stems = _file_names([c.clip_id for c in clips])
     total = len(clips) * (1 + (media_mode is not None) + webvtt)
     done = 0
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
+    remove_stale_partials(out)
+    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.{os.getpid()}-", suffix=".partial",
+                                dir=out.parent))
     if os.name == "posix":
         os.chmod(tmp, 0o755)  # mkdtemp makes it private; the export is an ordinary folder
     try:
@@ -284,6 +286,41 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
         shutil.rmtree(tmp, ignore_errors=True)
         raise
     return manifest
+
+
+def remove_stale_partials(out: str | os.PathLike) -> list[Path]:
+    """Remove the hidden unfinished folders that a killed export to ``out`` left beside it
+    (``.<name>.<pid>-….partial``, ``.<name>.folds-<pid>``, ``.<name>.replaced-<pid>-…``);
+    those of a process still running are kept. Returns what was removed."""
+    out = Path(out)
+    removed = []
+    if not out.parent.is_dir():
+        return removed
+    pid_at = re.compile(rf"^\.{re.escape(out.name)}\.(?:(\d+)-.*\.partial|.*\.partial|"
+                        rf"folds-(\d+)|replaced-(\d+)-\d+)$")
+    for p in out.parent.iterdir():
+        m = pid_at.match(p.name)
+        if not m or not p.is_dir():
+            continue
+        pid = next((int(g) for g in m.groups() if g), None)
+        if pid is not None and _running(pid):
+            continue
+        shutil.rmtree(p, ignore_errors=True)
+        if not p.exists():
+            removed.append(p)
+    return removed
+
+
+def _running(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:
+        return True  # exists but belongs to someone else
+    return True
 
 
 def _move_into_place(tmp: Path, out: Path) -> None:

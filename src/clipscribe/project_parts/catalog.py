@@ -17,7 +17,7 @@ from sqlalchemy.orm import Session
 from .. import media
 from ..export.csvsafe import read_cell
 from ..media._common import shown
-from ..media.copy_in import copy_videos, free_folder
+from ..media.copy_in import copy_target, copy_videos
 from ..media.scan import find_videos
 from ..errors import RecordError
 from ..schema.settings import LabelSpec
@@ -263,16 +263,19 @@ class CatalogMixin:
 
     def copy_media_in(self, source: str | os.PathLike, *, cancel: Any = None,
                       progress: Progress | None = None) -> Path:
-        """Copy the videos below ``source``, a folder outside the media root, into a new folder
-        of the media root named after it (``name``, ``name-2``…), keeping sub-folders; all or
-        nothing. Returns the new folder; :meth:`add_media` on it adds the clips."""
+        """Copy the videos below ``source``, a folder outside the media root, into a folder of
+        the media root named after it (``name``, ``name-2``…), keeping sub-folders; all or
+        nothing. Copying the same source again resumes in the same folder (files already there
+        and identical are kept), so a retry after a kill makes no second copy. Returns the
+        folder; :meth:`add_media` on it adds the clips (those present already are not added
+        twice)."""
         src = Path(os.path.realpath(source))
         root = Path(os.path.realpath(self.media_root))
         if src == root or root in src.parents:
             raise RecordError(f"{source}: already inside the media root {self.media_root}; "
                               "add it without copying")
         root.mkdir(parents=True, exist_ok=True)
-        dest = free_folder(root, src.name or "videos")
+        dest = copy_target(root, src.name or "videos", src)  # an interrupted copy is resumed
         try:
             copy_videos(src, dest, cancel=cancel, progress=progress)
         except (media.MediaError, OSError) as exc:

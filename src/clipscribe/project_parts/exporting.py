@@ -119,6 +119,8 @@ class ExportingMixin:
         Blocking leakage findings stop it unless ``override_reason`` is given (recorded)."""
         self._require_lead("export")
         self.check_writable("export")  # the export is recorded in the project: check first
+        #: unfinished folders of an earlier, killed export to the same place, removed now
+        self.last_export_cleaned = export.remove_stale_partials(out_dir)
         override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
         manifest = export.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt,
                                        override=override, overwrite=overwrite,
@@ -166,6 +168,7 @@ class ExportingMixin:
         if out.exists() and any(out.iterdir()):
             raise RecordError(f"{out}: exists and is not empty")
         self.check_writable("export")
+        self.last_export_cleaned = export.remove_stale_partials(out)
         blocked = [i + 1 for i, pl in enumerate(plans) if pl.leakage.blocking]
         if blocked and not override_reason:
             raise export.ExportBlocked(plans[blocked[0] - 1].leakage)
