@@ -224,9 +224,11 @@ class AnnotateMixin:
 
     def update_caption(self, caption_id: int, text: str | None = None, *,
                        segment: int | None | type(...) = ..., expected_version: int | None = None) -> int:
-        """Change a caption's text and/or segment; returns the new version. With
-        ``expected_version`` a caption changed or deleted meanwhile by someone else raises
-        StaleWriteError."""
+        """Change a caption's text and/or segment; returns the new version. A caption changed
+        or deleted meanwhile by someone else raises StaleWriteError: changed since
+        ``expected_version`` when given, else since this project object last read or wrote it
+        (a caption it never read is written as it is now)."""
+        expected_version = self._expected_caption(caption_id, expected_version)
         def work(s: Session) -> int:
             row = _caption_to_write(s, caption_id, expected_version, "your text was not saved")
             before = row_dict(row)
@@ -245,8 +247,10 @@ class AnnotateMixin:
         return self._write(work)
 
     def delete_caption(self, caption_id: int, *, expected_version: int | None = None) -> None:
-        """Delete a caption. With ``expected_version`` a caption changed or deleted meanwhile by
-        someone else raises StaleWriteError and nothing is deleted."""
+        """Delete a caption. A caption changed or deleted meanwhile by someone else (since
+        ``expected_version``, else since this object last read it) raises StaleWriteError and
+        nothing is deleted."""
+        expected_version = self._expected_caption(caption_id, expected_version)
         def work(s: Session) -> None:
             row = _caption_to_write(s, caption_id, expected_version, "nothing was deleted")
             before = row_dict(row)
@@ -254,6 +258,11 @@ class AnnotateMixin:
             s.flush()
             self._log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
         self._write(work)
+
+    def _expected_caption(self, caption_id: int, expected_version: int | None) -> int | None:
+        if expected_version is not None:
+            return expected_version
+        return self.seen_caption_versions.get(caption_id)
 
     def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
