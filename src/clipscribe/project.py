@@ -117,6 +117,12 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             if cfg.database_url is None and not isinstance(exc, OperationalError):
                 raise sqlite_check.damaged(root / DB_FILE, str(exc.orig or exc)) from None
             reason = str(exc.orig or exc).strip().splitlines()[0]
+            if (cfg.database_url is None and url.startswith("sqlite") and "immutable" not in url
+                    and not os.access(root, os.W_OK)):
+                # a read-only project folder: SQLite cannot make its lock files there, so read
+                # the file as it is (every write is then refused as read-only)
+                return cls._connect(root, cfg, user=user, password=password,
+                                    url=sqlite_check.read_only_url(root.resolve() / DB_FILE))
             if "i/o error" in reason.lower() and _disk_full(root):
                 reason = f"the disk holding it is full ({reason})"
             raise ProjectError(f"{root}: cannot open the project database: {reason}") from None

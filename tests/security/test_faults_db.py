@@ -204,3 +204,20 @@ def test_dump_on_a_full_disk_leaves_no_temporary_file(proj, tiny_disk, capsys):
     rc, err = _cli(capsys, "dump", str(proj), str(tiny_disk / "all.jsonl"))
     assert rc == 1 and "No space left on device" in one_error_line(err)
     assert sorted(p.name for p in tiny_disk.iterdir()) == ["filler"]
+
+
+@needs_unprivileged
+def test_a_read_only_project_folder_still_answers_read_commands(proj):
+    os.chmod(proj, 0o555)
+    try:
+        r = run_cli("stats", str(proj), as_unprivileged=True)
+        assert r.returncode == 0, r.stderr
+        assert "captions" in r.stdout and "180" in r.stdout
+        r = run_cli("dump", str(proj), str(proj.parent / "all.jsonl"), as_unprivileged=True)
+        assert r.returncode == 0, r.stderr
+        r = run_cli("add-person", str(proj), "ann-c", as_unprivileged=True)
+        assert r.returncode == 1 and "read-only" in one_error_line(r.stderr)
+    finally:
+        os.chmod(proj, 0o755)
+    with Project.open(proj) as p:
+        assert "ann-c" not in [a.name for a in p.annotators()]

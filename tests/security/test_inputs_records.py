@@ -177,3 +177,35 @@ def test_hostile_settings_file_is_one_clear_line(proj, capsys, content, reason):
     (proj.folder / "clipscribe-project.json").write_bytes(content)
     rc, _, err = _cli(capsys, "stats", str(proj.folder))
     assert rc == 1 and reason in one_error_line(err)
+
+
+def test_the_window_refuses_an_over_long_caption_with_the_reason(proj, qapp):
+    from clipscribe.ui.editor import ClipEditor
+    editor = ClipEditor(proj)
+    editor.clip = 1
+    proj.user = "ann-a"
+    said = []
+    editor.notSaved.connect(said.append)
+    res = editor.save_caption(None, "d" * (MAX_CAPTION_CHARS + 1), None, 0)
+    assert not res.ok and said and "the limit is 5,000" in said[0]
+    assert proj.captions() == []
+
+
+@pytest.mark.parametrize("name", ["two\nlines", "carriage\rreturn", "tab\tinside", "sep\u2028arator"])
+def test_names_with_line_breaks_or_control_characters_are_refused(proj, name):
+    with pytest.raises(RecordError, match="one line of text"):
+        proj.add_annotator(name)
+    with pytest.raises(RecordError, match="one line of text"):
+        proj.define_labels(["stack", name])
+    assert "stack" in [l.name for l in proj.labels()] and len(proj.annotators()) == 3
+
+
+def test_a_guideline_no_caption_could_pass_is_refused(proj, capsys):
+    with pytest.raises(RecordError, match=r"min_words \(50\) is greater than max_words \(10\)"):
+        proj.update_settings(caption_guideline={"min_words": 50, "max_words": 10})
+    path = proj.folder / "clipscribe-project.json"
+    data = json.loads(path.read_text())
+    data["caption_guideline"] = {"min_words": 50, "max_words": 10}
+    path.write_text(json.dumps(data))
+    rc, _, err = _cli(capsys, "stats", str(proj.folder))
+    assert rc == 1 and "min_words (50) is greater than max_words (10)" in one_error_line(err)

@@ -20,7 +20,7 @@ from ..media._common import shown
 from ..media.copy_in import copy_target, copy_videos
 from ..media.scan import find_videos
 from ..errors import RecordError
-from ..schema.settings import LabelSpec
+from ..schema.settings import LabelSpec, check_name_text
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
 from .base import row_dict
 
@@ -156,6 +156,10 @@ class CatalogMixin:
         name = (name or "").strip()
         if not name:
             raise RecordError("annotator name is empty")
+        try:
+            check_name_text(name, "annotator name")
+        except ValueError as exc:
+            raise RecordError(str(exc)) from None
         if role not in ROLES:
             raise RecordError(f"annotator {name!r}: role must be one of {', '.join(ROLES)}, not {role!r}")
 

@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 import re
+import unicodedata
 from pathlib import PurePosixPath, PureWindowsPath
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict, Field, field_validator
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 SETTINGS_FILE = "clipscribe-project.json"
 SETTINGS_FORMAT = "clipscribe-project/1"
@@ -38,7 +39,17 @@ class LabelSpec(BaseModel):
     def _name(cls, v: str) -> str:
         if v != v.strip():
             raise ValueError("label name has leading or trailing whitespace")
+        check_name_text(v, "label name")
         return v
+
+
+def check_name_text(v: str, what: str) -> None:
+    """ValueError when a name holds a line break or another control character: names are
+    shown on one line, in CSV cells and in file names."""
+    bad = next((ch for ch in v if unicodedata.category(ch) in ("Cc", "Zl", "Zp")), None)
+    if bad is not None:
+        kind = "a line break" if bad in "\n\r\x0b\x0c\x85\u2028\u2029" else "a control character"
+        raise ValueError(f"{what} {v!r} holds {kind} (U+{ord(bad):04X}); names are one line of text")
 
 
 class CaptionGuideline(BaseModel):
@@ -50,6 +61,13 @@ class CaptionGuideline(BaseModel):
     max_words: int = Field(default=40, ge=1)
     banned_openings: list[str] = Field(
         default_factory=lambda: ["there is", "there are", "this is", "a video of", "in this video"])
+
+    @model_validator(mode="after")
+    def _words_in_order(self) -> "CaptionGuideline":
+        if self.min_words > self.max_words:
+            raise ValueError(f"min_words ({self.min_words}) is greater than max_words "
+                             f"({self.max_words}); no caption could pass")
+        return self
 
 
 class ProjectSettings(BaseModel):

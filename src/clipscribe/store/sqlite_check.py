@@ -19,6 +19,12 @@ from ..errors import ProjectError
 MAGIC = b"SQLite format 3\x00"
 
 
+def read_only_url(path: Path) -> str:
+    """A URL reading ``path`` without the lock files SQLite would make beside it (for a project
+    folder the user may not write to; a change made elsewhere meanwhile is not seen)."""
+    return f"sqlite+pysqlite:///file:{path}?mode=ro&immutable=1&uri=true"
+
+
 def recovery_advice(path: Path) -> str:
     return (f"restore {path.name} from a backup, or rescue what is readable with "
             f"`sqlite3 {path.name} .recover | sqlite3 rescued.sqlite` and put rescued.sqlite "
