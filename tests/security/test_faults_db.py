@@ -221,3 +221,39 @@ def test_a_read_only_project_folder_still_answers_read_commands(proj):
         os.chmod(proj, 0o755)
     with Project.open(proj) as p:
         assert "ann-c" not in [a.name for a in p.annotators()]
+
+
+def test_the_window_reports_a_damaged_database_instead_of_saving(proj, qapp):
+    from clipscribe.ui.editor import ClipEditor
+    _damage_middle(proj / DB)
+    p = Project.open(proj, user="ann-a")
+    try:
+        editor = ClipEditor(p)
+        editor.clip = 1
+        said = []
+        editor.notSaved.connect(said.append)
+        assert editor.set_label("stack") is None
+        assert said and "damaged" in said[0] and ".recover" in said[0]
+    finally:
+        p.close()
+
+
+def test_export_to_a_full_disk_is_one_line_and_leaves_nothing(proj, tiny_disk):
+    out = tiny_disk / "out"
+    _fill(tiny_disk)
+    r = run_cli("export", str(proj), str(out), "--override", "test", "--min-agreement", "0",
+                "--media", "copy", "--user", "lead")
+    assert r.returncode == 1
+    assert "No space left on device" in one_error_line(r.stderr)
+    assert [p.name for p in tiny_disk.iterdir()] == ["filler"]
+
+
+def test_report_to_a_full_disk_is_one_line_and_leaves_no_temporary_file(proj, tiny_disk, capsys):
+    _fill(tiny_disk)
+    rc, err = _cli(capsys, "report", str(proj), str(tiny_disk / "report"), "--boot", "20",
+                   "--user", "lead")
+    err = "\n".join(l for l in err.splitlines() if not l.startswith("report: "))  # progress
+    line = one_error_line(err)
+    assert rc == 1 and "No space left on device" in line and str(tiny_disk / "report") in line
+    leftovers = [p.name for p in tiny_disk.rglob("*") if p.name != "filler" and p.is_file()]
+    assert leftovers == []

@@ -27,3 +27,18 @@ def test_all_positive_values_keep_their_layout():
     fig = bar_chart("bleu", [("a", 10.0, ""), ("b", 20.0, "")])
     a, b = _bars(fig)
     assert a.x == b.x and abs(b.w / a.w - 2.0) < 1e-9
+
+
+def test_captions_by_one_annotator_only_do_not_break_the_report(tmp_path, make_video, capsys):
+    from clipscribe.cli import main
+
+    from ._fixtures import small_project
+    with small_project(tmp_path / "proj", make_video, clips=2) as p:
+        for c in p.clips():
+            p.set_clip_label(c.id, "ann-a", "stack")
+            p.set_clip_label(c.id, "ann-b", "pick up")
+            p.add_caption(c.id, "ann-a", "the arm lifts the block")  # nobody else captions
+    assert main(["report", str(tmp_path / "proj"), str(tmp_path / "r"), "--boot", "20",
+                 "--user", "lead"]) == 0, capsys.readouterr().err
+    assert main(["agreement", str(tmp_path / "proj"), "--user", "lead"]) == 0
+    assert "unexpected" not in capsys.readouterr().err
