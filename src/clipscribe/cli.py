@@ -227,8 +227,9 @@ def _known_problem(exc: Exception, project: str | None) -> str | None:
     if isinstance(exc, DBAPIError):
         return explain(exc, project)
     if isinstance(exc, OSError) and exc.strerror:
-        where = exc.filename if exc.filename is not None else project
-        return f"{where}: {exc.strerror}" if where else exc.strerror
+        if exc.filename is not None:
+            return f"{exc.filename}: {exc.strerror}"
+        return f"{exc.strerror} (working on {project})" if project else exc.strerror
     return None
 
 

@@ -79,5 +79,9 @@ def atomic_write_bytes(target: Path, data: bytes) -> None:
     """Write to a temporary file beside ``target`` and rename it into place (no half-written file)."""
     target.parent.mkdir(parents=True, exist_ok=True)
     tmp = target.with_name(f".{target.name}.{os.getpid()}.{threading.get_ident()}.tmp")
-    tmp.write_bytes(data)
-    os.replace(tmp, target)
+    try:
+        tmp.write_bytes(data)
+        os.replace(tmp, target)
+    except BaseException:
+        tmp.unlink(missing_ok=True)  # a full disk leaves no half-written file behind
+        raise
