@@ -108,3 +108,14 @@ def test_a_special_file_system_below_the_media_root_is_not_walked(proj):
     finally:
         subprocess.run(["umount", "-l", str(target)], capture_output=True)
     assert ("sys-view", "a special file system, not scanned") in rep.skipped
+
+
+@pytest.mark.parametrize("name", ["50% done", "take #1", "what?x", "a?b#c%d e"])
+def test_a_project_folder_name_with_url_characters_keeps_its_database_inside(tmp_path, name):
+    folder = tmp_path / name
+    Project.create(folder, user="lead").close()
+    assert sorted(p.name for p in tmp_path.iterdir()) == [name]  # nothing made beside it
+    assert (folder / "project.sqlite").stat().st_size > 0
+    with Project.open(folder) as p:
+        p.add_annotator("ann-a")
+        assert [a.name for a in p.annotators()] == ["lead", "ann-a"]

@@ -13,6 +13,7 @@ from __future__ import annotations
 import sqlite3
 import threading
 from pathlib import Path
+from urllib.parse import quote
 
 from ..errors import ProjectError
 
@@ -22,7 +23,14 @@ MAGIC = b"SQLite format 3\x00"
 def read_only_url(path: Path) -> str:
     """A URL reading ``path`` without the lock files SQLite would make beside it (for a project
     folder the user may not write to; a change made elsewhere meanwhile is not seen)."""
-    return f"sqlite+pysqlite:///file:{path}?mode=ro&immutable=1&uri=true"
+    # the URL's own unquoting leaves the percent-escaped file URI SQLite expects
+    return f"sqlite+pysqlite:///{quote(Path(path).resolve().as_uri(), safe=':/')}" \
+        "?mode=ro&immutable=1&uri=true"
+
+
+def _ro_uri(path: Path) -> str:
+    """A read-only SQLite URI for ``path`` (any character in the path escaped)."""
+    return Path(path).resolve().as_uri() + "?mode=ro"
 
 
 def recovery_advice(path: Path) -> str:
@@ -64,7 +72,7 @@ def check_file(path: Path) -> None:
     if not head.startswith(MAGIC):
         raise damaged(path, "it does not start like a SQLite database")
     try:
-        con = sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=15)
+        con = sqlite3.connect(_ro_uri(path), uri=True, timeout=15)
         try:
             con.execute("SELECT count(*) FROM sqlite_master").fetchone()
         finally:
@@ -98,7 +106,7 @@ class PageCheck:
             with self._lock:
                 if self._stopped:
                     return
-                self._con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=15,
+                self._con = sqlite3.connect(_ro_uri(self.path), uri=True, timeout=15,
                                             check_same_thread=False)
             rows = [r[0] for r in self._con.execute("PRAGMA quick_check(5)")]
             if rows != ["ok"]:
