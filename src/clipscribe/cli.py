@@ -92,8 +92,11 @@ def cmd_add_media(args: argparse.Namespace) -> int:
 def cmd_import(args: argparse.Namespace) -> int:
     with _open(args) as p:
         counts = p.import_records(args.file)
+        dups = counts.pop("duplicate", 0)
         print("imported " + ", ".join(f"{n} {k}" for k, n in counts.items() if n) if any(counts.values())
               else "nothing new to import")
+        if dups:
+            print(f"{dups} duplicate record(s) in the file were taken once")
     return 0
 
 
@@ -221,6 +224,20 @@ def _extend(add) -> None:
         mod.register(add)
 
 
+def _known_problem(exc: Exception, project: str | None) -> str | None:
+    """One plain line for faults of the machine rather than of clipscribe: a database that is
+    read-only, full, damaged or busy; a full disk or a refused file elsewhere."""
+    from sqlalchemy.exc import DBAPIError
+    from .store.sqlite_check import explain
+    if isinstance(exc, DBAPIError):
+        return explain(exc, project)
+    if isinstance(exc, OSError) and exc.strerror:
+        if exc.filename is not None:
+            return f"{exc.filename}: {exc.strerror}"
+        return f"{exc.strerror} (working on {project})" if project else exc.strerror
+    return None
+
+
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
     if not argv and not sys.stdout.isatty():
@@ -238,6 +255,12 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except Exception as exc:  # the last line of defence: one line, never a traceback
         from .media import MediaError
+        known = _known_problem(exc, getattr(args, "project", None))
+        if known:
+            print(f"clipscribe: error: {known}", file=sys.stderr)
+            if os.environ.get("CLIPSCRIBE_DEBUG"):
+                raise
+            return 1
         kind = "error" if isinstance(exc, (MediaError, OSError)) else f"unexpected {type(exc).__name__}"
         print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
         if os.environ.get("CLIPSCRIBE_DEBUG"):

@@ -42,6 +42,11 @@ def _print_left_out(left_out, where: str = "") -> None:
             print(f"  clip {d.clip_id}: {d.reason}")
 
 
+def _print_cleaned(p) -> None:
+    for path in getattr(p, "last_export_cleaned", ()):
+        print(f"removed {path.name}, left unfinished by an earlier export that was stopped")
+
+
 def _write(fn):
     """Run a write; blocked or failed exports become one-line errors (nothing was written)."""
     from . import export
@@ -69,6 +74,7 @@ def cmd_export(args: argparse.Namespace) -> int:
         m = _write(lambda: p.write_export(args.out, plan, media_mode=args.media, webvtt=args.webvtt,
                                           override_reason=args.override, overwrite=args.overwrite,
                                           progress=Bar("writing")))
+        _print_cleaned(p)
         print(f"wrote {len(m.files)} file(s) to {args.out}")
     return 0
 
@@ -86,6 +92,7 @@ def _export_folds(p, args: argparse.Namespace) -> int:
         return 0
     ms = _write(lambda: p.write_folds(args.out, plans, media_mode=args.media, webvtt=args.webvtt,
                                       override_reason=args.override, progress=Bar("writing")))
+    _print_cleaned(p)
     print(f"wrote {len(ms)} splits ({sum(len(m.files) for m in ms)} files) to {args.out}")
     return 0
 

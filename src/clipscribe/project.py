@@ -9,11 +9,13 @@ from __future__ import annotations
 
 import getpass
 import os
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 from pydantic import ValidationError
 from sqlalchemy import select
+from sqlalchemy.exc import DatabaseError, OperationalError
 
 from .errors import ProjectError, RecordError
 from .project_parts.analysis import AnalysisMixin
@@ -28,10 +30,11 @@ from .project_parts.review import ReviewMixin
 from .project_parts.team import TeamMixin
 from .project_parts.workbench import WorkbenchMixin
 from .schema.settings import SETTINGS_FILE, ProjectSettings
-from .store import db
+from .store import db, sqlite_check
 from .store.models import Annotator
 
 DB_FILE = "project.sqlite"
+check_sqlite_file = sqlite_check.check_file
 
 
 class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMixin, AnnotateMixin, HistoryMixin, GoldMixin, RecordsMixin, CatalogMixin, ProjectBase):
@@ -57,6 +60,7 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         except ValidationError as exc:
             raise RecordError(f"project settings: {_first_error(exc)}") from None
         root.mkdir(parents=True, exist_ok=True)
+        _check_media_root(root, cfg)
         media = cfg.media_root
         (root / media if not Path(media).is_absolute() else Path(media)).mkdir(
             parents=True, exist_ok=True)
@@ -83,7 +87,18 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             cfg = ProjectSettings.model_validate_json(path.read_text(encoding="utf-8"))
         except ValidationError as exc:
             raise ProjectError(f"{path}: {_first_error(exc)}") from None
-        return cls._connect(root, cfg, user=user, password=password)
+        except UnicodeDecodeError as exc:
+            raise ProjectError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+        except OSError as exc:
+            raise ProjectError(f"{path}: cannot read the settings ({exc.strerror or exc})") from None
+        _check_media_root(root, cfg)
+        local_db = cfg.database_url is None
+        if local_db:  # only create makes a database: a missing or empty file is an error
+            check_sqlite_file(root / DB_FILE)
+        project = cls._connect(root, cfg, user=user, password=password)
+        if local_db:
+            project._page_check = sqlite_check.PageCheck(root / DB_FILE)
+        return project
 
     @classmethod
     def _connect(cls, root: Path, cfg: ProjectSettings, *, user: str | None,
@@ -97,6 +112,20 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         except ProjectError:
             engine.dispose()
             raise
+        except DatabaseError as exc:
+            engine.dispose()
+            if cfg.database_url is None and not isinstance(exc, OperationalError):
+                raise sqlite_check.damaged(root / DB_FILE, str(exc.orig or exc)) from None
+            reason = str(exc.orig or exc).strip().splitlines()[0]
+            if (cfg.database_url is None and url.startswith("sqlite") and "immutable" not in url
+                    and not os.access(root, os.W_OK)):
+                # a read-only project folder: SQLite cannot make its lock files there, so read
+                # the file as it is (every write is then refused as read-only)
+                return cls._connect(root, cfg, user=user, password=password,
+                                    url=sqlite_check.read_only_url(root.resolve() / DB_FILE))
+            if "i/o error" in reason.lower() and _disk_full(root):
+                reason = f"the disk holding it is full ({reason})"
+            raise ProjectError(f"{root}: cannot open the project database: {reason}") from None
         except Exception as exc:
             engine.dispose()
             raise ProjectError(f"{root}: cannot open the project database: "
@@ -134,22 +163,69 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             return "owner"
 
     # ---- settings ---------------------------------------------------------------------
-    def update_settings(self, **changes: Any) -> ProjectSettings:
-        """Change settings (validated) and write the settings file atomically."""
+    def update_settings(self, *, together_with: Callable[[], Any] | None = None,
+                        **changes: Any) -> ProjectSettings:
+        """Change settings (validated) and write the settings file atomically.
+
+        ``together_with`` (a database write) runs after the new file is fully written under a
+        temporary name and before it is renamed into place: when either fails, neither the
+        database nor the settings file changes (a full disk fails the file write first)."""
         try:
             cfg = ProjectSettings.model_validate({**self.settings.model_dump(), **changes})
         except ValidationError as exc:
             raise RecordError(f"project settings: {_first_error(exc)}") from None
-        _write_settings(self.folder, cfg)
+        tmp = _prepare_settings(self.folder, cfg)
+        try:
+            if together_with is not None:
+                together_with()
+            os.replace(tmp, self.folder / SETTINGS_FILE)
+        except BaseException:
+            tmp.unlink(missing_ok=True)
+            raise
         self.settings = cfg
         return cfg
 
 
+def _prepare_settings(folder: Path, cfg: ProjectSettings) -> Path:
+    """The settings written in full to a temporary file beside the real one (flushed to disk);
+    ProjectError naming the file when that fails (nothing is left behind)."""
+    tmp = folder / (SETTINGS_FILE + ".tmp")
+    try:
+        with open(tmp, "w", encoding="utf-8") as f:
+            f.write(cfg.model_dump_json(indent=2) + "\n")
+            f.flush()
+            os.fsync(f.fileno())
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise ProjectError(f"{folder / SETTINGS_FILE}: cannot write the settings "
+                           f"({exc.strerror or exc}); nothing was changed") from None
+    return tmp
+
+
 def _write_settings(folder: Path, cfg: ProjectSettings) -> None:
     """Write the settings file atomically (a temporary file renamed into place)."""
-    tmp = folder / (SETTINGS_FILE + ".tmp")
-    tmp.write_text(cfg.model_dump_json(indent=2) + "\n", encoding="utf-8")
-    os.replace(tmp, folder / SETTINGS_FILE)
+    os.replace(_prepare_settings(folder, cfg), folder / SETTINGS_FILE)
+
+
+def _check_media_root(root: Path, cfg: ProjectSettings) -> None:
+    """ProjectError when an absolute (shared-storage) media root holds the project folder
+    itself: scanning it would walk the project and everything beside it."""
+    media = Path(cfg.media_root)
+    if not media.is_absolute():
+        return
+    real_media, real_root = Path(os.path.realpath(media)), Path(os.path.realpath(root))
+    if real_media == real_root or real_media in real_root.parents:
+        raise ProjectError(f"{root / SETTINGS_FILE}: media_root {cfg.media_root!r} contains the "
+                           "project folder; point it at the shared-storage folder that holds "
+                           "the videos")
+
+
+def _disk_full(folder: Path) -> bool:
+    import shutil
+    try:
+        return shutil.disk_usage(folder).free < 256 * 1024
+    except OSError:
+        return False
 
 
 def _with_login(url: str, user: str | None, password: str | None) -> str:

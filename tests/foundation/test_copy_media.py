@@ -33,8 +33,12 @@ def test_copies_the_videos_keeping_folders_and_they_can_be_added(project, shoot)
     rep = project.add_media(dest, group_pattern=BY_FOLDER)
     assert len(rep.added) == 3 and not rep.skipped
     assert {c.group for c in project.clips()} >= {"shoot-1/cam-a", "shoot-1/cam-b"}
-    again = project.copy_media_in(shoot)            # a second copy goes next to the first
-    assert again == project.media_root / "shoot-1-2"
+    again = project.copy_media_in(shoot)            # copying again resumes in the same folder
+    assert again == project.media_root / "shoot-1"
+    assert project.add_media(again).added == []     # and adds no clip twice
+    (shoot / "cam-a" / "take-1.mp4").write_bytes(b"another take")
+    other = project.copy_media_in(shoot)            # a changed source goes next to the first
+    assert other == project.media_root / "shoot-1-2"
 
 
 def test_progress_is_in_bytes_and_ends_at_the_total(project, shoot, monkeypatch):

@@ -56,7 +56,8 @@ def test_import_is_idempotent_and_counts(project, tmp_path):
         {"type": "segment", "clip": 1, "annotator": "ann-a", "label": "push", "start": 0, "end": 4},
         {"type": "caption", "clip": 1, "annotator": "ann-a", "text": "Tied to a segment.", "segment": [0, 4]},
     ])
-    assert project.import_records(src) == {"clip": 0, "label": 1, "segment": 1, "caption": 2, "gold": 0}
+    assert project.import_records(src) == {"clip": 0, "label": 1, "segment": 1, "caption": 2, "gold": 0,
+                                          "duplicate": 0}
     assert project.import_records(src)["caption"] == 0
     assert len(project.captions()) == 2
 

@@ -183,6 +183,8 @@ def agreement_report(labels: Iterable[Sequence[Any]],
             except (TypeError, ValueError):
                 raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
             by_clip.setdefault(clip, []).append((str(ann), text))
+    if captions is not None and any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
+        # caption consensus needs a clip captioned by two people; with none it is not measured
         loo = leave_one_out_bleu(by_clip)
         cider = cider_d(by_clip)
         cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed))

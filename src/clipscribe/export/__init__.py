@@ -21,7 +21,7 @@ from .policy import (
 )
 from .splits import SplitResult, assign_folds, assign_splits, normalise_ratios, split_clips
 from .textdup import normalise_caption
-from .writers import write_export
+from .writers import remove_stale_partials, write_export
 
 __all__ = [
     "CaptionInput", "ClipInput", "SegmentInput",
@@ -31,5 +31,5 @@ __all__ = [
     "Finding", "LeakageReport", "check_leakage", "near_pairs", "near_pairs_brute",
     "normalise_caption",
     "ExportPlan", "Override", "build_plan", "ExportError", "ExportBlocked", "ExportCancelled",
-    "write_export", "ExportRecord", "ExportManifest", "export_schemas",
+    "write_export", "remove_stale_partials", "ExportRecord", "ExportManifest", "export_schemas",
 ]

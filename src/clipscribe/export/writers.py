@@ -12,7 +12,8 @@ Layout of the export folder::
 
 Captions get their own CSV rather than being joined into one cell: caption text may hold any
 separator, and one row per caption keeps the file loadable by any CSV reader without a second
-parsing step.
+parsing step. Text cells that a spreadsheet would run as a formula get a leading ``'``
+(:mod:`clipscribe.export.csvsafe`); the JSON Lines files keep every text exactly.
 
 Everything is written into a temporary folder beside ``out_dir`` and renamed into place at the
 end, so a failed, blocked or cancelled export leaves nothing behind.
@@ -20,7 +21,6 @@ end, so a failed, blocked or cancelled export leaves nothing behind.
 
 from __future__ import annotations
 
-import csv
 import hashlib
 import os
 import re
@@ -35,6 +35,7 @@ from ..schema.export import (
     ExportCaption, ExportManifest, ExportRecord, ExportSegment, FileEntry, LabelPolicyModel,
     LeakageReportModel, LeftOut, OverrideModel,
 )
+from . import csvsafe, jsonl
 from .inputs import ClipInput
 from .plan import ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override
 from .policy import decide_captions
@@ -107,7 +108,7 @@ def _sha256(path: Path) -> str:
 def _write_csvs(tmp: Path, split: str, records: list[ExportRecord]) -> list[str]:
     names = [f"{split}.csv", f"{split}_segments.csv", f"{split}_captions.csv"]
     with open(tmp / names[0], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "split", "media", "sha256", "group", "label", "label_source",
                     "agreement", "annotators", "fps", "frame_count", "segments", "captions"])
         for r in records:
@@ -116,13 +117,13 @@ def _write_csvs(tmp: Path, split: str, records: list[ExportRecord]) -> list[str]
                         r.annotators, r.fps or "", "" if r.frame_count is None else r.frame_count,
                         len(r.segments), len(r.captions)])
     with open(tmp / names[1], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "index", "label", "start", "end", "start_s", "end_s"])
         for r in records:
             for i, s in enumerate(r.segments):
                 w.writerow([r.clip, i, s.label, s.start, s.end, s.start_s, s.end_s])
     with open(tmp / names[2], "w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
+        w = csvsafe.writer(fh)
         w.writerow(["clip", "index", "text", "source", "start", "end", "start_s", "end_s"])
         for r in records:
             for i, c in enumerate(r.captions):
@@ -234,7 +235,9 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
     stems = _file_names([c.clip_id for c in clips])
     total = len(clips) * (1 + (media_mode is not None) + webvtt)
     done = 0
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
+    remove_stale_partials(out)
+    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.{os.getpid()}-", suffix=".partial",
+                                dir=out.parent))
     if os.name == "posix":
         os.chmod(tmp, 0o755)  # mkdtemp makes it private; the export is an ordinary folder
     try:
@@ -266,7 +269,7 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
         for split, recs in by_split.items():
             with open(tmp / f"{split}.jsonl", "w", encoding="utf-8", newline="\n") as fh:
                 for r in recs:
-                    fh.write(r.model_dump_json() + "\n")
+                    fh.write(jsonl.line(r.model_dump_json()))
             written.append(f"{split}.jsonl")
             if csv_files:
                 written += _write_csvs(tmp, split, recs)
@@ -283,6 +286,41 @@ def write_export(out_dir: str | os.PathLike, plan: ExportPlan, *,
         shutil.rmtree(tmp, ignore_errors=True)
         raise
     return manifest
+
+
+def remove_stale_partials(out: str | os.PathLike) -> list[Path]:
+    """Remove the hidden unfinished folders that a killed export to ``out`` left beside it
+    (``.<name>.<pid>-….partial``, ``.<name>.folds-<pid>``, ``.<name>.replaced-<pid>-…``);
+    those of a process still running are kept. Returns what was removed."""
+    out = Path(out)
+    removed = []
+    if not out.parent.is_dir():
+        return removed
+    pid_at = re.compile(rf"^\.{re.escape(out.name)}\.(?:(\d+)-.*\.partial|.*\.partial|"
+                        rf"folds-(\d+)|replaced-(\d+)-\d+)$")
+    for p in out.parent.iterdir():
+        m = pid_at.match(p.name)
+        if not m or not p.is_dir():
+            continue
+        pid = next((int(g) for g in m.groups() if g), None)
+        if pid is not None and _running(pid):
+            continue
+        shutil.rmtree(p, ignore_errors=True)
+        if not p.exists():
+            removed.append(p)
+    return removed
+
+
+def _running(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:
+        return True  # exists but belongs to someone else
+    return True
 
 
 def _move_into_place(tmp: Path, out: Path) -> None:

@@ -42,15 +42,36 @@ def report(progress: Progress, done: int, total: int) -> None:
         progress(done, total)
 
 
+def shown(path: str | os.PathLike) -> str:
+    """A path as printable text: bytes that are not UTF-8 appear as ``\\xNN`` escapes."""
+    return os.fsencode(path).decode("utf-8", "backslashreplace")
+
+
+def is_text_name(path: str | os.PathLike) -> bool:
+    """True when the path's bytes are valid UTF-8 (OpenCV and the database need text)."""
+    try:
+        os.fsencode(path).decode("utf-8")
+    except UnicodeDecodeError:
+        return False
+    return True
+
+
 def check_media_path(path: str | os.PathLike) -> Path:
     """Reject paths that cannot be a video before OpenCV sees them; return the path."""
     p = Path(path)
+    if not is_text_name(p):
+        raise MediaError(f"{shown(p)}: the file name is not valid UTF-8 text; rename the file")
     if not p.exists():
         raise MediaError(f"{p}: file not found")
     if p.is_dir():
         raise MediaError(f"{p}: is a folder, not a video file")
     if p.stat().st_size == 0:
         raise MediaError(f"{p}: file is empty (0 bytes)")
+    try:  # OpenCV would only say it cannot open the file; this says why
+        with open(p, "rb") as f:
+            f.read(1)
+    except OSError as exc:
+        raise MediaError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
     return p
 
 
@@ -58,5 +79,9 @@ def atomic_write_bytes(target: Path, data: bytes) -> None:
     """Write to a temporary file beside ``target`` and rename it into place (no half-written file)."""
     target.parent.mkdir(parents=True, exist_ok=True)
     tmp = target.with_name(f".{target.name}.{os.getpid()}.{threading.get_ident()}.tmp")
-    tmp.write_bytes(data)
-    os.replace(tmp, target)
+    try:
+        tmp.write_bytes(data)
+        os.replace(tmp, target)
+    except BaseException:
+        tmp.unlink(missing_ok=True)  # a full disk leaves no half-written file behind
+        raise

@@ -9,6 +9,7 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ..errors import RecordError, StaleWriteError
+from ..schema.records import MAX_CAPTION_CHARS
 from ..store.models import (
     Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, utcnow,
 )
@@ -223,9 +224,11 @@ class AnnotateMixin:
 
     def update_caption(self, caption_id: int, text: str | None = None, *,
                        segment: int | None | type(...) = ..., expected_version: int | None = None) -> int:
-        """Change a caption's text and/or segment; returns the new version. With
-        ``expected_version`` a caption changed or deleted meanwhile by someone else raises
-        StaleWriteError."""
+        """Change a caption's text and/or segment; returns the new version. A caption changed
+        or deleted meanwhile by someone else raises StaleWriteError: changed since
+        ``expected_version`` when given, else since this project object last read or wrote it
+        (a caption it never read is written as it is now)."""
+        expected_version = self._expected_caption(caption_id, expected_version)
         def work(s: Session) -> int:
             row = _caption_to_write(s, caption_id, expected_version, "your text was not saved")
             before = row_dict(row)
@@ -244,8 +247,10 @@ class AnnotateMixin:
         return self._write(work)
 
     def delete_caption(self, caption_id: int, *, expected_version: int | None = None) -> None:
-        """Delete a caption. With ``expected_version`` a caption changed or deleted meanwhile by
-        someone else raises StaleWriteError and nothing is deleted."""
+        """Delete a caption. A caption changed or deleted meanwhile by someone else (since
+        ``expected_version``, else since this object last read it) raises StaleWriteError and
+        nothing is deleted."""
+        expected_version = self._expected_caption(caption_id, expected_version)
         def work(s: Session) -> None:
             row = _caption_to_write(s, caption_id, expected_version, "nothing was deleted")
             before = row_dict(row)
@@ -253,6 +258,11 @@ class AnnotateMixin:
             s.flush()
             self._log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
         self._write(work)
+
+    def _expected_caption(self, caption_id: int, expected_version: int | None) -> int | None:
+        if expected_version is not None:
+            return expected_version
+        return self.seen_caption_versions.get(caption_id)
 
     def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
@@ -334,4 +344,12 @@ def _caption_to_write(s: Session, caption_id: int, expected_version: int | None,
 def _caption_text(text: str) -> str:
     if not isinstance(text, str) or not text.strip():
         raise RecordError("caption text is blank")
+    check_caption_length(text)
     return text
+
+
+def check_caption_length(text: str, what: str = "caption") -> None:
+    """RecordError when ``text`` is longer than the one caption limit (every door uses it)."""
+    if len(text) > MAX_CAPTION_CHARS:
+        raise RecordError(f"{what} is {len(text):,} characters long; the limit is "
+                          f"{MAX_CAPTION_CHARS:,} — shorten it (nothing was saved)")

@@ -8,16 +8,20 @@ from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import Any, TypeVar
 
-from sqlalchemy import Engine, inspect, select
-from sqlalchemy.orm import Session
+from sqlalchemy import Engine, event, inspect, select, text
+from sqlalchemy.exc import DBAPIError
+from sqlalchemy.orm import Session, object_session
 from sqlalchemy.orm.exc import StaleDataError
 
 from ..errors import ProjectError, RecordError, StaleWriteError
 from ..schema.settings import ProjectSettings
-from ..store import db
-from ..store.models import Annotator, Clip, Edit, Label
+from ..store import db, sqlite_check
+from ..store.models import Annotator, Caption, Clip, Edit, Label
 
 T = TypeVar("T")
+SEEN_LIMIT = 200_000  # caption versions remembered per open project
+SEEN_KEY = "seen_caption_versions"
+MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
 
 
 class ProjectBase:
@@ -29,9 +33,16 @@ class ProjectBase:
         self.user: str | None = None
         #: id of the last edit-history row written by this object (for undo stacks)
         self.last_edit_ids: list[int] = []
+        #: the background page check of a SQLite file (set by open); writes wait for it
+        self._page_check = None
+        #: caption id -> the version this object last read or wrote: a change without an
+        #: explicit expected version is checked against it (a stale write is refused)
+        self.seen_caption_versions: dict[int, int] = {}
 
     # ---- lifetime ---------------------------------------------------------------------
     def close(self) -> None:
+        if self._page_check is not None:
+            self._page_check.stop()
         self.engine.dispose()
 
     def __enter__(self):
@@ -50,12 +61,16 @@ class ProjectBase:
     # ---- transactions -----------------------------------------------------------------
     def _write(self, fn: Callable[[Session], T]) -> T:
         """Run ``fn`` in one write transaction (retried while SQLite reports busy)."""
+        if self._page_check is not None:  # never write into a damaged file
+            self._page_check.verdict()
         def attempt() -> T:
             edits: list[int] = []
             try:
                 with db.transaction(self._writer) as s:
                     s.info["edits"] = edits
+                    s.info[SEEN_KEY] = self.seen_caption_versions
                     out = fn(s)
+                self._forget_old_versions()
             except StaleDataError:
                 raise StaleWriteError("someone else changed this item since you loaded it; "
                                       "your change was not saved — reload and try again") from None
@@ -63,9 +78,30 @@ class ProjectBase:
             return out
         return db.with_retry(attempt)
 
+    def check_writable(self, what: str) -> None:
+        """ProjectError before ``what`` starts when the database cannot take a write (a
+        read-only file or folder), so a command never does its work and then fails to record
+        it. Costs one empty write transaction."""
+        if self.engine.dialect.name != "sqlite":
+            return
+        try:
+            self._write(lambda s: s.execute(text("UPDATE settings SET key = key WHERE 0")))
+        except DBAPIError as exc:
+            reason = sqlite_check.explain(exc, self.folder) or str(exc.orig or exc).splitlines()[0]
+            raise ProjectError(f"{what}: not started, {reason}") from None
+
     def _read(self, fn: Callable[[Session], T]) -> T:
         with db.transaction(self.engine) as s:
-            return fn(s)
+            s.info[SEEN_KEY] = self.seen_caption_versions
+            out = fn(s)
+        self._forget_old_versions()
+        return out
+
+    def _forget_old_versions(self) -> None:
+        seen = self.seen_caption_versions
+        if len(seen) > SEEN_LIMIT:  # forget the oldest half rather than grow without end
+            for key in list(seen)[:len(seen) // 2]:
+                del seen[key]
 
     # ---- paths ------------------------------------------------------------------------
     @property
@@ -101,9 +137,9 @@ class ProjectBase:
             return ref
         row = None
         if isinstance(ref, int) and not isinstance(ref, bool):
-            row = s.get(Clip, ref)
+            row = s.get(Clip, ref) if 0 < ref <= MAX_ID else None
         elif isinstance(ref, str):
-            if ref.isdigit():
+            if ref.isascii() and ref.isdigit() and len(ref) <= 19 and int(ref) <= MAX_ID:
                 row = s.get(Clip, int(ref))
             if row is None:
                 rel = PurePosixPath(ref.replace("\\", "/"))
@@ -122,7 +158,7 @@ class ProjectBase:
         if ref is None:
             ref = self.user
         if isinstance(ref, int) and not isinstance(ref, bool):
-            row = s.get(Annotator, ref)
+            row = s.get(Annotator, ref) if 0 < ref <= MAX_ID else None
         else:
             row = s.scalar(select(Annotator).where(Annotator.name == str(ref)))
         if row is None:
@@ -154,6 +190,33 @@ class ProjectBase:
         s.flush()
         s.info.setdefault("edits", []).append(e.id)
         return e
+
+
+# Every caption row a project's session loads or writes: its version is remembered in the
+# project's ``seen_caption_versions`` (the session carries that dict in ``info``).
+@event.listens_for(Caption, "load")
+@event.listens_for(Caption, "refresh")
+def _caption_read(target: Caption, context: Any, *_attrs: Any) -> None:
+    seen = context.session.info.get(SEEN_KEY) if context.session is not None else None
+    if seen is not None and target.version is not None:
+        seen[target.id] = target.version
+
+
+@event.listens_for(Caption, "after_insert")
+@event.listens_for(Caption, "after_update")
+def _caption_written(_mapper: Any, _conn: Any, target: Caption) -> None:
+    s = object_session(target)
+    seen = s.info.get(SEEN_KEY) if s is not None else None
+    if seen is not None and target.version is not None:
+        seen[target.id] = target.version
+
+
+@event.listens_for(Caption, "after_delete")
+def _caption_deleted(_mapper: Any, _conn: Any, target: Caption) -> None:
+    s = object_session(target)
+    seen = s.info.get(SEEN_KEY) if s is not None else None
+    if seen is not None:  # deleted by this project itself: nothing stale to report later
+        seen.pop(target.id, None)
 
 
 def row_dict(obj: Any) -> dict[str, Any]:

@@ -15,9 +15,12 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
-from ..media.copy_in import copy_videos, free_folder
+from ..export.csvsafe import read_cell
+from ..media._common import shown
+from ..media.copy_in import copy_target, copy_videos
+from ..media.scan import find_videos
 from ..errors import RecordError
-from ..schema.settings import LabelSpec
+from ..schema.settings import LabelSpec, check_name_text
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
 from .base import row_dict
 
@@ -153,6 +156,10 @@ class CatalogMixin:
         name = (name or "").strip()
         if not name:
             raise RecordError("annotator name is empty")
+        try:
+            check_name_text(name, "annotator name")
+        except ValueError as exc:
+            raise RecordError(str(exc)) from None
         if role not in ROLES:
             raise RecordError(f"annotator {name!r}: role must be one of {', '.join(ROLES)}, not {role!r}")
 
@@ -232,9 +239,10 @@ class CatalogMixin:
             if "group" not in pattern.groupindex:
                 raise RecordError(f"group pattern {group_pattern!r}: needs a named group (?P<group>...)")
         groups = _read_group_csv(group_csv) if group_csv else {}
-        files = sorted(p for p in base.rglob("*") if p.suffix.lower() in media.VIDEO_SUFFIXES and p.is_file())
+        found = find_videos(base)  # links, unreadable folders and non-UTF-8 names set aside
+        files = found.files
         known = set(self._read(lambda s: list(s.scalars(select(Clip.path)))))
-        report = IngestReport()
+        report = IngestReport(skipped=[(_shown_below(self.media_root, p), why) for p, why in found.skipped])
         for i, path in enumerate(files):
             if progress:
                 progress(i, len(files))
@@ -259,16 +267,19 @@ class CatalogMixin:
 
     def copy_media_in(self, source: str | os.PathLike, *, cancel: Any = None,
                       progress: Progress | None = None) -> Path:
-        """Copy the videos below ``source``, a folder outside the media root, into a new folder
-        of the media root named after it (``name``, ``name-2``…), keeping sub-folders; all or
-        nothing. Returns the new folder; :meth:`add_media` on it adds the clips."""
+        """Copy the videos below ``source``, a folder outside the media root, into a folder of
+        the media root named after it (``name``, ``name-2``…), keeping sub-folders; all or
+        nothing. Copying the same source again resumes in the same folder (files already there
+        and identical are kept), so a retry after a kill makes no second copy. Returns the
+        folder; :meth:`add_media` on it adds the clips (those present already are not added
+        twice)."""
         src = Path(os.path.realpath(source))
         root = Path(os.path.realpath(self.media_root))
         if src == root or root in src.parents:
             raise RecordError(f"{source}: already inside the media root {self.media_root}; "
                               "add it without copying")
         root.mkdir(parents=True, exist_ok=True)
-        dest = free_folder(root, src.name or "videos")
+        dest = copy_target(root, src.name or "videos", src)  # an interrupted copy is resumed
         try:
             copy_videos(src, dest, cancel=cancel, progress=progress)
         except (media.MediaError, OSError) as exc:
@@ -352,6 +363,15 @@ def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
     return info, digest
 
 
+def _shown_below(root: Path, path: Path) -> str:
+    """``path`` relative to the media root where it lies below it, as printable text."""
+    try:
+        path = path.relative_to(root)
+    except ValueError:
+        pass
+    return shown(path.as_posix())
+
+
 def _media_problem(path: Path, exc: Exception) -> str:
     if isinstance(exc, OSError):
         return f"{path}: {exc.strerror or exc}"
@@ -368,7 +388,11 @@ def _read_group_csv(path: str | os.PathLike) -> dict[str, str]:
             for line, row in enumerate(reader, start=2):
                 if not row["path"]:
                     raise RecordError(f"{path}:{line}: path is empty")
-                out[row["path"].replace("\\", "/")] = row["group"] or None
+                out[read_cell(row["path"]).replace("\\", "/")] = read_cell(row["group"] or "") or None
     except OSError as exc:
         raise RecordError(f"{path}: {exc.strerror or exc}") from None
+    except UnicodeDecodeError as exc:
+        raise RecordError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    except csv.Error as exc:
+        raise RecordError(f"{path}: not a readable CSV file ({exc})") from None
     return out

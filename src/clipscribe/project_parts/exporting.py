@@ -118,6 +118,9 @@ class ExportingMixin:
         """Write a planned export atomically; remember its assignment for the next export.
         Blocking leakage findings stop it unless ``override_reason`` is given (recorded)."""
         self._require_lead("export")
+        self.check_writable("export")  # the export is recorded in the project: check first
+        #: unfinished folders of an earlier, killed export to the same place, removed now
+        self.last_export_cleaned = export.remove_stale_partials(out_dir)
         override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
         manifest = export.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt,
                                        override=override, overwrite=overwrite,
@@ -128,7 +131,7 @@ class ExportingMixin:
             s.merge(Setting(key=ASSIGNMENT_KEY, value=assignment))
             self._log(s, "export", "dataset", None, None, None,
                       {"folder": str(out_dir), "clips": len(plan.clips), "override": override_reason})
-        self._write(work)
+        _recorded_or_removed(lambda: self._write(work), Path(out_dir))
         return manifest
 
     def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
@@ -164,6 +167,8 @@ class ExportingMixin:
         out = Path(out_dir)
         if out.exists() and any(out.iterdir()):
             raise RecordError(f"{out}: exists and is not empty")
+        self.check_writable("export")
+        self.last_export_cleaned = export.remove_stale_partials(out)
         blocked = [i + 1 for i, pl in enumerate(plans) if pl.leakage.blocking]
         if blocked and not override_reason:
             raise export.ExportBlocked(plans[blocked[0] - 1].leakage)
@@ -183,8 +188,9 @@ class ExportingMixin:
             if tmp.exists():
                 import shutil
                 shutil.rmtree(tmp, ignore_errors=True)
-        self._write(lambda s: self._log(s, "export", "dataset", None, None, None,
-                                        {"folder": str(out), "folds": len(plans), "override": override_reason}))
+        _recorded_or_removed(lambda: self._write(lambda s: self._log(
+            s, "export", "dataset", None, None, None,
+            {"folder": str(out), "folds": len(plans), "override": override_reason})), out)
         return manifests
 
     def _require_lead(self, what: str) -> None:
@@ -192,6 +198,17 @@ class ExportingMixin:
             raise RecordError(f"only a lead may {what}; {self.user!r} is not a lead")
         if self.is_server:
             self.require_export_right()  # the server decides by the login, not by self.user
+
+
+def _recorded_or_removed(record: Callable[[], Any], out: Path) -> None:
+    """Record a written export in the project; when that fails, remove the export again so
+    the command's failure and its effect agree (nothing half-done is left)."""
+    try:
+        record()
+    except Exception:
+        import shutil
+        shutil.rmtree(out, ignore_errors=True)
+        raise
 
 
 def _manifest_assignment(path: Path) -> dict[str, str]:

@@ -9,6 +9,7 @@ from sqlalchemy.orm import Session
 
 from ..errors import RecordError
 from ..store.models import Annotator, GoldCaption, GoldLabel, GoldSegment, ReviewComment
+from .annotate import check_caption_length
 from .base import require, row_dict
 
 
@@ -76,6 +77,7 @@ class GoldMixin:
         for pos, item in enumerate(captions):
             text, source = (item, None) if isinstance(item, str) else item
             require(bool(text and text.strip()), "gold caption text is blank")
+            check_caption_length(text, f"gold caption {pos + 1}")
             row = GoldCaption(clip_id=c.id, position=pos, text=text, source_caption_id=source, lead_id=who.id)
             s.add(row)
             s.flush()

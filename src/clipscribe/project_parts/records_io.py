@@ -13,6 +13,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from .. import media
+from ..export import csvsafe, jsonl
 from .catalog import probe_media
 from ..errors import RecordError
 from ..schema.records import (
@@ -50,15 +51,43 @@ class RecordsMixin:
         _raise_if(errors, src)
 
         def work(s: Session) -> dict[str, int]:
-            counts = {"clip": 0, "label": 0, "segment": 0, "caption": 0, "gold": 0}
+            counts = {"clip": 0, "label": 0, "segment": 0, "caption": 0, "gold": 0, "duplicate": 0}
+            seen: set[str] = set()
+            labelled: dict[tuple[int, int], tuple[int, str]] = {}  # (clip, annotator) -> (line, label)
             for line, rec in records:
+                key = rec.model_dump_json()
+                if key in seen:  # the same record twice in one file is applied once
+                    counts["duplicate"] += 1
+                    continue
+                seen.add(key)
                 try:
+                    if isinstance(rec, LabelRecord) and self._label_seen(s, rec, line, labelled, src):
+                        counts["duplicate"] += 1
+                        continue
                     counts[rec.type] += self._apply_record(s, rec, probed.get(line))
                 except RecordError as exc:
+                    if str(exc).startswith(f"{src}:"):
+                        raise
                     field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
                     raise RecordError(f"{src}:{line}: field '{field}': {exc}") from None
             return counts
         return self._write(work)
+
+    def _label_seen(self, s: Session, rec: LabelRecord, line: int,
+                    labelled: dict[tuple[int, int], tuple[int, str]], src: Path) -> bool:
+        """True when an earlier line of the file gave this clip and annotator the same label
+        (a duplicate); RecordError naming both lines when it gave a different one."""
+        key = (self._clip(s, rec.clip).id, self._annotator(s, rec.annotator).id)
+        self._label(s, rec.label)  # an unknown label is named as such, before any clash
+        if key not in labelled:
+            labelled[key] = (line, rec.label)
+            return False
+        first, label = labelled[key]
+        if label == rec.label:
+            return True
+        raise RecordError(f"{src}:{line}: field 'label': clip {rec.clip!r} by {rec.annotator!r} is "
+                          f"labelled {label!r} on line {first} and {rec.label!r} on line {line}; "
+                          f"keep one of them — nothing was imported")
 
     def _apply_record(self, s: Session, rec: Any, probed: tuple | None) -> int:
         if isinstance(rec, ClipRecord):
@@ -68,6 +97,8 @@ class RecordsMixin:
             self._insert_clip(s, rel, digest, info, rec.group, rec.source, rec.licence, rec.consent)
             return 1
         if isinstance(rec, LabelRecord):
+            if self._read_label(s, rec.clip, rec.annotator) == rec.label:
+                return 0  # already so: importing a file again changes nothing
             self._set_clip_label(s, rec.clip, rec.annotator, rec.label)
             return 1
         if isinstance(rec, SegmentRecord):
@@ -118,51 +149,76 @@ class RecordsMixin:
                     raise RecordError(f"{src}:1: missing column(s) {', '.join(sorted(missing))}")
                 for line, row in enumerate(reader, start=2):
                     try:
-                        recs.append((line, LabelRecord(clip=row["clip"], annotator=row["annotator"],
-                                                       label=row["label"])))
+                        recs.append((line, LabelRecord(
+                            clip=csvsafe.read_cell(row["clip"] or ""),
+                            annotator=csvsafe.read_cell(row["annotator"] or ""),
+                            label=csvsafe.read_cell(row["label"] or ""))))
                     except ValidationError as exc:
                         errors.extend(_describe(src, line, exc))
         except OSError as exc:
             raise RecordError(f"{src}: {exc.strerror or exc}") from None
+        except UnicodeDecodeError as exc:
+            raise RecordError(f"{src}: not UTF-8 text ({exc.reason} at byte {exc.start}); "
+                              "save it as UTF-8 — nothing was imported") from None
+        except csv.Error as exc:
+            raise RecordError(f"{src}: not a readable CSV file ({exc}) — nothing was imported") from None
         _raise_if(errors, src)
 
         def work(s: Session) -> dict[str, int]:
+            counts = {"label": 0, "duplicate": 0}
+            labelled: dict[tuple[int, int], tuple[int, str]] = {}
             for line, rec in recs:
                 try:
-                    self._set_clip_label(s, rec.clip, rec.annotator, rec.label)
+                    if self._label_seen(s, rec, line, labelled, src):
+                        counts["duplicate"] += 1
+                        continue
+                    if self._read_label(s, rec.clip, rec.annotator) != rec.label:
+                        self._set_clip_label(s, rec.clip, rec.annotator, rec.label)
+                        counts["label"] += 1
                 except RecordError as exc:
+                    if str(exc).startswith(f"{src}:"):
+                        raise
                     raise RecordError(f"{src}:{line}: {exc}") from None
-            return {"label": len(recs)}
+            return counts
         return self._write(work)
+
+    def _read_label(self, s: Session, clip: Any, annotator: Any) -> str | None:
+        from ..store.models import ClipLabel
+        row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == self._clip(s, clip).id,
+                                               ClipLabel.annotator_id == self._annotator(s, annotator).id))
+        return row.label.name if row is not None else None
 
     # ---- export -----------------------------------------------------------------------
     def iter_records(self):
-        """Every clip, label, segment, caption and gold decision as interchange records."""
+        """Every clip, label, segment, caption and gold decision as interchange records.
+
+        Built from stored rows without validating them again, so a row stored before a limit
+        existed is still written out (an import then names it)."""
         def q(s: Session) -> list[Any]:
             out: list[Any] = []
             for c in s.scalars(select(Clip).order_by(Clip.id)):
-                out.append(ClipRecord(clip=c.path, group=c.group_key, source=c.source,
+                out.append(ClipRecord.model_construct(clip=c.path, group=c.group_key, source=c.source,
                                       licence=c.licence, consent=c.consent))
             return out
         out = self._read(q)
         paths = {c.id: c.path for c in self.clips()}
         segs = {g.id: g for g in self.segments()}
         for clip, who, label in self.clip_labels():
-            out.append(LabelRecord(clip=paths[clip], annotator=who, label=label))
+            out.append(LabelRecord.model_construct(clip=paths[clip], annotator=who, label=label))
         for g in segs.values():
-            out.append(SegmentRecord(clip=paths[g.clip], annotator=g.annotator, label=g.label,
+            out.append(SegmentRecord.model_construct(clip=paths[g.clip], annotator=g.annotator, label=g.label,
                                      start=g.start, end=g.end))
         for c in self.caption_rows():
             seg = segs.get(c.segment) if c.segment else None
-            out.append(CaptionRecord(clip=paths[c.clip], annotator=c.annotator, text=c.text,
+            out.append(CaptionRecord.model_construct(clip=paths[c.clip], annotator=c.annotator, text=c.text,
                                      segment=(seg.start, seg.end) if seg else None))
         gold_caps = self.gold_captions()
         leads = self._read(lambda s: self._gold_leads(s))
         for clip, label in sorted(self.gold_labels().items()):
-            out.append(GoldRecord(clip=paths[clip], annotator=leads[clip], label=label,
+            out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], label=label,
                                   captions=gold_caps.pop(clip, None)))
         for clip, caps in sorted(gold_caps.items()):
-            out.append(GoldRecord(clip=paths[clip], annotator=leads[clip], captions=caps))
+            out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], captions=caps))
         return out
 
     @staticmethod
@@ -174,28 +230,49 @@ class RecordsMixin:
         return out
 
     def export_records(self, path: str | os.PathLike) -> int:
-        """Write every record as JSON Lines (atomically); returns the number of lines."""
+        """Write every record as JSON Lines (atomically); returns the number of lines.
+
+        Rows stored before a limit existed (a caption longer than the caption limit) are written
+        as they are: a dump never fails for the whole project because of one row."""
         recs = self.iter_records()
-        dst = Path(path)
-        tmp = dst.with_name(dst.name + ".tmp")
-        with open(tmp, "w", encoding="utf-8", newline="\n") as f:
+
+        def write(f) -> None:
             for r in recs:
-                f.write(json.dumps(r.model_dump(mode="json", exclude_none=True), ensure_ascii=False) + "\n")
-        os.replace(tmp, dst)
+                f.write(jsonl.line(json.dumps(r.model_dump(mode="json", exclude_none=True),
+                                              ensure_ascii=False)))
+        _write_atomically(Path(path), write, newline="\n")
         return len(recs)
 
     def export_labels_csv(self, path: str | os.PathLike) -> int:
+        """Write every clip label as CSV (``clip,annotator,label``); text cells a spreadsheet
+        would run as a formula get a leading ``'`` (read back by :meth:`import_labels_csv`)."""
         paths = {c.id: c.path for c in self.clips()}
         rows = self.clip_labels()
-        dst = Path(path)
-        tmp = dst.with_name(dst.name + ".tmp")
-        with open(tmp, "w", newline="", encoding="utf-8") as f:
-            w = csv.writer(f)
+
+        def write(f) -> None:
+            w = csvsafe.writer(f)
             w.writerow(["clip", "annotator", "label"])
             for clip, who, label in rows:
                 w.writerow([paths[clip], who, label])
-        os.replace(tmp, dst)
+        _write_atomically(Path(path), write, newline="")
         return len(rows)
+
+
+def _write_atomically(dst: Path, write, *, newline: str) -> None:
+    """Write ``dst`` through a temporary file beside it, renamed into place when complete; on
+    any failure (a full disk, a read-only folder) the temporary file is removed again and the
+    error names the file."""
+    tmp = dst.with_name(dst.name + ".tmp")
+    try:
+        with open(tmp, "w", encoding="utf-8", newline=newline) as f:
+            write(f)
+        os.replace(tmp, dst)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise RecordError(f"{dst}: cannot write ({exc.strerror or exc}); nothing was written") from None
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
 
 
 def _safe_relative(ref: str) -> str:
@@ -214,13 +291,19 @@ def _parse_jsonl(src: Path) -> list[tuple[int, Any]]:
         raise RecordError(f"{src}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
     out: list[tuple[int, Any]] = []
     errors: list[str] = []
-    for line, raw in enumerate(text.splitlines(), start=1):
+    for line, raw in enumerate(jsonl.split(text), start=1):
         if not raw.strip():
             continue
         try:
             obj = json.loads(raw)
         except json.JSONDecodeError as exc:
             errors.append(f"{src}:{line}: not valid JSON ({exc.msg} at column {exc.colno})")
+            continue
+        except RecursionError:
+            errors.append(f"{src}:{line}: not accepted (JSON nested too deeply)")
+            continue
+        except ValueError as exc:  # e.g. an integer with more digits than Python converts
+            errors.append(f"{src}:{line}: not accepted ({exc})")
             continue
         if not isinstance(obj, dict):
             errors.append(f"{src}:{line}: expected a JSON object, got {type(obj).__name__}")

@@ -257,8 +257,8 @@ class TeamMixin:
             s.merge(Setting(key=team.BLIND_KEY, value=bool(blind)))
             self._log(s, "set", "setting", None, None,
                       {"blind": before.value} if before else None, {"blind": bool(blind)})
-        self._write(work)
-        self.update_settings(blind=bool(blind))
+        # the settings file and the database change together or not at all
+        self.update_settings(blind=bool(blind), together_with=lambda: self._write(work))
 
     def blind_mode(self) -> bool:
         row = self._read(lambda s: s.get(Setting, team.BLIND_KEY))

@@ -172,12 +172,16 @@ def interval_chart(title: str, rows: Sequence[tuple[str, float | None, float | N
 
 def bar_chart(title: str, rows: Sequence[tuple[str, float | None, str]], *, unit: str = "",
               fmt: str = "{:.1f}", width: float = 420) -> Figure:
-    """Horizontal bars from zero; rows are (name, value, tip)."""
+    """Horizontal bars from zero, to the right for positive values and to the left for negative
+    ones; rows are (name, value, tip)."""
     left = max([text_width(r[0]) for r in rows] + [60]) + 14
     row_h, top = 26.0, 30.0
     vals = [v for _, v, _ in rows if v is not None and not math.isnan(v)]
     peak = max(vals) if vals else 1.0
+    low, high = min(min(vals, default=0.0), 0.0), max(peak, 0.0)
     plot_w = width - left - 70
+    scale = plot_w / (high - low) if high > low else 0.0
+    zero = left - low * scale  # where a bar starts; negative bars run left of it
     width = max(width, text_width(title, 13) + 12)
     fig = Figure(title, width, top + row_h * len(rows) + 16)
     fig.add(Text(0, 16, title, 13, bold=True))
@@ -187,11 +191,11 @@ def bar_chart(title: str, rows: Sequence[tuple[str, float | None, str]], *, unit
         if v is None or math.isnan(v):
             fig.add(Text(left + 4, y + row_h / 2 + 4, "not measured", 10, "start", C.MUTED))
             continue
-        w = plot_w * (v / peak if peak > 0 else 0)
-        fig.add(Rect(left, y + 5, max(w, 1.5), row_h - 10, C.sequential(0.55 + 0.4 * (v / peak
-                                                                                      if peak else 0)),
-                     tip=tip),
-                Text(left + w + 6, y + row_h / 2 + 4, _num(v, fmt) + unit, 11))
+        w = v * scale  # negative for a negative value
+        biggest = max(high, -low)
+        shade = C.sequential(0.55 + 0.4 * (abs(v) / biggest if biggest > 0 else 0))
+        fig.add(Rect(min(zero, zero + w), y + 5, max(abs(w), 1.5), row_h - 10, shade, tip=tip),
+                Text(zero + max(w, 0) + 6, y + row_h / 2 + 4, _num(v, fmt) + unit, 11))
     return fig
 
 

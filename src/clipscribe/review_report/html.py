@@ -145,8 +145,15 @@ def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: i
 
 def _atomic(path: Path, text: str) -> Path:
     tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(text, encoding="utf-8")
-    os.replace(tmp, path)
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, path)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)  # a full disk leaves no half-written file behind
+        raise OSError(exc.errno, exc.strerror, str(path)) from None
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
     return path
 
 

@@ -1,11 +1,13 @@
 """The board's numbers as CSV tables (one header row, then data; floats written in Python's
-shortest round-trip form so a reader gets back the exact value). No Qt."""
+shortest round-trip form so a reader gets back the exact value; text cells that a spreadsheet
+would run as a formula get a leading ``'``, numbers stay numbers). No Qt."""
 
 from __future__ import annotations
 
-import csv
 import io
 from typing import Any
+
+from ..export import csvsafe
 
 Table = tuple[list[str], list[list[Any]]]
 
@@ -123,18 +125,19 @@ ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
        "throughput": throughput, "trend": trend}
 
 
-def _cell(v: Any) -> str:
+def _cell(v: Any) -> Any:
+    """Numbers stay numbers (a negative value is not text to escape); the rest is text."""
     if v is None:
         return ""
-    if isinstance(v, float):
-        return repr(v)
+    if isinstance(v, (int, float)) and not isinstance(v, bool):
+        return v
     return str(v)
 
 
 def to_csv(table: Table) -> str:
     header, rows = table
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    w = csvsafe.writer(buf, lineterminator="\n")
     w.writerow(header)
     for r in rows:
         w.writerow([_cell(v) for v in r])

@@ -17,6 +17,13 @@ ClipRef = Annotated[
           description="Clip id (as a string) or the media path relative to the media root."),
 ]
 Name = Annotated[str, Field(min_length=1, max_length=200)]
+#: the longest caption clipscribe keeps, in characters; the same limit at every door (API,
+#: window, import), so whatever is stored can be dumped and imported again
+MAX_CAPTION_CHARS = 5000
+CaptionText = Annotated[str, Field(min_length=1, max_length=MAX_CAPTION_CHARS)]
+#: a frame number: a JSON integer (text such as "3" is refused), at most 2**31 - 1
+MAX_FRAME = 2**31 - 1
+Frame = Annotated[int, Field(strict=True, ge=0, le=MAX_FRAME)]
 
 
 class _Record(BaseModel):
@@ -58,8 +65,8 @@ class SegmentRecord(_Record):
     clip: ClipRef
     annotator: Name
     label: Name
-    start: int = Field(ge=0, description="first frame of the segment (0-based)")
-    end: int = Field(gt=0, description="frame after the last frame of the segment")
+    start: int = Field(strict=True, ge=0, le=MAX_FRAME, description="first frame of the segment (0-based)")
+    end: int = Field(strict=True, gt=0, le=MAX_FRAME, description="frame after the last frame of the segment")
 
     @model_validator(mode="after")
     def _ordered(self) -> "SegmentRecord":
@@ -74,8 +81,8 @@ class CaptionRecord(_Record):
     type: Literal["caption"] = "caption"
     clip: ClipRef
     annotator: Name
-    text: str = Field(min_length=1, max_length=5000)
-    segment: tuple[int, int] | None = None
+    text: CaptionText
+    segment: tuple[Frame, Frame] | None = None
 
     @field_validator("text")
     @classmethod
@@ -92,7 +99,7 @@ class GoldRecord(_Record):
     clip: ClipRef
     annotator: Name = Field(description="the lead who settled it")
     label: Name | None = None
-    captions: list[str] | None = None
+    captions: list[CaptionText] | None = None
 
 
 Record = Annotated[

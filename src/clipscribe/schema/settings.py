@@ -3,14 +3,19 @@
 from __future__ import annotations
 
 import re
+import unicodedata
+from pathlib import PurePosixPath, PureWindowsPath
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict, Field, field_validator
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 SETTINGS_FILE = "clipscribe-project.json"
 SETTINGS_FORMAT = "clipscribe-project/1"
 
 _HEX_COLOUR = re.compile(r"^#[0-9a-fA-F]{6}$")
+#: top-level folders of a Unix system that never hold a project's videos
+_SYSTEM_FOLDERS = frozenset({"proc", "sys", "dev", "run", "boot", "etc", "usr", "bin", "sbin",
+                             "lib", "lib32", "lib64", "libx32"})
 
 
 class LabelSpec(BaseModel):
@@ -34,7 +39,17 @@ class LabelSpec(BaseModel):
     def _name(cls, v: str) -> str:
         if v != v.strip():
             raise ValueError("label name has leading or trailing whitespace")
+        check_name_text(v, "label name")
         return v
+
+
+def check_name_text(v: str, what: str) -> None:
+    """ValueError when a name holds a line break or another control character: names are
+    shown on one line, in CSV cells and in file names."""
+    bad = next((ch for ch in v if unicodedata.category(ch) in ("Cc", "Zl", "Zp")), None)
+    if bad is not None:
+        kind = "a line break" if bad in "\n\r\x0b\x0c\x85\u2028\u2029" else "a control character"
+        raise ValueError(f"{what} {v!r} holds {kind} (U+{ord(bad):04X}); names are one line of text")
 
 
 class CaptionGuideline(BaseModel):
@@ -46,6 +61,13 @@ class CaptionGuideline(BaseModel):
     max_words: int = Field(default=40, ge=1)
     banned_openings: list[str] = Field(
         default_factory=lambda: ["there is", "there are", "this is", "a video of", "in this video"])
+
+    @model_validator(mode="after")
+    def _words_in_order(self) -> "CaptionGuideline":
+        if self.min_words > self.max_words:
+            raise ValueError(f"min_words ({self.min_words}) is greater than max_words "
+                             f"({self.max_words}); no caption could pass")
+        return self
 
 
 class ProjectSettings(BaseModel):
@@ -61,3 +83,26 @@ class ProjectSettings(BaseModel):
     segments_may_overlap: bool = False
     require_consent: bool = False
     caption_guideline: CaptionGuideline = Field(default_factory=CaptionGuideline)
+
+    @field_validator("media_root")
+    @classmethod
+    def _media_root(cls, v: str) -> str:
+        """A relative media root stays inside the project folder; an absolute one is shared
+        storage and must be a folder of its own, never a file-system root or a system folder
+        (a scan of it would walk the whole machine)."""
+        if not v.strip():
+            raise ValueError("media root is empty")
+        posix, win = PurePosixPath(v.replace("\\", "/")), PureWindowsPath(v)
+        if not (posix.is_absolute() or win.is_absolute() or win.drive):
+            if ".." in posix.parts:
+                raise ValueError(f"media root {v!r} leaves the project folder; keep it inside, or "
+                                 "give the absolute path of a shared-storage folder")
+            return v
+        if posix.as_posix() in ("/", "//") or (win.drive and str(win) in (win.anchor, win.drive)):
+            raise ValueError(f"media root {v!r} is the root of a file system; give the folder "
+                             "on shared storage that holds the videos")
+        top = posix.parts[1] if len(posix.parts) > 1 else ""
+        if not win.drive and top in _SYSTEM_FOLDERS:
+            raise ValueError(f"media root {v!r} lies in the system folder /{top}; give the folder "
+                             "on shared storage that holds the videos")
+        return v

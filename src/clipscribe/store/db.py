@@ -13,6 +13,7 @@ from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import TypeVar
+from urllib.parse import quote
 
 from alembic import command
 from alembic.config import Config
@@ -31,7 +32,8 @@ T = TypeVar("T")
 
 
 def sqlite_url(path: Path) -> str:
-    return f"sqlite+pysqlite:///{path}"
+    # quoted, so a folder name holding "?", "#" or "%" is not read as part of the URL
+    return "sqlite+pysqlite:///" + quote(str(path), safe="/:\\ ")
 
 
 def make_engine(url: str) -> Engine:

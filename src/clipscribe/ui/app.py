@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 import os
+import signal
 import sys
+import threading
+from contextlib import contextmanager
 from pathlib import Path
 
 from PySide6.QtCore import QCoreApplication, QSettings, QTimer
@@ -63,6 +66,50 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
     """
     from . import start
     app = application()
+    with _quit_on_interrupt(app) as interrupted:
+        code = _run(app, start, folder, user=user, view=view, screenshot=screenshot,
+                    password=password, note=note)
+    if interrupted():
+        print("clipscribe: interrupted; the window was closed and work in it saved",
+              file=sys.stderr)
+        return 130
+    return code
+
+
+@contextmanager
+def _quit_on_interrupt(app: QApplication):
+    """Ctrl+C in the terminal closes the windows the normal way (typing is saved, jobs are
+    stopped) and ends the event loop; a second Ctrl+C ends it even if a window refused to
+    close. Yields a function telling whether that happened."""
+    hits = []
+
+    def finish(first: bool) -> None:
+        if first:
+            app.closeAllWindows()
+            if any(w.isVisible() for w in app.topLevelWidgets()):
+                return  # a window asked something first; it closes when answered
+        app.exit(130)
+
+    def on_interrupt(_signum, _frame) -> None:
+        hits.append(1)
+        # from the event loop (also one that starts later), never from inside a handler
+        QTimer.singleShot(0, lambda first=len(hits) == 1: finish(first))
+
+    if threading.current_thread() is not threading.main_thread():
+        yield lambda: False
+        return
+    old = signal.signal(signal.SIGINT, on_interrupt)
+    tick = QTimer()  # hands control to Python now and then, so the handler can run
+    tick.timeout.connect(lambda: None)
+    tick.start(200)
+    try:
+        yield lambda: bool(hits)
+    finally:
+        tick.stop()
+        signal.signal(signal.SIGINT, old)
+
+
+def _run(app: QApplication, start, folder, *, user, view, screenshot, password, note) -> int:
     code = 0
     while True:
         if folder is None:

@@ -15,6 +15,8 @@ import unicodedata
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
+from ..schema.records import MAX_CAPTION_CHARS
+
 # Han ideographs (with extensions and compatibility forms), kana, bopomofo, and CJK symbols
 # that are themselves words. Hangul is spaced like English and is counted by spaces.
 _CJK = re.compile(
@@ -26,7 +28,7 @@ _SPACE_RUN = re.compile(r"\s{2,}")
 @dataclass(frozen=True, slots=True)
 class Finding:
     """One thing a caption breaks: a short machine code and a plain-English message."""
-    code: str      # too_short / too_long / banned_opening / duplicate / whitespace
+    code: str      # too_short / too_long / too_many_characters / banned_opening / duplicate / whitespace
     message: str
 
 
@@ -75,6 +77,9 @@ def check_caption(text: str, *, min_words: int, max_words: int,
         out.append(Finding("too_short", f"{words} words; the guideline asks for at least {min_words}"))
     if words > max_words:
         out.append(Finding("too_long", f"{words} words; the guideline allows at most {max_words}"))
+    if len(text) > MAX_CAPTION_CHARS:
+        out.append(Finding("too_many_characters", f"{len(text):,} characters; a caption holds at "
+                           f"most {MAX_CAPTION_CHARS:,}, so this one cannot be saved"))
     for opening in banned_openings:
         if starts_with(text, opening):
             out.append(Finding("banned_opening", f"starts with “{opening}”; describe the action instead"))

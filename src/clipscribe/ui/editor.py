@@ -11,7 +11,10 @@ from typing import Any
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
-from ..errors import RecordError, ServerBusyError, StaleWriteError
+from sqlalchemy.exc import DBAPIError
+
+from ..errors import ProjectError, RecordError, ServerBusyError, StaleWriteError
+from ..store.sqlite_check import explain
 from .undo import EditCommand
 
 
@@ -42,7 +45,7 @@ class ClipEditor(QObject):
         self.project = project
         self.undo_stack = QUndoStack(self)
         self.clip: int | None = None
-        self.last_refusal: RecordError | ServerBusyError | None = None
+        self.last_refusal: Exception | None = None
 
     @property
     def me(self) -> str:
@@ -60,6 +63,11 @@ class ClipEditor(QObject):
         except (RecordError, ServerBusyError) as exc:  # busy: a lock elsewhere, try again
             self.last_refusal = exc
             self.notSaved.emit(stale(exc) if stale and isinstance(exc, StaleWriteError) else str(exc))
+            return None
+        except (ProjectError, DBAPIError) as exc:  # a damaged, read-only, full or busy database
+            self.last_refusal = exc
+            known = explain(exc) if isinstance(exc, DBAPIError) else None
+            self.notSaved.emit(known or str(exc).splitlines()[0])
             return None
         ids = list(self.project.last_edit_ids)
         if undoable and ids:

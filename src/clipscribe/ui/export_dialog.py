@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
     QProgressBar, QPushButton, QVBoxLayout, QWidget,
 )
 
+from ..errors import ProjectError
 from ..media import JobCancelled
 from .export_options import ExportOptions
 from .export_results import CheckResults
@@ -39,10 +40,12 @@ def _plain_errors(fn):
             return fn(cancel=cancel, progress=progress)
         except (JobCancelled, export.ExportCancelled):
             raise JobCancelled("cancelled") from None
-        except (export.ExportError, ValueError, OSError, LookupError) as exc:
+        except (export.ExportError, ValueError, OSError, LookupError, ProjectError) as exc:
             raise ValueError(str(exc) or type(exc).__name__) from None
         except Exception as exc:  # a bug; still one line, the details stay in the exception
-            raise ValueError(f"unexpected {type(exc).__name__}: {exc}") from None
+            from ..store.sqlite_check import explain
+            known = explain(exc)  # a read-only, full, damaged or busy database
+            raise ValueError(known or f"unexpected {type(exc).__name__}: {exc}") from None
     return run
 
 
@@ -316,6 +319,9 @@ class ExportDialog(ExportOptions, QDialog):
         clips = len(self.plans[0].assignment)
         text = (f"Wrote {len(manifests)} rotating splits ({files} files, {clips} clips each) "
                 f"to {folder}" if folds else f"Wrote {files} files ({clips} clips) to {folder}")
+        if getattr(self.project, "last_export_cleaned", None):
+            text += (f"; removed {len(self.project.last_export_cleaned)} unfinished folder(s) "
+                     "an earlier, stopped export left there")
         self._say(text + ".", "ok")
         self._status(text)
         self.exported.emit(folder, files)

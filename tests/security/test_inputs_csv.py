@@ -1,0 +1,109 @@
+"""Spreadsheet formula injection: every CSV clipscribe writes escapes text cells that a
+spreadsheet would run as a formula (a leading ``'``, common practice per OWASP's "CSV Injection"
+guidance), keeps numbers as numbers, and leaves JSON Lines exact."""
+
+from __future__ import annotations
+
+import csv
+import json
+import re
+
+import pytest
+
+from clipscribe import Project
+from clipscribe.export import csvsafe
+from clipscribe.review_report import write_report
+
+from ._fixtures import small_project
+
+HOSTILE = ["=HYPERLINK(\"http://example.invalid\",\"open\")", "+1+2", "-3+4", "@SUM(A1:A9)",
+           "\t=1+1", "\r=1+1"]
+FORMULA_START = tuple("=+-@\t\r")
+NUMBER = re.compile(r"-?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?|-?inf|nan")
+
+
+@pytest.fixture
+def hostile(tmp_path, make_video):
+    """A project whose captions, label names and group keys all start like formulas."""
+    with small_project(tmp_path / "proj", make_video, clips=4) as p:
+        p.define_labels(["-stack", "=cmd", "pick up"])
+        for c in p.clips():
+            p.add_caption(c.id, "ann-a", HOSTILE[c.id - 1] + " the arm lifts it")
+            p.add_caption(c.id, "ann-b", HOSTILE[c.id + 1])
+            p.set_clip_label(c.id, "ann-a", "-stack" if c.id % 2 else "=cmd")
+            p.set_clip_label(c.id, "ann-b", "-stack" if c.id % 2 else "=cmd")
+        yield p
+
+
+def _cells(path):
+    with open(path, newline="", encoding="utf-8") as f:
+        return [cell for row in csv.reader(f) for cell in row]
+
+
+def _assert_no_live_formula(path):
+    cells = _cells(path)
+    assert cells, path
+    live = [c for c in cells if c.startswith(FORMULA_START) and not NUMBER.fullmatch(c)]
+    assert not live, f"{path.name}: cells a spreadsheet would run: {live[:3]}"
+    return cells
+
+
+def test_export_csvs_escape_text_and_jsonl_keeps_it(hostile, tmp_path):
+    plan = hostile.plan_export({"train": 0.5, "test": 0.5}, min_agreement=0.0)
+    hostile.write_export(tmp_path / "out", plan, override_reason="test data", webvtt=True)
+    out = tmp_path / "out"
+    csvs = sorted(out.glob("*.csv"))
+    assert len(csvs) == 6
+    escaped = []
+    for f in csvs:
+        escaped += [c for c in _assert_no_live_formula(f) if c.startswith("'")]
+    assert any(c.startswith("'=HYPERLINK") for c in escaped)
+    assert "'-stack" in escaped and "'=cmd" in escaped
+    assert {"'@SUM(A1:A9)", "'\t=1+1", "'\r=1+1"} <= set(escaped)
+    # the JSON Lines files are the lossless format: the text is there exactly as typed
+    texts = {c["text"] for f in out.glob("*.jsonl") for line in f.read_text("utf-8").splitlines()
+             for c in json.loads(line)["captions"]}
+    assert set(HOSTILE) <= texts | {t.split(" the arm")[0] for t in texts}
+
+
+def test_numbers_stay_numbers(hostile, tmp_path):
+    plan = hostile.plan_export({"train": 0.5, "test": 0.5}, min_agreement=0.0)
+    hostile.write_export(tmp_path / "out", plan, override_reason="test data")
+    rows = list(csv.DictReader(open(next((tmp_path / "out").glob("train.csv")), encoding="utf-8")))
+    assert rows and all(float(r["agreement"]) >= 0 for r in rows)  # written as plain numbers
+    # a negative number is a number, not text: written without a quote
+    assert csvsafe.safe_row([-0.12, -3, "-0.12"]) == [-0.12, -3, "'-0.12"]
+
+
+def test_report_tables_escape_text_but_not_negative_numbers(hostile, tmp_path):
+    files = write_report(hostile, tmp_path / "report", n_boot=20)
+    assert files.csv
+    numbers = []
+    for f in files.csv.values():
+        for cell in _assert_no_live_formula(f):
+            try:
+                numbers.append(float(cell))
+            except ValueError:
+                pass
+    assert numbers  # the tables still hold numbers a spreadsheet reads as numbers
+
+
+def test_dump_labels_csv_escapes_and_imports_back_exactly(hostile, tmp_path):
+    out = tmp_path / "labels.csv"
+    assert hostile.export_labels_csv(out) == 8
+    cells = _assert_no_live_formula(out)
+    assert "'-stack" in cells and "'=cmd" in cells
+    before = sorted(hostile.clip_labels())
+    with Project.open(hostile.folder, user="lead") as q:
+        for c in q.clips():
+            q.set_clip_label(c.id, "ann-a", None)
+            q.set_clip_label(c.id, "ann-b", None)
+        q.import_records(out)
+        assert sorted(q.clip_labels()) == before  # the quote written is the quote removed
+
+
+@pytest.mark.parametrize("value", ["=1+1", "'=1+1", "''@x", "-", "plain", "'plain", "", "\t", "a=b"])
+def test_escape_round_trips(value):
+    written = csvsafe.safe_cell(value)
+    assert not written.startswith(FORMULA_START)
+    assert csvsafe.read_cell(written) == value
