@@ -14,7 +14,7 @@ from sqlalchemy.orm import Session
 from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import GoldCaption
+from ..store.models import Annotator, Assignment, GoldCaption
 from .annotate import CaptionInfo, SegmentInfo
 
 #: a pause between two edits longer than this is not counted as working time (our choice)
@@ -69,6 +69,7 @@ class ClipComparison:
     gold_captions: list[GoldCaptionInfo]
     comments: list[tuple[int, str | None, str, str]]
     scores: dict[str, float] = field(default_factory=dict)
+    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
 
 
 @dataclass(frozen=True, slots=True)
@@ -124,6 +125,19 @@ class ReviewMixin:
 
     def _workers(self) -> set[str]:
         return {a.name for a in self.annotators() if a.role != "lead"}
+
+    def skips(self, clip: Any = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
+        name. A skip is not a label: agreement and exports leave the skipper's label out."""
+        def q(s: Session) -> list[tuple[int, str, str]]:
+            stmt = (select(Assignment.clip_id, Annotator.name, Assignment.reason)
+                    .join(Annotator, Annotator.id == Assignment.annotator_id)
+                    .where(Assignment.state == "skipped")
+                    .order_by(Assignment.clip_id, Annotator.name))
+            if clip is not None:
+                stmt = stmt.where(Assignment.clip_id == self._clip(s, clip).id)
+            return [(c, a, r or "") for c, a, r in s.execute(stmt)]
+        return self._read(q)
 
     # ---- the queue ----------------------------------------------------------------------
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
