@@ -95,13 +95,30 @@ class GoldRecord(_Record):
     captions: list[str] | None = None
 
 
+class CommentRecord(_Record):
+    """A lead's comment on a clip, addressed to one annotator (``to``) or to no one."""
+
+    type: Literal["comment"] = "comment"
+    clip: ClipRef
+    annotator: Name = Field(description="the lead who wrote it")
+    to: Name | None = Field(default=None, description="the annotator it is addressed to")
+    text: str = Field(min_length=1, max_length=5000)
+
+    @field_validator("text")
+    @classmethod
+    def _not_blank(cls, v: str) -> str:
+        if not v.strip():
+            raise ValueError("comment text is blank")
+        return v
+
+
 Record = Annotated[
-    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord],
+    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
-    "caption": CaptionRecord, "gold": GoldRecord,
+    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 
