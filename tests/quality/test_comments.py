@@ -117,3 +117,12 @@ def test_clip_panel_shows_the_comments_with_a_new_mark_until_read(qtbot, noted, 
         w.open_clip(other)
         assert other != clip and not panel.comment_box.isVisible()
         w.close()
+
+
+def test_a_blank_comment_record_is_refused_with_line_and_field(noted, tmp_path):
+    p, clip = noted
+    bad = tmp_path / "blank.jsonl"
+    bad.write_text(json.dumps({"type": "comment", "clip": str(clip), "annotator": "lead",
+                               "text": "   "}) + "\n")
+    with pytest.raises(RecordError, match="blank.jsonl:1: field 'text': .*comment text is blank"):
+        p.import_records(bad)

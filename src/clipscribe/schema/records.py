@@ -31,6 +31,13 @@ class _Record(BaseModel):
         return str(v) if isinstance(v, int) else v
 
 
+def _refuse_blank(cls, v: str) -> str:
+    """Text fields: all white space is as good as empty ("caption text is blank")."""
+    if not v.strip():
+        raise ValueError(f"{cls.model_fields['type'].default} text is blank")
+    return v
+
+
 class ClipRecord(_Record):
     """A media file to register (path relative to the media root)."""
 
@@ -77,12 +84,7 @@ class CaptionRecord(_Record):
     text: str = Field(min_length=1, max_length=5000)
     segment: tuple[int, int] | None = None
 
-    @field_validator("text")
-    @classmethod
-    def _not_blank(cls, v: str) -> str:
-        if not v.strip():
-            raise ValueError("caption text is blank")
-        return v
+    _not_blank = field_validator("text")(classmethod(_refuse_blank))
 
 
 class GoldRecord(_Record):
@@ -104,12 +106,7 @@ class CommentRecord(_Record):
     to: Name | None = Field(default=None, description="the annotator it is addressed to")
     text: str = Field(min_length=1, max_length=5000)
 
-    @field_validator("text")
-    @classmethod
-    def _not_blank(cls, v: str) -> str:
-        if not v.strip():
-            raise ValueError("comment text is blank")
-        return v
+    _not_blank = field_validator("text")(classmethod(_refuse_blank))
 
 
 Record = Annotated[
