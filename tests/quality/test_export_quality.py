@@ -203,3 +203,28 @@ def test_leakage_findings_name_the_media_files(team, tmp_path, capsys):
     main(["export", str(folder), str(tmp_path / "o"), "--dry-run"])
     out = capsys.readouterr().out
     assert "bench-3/copy.mp4" in out and "clips '" not in out
+
+
+def test_clips_of_their_own_group_and_label_still_fill_every_split():
+    # 8 clips, no groups, 8 different labels: each label's quota (0.7, 0.15, 0.15 of one clip)
+    # rounds to nothing, so the one clip goes where the split is furthest below its size
+    # (5.6, 1.2 and 1.2 clips wanted): worked by hand, train takes 5, then val, test, train
+    items = [(str(i), None, f"label-{i}") for i in range(8)]
+    res = split_clips(items, {"train": 0.7, "val": 0.15, "test": 0.15})
+    counts = {s: list(res.assignment.values()).count(s) for s in ("train", "val", "test")}
+    assert counts == {"train": 6, "val": 1, "test": 1}
+    assert not [w for w in split_balance(res.assignment, res.ratios, {})
+                if w.kind == "split-empty"]
+
+
+def test_single_clip_groups_keep_each_label_within_its_rounded_quota():
+    # largest-remainder apportionment: every split gets the floor or the ceiling of its quota
+    import math
+    ratios = {"train": 0.7, "val": 0.15, "test": 0.15}
+    items = [(str(i), None, f"l{i % 5}") for i in range(53)]
+    res = split_clips(items, ratios)
+    for lab in {x for _, _, x in items}:
+        n = sum(1 for _, _, x in items if x == lab)
+        for s, r in ratios.items():
+            got = sum(1 for c, _, x in items if x == lab and res.assignment[c] == s)
+            assert math.floor(r * n) <= got <= math.ceil(r * n), (lab, s, got, r * n)
