@@ -80,12 +80,20 @@ def cmd_add_media(args: argparse.Namespace) -> int:
                 raise ProjectError("give either FOLDER or --copy-from, not both")
             folder = p.copy_media_in(args.copy_from, progress=Bar("copying videos (bytes)"))
             print(f"copied into {folder}")
-        rep = p.add_media(folder, group_pattern=args.group_pattern, group_csv=args.group_csv,
+        from .project_parts.catalog import BY_FOLDER
+        pattern = args.group_pattern
+        if pattern is None and args.group_csv is None and args.group_by == "folder":
+            pattern = BY_FOLDER
+        rep = p.add_media(folder, group_pattern=pattern, group_csv=args.group_csv,
                           progress=Bar("adding media"))
+        how = ("from the CSV" if args.group_csv else "by pattern" if args.group_pattern
+               else "by folder" if pattern else "none: every clip is its own group")
         print(f"added {len(rep.added)} clip(s); {len(rep.already_present)} already present; "
-              f"{len(rep.skipped)} skipped")
+              f"{len(rep.skipped)} skipped; groups now {len(p.groups())} ({how})")
         for path, reason in rep.skipped:
             print(f"  skipped {path}: {reason}")
+        for line in rep.warnings():
+            print(f"  warning: {line}")
     return 0
 
 
@@ -191,6 +199,9 @@ def build_parser() -> argparse.ArgumentParser:
     grp.add_argument("--group-pattern", metavar="REGEX",
                      help="regular expression with a named group (?P<group>...) matched on the relative path")
     grp.add_argument("--group-csv", metavar="CSV", help="CSV with columns path,group")
+    grp.add_argument("--group-by", choices=("folder", "none"), default="folder",
+                     help="without a pattern or CSV: group clips by their folder (default, as the "
+                          "setup dialog does), or none (every clip its own group)")
     sp = add("import", cmd_import, "import records (JSON Lines; or CSV of clip,annotator,label) all or nothing",
              user=True)
     sp.add_argument("file")

@@ -35,11 +35,19 @@ def _split_counts(plan) -> str:
     return ", ".join(f"{k} {v}" for k, v in sorted(counts.items()))
 
 
-def _print_left_out(left_out, where: str = "") -> None:
+def _print_left_out(left_out, where: str = "", media=None) -> None:
     if left_out:
         print(f"left out {len(left_out)} clip(s){where}:")
         for d in left_out:
-            print(f"  clip {d.clip_id}: {d.reason}")
+            name = (media or {}).get(d.clip_id)
+            print(f"  {name} (clip {d.clip_id}): {d.reason}" if name else
+                  f"  clip {d.clip_id}: {d.reason}")
+
+
+def print_warnings(plan, where: str = "") -> None:
+    """Quality warnings (splits off their ratios, clips short of captions), one line each."""
+    for w in plan.warnings:
+        print(f"warning{where}: {w.kind}: {w.message}")
 
 
 def _print_cleaned(p) -> None:
@@ -65,9 +73,10 @@ def cmd_export(args: argparse.Namespace) -> int:
             return _export_folds(p, args)
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
                              frozen=args.frozen, hamming_radius=args.radius,
-                             progress=Bar("fingerprints"))
+                             progress=Bar("fingerprints"), captions=args.captions)
         print("splits: " + _split_counts(plan))
-        _print_left_out(plan.left_out)
+        print_warnings(plan)
+        _print_left_out(plan.left_out, media=plan.left_out_media)
         print_leakage(plan.leakage)
         if args.dry_run:
             return 0
@@ -83,11 +92,13 @@ def _export_folds(p, args: argparse.Namespace) -> int:
     from .cli import Bar
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
-                         progress=Bar("fingerprints"))
+                         progress=Bar("fingerprints"), captions=args.captions)
     for i, plan in enumerate(plans, start=1):
         print(f"split {i}: " + _split_counts(plan))
+        print_warnings(plan, f" (split {i})")
         print_leakage(plan.leakage)
-    _print_left_out(plans[0].left_out if plans else (), " in every split")
+    _print_left_out(plans[0].left_out if plans else (), " in every split",
+                    plans[0].left_out_media if plans else None)
     if args.dry_run:
         return 0
     ms = _write(lambda: p.write_folds(args.out, plans, media_mode=args.media, webvtt=args.webvtt,
@@ -105,6 +116,10 @@ def register(add) -> None:
     sp.add_argument("--seed", type=int, default=0)
     sp.add_argument("--min-agreement", type=float, default=0.6,
                     help="share of annotators a majority label needs when there is no gold (default 0.6)")
+    sp.add_argument("--captions", choices=("gold", "gold+agreeing"), default="gold",
+                    help="reference captions: gold (the lead's ticked captions when settled, else "
+                         "every annotator caption; default) or gold+agreeing (those plus the "
+                         "captions of annotators whose label equals the exported label)")
     sp.add_argument("--frozen", metavar="MANIFEST",
                     help="keep the splits of this earlier export (default: the project's last export)")
     sp.add_argument("--radius", type=int, default=8, help="Hamming radius for near-duplicate media (default 8)")

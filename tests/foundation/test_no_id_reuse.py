@@ -75,15 +75,17 @@ def test_rebuilding_keeps_every_row_and_every_reference(sample_copy):
         cap = p.add_caption(clip, ann, "the arm slides the block left", segment=seg)
         p.set_gold_captions(clip, [("gold words", cap)])
         engine = p.engine
+        cfg = db.alembic_config(engine)
+        command.downgrade(cfg, "0003")  # later migrations add columns; the rebuild is 0003's
         before = _dump(_sqlite(p))
         assert any(r[5] == seg for r in before["captions"])            # segment_id column
         assert any(r[4] == cap for r in before["gold_captions"])       # source_caption_id
-        cfg = db.alembic_config(engine)
         command.downgrade(cfg, "0002")
         assert not _shape(_sqlite(p), "captions")["autoincrement"]
         assert _dump(_sqlite(p)) == before
-        command.upgrade(cfg, "head")
+        command.upgrade(cfg, "0003")
         assert _dump(_sqlite(p)) == before
+        command.upgrade(cfg, "head")
         assert _sqlite(p).execute("PRAGMA foreign_key_check").fetchall() == []
     with Project.open(sample_copy) as p:                                # and it still opens
         assert [c.segment for c in p.caption_rows(clip=clip) if c.id == cap] == [seg]

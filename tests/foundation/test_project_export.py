@@ -59,8 +59,9 @@ def test_blocked_folds_write_nothing(sample_copy, tmp_path):
         shutil.copy(p.media_root / "cell-north" / "take-01.mp4", p.media_root / "copy.mp4")
         twin = p.add_clip(p.media_root / "copy.mp4", group="elsewhere")
         p.set_clip_label(twin, "annotator-1", "pick up")
-        plans = p.plan_folds(3)
-        assert any(pl.leakage.blocking for pl in plans)
+        # a seed whose folds part the two copies (most do; which ones depends on placement)
+        plans = next(pl for pl in (p.plan_folds(3, seed=k) for k in range(20))
+                     if any(x.leakage.blocking for x in pl))
         with pytest.raises(ExportBlocked):
             p.write_folds(tmp_path / "folds", plans)
         assert not (tmp_path / "folds").exists()

@@ -28,7 +28,10 @@ class CaptionInput:
 class ClipInput:
     """Everything the export needs to know about one clip.
 
-    ``labels`` holds one label per annotator who labelled the clip; ``gold_label`` and
+    ``labels`` holds one label per annotator who labelled the clip (``annotator_labels`` the
+    same as ``(annotator, label)`` pairs, when known: the caption policy needs them to tell
+    agreeing annotators); ``skipped`` lists ``(annotator, reason)`` of those who skipped the
+    clip (they gave no label; a skip is never counted as one); ``gold_label`` and
     ``gold_captions`` are the lead's settled answers (None when not settled). ``fingerprint`` is
     the clip's 64-bit perceptual hash as a plain int; ``sha256`` the hex digest of the media file.
     ``source_path`` is where the writer reads the media from when it copies or links them.
@@ -42,6 +45,8 @@ class ClipInput:
     fps: float | None = None
     frame_count: int | None = None
     labels: tuple[str, ...] = ()
+    annotator_labels: tuple[tuple[str, str], ...] = ()
+    skipped: tuple[tuple[str, str], ...] = ()
     gold_label: str | None = None
     captions: tuple[CaptionInput, ...] = ()
     gold_captions: tuple[str, ...] | None = None

@@ -15,6 +15,7 @@ from typing import Literal, Mapping, Sequence
 
 import numpy as np
 
+from .checks import name_files
 from .inputs import ClipInput
 from .neardup import as_uint64, near_pairs
 from .policy import caption_texts
@@ -29,17 +30,19 @@ _KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missin
 
 @dataclass(frozen=True)
 class Finding:
-    """One leakage finding: ``kind``, ``severity``, a sentence, the clips involved, details."""
+    """One leakage finding: ``kind``, ``severity``, a sentence naming the files, the clips
+    involved (ids, and ``files``: their media paths in the same order), details."""
 
     kind: str
     severity: Severity
     message: str
     clips: tuple[str, ...]
     details: dict = field(default_factory=dict, compare=False)
+    files: tuple[str, ...] = field(default=(), compare=False)
 
     def to_dict(self) -> dict:
         return {"kind": self.kind, "severity": self.severity, "message": self.message,
-                "clips": list(self.clips), "details": self.details}
+                "clips": list(self.clips), "files": list(self.files), "details": self.details}
 
 
 @dataclass(frozen=True)
@@ -81,6 +84,20 @@ def _describe(counts: Mapping[str, int]) -> str:
     return ", ".join(f"{s} ({n})" for s, n in counts.items())
 
 
+def _paths(clips: Sequence[ClipInput]) -> dict[str, str]:
+    return {c.clip_id: c.media_path for c in clips}
+
+
+def _files(ids: Sequence[str], path: Mapping[str, str]) -> tuple[str, ...]:
+    return tuple(path.get(c, c) for c in ids)
+
+
+def _where(ids: Sequence[str], path: Mapping[str, str], assignment: Mapping[str, str]) -> str:
+    """``a.mp4 (train), b.mp4 (test)``, files in name order (at most a few named)."""
+    named = sorted((path.get(c, c), assignment[c]) for c in ids)
+    return name_files([f"{p} ({s})" for p, s in named])
+
+
 def _groups(clips: Sequence[ClipInput], assignment: Mapping[str, str]) -> list[Finding]:
     by_group: dict[str, list[str]] = defaultdict(list)
     for c in clips:
@@ -90,9 +107,10 @@ def _groups(clips: Sequence[ClipInput], assignment: Mapping[str, str]) -> list[F
     for g, members in sorted(by_group.items()):
         counts = _split_counts(members, assignment)
         if len(counts) > 1:
+            ids = tuple(sorted(members))
             out.append(Finding("group-split", "blocking",
                                f"group {g!r} is in {len(counts)} splits: {_describe(counts)}",
-                               tuple(sorted(members)), {"group": g, "splits": counts}))
+                               ids, {"group": g, "splits": counts}, _files(ids, _paths(clips))))
     return out
 
 
@@ -101,19 +119,20 @@ def _identical_media(clips: Sequence[ClipInput], assignment: Mapping[str, str]) 
     for c in clips:
         if c.sha256:
             by_sha[c.sha256.lower()].append(c.clip_id)
-    out = []
+    out, path = [], _paths(clips)
     for sha, members in sorted((k, v) for k, v in by_sha.items() if len(v) > 1):
         counts = _split_counts(members, assignment)
+        ids = tuple(sorted(members))
         if len(counts) > 1:
             out.append(Finding("duplicate-media", "blocking",
-                               f"{len(members)} clips with identical media (sha256 {sha[:12]}…) "
-                               f"are in several splits: {_describe(counts)}",
-                               tuple(sorted(members)), {"sha256": sha, "splits": counts}))
+                               f"identical files (same sha256) are in several splits: "
+                               f"{_where(ids, path, assignment)}",
+                               ids, {"sha256": sha, "splits": counts}, _files(ids, path)))
         else:
             out.append(Finding("duplicate-media-in-split", "warning",
-                               f"{len(members)} clips with identical media (sha256 {sha[:12]}…) "
-                               f"in split {next(iter(counts))!r}",
-                               tuple(sorted(members)), {"sha256": sha, "splits": counts}))
+                               f"identical files (same sha256) in split {next(iter(counts))!r}: "
+                               f"{name_files(sorted(_files(ids, path)))}",
+                               ids, {"sha256": sha, "splits": counts}, _files(ids, path)))
     return out
 
 
@@ -139,12 +158,13 @@ def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                 within.append((a, b, dist))
             continue
         pair = tuple(sorted((ca.clip_id, cb.clip_id)))
+        path = {ca.clip_id: ca.media_path, cb.clip_id: cb.media_path}
         out.append(Finding(
             "near-duplicate-media", "blocking",
-            f"clips {pair[0]!r} ({assignment[pair[0]]}) and {pair[1]!r} "
-            f"({assignment[pair[1]]}) look alike: fingerprints differ in {dist} of 64 bits "
-            f"(radius {radius})",
-            pair, {"hamming": dist, "splits": {p: assignment[p] for p in pair}}))
+            f"{_where(pair, path, assignment)} look alike: fingerprints differ in {dist} of 64 "
+            f"bits (radius {radius})",
+            pair, {"hamming": dist, "splits": {p: assignment[p] for p in pair}},
+            _files(pair, path)))
     out.sort(key=lambda f: f.clips)
     return out + _clusters_in_split(have, split_of, within, radius)
 
@@ -164,25 +184,29 @@ def _clusters_in_split(have: Sequence[ClipInput], split_of: Sequence[str],
     clusters: dict[int, list[tuple[int, int, int]]] = defaultdict(list)
     for a, b, dist in pairs:
         clusters[root(a)].append((a, b, dist))
-    out = []
+    out, path = [], _paths(have)
     for members in clusters.values():
         ids = sorted({have[x].clip_id for p in members for x in p[:2]})
         split = split_of[members[0][0]]
         out.append(Finding(
             "near-duplicate-media-in-split", "warning",
             f"{len(ids)} clips of different groups in split {split!r} look alike (fingerprints "
-            f"within {radius} of 64 bits): check their groups, or a later split may part them",
+            f"within {radius} of 64 bits): {name_files(sorted(_files(ids, path)))}; check their "
+            f"groups, or a later split may part them",
             tuple(ids),
             {"split": split, "pairs": sorted([sorted((have[a].clip_id, have[b].clip_id)) + [dist]
-                                              for a, b, dist in members])}))
+                                              for a, b, dist in members])},
+            _files(ids, path)))
     return sorted(out, key=lambda f: f.clips)
 
 
 def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
-              threshold: float) -> list[Finding]:
+              threshold: float, chosen: Mapping[str, Sequence[str]] | None = None) -> list[Finding]:
     by_text: dict[str, set[str]] = defaultdict(set)
+    path = _paths(clips)
     for c in clips:
-        for t in caption_texts(c):
+        for t in (chosen[c.clip_id] if chosen is not None and c.clip_id in chosen
+                  else caption_texts(c)):
             norm = normalise_caption(t)
             if norm:
                 by_text[norm].add(c.clip_id)
@@ -201,8 +225,8 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
         if len(counts) > 1:
             out.append(Finding("duplicate-caption", "warning",
                                f"caption {t!r} is written for clips in several splits: "
-                               f"{_describe(counts)}", tuple(members),
-                               {"text": t, "splits": counts}))
+                               f"{_where(members, path, assignment)}", tuple(members),
+                               {"text": t, "splits": counts}, _files(members, path)))
     if threshold < 1.0:
         for a, b, sim in similar_pairs(texts, threshold, keys=keys):
             members = sorted(by_text[texts[a]] | by_text[texts[b]])
@@ -211,48 +235,53 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                 out.append(Finding(
                     "near-duplicate-caption", "warning",
                     f"captions {texts[a]!r} and {texts[b]!r} are near-identical (Jaccard "
-                    f"{sim:.2f}) across splits: {_describe(counts)}", tuple(members),
-                    {"texts": [texts[a], texts[b]], "jaccard": round(sim, 4),
-                     "splits": counts}))
+                    f"{sim:.2f}) across splits: {_where(members, path, assignment)}",
+                    tuple(members), {"texts": [texts[a], texts[b]], "jaccard": round(sim, 4),
+                                     "splits": counts}, _files(members, path)))
     return out
 
 
 def _consent(clips: Sequence[ClipInput], require_consent: bool,
              require_licence: bool) -> list[Finding]:
-    out = []
+    out, path = [], _paths(clips)
     if require_consent:
         missing = sorted(c.clip_id for c in clips if c.consent is not True)
         if missing:
             out.append(Finding("missing-consent", "blocking",
                                f"{len(missing)} clips have no recorded consent, which this "
-                               f"project requires", tuple(missing), {"count": len(missing)}))
+                               f"project requires: {name_files(sorted(_files(missing, path)))}",
+                               tuple(missing), {"count": len(missing)}, _files(missing, path)))
     if require_licence:
         missing = sorted(c.clip_id for c in clips if not (c.licence or "").strip())
         if missing:
             out.append(Finding("missing-licence", "blocking",
                                f"{len(missing)} clips have no licence, which this project "
-                               f"requires", tuple(missing), {"count": len(missing)}))
+                               f"requires: {name_files(sorted(_files(missing, path)))}",
+                               tuple(missing), {"count": len(missing)}, _files(missing, path)))
     return out
 
 
 def _unchecked(clips: Sequence[ClipInput]) -> list[Finding]:
-    out = []
+    out, path = [], _paths(clips)
     for kind, attr, what in (("no-checksum", "sha256", "identical-media"),
                              ("no-fingerprint", "fingerprint", "near-duplicate")):
         missing = sorted(c.clip_id for c in clips if getattr(c, attr) is None)
         if missing:
             out.append(Finding(kind, "warning",
                                f"{len(missing)} clips have no {attr}; the {what} check could "
-                               f"not cover them", tuple(missing), {"count": len(missing)}))
+                               f"not cover them: {name_files(sorted(_files(missing, path)))}",
+                               tuple(missing), {"count": len(missing)}, _files(missing, path)))
     return out
 
 
 def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
                   require_consent: bool = False, require_licence: bool = False,
-                  hamming_radius: int = 8, caption_threshold: float = 0.9) -> LeakageReport:
+                  hamming_radius: int = 8, caption_threshold: float = 0.9,
+                  captions: Mapping[str, Sequence[str]] | None = None) -> LeakageReport:
     """Look for leakage between splits.
 
-    Only clips present in ``assignment`` are checked. Near-duplicate media: two clips in
+    Only clips present in ``assignment`` are checked. Messages name the clips' media files
+    (``ClipInput.media_path``); ``Finding.clips`` keeps their ids. Near-duplicate media: two clips in
     different splits whose 64-bit perceptual fingerprints differ in at most ``hamming_radius``
     bits (Hamming distance, found exactly by multi-index hashing; see
     :mod:`clipscribe.export.neardup`). Near-duplicates within one split are not leakage; those
@@ -271,6 +300,9 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         0..63; 8 of 64 bits is a common practice for perceptual hashes of the same footage.
     caption_threshold : float
         In (0, 1].
+    captions : mapping of clip id to caption texts, optional
+        The captions each clip is exported with (the plan's caption policy); by default
+        :func:`clipscribe.export.policy.caption_texts`.
 
     Returns
     -------
@@ -284,7 +316,7 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     findings = (_groups(clips, assignment) + _identical_media(clips, assignment)
                 + _near_media(clips, assignment, hamming_radius)
                 + _consent(clips, require_consent, require_licence)
-                + _captions(clips, assignment, caption_threshold) + _unchecked(clips))
+                + _captions(clips, assignment, caption_threshold, captions) + _unchecked(clips))
     findings.sort(key=lambda f: _KIND_ORDER.index(f.kind))
     recipe = {
         "clips_checked": len(clips),

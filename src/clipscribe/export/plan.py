@@ -5,9 +5,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
+from .checks import PlanWarning, few_references, split_balance
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
-from .policy import LabelDecision, LabelPolicy, apply_policy
+from .policy import CaptionChoice, LabelDecision, LabelPolicy, apply_policy, choose_captions
 from .splits import SplitResult, split_clips
 
 
@@ -47,7 +48,9 @@ class ExportPlan:
     """What :func:`clipscribe.export.write_export` writes.
 
     ``clips`` are the exported clips (left-out ones are in ``left_out``); ``frozen`` is the
-    assignment passed in, carried forward in the manifest together with the new one.
+    assignment passed in, carried forward in the manifest together with the new one;
+    ``captions`` the reference captions chosen per exported clip; ``warnings`` the quality
+    warnings (:mod:`clipscribe.export.checks`) that do not stop the export.
     """
 
     project: str
@@ -58,6 +61,9 @@ class ExportPlan:
     leakage: LeakageReport
     policy: LabelPolicy
     frozen: dict[str, str] = field(default_factory=dict)
+    captions: dict[str, CaptionChoice] = field(default_factory=dict)
+    warnings: tuple[PlanWarning, ...] = ()
+    left_out_media: dict[str, str] = field(default_factory=dict)
 
     @property
     def assignment(self) -> dict[str, str]:
@@ -89,7 +95,7 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
                project: str = "untitled", policy: LabelPolicy | None = None, seed: int = 0,
                frozen: Mapping[str, str] | None = None, require_consent: bool = False,
                require_licence: bool = False, hamming_radius: int = 8,
-               caption_threshold: float = 0.9) -> ExportPlan:
+               caption_threshold: float = 0.9, captions_wanted: int | None = None) -> ExportPlan:
     """Decide labels, assign splits to the clips that are kept, and check for leakage.
 
     The label policy runs first (:func:`clipscribe.export.policy.decide_label`); splits are
@@ -111,6 +117,10 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
         out this time still hold their group's place.
     require_consent, require_licence, hamming_radius, caption_threshold
         Passed to :func:`clipscribe.export.leakage.check_leakage`.
+    captions_wanted : int, optional
+        Reference captions per clip the guideline asks for; fewer is a ``few-captions``
+        warning (:func:`clipscribe.export.checks.few_references`). Splits empty or far from
+        their ratios are warnings too (:func:`clipscribe.export.checks.split_balance`).
 
     Returns
     -------
@@ -132,9 +142,16 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     if anchors:
         split = replace(split, assignment={k: v for k, v in split.assignment.items()
                                            if k in by_id})
+    chosen = {c.clip_id: choose_captions(c, by_id[c.clip_id].label, policy) for c in kept}
     report = check_leakage(kept, split.assignment, require_consent=require_consent,
                            require_licence=require_licence, hamming_radius=hamming_radius,
-                           caption_threshold=caption_threshold)
+                           caption_threshold=caption_threshold,
+                           captions={k: tuple(t for t, _ in v.captions) for k, v in chosen.items()})
+    files = {c.clip_id: c.media_path for c in kept}
+    warnings = (split_balance(split.assignment, split.ratios, {c.clip_id: c.group for c in kept})
+                + few_references({k: len(v.captions) for k, v in chosen.items()}, captions_wanted,
+                                 files, policy.captions))
     return ExportPlan(project, tuple(kept), by_id,
                       tuple(d for d in decisions if not d.included), split, report, policy,
-                      frozen)
+                      frozen, chosen, tuple(warnings),
+                      {c.clip_id: c.media_path for c, d in zip(clips, decisions) if not d.included})

@@ -3,13 +3,17 @@
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Iterable, Literal, Sequence
 
 from .inputs import CaptionInput, ClipInput
+from .textdup import normalise_caption
 
 # Shares are ratios of small integers; compare with a little slack so 3/5 >= 0.6 holds.
 _EPS = 1e-9
+
+#: caption policies: which reference captions a clip is exported with
+CAPTION_POLICIES = ("gold", "gold+agreeing")
 
 
 @dataclass(frozen=True)
@@ -23,21 +27,37 @@ class LabelPolicy:
     require_label : bool
         When False, clips with no labels at all are exported without a label (caption-only
         datasets). Ties and weak majorities are left out either way.
+    captions : "gold" or "gold+agreeing"
+        ``"gold"``: the lead's gold reference set when there is one, else every accepted
+        annotator caption. ``"gold+agreeing"``: the gold set (if any) followed by the accepted
+        captions of the *agreeing* annotators, dropping any caption whose normalised text
+        (:func:`clipscribe.export.textdup.normalise_caption`) is already in the list. See
+        :func:`decide_captions` for who is agreeing.
     """
 
     min_agreement: float = 0.6
     require_label: bool = True
+    captions: Literal["gold", "gold+agreeing"] = "gold"
 
     def __post_init__(self) -> None:
         if not 0.0 <= self.min_agreement <= 1.0:
             raise ValueError(f"min_agreement must lie in [0, 1], got {self.min_agreement!r}")
+        if self.captions not in CAPTION_POLICIES:
+            raise ValueError(f"captions must be one of {', '.join(CAPTION_POLICIES)}, "
+                             f"got {self.captions!r}")
 
     def describe(self) -> str:
         """The rule in words, for the manifest."""
+        caps = ("the gold reference set when present, else every accepted annotator caption"
+                if self.captions == "gold" else
+                "the gold reference set (if any) followed by the accepted captions of every "
+                "agreeing annotator (one whose own label of the clip equals the exported label; "
+                "every annotator when the clip is exported without a label), leaving out text "
+                "equal after normalisation to a caption already taken")
         return (f"gold label when the lead settled one; else the majority label when its share "
                 f"of annotator labels is >= {self.min_agreement:.2f} and no other label has as "
-                f"many votes; else the clip is left out. Captions: the gold reference set when "
-                f"present, else every accepted annotator caption.")
+                f"many votes; else the clip is left out. Annotators who skipped the clip give no "
+                f"label and are not counted. Captions ({self.captions}): {caps}.")
 
 
 @dataclass(frozen=True)
@@ -50,6 +70,7 @@ class LabelDecision:
     agreement: float | None
     annotators: int
     reason: str | None = None
+    skipped: int = 0
 
     @property
     def included(self) -> bool:
@@ -117,15 +138,29 @@ def decide_label(labels: Iterable[str], gold: str | None = None, *, min_agreemen
 
 @dataclass(frozen=True)
 class CaptionChoice:
-    """Captions exported for a clip: ``(text, segment or None)`` pairs and where they came from."""
+    """Captions exported for a clip: ``(text, segment or None)`` pairs and where they came from.
+
+    ``source`` is ``"gold"`` when the list starts with the gold set, else ``"accepted"``;
+    ``sources`` gives the source of each caption (``"gold"`` or ``"accepted"``)."""
 
     captions: tuple[tuple[str, tuple[int, int] | None], ...]
     source: Literal["gold", "accepted"]
+    sources: tuple[Literal["gold", "accepted"], ...] = ()
+
+    def source_of(self, i: int) -> Literal["gold", "accepted"]:
+        return self.sources[i] if self.sources else self.source
 
 
-def decide_captions(captions: Sequence[CaptionInput],
-                    gold: Sequence[str] | None = None) -> CaptionChoice:
-    """Choose a clip's reference captions: the gold set when present, else the accepted ones.
+def decide_captions(captions: Sequence[CaptionInput], gold: Sequence[str] | None = None, *,
+                    policy: Literal["gold", "gold+agreeing"] = "gold",
+                    agreeing: Iterable[str] | None = None) -> CaptionChoice:
+    """Choose a clip's reference captions.
+
+    ``policy="gold"``: the gold set when present, else the accepted annotator captions.
+    ``policy="gold+agreeing"``: the gold set (if any), then the accepted captions of the
+    annotators named in ``agreeing``, leaving out any whose normalised text is already taken.
+    *Agreeing* is decided by the caller (:func:`agreeing_annotators`): an annotator whose own
+    label of the clip equals the exported label.
 
     Parameters
     ----------
@@ -133,25 +168,62 @@ def decide_captions(captions: Sequence[CaptionInput],
         Annotator captions; ``accepted`` is the caller's verdict.
     gold : sequence of str, optional
         The lead's reference set; an empty set counts as absent.
+    policy : "gold" or "gold+agreeing"
+    agreeing : iterable of str, optional
+        Annotator names whose captions join the gold set (``"gold+agreeing"`` only).
 
     Returns
     -------
     CaptionChoice
-        ``(text, segment)`` pairs in input order and ``source`` ``"gold"`` or ``"accepted"``.
+        ``(text, segment)`` pairs (gold first, annotator captions in input order) and sources.
     """
-    if gold:
-        return CaptionChoice(tuple((t, None) for t in gold), "gold")
-    return CaptionChoice(tuple((c.text, c.segment) for c in captions if c.accepted), "accepted")
+    if policy == "gold":
+        if gold:
+            return CaptionChoice(tuple((t, None) for t in gold), "gold")
+        return CaptionChoice(tuple((c.text, c.segment) for c in captions if c.accepted),
+                             "accepted")
+    who = set(agreeing or ())
+    out: list[tuple[str, tuple[int, int] | None]] = [(t, None) for t in gold or ()]
+    sources: list[Literal["gold", "accepted"]] = ["gold"] * len(out)
+    seen = {normalise_caption(t) for t, _ in out}
+    for c in captions:
+        norm = normalise_caption(c.text)
+        if c.accepted and c.annotator in who and norm not in seen:
+            seen.add(norm)
+            out.append((c.text, c.segment))
+            sources.append("accepted")
+    return CaptionChoice(tuple(out), "gold" if gold else "accepted", tuple(sources))
+
+
+def agreeing_annotators(clip: ClipInput, label: str | None) -> set[str]:
+    """Annotators who agree with the exported ``label`` of ``clip``: those whose own label of
+    the clip (``clip.annotator_labels``) equals it. A clip exported without a label has nothing
+    to disagree with, so every annotator with a caption agrees. Annotators who skipped the clip
+    never agree."""
+    skipped = {who for who, _ in clip.skipped}
+    if label is None:
+        return {c.annotator for c in clip.captions if c.annotator} - skipped
+    return {who for who, lab in clip.annotator_labels if lab == label} - skipped
+
+
+def choose_captions(clip: ClipInput, label: str | None, policy: "LabelPolicy") -> CaptionChoice:
+    """:func:`decide_captions` for one clip under ``policy``, given its exported ``label``."""
+    return decide_captions(clip.captions, clip.gold_captions, policy=policy.captions,
+                           agreeing=agreeing_annotators(clip, label)
+                           if policy.captions != "gold" else None)
 
 
 def caption_texts(clip: ClipInput) -> tuple[str, ...]:
-    """The caption texts a clip is exported with (used by the leakage checks too)."""
+    """The caption texts a clip is exported with under the ``"gold"`` caption policy (the
+    leakage checks are given the plan's own choice when there is one)."""
     if clip.gold_captions:  # the same rule as decide_captions, without building the choice
         return tuple(clip.gold_captions)
     return tuple(c.text for c in clip.captions if c.accepted)
 
 
 def apply_policy(clips: Iterable[ClipInput], policy: LabelPolicy) -> list[LabelDecision]:
-    """:func:`decide_label` for every clip, in input order."""
-    return [decide_label(c.labels, c.gold_label, min_agreement=policy.min_agreement,
-                         require_label=policy.require_label, clip_id=c.clip_id) for c in clips]
+    """:func:`decide_label` for every clip, in input order; ``skipped`` counts the clip's skips
+    (they are not among its labels)."""
+    return [replace(decide_label(c.labels, c.gold_label, min_agreement=policy.min_agreement,
+                                 require_label=policy.require_label, clip_id=c.clip_id),
+                    skipped=len(c.skipped)) for c in clips]

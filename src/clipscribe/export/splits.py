@@ -86,7 +86,9 @@ def split_clips(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int
     form per split. Largest-first greedy placement is the usual heuristic for this bin-balancing
     problem (as in multi-label iterative stratification, Sechidis et al., ECML PKDD 2011,
     doi:10.1007/978-3-642-23808-6_10); single-clip groups are placed last in bulk, per label, by
-    largest-remainder apportionment of each split's remaining deficit. When the groups still to
+    largest-remainder apportionment of each split's remaining deficit (the leftover units going to
+    the splits furthest below their overall size, so many labels of one clip each still fill
+    every split). When the groups still to
     place are no more than the splits still empty, each goes to an empty split, so no split with
     a positive ratio ends up empty while there are enough groups.
 
@@ -195,9 +197,15 @@ def split_clips(items: Iterable[Item], ratios: Mapping[str, float], *, seed: int
             take = np.floor(quota).astype(int)
             rest = k - take.sum()
             if rest:
-                take[np.argsort(-(quota - take), kind="stable")[:rest]] += 1
+                # the units left over go to splits with a fractional quota (so each split still
+                # gets the floor or the ceiling of its quota), those furthest below their overall
+                # size first: labels with one or two clips each then still fill every split
+                # instead of all landing in the largest
+                short = np.where(quota - take > 1e-12, t - M - take / N, -np.inf)
+                take[np.argsort(-short, kind="stable")[:rest]] += 1
             g_split[members] = np.repeat(np.arange(S), take)
             np.add.at(F[:, lab], g_split[members], 1.0 / n_l[lab])
+            M += take / N
 
     clip_split = np.where(fixed, clip_split, g_split[g_idx])
     assignment = {c: names[s] for c, s in zip(ids, clip_split.tolist())}

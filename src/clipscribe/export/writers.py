@@ -33,12 +33,13 @@ from typing import Callable, Literal, Protocol
 from .._version import __version__
 from ..schema.export import (
     ExportCaption, ExportManifest, ExportRecord, ExportSegment, FileEntry, LabelPolicyModel,
-    LeakageReportModel, LeftOut, OverrideModel,
+    LeakageReportModel, LeftOut, OverrideModel, QualityWarning,
 )
 from . import csvsafe, jsonl
 from .inputs import ClipInput
 from .plan import ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override
-from .policy import decide_captions
+from .checks import SPLIT_TOLERANCE
+from .policy import choose_captions
 from .vtt import render
 
 NO_LABEL = "(no label)"
@@ -72,19 +73,20 @@ def _record(clip: ClipInput, plan: ExportPlan, media: str) -> ExportRecord:
     fps = clip.fps
     segments = [ExportSegment(label=s.label, start=s.start, end=s.end, start_s=s.start / fps,
                               end_s=s.end / fps) for s in clip.segments]
-    choice = decide_captions(clip.captions, clip.gold_captions)
+    choice = plan.captions.get(clip.clip_id) or choose_captions(clip, d.label, plan.policy)
     captions = []
-    for text, seg in choice.captions:
+    for i, (text, seg) in enumerate(choice.captions):
         if seg is None:
-            captions.append(ExportCaption(text=text, source=choice.source))
+            captions.append(ExportCaption(text=text, source=choice.source_of(i)))
         else:
-            captions.append(ExportCaption(text=text, source=choice.source, start=seg[0],
+            captions.append(ExportCaption(text=text, source=choice.source_of(i), start=seg[0],
                                           end=seg[1], start_s=seg[0] / fps, end_s=seg[1] / fps))
     return ExportRecord(
         clip=clip.clip_id, split=plan.assignment[clip.clip_id], media=media,
         sha256=clip.sha256.lower() if clip.sha256 else None,
         group=None if clip.group is None else str(clip.group), label=d.label,
-        label_source=d.source, agreement=d.agreement, annotators=d.annotators, fps=fps,
+        label_source=d.source, agreement=d.agreement, annotators=d.annotators,
+        skipped=d.skipped, fps=fps,
         frame_count=clip.frame_count, segments=segments, captions=captions)
 
 
@@ -165,7 +167,13 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
                   "allowed clips without a label",
         "totals": "exported clips per split",
         "agreement": "per record: share of the clip's annotator labels equal to the decided "
-                     "label (label policy below)",
+                     "label (label policy below); annotators who skipped the clip gave no label "
+                     "and are counted in `skipped`, not in `annotators`",
+        "warnings": f"split-empty: a split with a positive ratio got no clip; split-off-ratio: a "
+                    f"split's share of the exported clips is more than "
+                    f"{100 * SPLIT_TOLERANCE:.0f} percentage points from its ratio (our "
+                    f"threshold); few-captions: clips exported with fewer reference captions "
+                    f"than the caption guideline asks for",
         "label_policy": plan.policy.describe(),
         "splits": f"group-exclusive greedy placement, largest group first, minimising squared "
                   f"deviation from the target clip fraction plus mean squared per-label "
@@ -179,10 +187,13 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
         tool_version=__version__, project=plan.project, created_at=_now(),
         label_policy=LabelPolicyModel(min_agreement=plan.policy.min_agreement,
                                       require_label=plan.policy.require_label,
+                                      captions=plan.policy.captions,
                                       rule=plan.policy.describe()),
         seed=plan.seed, ratios=plan.split.ratios, counts=counts,
         totals={s: sum(c.values()) for s, c in counts.items()},
-        left_out=[LeftOut(clip=d.clip_id, reason=d.reason or "") for d in plan.left_out],
+        left_out=[LeftOut(clip=d.clip_id, reason=d.reason or "",
+                          media=plan.left_out_media.get(d.clip_id)) for d in plan.left_out],
+        warnings=[QualityWarning.model_validate(w.to_dict()) for w in plan.warnings],
         split_conflicts=list(plan.split.conflicts), media_mode=media_mode,
         files=sorted(files, key=lambda f: f.path),
         leakage=LeakageReportModel.model_validate(plan.leakage.to_dict()), override=ov,

@@ -15,7 +15,7 @@ class AnalysisMixin:
         self.require_full_view("the agreement report")
         leads = {a.name for a in self.annotators() if a.role == "lead"}
         clips = self.clips()
-        labels = [r for r in self.clip_labels() if r[1] not in leads]
+        labels = self._voting_labels(leads)
         segs = ([(g.clip, g.annotator, g.label, g.start, g.end) for g in self.segments()
                  if g.annotator not in leads] if segments else None)
         caps = [r for r in self.captions() if r[1] not in leads] if captions else None
@@ -25,11 +25,17 @@ class AnalysisMixin:
             frame_count={c.id: c.frame_count for c in clips}, seed=seed, n_boot=n_boot,
             label_set_version=f"v{self.label_set_version()}")
 
+    def _voting_labels(self, leads: set[str]) -> list[tuple[int, str, str]]:
+        """Annotator labels that count as votes: not a lead's, and not left on a clip its
+        annotator skipped (a skip is no label, whatever was clicked before it)."""
+        skipped = {(c, a) for c, a, _ in self.skips()}
+        return [r for r in self.clip_labels() if r[1] not in leads and r[:2] not in skipped]
+
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""
         leads = {a.name for a in self.annotators() if a.role == "lead"}
         return {
-            "labels": [r for r in self.clip_labels() if r[1] not in leads],
+            "labels": self._voting_labels(leads),
             "segments": [(g.clip, g.annotator, g.label, g.start, g.end) for g in self.segments()
                          if g.annotator not in leads],
             "captions": [r for r in self.captions() if r[1] not in leads],

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import os
 import re
+import warnings
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -28,6 +29,9 @@ from .base import row_dict
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
            "#4d7cd6", "#b5651d", "#5c946e", "#c0392b", "#7f8c8d")
 AUTO_KEYS = "1234567890"
+#: the group key of a clip is the folder it lies in, relative to the media root (clips directly
+#: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
+BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 
 Progress = Callable[[int, int], None]
 
@@ -72,6 +76,21 @@ class IngestReport:
     added: list[int] = field(default_factory=list)
     already_present: list[str] = field(default_factory=list)
     skipped: list[tuple[str, str]] = field(default_factory=list)  # (path, reason)
+    #: (added path, path of the clip already holding the same bytes): exact copies, added
+    #: anyway (a copy may be meant) but worth a look, since a copy in two splits is leakage
+    duplicates: list[tuple[str, str]] = field(default_factory=list)
+
+    def warnings(self) -> list[str]:
+        """One line per thing worth a look: each exact duplicate, naming both files."""
+        return [duplicate_warning(new, old) for new, old in self.duplicates]
+
+
+class DuplicateMediaWarning(UserWarning):
+    """A clip was added whose file has the same SHA-256 as a clip already in the project."""
+
+
+def duplicate_warning(new: str, old: str) -> str:
+    return f"{new}: same content (SHA-256) as {old}, already in the project"
 
 
 def clip_info(c: Clip) -> ClipInfo:
@@ -202,7 +221,12 @@ class CatalogMixin:
             info, digest = probe_media(self.media_root / rel)
         except (media.MediaError, OSError) as exc:
             raise RecordError(_media_problem(self.media_root / rel, exc)) from None
-        return self._write(lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent))
+        same = self._read(lambda s: s.scalar(select(Clip.path).where(Clip.sha256 == digest,
+                                                                    Clip.path != rel).limit(1)))
+        cid = self._write(lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent))
+        if same is not None:
+            warnings.warn(duplicate_warning(rel, same), DuplicateMediaWarning, stacklevel=2)
+        return cid
 
     def _insert_clip(self, s: Session, rel: str, digest: str, info: media.ProbeInfo,
                      group: str | None, source: str | None, licence: str | None,
@@ -223,8 +247,11 @@ class CatalogMixin:
                   consent: bool | None = None) -> IngestReport:
         """Add every video below ``folder`` (recursive). Unreadable files are skipped with the
         reason. The group key comes from ``group_pattern`` (a regular expression with a named
-        group ``group``, searched in the path relative to the media root) or from ``group_csv``
-        (columns ``path,group``)."""
+        group ``group``, searched in the path relative to the media root; :data:`BY_FOLDER`
+        groups by folder, as the CLI and the setup dialog do by default) or from ``group_csv``
+        (columns ``path,group``); with neither, every clip is its own group. A file with the same
+        SHA-256 as a clip already present (or added earlier in the same call) is added and
+        listed in ``duplicates``."""
         base = Path(folder)
         if not base.is_dir():
             raise RecordError(f"{folder}: not a folder")
@@ -242,6 +269,8 @@ class CatalogMixin:
         found = find_videos(base)  # links, unreadable folders and non-UTF-8 names set aside
         files = found.files
         known = set(self._read(lambda s: list(s.scalars(select(Clip.path)))))
+        by_digest = dict(self._read(lambda s: list(s.execute(
+            select(Clip.sha256, func.min(Clip.path)).group_by(Clip.sha256)).all())))
         report = IngestReport(skipped=[(_shown_below(self.media_root, p), why) for p, why in found.skipped])
         for i, path in enumerate(files):
             if progress:
@@ -261,6 +290,10 @@ class CatalogMixin:
                 continue
             report.added.append(self._write(
                 lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent)))
+            if digest in by_digest:
+                report.duplicates.append((rel, by_digest[digest]))
+            else:
+                by_digest[digest] = rel
         if progress:
             progress(len(files), len(files))
         return report

@@ -1,8 +1,8 @@
 """Dataset export from a project: gathers plain inputs for the Qt-free export engine.
 
 Label policy: gold first, else majority vote (``min_agreement``). Segments: gold segments, else
-those of the first annotator (by name) whose label equals the exported label. Captions: the gold
-reference set when settled, else every annotator caption. Splits stay stable across exports: the
+those of the first annotator (by name) whose label equals the exported label. Captions: by the
+caption policy (gold only, or gold plus agreeing annotators). Skips are not labels. Splits stay stable across exports: the
 assignment of the last export is kept in the project and passed in as ``frozen``.
 """
 
@@ -45,19 +45,25 @@ class ExportingMixin:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
         leads = {a.name for a in self.annotators() if a.role == "lead"}
         labels: dict[int, list[tuple[str, str]]] = defaultdict(list)
-        for clip, who, label in self.clip_labels():
+        for clip, who, label in self._voting_labels(leads):
+            labels[clip].append((who, label))
+        skips: dict[int, list[tuple[str, str]]] = defaultdict(list)
+        for clip, who, reason in self.skips():
             if who not in leads:
-                labels[clip].append((who, label))
+                skips[clip].append((who, reason))
         segs: dict[tuple[int, str], list] = defaultdict(list)
         for g in self.segments():
             segs[(g.clip, g.annotator)].append(g)
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
+        skipped = {(c, who) for c, v in skips.items() for who, _ in v}
         seg_by_id = {g.id: g for v in segs.values() for g in v}
         for c in self.caption_rows():
             if c.annotator in leads:
                 continue
             tied = seg_by_id.get(c.segment) if c.segment else None
-            caps[c.clip].append(export.CaptionInput(c.text, c.annotator, True,
+            # a skipper's left-over captions are not references
+            caps[c.clip].append(export.CaptionInput(c.text, c.annotator,
+                                                    (c.clip, c.annotator) not in skipped,
                                                     (tied.start, tied.end) if tied else None))
         gold_labels, gold_caps = self.gold_labels(), self.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)
@@ -80,6 +86,7 @@ class ExportingMixin:
                 clip_id=str(c.id), media_path=c.path, group=c.group, sha256=c.sha256,
                 fingerprint=None if fp is None else fp & 0xFFFFFFFFFFFFFFFF, fps=c.fps,
                 frame_count=c.frame_count, labels=tuple(v for _, v in votes),
+                annotator_labels=tuple(votes), skipped=tuple(skips.get(c.id, ())),
                 gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
                 gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
                 segments=tuple(chosen), consent=c.consent, licence=c.licence,
@@ -89,11 +96,15 @@ class ExportingMixin:
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
                     hamming_radius: int = 8, caption_threshold: float = 0.9,
-                    progress: Progress = None) -> export.ExportPlan:
+                    progress: Progress = None, captions: str = "gold") -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
-        export manifest (or its folder) uses that manifest's assignment instead.
+        export manifest (or its folder) uses that manifest's assignment instead. ``captions``
+        is the caption policy, ``"gold"`` or ``"gold+agreeing"`` (see
+        :class:`clipscribe.export.LabelPolicy`); clips with fewer references than the caption
+        guideline's captions per clip, and splits empty or far from their ratios, are in the
+        plan's ``warnings``.
         """
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
@@ -105,9 +116,8 @@ class ExportingMixin:
         try:
             return export.build_plan(
                 self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
-                project=self.settings.name, policy=export.LabelPolicy(min_agreement=min_agreement),
-                seed=seed, frozen=frozen, require_consent=self.settings.require_consent,
-                hamming_radius=hamming_radius, caption_threshold=caption_threshold)
+                project=self.settings.name, seed=seed, frozen=frozen,
+                **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold))
         except ValueError as exc:
             raise RecordError(f"export: {exc}") from None
 
@@ -136,16 +146,17 @@ class ExportingMixin:
 
     def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
                    min_agreement: float = 0.6, hamming_radius: int = 8,
-                   caption_threshold: float = 0.9, progress: Progress = None) -> list[export.ExportPlan]:
+                   caption_threshold: float = 0.9, progress: Progress = None,
+                   captions: str = "gold") -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
         inputs = self.export_inputs()
-        opts = dict(project=self.settings.name, policy=export.LabelPolicy(min_agreement=min_agreement),
-                    seed=seed, require_consent=self.settings.require_consent,
-                    hamming_radius=hamming_radius, caption_threshold=caption_threshold)
         try:
+            opts = dict(project=self.settings.name, seed=seed,
+                        **self._plan_options(min_agreement, captions, hamming_radius,
+                                             caption_threshold))
             base = export.build_plan(inputs, {"all": 1.0}, **opts)
             items = [(c.clip_id, c.group, base.decisions[c.clip_id].label) for c in base.clips]
             folds = export.assign_folds(items, k, seed=seed, val_fraction=val_fraction)
@@ -192,6 +203,14 @@ class ExportingMixin:
             s, "export", "dataset", None, None, None,
             {"folder": str(out), "folds": len(plans), "override": override_reason})), out)
         return manifests
+
+    def _plan_options(self, min_agreement: float, captions: str, hamming_radius: int,
+                      caption_threshold: float) -> dict[str, Any]:
+        """Options of :func:`clipscribe.export.build_plan` that come from the project."""
+        return dict(policy=export.LabelPolicy(min_agreement=min_agreement, captions=captions),
+                    require_consent=self.settings.require_consent, hamming_radius=hamming_radius,
+                    caption_threshold=caption_threshold,
+                    captions_wanted=self.settings.caption_guideline.captions_per_clip)
 
     def _require_lead(self, what: str) -> None:
         if self.role(self.user) != "lead":

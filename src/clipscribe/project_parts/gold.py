@@ -8,7 +8,10 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import RecordError
-from ..store.models import Annotator, GoldCaption, GoldLabel, GoldSegment, ReviewComment
+from ..store.models import (
+    Annotator, Assignment, Caption, ClipLabel, GoldCaption, GoldLabel, GoldSegment, ReviewComment,
+    Segment,
+)
 from .annotate import check_caption_length
 from .base import require, row_dict
 
@@ -106,17 +109,42 @@ class GoldMixin:
         return self._read(q)
 
     def add_comment(self, clip: Any, text: str, *, annotator: Any = None, lead: Any = None) -> int:
-        """Leave a lead's comment on a clip, optionally addressed to one annotator."""
+        """Leave a lead's comment on a clip, optionally addressed to one annotator. Only a
+        comment addressed to an annotator reaches them (on that clip, in their clip panel);
+        one addressed to no one stays among the leads. See :meth:`comment_to_annotators`."""
         def work(s: Session) -> int:
             c, who = self._clip(s, clip), self._lead(s, lead)
             to = self._annotator(s, annotator).id if annotator is not None else None
-            require(bool(text and text.strip()), "comment is blank")
-            row = ReviewComment(clip_id=c.id, annotator_id=to, lead_id=who.id, text=text)
-            s.add(row)
-            s.flush()
-            self._log(s, "add", "comment", row.id, c.id, None, row_dict(row), who=who)
-            return row.id
+            return self._add_comment(s, c.id, who, to, text)
         return self._write(work)
+
+    def comment_to_annotators(self, clip: Any, text: str, *, annotators: Any = None,
+                              lead: Any = None) -> list[int]:
+        """The same comment to several annotators of ``clip``, one addressed copy each, in one
+        transaction. ``annotators`` defaults to everyone (leads excepted) who labelled,
+        segmented, captioned, skipped or was assigned the clip. Returns the comment ids."""
+        def work(s: Session) -> list[int]:
+            c, who = self._clip(s, clip), self._lead(s, lead)
+            if annotators is None:
+                ids = set()
+                for model in (ClipLabel, Segment, Caption, Assignment):
+                    ids |= set(s.scalars(select(model.annotator_id).where(model.clip_id == c.id)))
+                people = [a for a in s.scalars(select(Annotator).where(Annotator.id.in_(ids))
+                                               .order_by(Annotator.name)) if a.role != "lead"]
+            else:
+                people = [self._annotator(s, a) for a in annotators]
+            require(bool(people), f"clip {c.id}: no annotator has worked on it to address")
+            return [self._add_comment(s, c.id, who, a.id, text) for a in people]
+        return self._write(work)
+
+    def _add_comment(self, s: Session, clip_id: int, who: Annotator, to: int | None,
+                     text: str) -> int:
+        require(bool(text and text.strip()), "comment is blank")
+        row = ReviewComment(clip_id=clip_id, annotator_id=to, lead_id=who.id, text=text)
+        s.add(row)
+        s.flush()
+        self._log(s, "add", "comment", row.id, clip_id, None, row_dict(row), who=who)
+        return row.id
 
     def comments(self, clip: Any = None) -> list[tuple[int, str | None, str, str]]:
         """``(clip id, addressee or None, lead, text)``."""

@@ -17,9 +17,10 @@ from ..export import csvsafe, jsonl
 from .catalog import probe_media
 from ..errors import RecordError
 from ..schema.records import (
-    RECORD_TYPES, CaptionRecord, ClipRecord, GoldRecord, LabelRecord, SegmentRecord, parse_record,
+    RECORD_TYPES, CaptionRecord, ClipRecord, CommentRecord, GoldRecord, LabelRecord, SegmentRecord,
+    parse_record,
 )
-from ..store.models import Annotator, Caption, Clip, Segment
+from ..store.models import Annotator, Caption, Clip, ReviewComment, Segment
 
 MAX_LISTED = 20
 
@@ -64,7 +65,8 @@ class RecordsMixin:
                     if isinstance(rec, LabelRecord) and self._label_seen(s, rec, line, labelled, src):
                         counts["duplicate"] += 1
                         continue
-                    counts[rec.type] += self._apply_record(s, rec, probed.get(line))
+                    # "comment" counts appear only when the file holds comments
+                    counts[rec.type] = counts.get(rec.type, 0) + self._apply_record(s, rec, probed.get(line))
                 except RecordError as exc:
                     if str(exc).startswith(f"{src}:"):
                         raise
@@ -128,7 +130,20 @@ class RecordsMixin:
             if rec.captions is not None:
                 self._set_gold_captions(s, rec.clip, rec.captions, rec.annotator)
             return 1
+        if isinstance(rec, CommentRecord):
+            return self._import_comment(s, rec)
         raise AssertionError(rec)
+
+    def _import_comment(self, s: Session, rec: CommentRecord) -> int:
+        c, who = self._clip(s, rec.clip), self._lead(s, rec.annotator)
+        to = self._annotator(s, rec.to).id if rec.to is not None else None
+        if s.scalar(select(ReviewComment.id).where(
+                ReviewComment.clip_id == c.id, ReviewComment.lead_id == who.id,
+                ReviewComment.annotator_id.is_(to) if to is None else ReviewComment.annotator_id == to,
+                ReviewComment.text == rec.text)) is not None:
+            return 0  # the same comment again: imported before
+        self._add_comment(s, c.id, who, to, rec.text)
+        return 1
 
     @staticmethod
     def _has_segment(s: Session, clip_id: int, annotator_id: int, rec: SegmentRecord) -> bool:
@@ -190,7 +205,9 @@ class RecordsMixin:
 
     # ---- export -----------------------------------------------------------------------
     def iter_records(self):
-        """Every clip, label, segment, caption and gold decision as interchange records.
+        """Every clip, label, segment, caption, gold decision and lead comment as interchange
+        records (comments: those this login may read; on a server an annotator reads only the
+        ones addressed to them).
 
         Built from stored rows without validating them again, so a row stored before a limit
         existed is still written out (an import then names it)."""
@@ -219,6 +236,8 @@ class RecordsMixin:
                                   captions=gold_caps.pop(clip, None)))
         for clip, caps in sorted(gold_caps.items()):
             out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], captions=caps))
+        for clip, to, lead, text in self.comments():
+            out.append(CommentRecord.model_construct(clip=paths[clip], annotator=lead, to=to, text=text))
         return out
 
     @staticmethod

@@ -14,7 +14,7 @@ from sqlalchemy.orm import Session
 from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import GoldCaption
+from ..store.models import Annotator, Assignment, GoldCaption
 from .annotate import CaptionInfo, SegmentInfo
 
 #: a pause between two edits longer than this is not counted as working time (our choice)
@@ -41,6 +41,7 @@ class DisputedClip:
     caption_cider: float
     labels: dict[str, str]
     gold_label: str | None
+    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
 
     @property
     def settled(self) -> bool:
@@ -69,6 +70,7 @@ class ClipComparison:
     gold_captions: list[GoldCaptionInfo]
     comments: list[tuple[int, str | None, str, str]]
     scores: dict[str, float] = field(default_factory=dict)
+    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
 
 
 @dataclass(frozen=True, slots=True)
@@ -125,6 +127,19 @@ class ReviewMixin:
     def _workers(self) -> set[str]:
         return {a.name for a in self.annotators() if a.role != "lead"}
 
+    def skips(self, clip: Any = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
+        name. A skip is not a label: agreement and exports leave the skipper's label out."""
+        def q(s: Session) -> list[tuple[int, str, str]]:
+            stmt = (select(Assignment.clip_id, Annotator.name, Assignment.reason)
+                    .join(Annotator, Annotator.id == Assignment.annotator_id)
+                    .where(Assignment.state == "skipped")
+                    .order_by(Assignment.clip_id, Annotator.name))
+            if clip is not None:
+                stmt = stmt.where(Assignment.clip_id == self._clip(s, clip).id)
+            return [(c, a, r or "") for c, a, r in s.execute(stmt)]
+        return self._read(q)
+
     # ---- the queue ----------------------------------------------------------------------
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
                      group: str | None = None, report: Any = None, seed: int = 0,
@@ -142,8 +157,11 @@ class ReviewMixin:
         clips = {c.id: c for c in self.clips()}
         workers = self._workers()
         by_clip: dict[int, dict[str, str]] = {}
+        skips: dict[int, dict[str, str]] = {}
+        for c, a, why in self.skips():
+            skips.setdefault(c, {})[a] = why
         for c, a, lab in self.clip_labels():
-            if a in workers:
+            if a in workers and a not in skips.get(c, {}):  # a skip is no vote
                 by_clip.setdefault(c, {})[a] = lab
         worked: dict[int, set[str]] = {c: set(v) for c, v in by_clip.items()}
         if annotator is not None:
@@ -157,12 +175,13 @@ class ReviewMixin:
             cid = int(row.clip)
             seen.add(cid)
             out.append(self._disputed(len(out) + 1, clips.get(cid), row, by_clip.get(cid, {}),
-                                      gold.get(cid)))
+                                      gold.get(cid), skips.get(cid, {})))
         nan = float("nan")
         for cid in clips:  # clips nobody worked on come last
             if cid not in seen:
                 out.append(DisputedClip(len(out) + 1, cid, clips[cid].path, clips[cid].group,
-                                        nan, nan, nan, nan, {}, gold.get(cid)))
+                                        nan, nan, nan, nan, {}, gold.get(cid),
+                                        skips.get(cid, {})))
         keep = [r for r in out if r.path is not None
                 and (label is None or label in r.labels.values())
                 and (annotator is None or annotator in worked.get(r.clip, ()))
@@ -170,10 +189,10 @@ class ReviewMixin:
         return keep
 
     @staticmethod
-    def _disputed(rank, info, row, labels, gold) -> DisputedClip:
+    def _disputed(rank, info, row, labels, gold, skipped) -> DisputedClip:
         return DisputedClip(rank, int(row.clip), info.path if info else None,
                             info.group if info else None, row.label_disagreement, row.segment_f1,
-                            row.caption_bleu, row.caption_cider, labels, gold)
+                            row.caption_bleu, row.caption_cider, labels, gold, skipped)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -182,11 +201,15 @@ class ReviewMixin:
 
     # ---- one clip -----------------------------------------------------------------------
     def clip_comparison(self, clip: Any, *, report: Any = None) -> ClipComparison:
-        """Every annotator's label, segments and captions of ``clip`` beside the gold. Leads only."""
+        """Every annotator's label, segments and captions of ``clip`` beside the gold, and who
+        skipped it with their reason (a skipper's left-over label is not among ``labels``).
+        Leads only."""
         self.check_reviewer()
         info = self.clip(clip)
         workers = self._workers()
-        labels = {a: lab for c, a, lab in self.clip_labels(clip=info.id) if a in workers}
+        skipped = {a: why for _, a, why in self.skips(info.id) if a in workers}
+        labels = {a: lab for c, a, lab in self.clip_labels(clip=info.id)
+                  if a in workers and a not in skipped}
         segs: dict[str, list[SegmentInfo]] = {}
         for g in self.segments(clip=info.id):
             if g.annotator in workers:
@@ -195,7 +218,7 @@ class ReviewMixin:
         for c in self.caption_rows(clip=info.id):
             if c.annotator in workers:
                 caps.setdefault(c.annotator, []).append(c)
-        names = sorted(set(labels) | set(segs) | set(caps))
+        names = sorted(set(labels) | set(segs) | set(caps) | set(skipped))
         scores = {}
         if report is not None:
             row = next((r for r in report.clips if int(r.clip) == info.id), None)
@@ -205,7 +228,7 @@ class ReviewMixin:
             info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
             caps, self.gold_labels().get(info.id),
             [(lab, s, e) for _, lab, s, e in self.gold_segments(info.id)],
-            self.gold_caption_rows(info.id), self.comments(info.id), scores)
+            self.gold_caption_rows(info.id), self.comments(info.id), scores, skipped)
 
     def gold_caption_rows(self, clip: Any) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""

@@ -4,13 +4,14 @@ did on it."""
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass
 from typing import Any
 
 from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
-from ..store.models import Assignment, Caption, Clip, ClipLabel, Label
+from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Label, ReviewComment
 from .annotate import CaptionInfo, SegmentInfo
 from .catalog import ClipInfo
 
@@ -41,6 +42,17 @@ class OthersWork:
     @property
     def empty(self) -> bool:
         return not (self.labels or self.captions or self.segments)
+
+
+@dataclass(frozen=True, slots=True)
+class CommentNote:
+    """A lead's comment addressed to one annotator on one clip, as that annotator sees it."""
+    id: int
+    clip: int
+    lead: str
+    text: str
+    at: dt.datetime
+    unread: bool
 
 
 class WorkbenchMixin:
@@ -170,3 +182,59 @@ class WorkbenchMixin:
         captions = [c for c in self.caption_rows(clip=clip) if c.annotator != me]
         segments = [g for g in self.segments(clip=clip) if g.annotator != me]
         return OthersWork(labels, captions, segments)
+
+    # ---- lead comments, as their addressee sees them ----------------------------------------
+    def _comments_to(self, s: Session, me, clip_id: int | None = None):
+        """(comment, lead name, read up to) of comments addressed to ``me``; only those rows
+        (on a server, row-level security shows an annotator nothing else)."""
+        lead = Annotator.__table__.alias("lead")
+        stmt = (select(ReviewComment, lead.c.name, Assignment.comments_read)
+                .join(lead, lead.c.id == ReviewComment.lead_id)
+                .outerjoin(Assignment, and_(Assignment.clip_id == ReviewComment.clip_id,
+                                            Assignment.annotator_id == me.id))
+                .where(ReviewComment.annotator_id == me.id)
+                .order_by(ReviewComment.clip_id, ReviewComment.id))
+        if clip_id is not None:
+            stmt = stmt.where(ReviewComment.clip_id == clip_id)
+        return s.execute(stmt).all()
+
+    def my_comments(self, clip: Any, annotator: Any = None) -> list[CommentNote]:
+        """Lead comments addressed to ``annotator`` (default: the current user) on ``clip``,
+        oldest first, each marked unread until :meth:`mark_comments_read`. Comments addressed
+        to others, or to no one, are never among them."""
+        def q(s: Session) -> list[CommentNote]:
+            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            return [CommentNote(r.id, r.clip_id, lead, r.text, r.created_at,
+                                read is None or r.id > read)
+                    for r, lead, read in self._comments_to(s, me, c.id)]
+        return self._read(q)
+
+    def unread_comments(self, annotator: Any = None) -> dict[int, int]:
+        """``{clip id: number of unread comments}`` addressed to ``annotator`` (default: the
+        current user); clips with none are left out."""
+        def q(s: Session) -> dict[int, int]:
+            me = self._annotator(s, annotator)
+            out: dict[int, int] = {}
+            for r, _lead, read in self._comments_to(s, me):
+                if read is None or r.id > read:
+                    out[r.clip_id] = out.get(r.clip_id, 0) + 1
+            return out
+        return self._read(q)
+
+    def mark_comments_read(self, clip: Any, annotator: Any = None) -> int:
+        """Mark every comment addressed to ``annotator`` (default: the current user) on ``clip``
+        as read; returns how many were unread. The read state lives on the person's own
+        assignment of the clip (made when missing, as opening work on a clip does); not an edit
+        of the data, so it is not in the edit history and not undone."""
+        def work(s: Session) -> int:
+            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            rows = self._comments_to(s, me, c.id)
+            if not rows:
+                return 0
+            newest = max(r.id for r, _, _ in rows)
+            read = rows[0][2]
+            unread = sum(read is None or r.id > read for r, _, _ in rows)
+            if unread:
+                self._touch(s, c, me).comments_read = newest
+            return unread
+        return self._write(work)

@@ -62,7 +62,9 @@ class ExportRecord(_Model):
     agreement: float | None = Field(
         default=None, ge=0, le=1,
         description="share of annotator labels equal to the decided label")
-    annotators: int = Field(ge=0, description="number of annotator labels seen")
+    annotators: int = Field(ge=0, description="number of annotators who labelled the clip (a "
+                                              "skip is not a label and is not counted here)")
+    skipped: int = Field(default=0, ge=0, description="number of annotators who skipped the clip")
     fps: float | None = Field(default=None, gt=0)
     frame_count: int | None = Field(default=None, ge=0)
     segments: list[ExportSegment] = Field(default_factory=list)
@@ -74,6 +76,10 @@ class LabelPolicyModel(_Model):
 
     min_agreement: float = Field(ge=0, le=1)
     require_label: bool = True
+    captions: Literal["gold", "gold+agreeing"] = Field(
+        default="gold", description="gold: the gold references when present, else every accepted "
+                                    "annotator caption; gold+agreeing: the gold references plus "
+                                    "the captions of annotators whose label equals the exported one")
     rule: str = Field(description="the rule in words")
 
 
@@ -84,6 +90,20 @@ class FindingModel(_Model):
     severity: Literal["blocking", "warning"]
     message: str
     clips: list[str]
+    files: list[str] = Field(default_factory=list,
+                             description="media paths of `clips` (same order), relative to the "
+                                         "project's media root")
+    details: dict = Field(default_factory=dict)
+
+
+class QualityWarning(_Model):
+    """A warning about the export that is not leakage (a split empty or far from its ratio,
+    clips with fewer reference captions than the guideline asks for). Never blocks."""
+
+    kind: Literal["split-empty", "split-off-ratio", "few-captions"]
+    message: str
+    clips: list[str] = Field(default_factory=list)
+    files: list[str] = Field(default_factory=list, description="media paths of `clips`")
     details: dict = Field(default_factory=dict)
 
 
@@ -118,6 +138,7 @@ class LeftOut(_Model):
 
     clip: str
     reason: str
+    media: str | None = Field(default=None, description="media path relative to the media root")
 
 
 class ExportManifest(_Model):
@@ -133,6 +154,9 @@ class ExportManifest(_Model):
     counts: dict[str, dict[str, int]] = Field(description="clips per split x label")
     totals: dict[str, int] = Field(description="clips per split")
     left_out: list[LeftOut] = Field(default_factory=list)
+    warnings: list[QualityWarning] = Field(
+        default_factory=list, description="splits empty or far from their ratios, clips short of "
+                                          "reference captions; see recipes.warnings")
     split_conflicts: list[str] = Field(
         default_factory=list, description="frozen assignments that put one group in two splits")
     media_mode: Literal["copy", "hardlink"] | None = None

@@ -38,6 +38,13 @@ class _Record(BaseModel):
         return str(v) if isinstance(v, int) else v
 
 
+def _refuse_blank(cls, v: str) -> str:
+    """Text fields: all white space is as good as empty ("caption text is blank")."""
+    if not v.strip():
+        raise ValueError(f"{cls.model_fields['type'].default} text is blank")
+    return v
+
+
 class ClipRecord(_Record):
     """A media file to register (path relative to the media root)."""
 
@@ -84,12 +91,7 @@ class CaptionRecord(_Record):
     text: CaptionText
     segment: tuple[Frame, Frame] | None = None
 
-    @field_validator("text")
-    @classmethod
-    def _not_blank(cls, v: str) -> str:
-        if not v.strip():
-            raise ValueError("caption text is blank")
-        return v
+    _not_blank = field_validator("text")(classmethod(_refuse_blank))
 
 
 class GoldRecord(_Record):
@@ -102,13 +104,25 @@ class GoldRecord(_Record):
     captions: list[CaptionText] | None = None
 
 
+class CommentRecord(_Record):
+    """A lead's comment on a clip, addressed to one annotator (``to``) or to no one."""
+
+    type: Literal["comment"] = "comment"
+    clip: ClipRef
+    annotator: Name = Field(description="the lead who wrote it")
+    to: Name | None = Field(default=None, description="the annotator it is addressed to")
+    text: str = Field(min_length=1, max_length=5000)
+
+    _not_blank = field_validator("text")(classmethod(_refuse_blank))
+
+
 Record = Annotated[
-    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord],
+    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
-    "caption": CaptionRecord, "gold": GoldRecord,
+    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 

@@ -126,6 +126,9 @@ class Assignment(Base):
     expires_at: Mapped[Optional[dt.datetime]] = mapped_column(DateTime(timezone=True))
     updated_at: Mapped[when]
     version: Mapped[int] = mapped_column(Integer, default=1)
+    #: id of the newest lead comment on this clip addressed to this annotator that they have
+    #: read; larger ids are unread (comment ids are never reused)
+    comments_read: Mapped[Optional[int]] = mapped_column(Integer)
     __mapper_args__ = {"version_id_col": version}
 
 

@@ -230,7 +230,7 @@ ANNOTATOR_INSERTS = (*PERSON_TABLES, "assignments", "edits")
 #: the columns of an assignment an annotator's login may change (no table-wide UPDATE, no
 #: DELETE: either would also let it LOCK the table in a mode that stops everyone; no lease:
 #: only the pull gives one)
-ASSIGNMENT_COLUMNS = ("state", "reason", "updated_at", "version")
+ASSIGNMENT_COLUMNS = ("state", "reason", "updated_at", "version", "comments_read")
 #: server-side limits per login in this database (``ALTER ROLE … IN DATABASE … SET``): a
 #: statement waiting longer than lock_timeout for a lock fails instead of hanging, and a
 #: session left idle inside a transaction is ended (with its locks)
@@ -299,11 +299,12 @@ def _policies() -> str:
     return "\n".join(out)
 
 
-def _grants() -> str:
+def _grants(assignment_columns: tuple[str, ...] = ASSIGNMENT_COLUMNS) -> str:
     """Grants and revocations that may be applied again to a database already set up (they
-    bring one made by an older clipscribe to the current rules)."""
+    bring one made by an older clipscribe to the current rules). ``assignment_columns``: those
+    of :data:`ASSIGNMENT_COLUMNS` the table has at this point of the migrations."""
     a, l = ANNOTATOR_GROUP, LEAD_GROUP
-    cols = ", ".join(ASSIGNMENT_COLUMNS)
+    cols = ", ".join(assignment_columns)
     out = [
         # clips.state changes only through clipscribe_refresh_clip_state; without any UPDATE
         # right on clips an annotator can neither LOCK it nor SELECT … FOR UPDATE its rows
@@ -396,7 +397,11 @@ def harden(conn: Any) -> None:
     place (the policies refer to them, not to their text), grants and revocations repeat.
     """
     raw = _driver(conn)
-    for block in (_FUNCTIONS, _PULL, _TRIGGERS, _grants()):
+    present = {r[0] for r in raw.execute(
+        "SELECT column_name FROM information_schema.columns "
+        f"WHERE table_schema = '{SCHEMA}' AND table_name = 'assignments'").fetchall()}
+    columns = tuple(c for c in ASSIGNMENT_COLUMNS if c in present)
+    for block in (_FUNCTIONS, _PULL, _TRIGGERS, _grants(columns)):
         raw.execute(block)
     for login, role in raw.execute(
             f"SELECT a.db_login, a.role FROM {_q('annotators')} a JOIN pg_catalog.pg_roles r "

@@ -1,5 +1,6 @@
-"""The clip panel: the clip label buttons, the clip's state, the inline skip prompt and, with
-blind mode off, a muted read-only line of the labels the other annotators gave.
+"""The clip panel: the clip label buttons, the clip's state, the inline skip prompt, the lead's
+comments addressed to this person on this clip (unread ones marked) and, with blind mode off, a
+muted read-only line of the labels the other annotators gave.
 
 Buttons are bound to the window's actions, so a key and a click do the same thing.
 """
@@ -16,8 +17,16 @@ from PySide6.QtWidgets import (
 from . import theme
 
 
+#: unread comments stand out: dark amber text on a pale ground (readable in light and dark themes)
+UNREAD_STYLE = ("QLabel#leadComments { color: #4a3000; background: #fff4d6; "
+                "border: 1px solid #e0b64a; border-radius: 3px; padding: 4px; }")
+READ_STYLE = ("QLabel#leadComments { border: 1px solid #b8c1ca; border-radius: 3px; "
+              "padding: 4px; }")
+
+
 class ClipPanel(QWidget):
     skipConfirmed = Signal(str)   # reason
+    commentsRead = Signal()       # the person acknowledged the comments on screen
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -62,6 +71,26 @@ class ClipPanel(QWidget):
         self.skip_reason.returnPressed.connect(self._confirm_skip)
         cancel.clicked.connect(self.hide_skip_prompt)
         self.label_buttons: dict[str, QToolButton] = {}
+        # the lead's comments to this person on this clip: hidden when there are none
+        self.comment_box = QWidget()
+        self.comment_box.setObjectName("commentBox")
+        cl = QVBoxLayout(self.comment_box)
+        cl.setContentsMargins(0, 4, 0, 0)
+        self.comments = QLabel()
+        self.comments.setObjectName("leadComments")
+        self.comments.setWordWrap(True)
+        self.comments.setTextFormat(Qt.TextFormat.PlainText)
+        self.comments.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        cl.addWidget(self.comments)
+        self.read_button = QPushButton("Mark comments as read")
+        self.read_button.setObjectName("markCommentsRead")
+        self.read_button.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.read_button.setToolTip("The comments stay here; only the new mark goes")
+        self.read_button.clicked.connect(self.commentsRead)
+        cl.addWidget(self.read_button, 0, Qt.AlignmentFlag.AlignRight)
+        self.comment_box.hide()
+        lay.addWidget(self.comment_box)
+        self.unread = 0
 
     def set_label_actions(self, actions: list[QAction], colours: dict[str, str]) -> None:
         for i, action in enumerate(actions):
@@ -99,6 +128,20 @@ class ClipPanel(QWidget):
         for name, b in self.label_buttons.items():
             b.setChecked(name == label)
         self.state.setText(f"Your state: {state}" + (f" ({reason})" if reason else ""))
+
+    def show_comments(self, notes: list) -> None:
+        """Show the lead's comments to this person on this clip (``CommentNote`` objects),
+        unread ones marked "NEW"; none hides the box."""
+        self.unread = sum(n.unread for n in notes)
+        head = (f"Comments from the lead — {self.unread} new" if self.unread
+                else "Comments from the lead")
+        lines = [f"{'● NEW  ' if n.unread else ''}{n.lead}, {n.at:%d %b %H:%M}: {n.text}"
+                 for n in notes]
+        self.comments.setText("\n".join([head, *lines]))
+        self.comments.setAccessibleName(head)
+        self.comments.setStyleSheet(UNREAD_STYLE if self.unread else READ_STYLE)
+        self.read_button.setVisible(bool(self.unread))
+        self.comment_box.setVisible(bool(notes))
 
     def show_others(self, labels: list[tuple[str, str]]) -> None:
         """Show ``(annotator, label)`` pairs of the others; none hides the line."""

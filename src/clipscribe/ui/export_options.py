@@ -13,6 +13,8 @@ from PySide6.QtWidgets import (
 SPLITS = (("train", "&Train", 70), ("val", "&Val", 15), ("test", "Te&st", 15))
 MEDIA_MODES = (("Leave media where they are", None), ("Copy media into the export", "copy"),
                ("Hard-link media (same disk only)", "hardlink"))
+CAPTION_POLICIES = (("Gold only (else every annotator's)", "gold"),
+                    ("Gold and agreeing annotators'", "gold+agreeing"))
 
 
 class ExportOptions:
@@ -71,6 +73,16 @@ class ExportOptions:
                                       "this share of the clip's annotators; otherwise the clip is "
                                       "left out")
         form.addRow("Minimum a&greement", self.min_agreement)
+        self.caption_policy = QComboBox()
+        self.caption_policy.setObjectName("captionPolicy")
+        for text, value in CAPTION_POLICIES:
+            self.caption_policy.addItem(text, value)
+        self.caption_policy.setToolTip(
+            "Gold only: a settled clip exports just the captions the lead ticked into gold "
+            "(every annotator caption when none were ticked). Gold and agreeing annotators: also "
+            "the captions of annotators whose own label equals the exported label, without "
+            "repeating a text.")
+        form.addRow("Captions to e&xport", self.caption_policy)
         self.radius = QSpinBox()
         self.radius.setRange(0, 64)
         self.radius.setValue(8)
@@ -125,7 +137,8 @@ class ExportOptions:
 
     def _key(self) -> tuple:
         """The settings a check depends on; a check is current while this stays the same."""
-        common = (self.seed.value(), round(self.min_agreement.value(), 4), self.radius.value())
+        common = (self.seed.value(), round(self.min_agreement.value(), 4), self.radius.value(),
+                  self.caption_policy.currentData())
         if self.fold_mode:
             return ("folds", self.k.value(), self.val_share.value(), *common)
         return ("one", tuple(sorted(self.ratios().items())), *common, self.keep_splits.isChecked())
@@ -136,6 +149,7 @@ class ExportOptions:
         return [(self.one_split, True), (self.folds, True),
                 *((s, not folds) for s in self.ratio_spins.values()),
                 (self.k, folds), (self.val_share, folds), (self.seed, True),
-                (self.min_agreement, True), (self.radius, True), (self.keep_splits, not folds),
+                (self.min_agreement, True), (self.caption_policy, True), (self.radius, True),
+                (self.keep_splits, not folds),
                 (self.folder, True), (self.browse, True), (self.media, True), (self.webvtt, True),
                 (self.overwrite, not folds)]  # folds go only into a new or empty folder

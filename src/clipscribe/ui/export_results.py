@@ -4,11 +4,18 @@ over the read-only models of :mod:`.leakage_model`."""
 
 from __future__ import annotations
 
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QAbstractItemView, QHeaderView, QLabel, QTableView, QTabWidget, QVBoxLayout, QWidget,
 )
 
 from .leakage_model import LeakageModel, RowsModel, split_label_rows
+
+
+#: quality warnings stand out from the grey summary: dark amber text on a pale ground, readable
+#: in light and dark themes alike
+WARNING_STYLE = ("QLabel { color: #5c3c00; background: #fff4d6; border: 1px solid #e0b64a; "
+                 "border-radius: 3px; padding: 4px; }")
 
 
 def _warnings(n: int) -> str:
@@ -26,13 +33,21 @@ class CheckResults(QWidget):
         self.summary.setObjectName("exportSummary")
         self.summary.setWordWrap(True)
         lay.addWidget(self.summary)
+        self.warnings = QLabel()
+        self.warnings.setObjectName("exportWarnings")
+        self.warnings.setWordWrap(True)
+        self.warnings.setTextFormat(Qt.TextFormat.PlainText)
+        self.warnings.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.warnings.setStyleSheet(WARNING_STYLE)
+        self.warnings.hide()
+        lay.addWidget(self.warnings)
         self.split_model = RowsModel(["Label", "train", "val", "test", "Total"], self,
                                      total_row=True)
-        self.left_model = RowsModel(["Clip", "Annotators", "Why it is left out"], self)
+        self.left_model = RowsModel(["File", "Clip", "Annotators", "Why it is left out"], self)
         self.leak_model = LeakageModel(self)
         self.tabs = QTabWidget()
         self.split_view = self._table(self.split_model, "splitTable", stretch=0)
-        self.left_view = self._table(self.left_model, "leftOutTable", stretch=2)
+        self.left_view = self._table(self.left_model, "leftOutTable", stretch=3)
         self.leak_view = self._table(self.leak_model, "leakageTable", stretch=2)
         self.leak_view.setWordWrap(True)
         self.tabs.addTab(self.split_view, "Splits")
@@ -75,7 +90,8 @@ class CheckResults(QWidget):
         rows.append(("All splits", *(sum(r[i] for r in rows) for i in range(1, 5))))
         self.split_model.set_rows(rows, ["Split", *cols, "Total"])
         left = plans[0].left_out
-        self.left_model.set_rows([(d.clip_id, d.annotators, d.reason or "") for d in left])
+        self._left_out(plans[0])
+        self._show_warnings([(name, w) for name, pl in zip(names, plans) for w in pl.warnings])
         findings = [(name, f) for name, pl in zip(names, plans) for f in pl.leakage.findings]
         self.leak_model.set_findings([f for _, f in findings], [n for n, _ in findings])
         n_block = sum(len(pl.leakage.blocking) for pl in plans)
@@ -94,6 +110,19 @@ class CheckResults(QWidget):
         self._stretch_message()
         self.leak_view.resizeRowsToContents()
 
+    def _left_out(self, plan) -> None:
+        media = getattr(plan, "left_out_media", {})
+        self.left_model.set_rows([(media.get(d.clip_id, ""), d.clip_id,
+                                   f"{d.annotators} (+{d.skipped} skipped)" if d.skipped else d.annotators,
+                                   d.reason or "") for d in plan.left_out])
+
+    def _show_warnings(self, warnings: list) -> None:
+        """Quality warnings (split balance, reference captions) above the tables, one per
+        line; hidden when there are none."""
+        lines = [f"⚠ {f'{where}: ' if where else ''}{w.message}" for where, w in warnings]
+        self.warnings.setText("\n".join(lines))
+        self.warnings.setVisible(bool(lines))
+
     def _stretch_message(self) -> None:
         """Give the spare width to the "What was found" column, wherever it is now."""
         h = self.leak_view.horizontalHeader()
@@ -109,6 +138,7 @@ class CheckResults(QWidget):
             self.split_model.set_rows([])
             self.left_model.set_rows([])
             self.leak_model.set_findings([])
+            self._show_warnings([])
             for i, text in enumerate(("Splits", "Left out", "Leakage")):
                 self.tabs.setTabText(i, text)
             return
@@ -130,7 +160,8 @@ class CheckResults(QWidget):
                                          {c: d.label for c, d in plan.decisions.items()},
                                          list(plan.split.ratios))
         self.split_model.set_rows(rows, headers)
-        self.left_model.set_rows([(d.clip_id, d.annotators, d.reason or "") for d in plan.left_out])
+        self._left_out(plan)
+        self._show_warnings([(None, w) for w in plan.warnings])
         self.leak_model.set_findings(rep.findings)
         self._stretch_message()
         self.tabs.setTabText(1, f"Left out ({len(plan.left_out)})")

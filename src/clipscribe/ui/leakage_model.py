@@ -109,7 +109,7 @@ class LeakageModel(_Table):
     """Leakage findings (objects with ``kind severity message clips``), blocking first; with
     rotating splits, a first "Split" column names the split each finding was found in."""
 
-    HEADERS = ("Severity", "Kind", "What was found", "Clips")
+    HEADERS = ("Severity", "Kind", "What was found", "Files")
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
@@ -162,13 +162,15 @@ class LeakageModel(_Table):
                 return f.kind
             if col == 2:
                 return f.message
-            clips = _natural(f.clips)
+            clips = _natural(getattr(f, "files", ()) or f.clips)  # media paths; ids if unknown
             shown = ", ".join(clips[:CLIPS_SHOWN])
-            return shown + (f" … (+{len(f.clips) - CLIPS_SHOWN})" if len(f.clips) > CLIPS_SHOWN else "")
+            return shown + (f" … (+{len(clips) - CLIPS_SHOWN})" if len(clips) > CLIPS_SHOWN else "")
         if role == Qt.ItemDataRole.ToolTipRole:
             stop = ("Blocking: the export is refused unless you write anyway and give a reason."
                     if blocking else "Warning: recorded in the manifest; does not stop the export.")
-            return f"{stop}\n{f.message}\nClips: {', '.join(_natural(f.clips))}"
+            files = getattr(f, "files", ())
+            return (f"{stop}\n{f.message}\n" + (f"Files: {', '.join(_natural(files))}\n" if files else "")
+                    + f"Clip ids: {', '.join(_natural(f.clips))}")
         if role == Qt.ItemDataRole.DecorationRole and col == 0:
             return self._icons.get(f.severity)
         if role == Qt.ItemDataRole.BackgroundRole and blocking:

@@ -55,6 +55,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self._restore_layout()
         self.show_view(view)
         self._open_first()
+        self._announce_comments()
         self._write_resume()  # remembered as the last project even before any clip is open
 
     # ---- building ----------------------------------------------------------------------
@@ -136,6 +137,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.timeline.edgeMoved.connect(self.editor.move_segment)
         self.queue.clipChosen.connect(self.open_clip)
         self.clip_panel.skipConfirmed.connect(lambda r: self.editor.set_state("skipped", r))
+        self.clip_panel.commentsRead.connect(self.mark_comments_read)
         self.editor.changed.connect(self.refresh)
         self.editor.saving.connect(lambda: self._show_saved("Saving…", None))
         self.editor.saved.connect(lambda t: self._show_saved(f"Saved {t}", True))
@@ -166,6 +168,17 @@ class MainWindow(SegmentOps, QMainWindow):
             self.open_clip(clip, frame)
         else:
             self.viewer.set_note(self.empty_note())
+
+    def _announce_comments(self) -> None:
+        """Tell the person on opening which clips hold comments from the lead they have not
+        read yet (shown in the clip panel of each)."""
+        unread = self.project.unread_comments()
+        if unread:
+            n = sum(unread.values())
+            clips = ", ".join(str(c) for c in sorted(unread)[:8]) + (" …" if len(unread) > 8 else "")
+            self.statusBar().showMessage(
+                f"{n} new comment{'s' if n != 1 else ''} from the lead on clip"
+                f"{'s' if len(unread) != 1 else ''} {clips}", 20000)
 
     def empty_note(self) -> str:
         if self.project.role(self.project.user) != "lead":
@@ -211,11 +224,19 @@ class MainWindow(SegmentOps, QMainWindow):
         c = self.clip
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
                                   f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
+        self.clip_panel.show_comments(p.my_comments(cid, me))
         others = p.others_work(cid, me)
         self.clip_panel.show_others(others.labels)
         self.others_captions.set_captions(others.captions)
         self.timeline.set_others(others.segments)
         self.queue_model.refresh_clip(cid)
+
+    @Slot()
+    def mark_comments_read(self) -> None:
+        """The person acknowledged the lead's comments on the clip on screen."""
+        if self.clip is not None:
+            self.project.mark_comments_read(self.clip.id)
+            self.clip_panel.show_comments(self.project.my_comments(self.clip.id))
 
     def step_clip(self, step: int) -> None:
         nxt = self.queue.neighbour(step)

@@ -5,6 +5,7 @@ worker pool with progress and cancel, and everything goes through the project's 
 
 from __future__ import annotations
 
+import html
 from pathlib import Path
 
 from PySide6.QtCore import Qt
@@ -14,12 +15,13 @@ from PySide6.QtWidgets import (
 )
 
 from ..errors import RecordError
+from ..project_parts.catalog import BY_FOLDER
 from .people import PeopleBox
 from .workers import Job, JobRunner
 
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {
-    "their folder (one folder per source video or person)": r"^(?P<group>.+)/[^/]+$",
+    "their folder (one folder per source video or person)": BY_FOLDER,
     "nothing (each clip is its own group)": None,
 }
 
@@ -194,6 +196,10 @@ class ProjectSetup(QDialog):
         lines += [f"Skipped {path}: {why}" for path, why in rep.skipped[:8]]
         if len(rep.skipped) > 8:
             lines.append(f"… and {len(rep.skipped) - 8} more")
+        warn = rep.warnings()
+        lines += [f"Exact copy: {html.escape(w)}" for w in warn[:8]]
+        if len(warn) > 8:
+            lines.append(f"… and {len(warn) - 8} more exact copies")
         self._ended("<br>".join(lines))
 
     def _ended(self, text: str) -> None:

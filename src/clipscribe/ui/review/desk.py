@@ -316,8 +316,9 @@ class ReviewDesk(QWidget):
         nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
             ("label split", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
             ("caption BLEU", "caption_bleu", "{:.1f}")))
+        skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items())
         self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "
-                           f"frames at {c.fps:g} fps — {nums}")
+                           f"frames at {c.fps:g} fps — {nums}{skips}")
         tracks = [(a, [(g.label, g.start, g.end) for g in cmp.segments.get(a, [])])
                   for a in cmp.annotators]
         self.tracks.set_tracks(tracks + [(GOLD, cmp.gold_segments)], c.frame_count)
@@ -332,7 +333,8 @@ class ReviewDesk(QWidget):
                         flags[cid] = s.reason
         self.caption_model.load(cmp, bleu=bleu, flags=flags)
         self.segment_model.load(cmp.gold_segments, self.labels)
-        self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments)
+        self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
+                              cmp.skipped)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)

@@ -121,5 +121,8 @@ class ReviewEditor(ClipEditor):
 
     def comment(self, text: str, annotator: str | None) -> Any:
         # comments are messages, not data: they are kept (no undo), like a sent note
+        # to no one in particular: one addressed copy to each annotator of the clip, since an
+        # annotator only ever sees comments addressed to them
         return self.apply("Comment", lambda: self.project.add_comment(
-            self.clip, text, annotator=annotator, lead=self.me), undoable=False)
+            self.clip, text, annotator=annotator, lead=self.me) if annotator is not None else
+            self.project.comment_to_annotators(self.clip, text, lead=self.me), undoable=False)

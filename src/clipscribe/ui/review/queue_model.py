@@ -71,14 +71,16 @@ class DisputedClipsModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.DisplayRole:
             return {
                 "#": str(r.rank), "Clip": r.path,
-                "Labels": ", ".join(sorted(set(r.labels.values()))) or "–",
+                "Labels": (", ".join(sorted(set(r.labels.values()))) or "–")
+                + (f" · {len(r.skipped)} skipped" if r.skipped else ""),
                 "Split": _num(r.label_disagreement, "{:.2f}"),
                 "Seg F1": _num(r.segment_f1, "{:.2f}"),
                 "BLEU": _num(r.caption_bleu, "{:.1f}"),
                 "Gold": r.gold_label or "",
             }[col]
         if role == Qt.ItemDataRole.ToolTipRole:
-            who = "\n".join(f"{a}: {lab}" for a, lab in sorted(r.labels.items()))
+            who = "\n".join([f"{a}: {lab}" for a, lab in sorted(r.labels.items())]
+                            + [f"{a}: skipped ({why})" for a, why in sorted(r.skipped.items())])
             return f"clip {r.clip} ({r.group or 'no group'})\n{who or 'no labels'}"
         if role == Qt.ItemDataRole.TextAlignmentRole and col in ("#", "Split", "Seg F1",
                                                                  "BLEU"):

@@ -100,15 +100,20 @@ class SettlePanel(QWidget):
         self._vote_buttons: list[QPushButton] = []
 
     def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
-                  comments: list) -> None:
+                  comments: list, skipped: dict[str, str] | None = None) -> None:
+        """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote)."""
+        skipped = skipped or {}
         self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
         for b in self._vote_buttons:
             b.deleteLater()
         self._vote_buttons = []
         for i, name in enumerate(annotators):
             lab = labels.get(name)
-            b = QPushButton(f"&{i + 1}  {name}: {lab or '—'}" if i < 9 else f"{name}: {lab or '—'}")
-            b.setToolTip(f"Settle “{lab}” (Alt+{i + 1})" if lab else f"{name} gave no label")
+            said = f"skipped ({skipped[name]})" if name in skipped else lab or '—'
+            b = QPushButton(f"&{i + 1}  {name}: {said}" if i < 9 else f"{name}: {said}")
+            b.setToolTip(f"Settle “{lab}” (Alt+{i + 1})" if lab else
+                         f"{name} skipped this clip: {skipped[name]}" if name in skipped else
+                         f"{name} gave no label")
             b.setEnabled(lab is not None)
             b.setCheckable(True)
             b.setChecked(lab is not None and lab == gold)
