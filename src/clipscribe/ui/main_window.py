@@ -15,6 +15,7 @@ from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
 from .dialogs import CautionsNote, ShortcutSheet
 from .editor import ClipEditor
+from .focus import FocusRing
 from .jobs_view import ClipJobs
 from .menus import build_menus
 from .others_captions import OthersCaptions
@@ -99,7 +100,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.clip_panel.set_label_actions(
             [a[f"label:{l.name}"] for l in self.label_infos], self.colours)
         self.clip_panel.set_state_actions([a["submit"], a["skip"], a["unsure"]])
-        side = QWidget()
+        side = FocusRing()
+        side.setObjectName("clipSide")
         sl = QVBoxLayout(side)
         sl.setContentsMargins(6, 0, 6, 6)
         sl.addWidget(self.clip_panel)
@@ -182,6 +184,9 @@ class MainWindow(SegmentOps, QMainWindow):
             return
         self.captions.flush()
         self.jobs.cancel()
+        if self.timeline.pending_start is not None:  # the mark belongs to the clip left behind
+            self.statusBar().clearMessage()
+        self._leave_fields()
         self.clip = info = self.project.clip(clip_id)
         self.editor.clip = info.id
         self.editor.undo_stack.clear()  # undo works within one clip at a time
@@ -235,6 +240,15 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions.flush()
         if self.editor.set_state("submitted") is not None:
             self.next_unfinished()
+            self.focus_viewer()  # the next keys are label and playback keys, not text
+
+    def _leave_fields(self) -> None:
+        """On clip change, move the cursor out of a caption or reason field: typing meant for
+        one clip must never land in the next one's fields."""
+        f = self.focusWidget()
+        side = self.findChild(FocusRing, "clipSide")
+        if f is not None and side is not None and side.isAncestorOf(f):
+            self.focus_viewer()
 
     def settle_conflicts(self) -> bool:
         """Before leaving the clip: ask what to do with captions changed or deleted elsewhere.

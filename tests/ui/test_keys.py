@@ -1,0 +1,137 @@
+"""Keyboard and focus in the workbench: where keys go after submit, inside caption fields and on
+Tab; text undo before edit undo; the start mark on clip change; growing caption fields."""
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QApplication
+
+from .conftest import wait_frame
+
+ME = "annotator-3"  # has left most sample clips open
+CTRL = Qt.KeyboardModifier.ControlModifier
+
+
+def ready(qtbot, w):
+    qtbot.waitExposed(w)
+    w.activateWindow()
+    w.viewer.setFocus()
+    qtbot.waitUntil(lambda: w.isActiveWindow(), timeout=3000)
+    wait_frame(qtbot, w)
+
+
+def test_submit_gives_focus_to_the_viewer_so_a_label_key_labels_the_next_clip(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    first = w.clip.id
+    qtbot.keyClick(w.viewer, Qt.Key.Key_K)                     # a label, so submit is allowed
+    edit = w.captions.slots[0].edit
+    edit.setFocus()
+    qtbot.waitUntil(edit.hasFocus, timeout=2000)
+    qtbot.keyClick(edit, Qt.Key.Key_Return, CTRL)              # submit from inside a caption
+    assert w.clip.id != first
+    assert QApplication.focusWidget() is w.viewer
+    nxt = w.clip.id
+    texts = [s.edit.text() for s in w.captions.slots]
+    qtbot.keyClick(QApplication.focusWidget(), Qt.Key.Key_P)   # meant as "pick up"
+    assert p.my_clip_label(nxt) == "pick up"
+    assert [s.edit.text() for s in w.captions.slots] == texts  # no stray "p" in a caption
+
+
+def test_letters_in_a_caption_are_text_not_commands(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    clip = w.clip.id
+    label = p.my_clip_label(clip)
+    edit = w.captions.slots[-1].edit
+    edit.setFocus()
+    qtbot.waitUntil(edit.hasFocus, timeout=2000)
+    edit.end(False)
+    qtbot.keyClicks(edit, " bkpe")                             # Mark start, labels, Mark end
+    assert edit.text().endswith(" bkpe")
+    assert w.timeline.pending_start is None
+    assert p.my_clip_label(clip) == label
+
+
+def test_leaving_a_clip_takes_the_cursor_out_of_its_caption(qtbot, sample, open_window):
+    w, _ = open_window(sample, ME)
+    ready(qtbot, w)
+    edit = w.captions.slots[0].edit
+    edit.setFocus()
+    qtbot.waitUntil(edit.hasFocus, timeout=2000)
+    w.step_clip(1)
+    assert not any(s.edit.hasFocus() for s in w.captions.slots)
+    assert QApplication.focusWidget() is w.viewer
+
+
+def test_tab_goes_round_the_clip_panel_and_never_reaches_the_queue_filters(qtbot, sample, open_window):
+    w, _ = open_window(sample, ME)
+    ready(qtbot, w)
+    side = w.captions.parentWidget()
+    while side.objectName() != "clipSide":
+        side = side.parentWidget()
+    filters = [w.queue.state, w.queue.label, w.queue.group, w.queue.assignee]
+    before = [f.currentIndex() for f in filters]
+    last = w.captions.slots[-1].edit
+    last.setFocus()
+    qtbot.waitUntil(last.hasFocus, timeout=2000)
+    seen = []
+    for _ in range(3 * len(side.fields()) + 2):
+        qtbot.keyClick(QApplication.focusWidget(), Qt.Key.Key_Tab)
+        f = QApplication.focusWidget()
+        seen.append(f)
+        assert side.isAncestorOf(f), f"Tab left the clip panel for {f!r}"
+    assert w.captions.slots[0].edit in seen                    # it went round
+    qtbot.keyClick(QApplication.focusWidget(), Qt.Key.Key_Backtab, Qt.KeyboardModifier.ShiftModifier)
+    assert side.isAncestorOf(QApplication.focusWidget())
+    assert [f.currentIndex() for f in filters] == before
+
+
+def test_ctrl_z_in_a_caption_undoes_typing_first_then_the_last_edit(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    clip = w.clip.id
+    before = p.my_clip_label(clip)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_D)                     # "put down": the last edit
+    assert p.my_clip_label(clip) == "put down" != before
+    slot = w.captions.slots[0]
+    stored = slot.edit.text()
+    slot.edit.setFocus()
+    qtbot.waitUntil(slot.edit.hasFocus, timeout=2000)
+    slot.edit.end(False)
+    qtbot.keyClicks(slot.edit, " and waits")
+    qtbot.keyClick(slot.edit, Qt.Key.Key_Z, CTRL)
+    assert slot.edit.text() == stored                          # the typing went first
+    assert p.my_clip_label(clip) == "put down"
+    qtbot.keyClick(slot.edit, Qt.Key.Key_Z, CTRL)              # nothing typed left: the edit
+    assert p.my_clip_label(clip) == before
+    assert [c.text for c in p.caption_rows(clip=clip, annotator=ME)
+            if c.id == slot.caption_id] in ([stored], [])
+
+
+def test_a_start_mark_and_its_status_go_when_the_clip_changes(qtbot, sample, open_window):
+    w, _ = open_window(sample, ME)
+    ready(qtbot, w)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_B)
+    assert w.timeline.pending_start is not None
+    assert "Start marked" in w.statusBar().currentMessage()
+    qtbot.keyClick(w.viewer, Qt.Key.Key_PageDown)
+    assert w.timeline.pending_start is None
+    assert "Start marked" not in w.statusBar().currentMessage()
+
+
+def test_captions_wrap_and_grow_and_return_saves_without_a_line_break(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    slot = w.captions.slots[-1]
+    edit = slot.edit
+    edit.setFocus()
+    qtbot.waitUntil(edit.hasFocus, timeout=2000)
+    edit.selectAll()
+    one_line = edit.height()
+    text = ("The robot arm reaches over the table, closes its gripper on the small green block, "
+            "lifts it slowly above the red one and sets it down on top before moving back")
+    qtbot.keyClicks(edit, text)
+    qtbot.waitUntil(lambda: edit.height() > one_line, timeout=2000)
+    assert edit.text() == text                                  # nothing cut off
+    qtbot.keyClick(edit, Qt.Key.Key_Return)
+    assert "\n" not in edit.text()
+    assert text in [c.text for c in p.caption_rows(clip=w.clip.id, annotator=ME)]
