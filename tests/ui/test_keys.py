@@ -4,18 +4,10 @@ Tab; text undo before edit undo; the start mark on clip change; growing caption 
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
-from .conftest import wait_frame
+from .test_editing import ready
 
 ME = "annotator-3"  # has left most sample clips open
 CTRL = Qt.KeyboardModifier.ControlModifier
-
-
-def ready(qtbot, w):
-    qtbot.waitExposed(w)
-    w.activateWindow()
-    w.viewer.setFocus()
-    qtbot.waitUntil(lambda: w.isActiveWindow(), timeout=3000)
-    wait_frame(qtbot, w)
 
 
 def test_submit_gives_focus_to_the_viewer_so_a_label_key_labels_the_next_clip(qtbot, sample, open_window):
