@@ -127,3 +127,34 @@ def test_captions_wrap_and_grow_and_return_saves_without_a_line_break(qtbot, sam
     qtbot.keyClick(edit, Qt.Key.Key_Return)
     assert "\n" not in edit.text()
     assert text in [c.text for c in p.caption_rows(clip=w.clip.id, annotator=ME)]
+
+
+def test_undo_reaches_back_across_reopening_the_project(qtbot, sample, open_window, settings):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    clip = w.clip.id
+    before = p.my_clip_label(clip)
+    w.player.seek(5)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_B)
+    w.player.seek(20)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_E)                     # one segment 5–20
+    segs = p.segments(clip=clip, annotator=ME)
+    w.player.seek(12)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Slash)                 # split: two rows, one action
+    qtbot.keyClick(w.viewer, Qt.Key.Key_S)                     # "push"
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Z, CTRL)               # undo "push"
+    w.close()
+    p.close()
+
+    w2, p2 = open_window(sample, ME)                           # reopened on the same clip
+    ready(qtbot, w2)
+    assert w2.clip.id == clip
+    assert w2.editor.undo_stack.canUndo()
+    qtbot.keyClick(w2.viewer, Qt.Key.Key_Z, CTRL)              # undo the split, as one step
+    assert [(g.start, g.end) for g in p2.segments(clip=clip, annotator=ME)] == \
+        [(g.start, g.end) for g in segs]
+    qtbot.keyClick(w2.viewer, Qt.Key.Key_Z, CTRL)              # undo the new segment
+    assert len(p2.segments(clip=clip, annotator=ME)) == len(segs) - 1
+    assert p2.my_clip_label(clip) == before                    # "push" stayed undone
+    w2.editor.undo_stack.redo()
+    assert len(p2.segments(clip=clip, annotator=ME)) == len(segs)

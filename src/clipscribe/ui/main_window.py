@@ -189,7 +189,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self._leave_fields()
         self.clip = info = self.project.clip(clip_id)
         self.editor.clip = info.id
-        self.editor.undo_stack.clear()  # undo works within one clip at a time
+        self.editor.restore_undo(info.id)  # undo works within one clip, back to its first edit
         path = self.project.media_path(info.id)
         self.viewer.clear("Loading…")
         self.scrub.reset(info.frame_count)
