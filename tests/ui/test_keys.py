@@ -158,3 +158,82 @@ def test_undo_reaches_back_across_reopening_the_project(qtbot, sample, open_wind
     assert p2.my_clip_label(clip) == before                    # "push" stayed undone
     w2.editor.undo_stack.redo()
     assert len(p2.segments(clip=clip, annotator=ME)) == len(segs)
+
+
+def _one_segment(qtbot, w, a, b):
+    w.player.seek(a)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_B)
+    w.player.seek(b)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_E)
+
+
+def test_keys_nudge_a_segment_edge_and_jump_to_its_edges(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    clip = w.clip.id
+    old = {g.id for g in p.segments(clip=clip, annotator=ME)}
+    _one_segment(qtbot, w, 30, 40)
+    seg = next(g for g in p.segments(clip=clip, annotator=ME) if g.id not in old)
+    w.timeline.set_selected(seg.id)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Left, CTRL)                          # start 30 → 29
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Right, CTRL | Qt.KeyboardModifier.ShiftModifier)  # end 41 → 42
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Right, CTRL | Qt.KeyboardModifier.ShiftModifier)  # → 43
+    now = next(g for g in p.segments(clip=clip, annotator=ME) if g.id == seg.id)
+    assert (now.start, now.end) == (29, 43)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_BracketLeft)
+    assert w.player.frame == 29
+    qtbot.keyClick(w.viewer, Qt.Key.Key_BracketRight)
+    assert w.player.frame == 42                                # the last frame, included
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Z, CTRL)               # each nudge is one undo step
+    now = next(g for g in p.segments(clip=clip, annotator=ME) if g.id == seg.id)
+    assert (now.start, now.end) == (29, 42)
+
+
+def test_keys_zoom_the_timeline_around_the_playhead(qtbot, sample, open_window):
+    w, _ = open_window(sample, ME)
+    ready(qtbot, w)
+    tl = w.timeline
+    n = tl.frame_count
+    w.player.seek(n // 2)
+    qtbot.waitUntil(lambda: tl.playhead == n // 2, timeout=3000)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Equal, CTRL)
+    assert tl.view_span == round(n / 2)
+    assert tl.view_start <= n // 2 < tl.view_start + tl.view_span
+    x = tl.x_of(n // 2)
+    assert 0 <= x <= tl.width()
+    assert tl.frame_at(x) == n // 2                            # pixels and frames agree zoomed
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Minus, CTRL)
+    assert tl.view_span == n
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Equal, CTRL)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_0, CTRL)
+    assert (tl.view_start, tl.view_span) == (0, n)
+
+
+def test_keys_step_between_captions(qtbot, sample, open_window):
+    w, _ = open_window(sample, ME)
+    ready(qtbot, w)
+    edits = [s.edit for s in w.captions.slots]
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Down, Qt.KeyboardModifier.AltModifier)
+    assert edits[0].hasFocus()
+    qtbot.keyClick(edits[0], Qt.Key.Key_Down, Qt.KeyboardModifier.AltModifier)
+    assert edits[1].hasFocus()
+    qtbot.keyClick(edits[1], Qt.Key.Key_Up, Qt.KeyboardModifier.AltModifier)
+    qtbot.keyClick(edits[0], Qt.Key.Key_Up, Qt.KeyboardModifier.AltModifier)
+    assert edits[-1].hasFocus()                                # wraps round
+
+
+def test_go_to_clip_by_number_or_by_part_of_its_name(qtbot, sample, open_window):
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    clips = p.clips()
+    target = clips[-1]
+    w.open_found(str(target.id))
+    assert w.clip.id == target.id
+    other = clips[0]
+    part = other.path.rsplit("/", 1)[-1][:-4].upper()          # any case, no folder
+    w.open_found(part)
+    assert w.clip.id == other.id
+    w.open_found("no such clip anywhere")
+    assert w.clip.id == other.id and "No clip" in w.statusBar().currentMessage()
+    assert any(a.shortcut().toString() == "Ctrl+F" for a in w.all_actions()
+               if a.text() == "Go to clip…")

@@ -6,7 +6,7 @@ from __future__ import annotations
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QCloseEvent, QImage
 from PySide6.QtWidgets import (
-    QDialog, QDockWidget, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
+    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
 
 from .actions import build_actions
@@ -226,6 +226,24 @@ class MainWindow(SegmentOps, QMainWindow):
         nxt = self.queue.neighbour(step)
         if nxt is not None:
             self.open_clip(nxt)
+
+    @Slot()
+    def go_to_clip(self) -> None:
+        """Ask for a clip number or a part of a file name and open the first clip it finds."""
+        text, ok = QInputDialog.getText(self, "Go to clip", "Clip number, or part of its file name:")
+        if ok and text.strip():
+            self.open_found(text)
+
+    def open_found(self, text: str) -> None:
+        found = self.project.find_clips(text, limit=2)
+        if not found:
+            self.statusBar().showMessage(f"No clip numbered or named like “{text.strip()}”", 6000)
+            return
+        self.open_clip(found[0].id)
+        self.focus_viewer()
+        if len(found) > 1:
+            self.statusBar().showMessage(f"Opened clip {found[0].id}; more clips match "
+                                         f"“{text.strip()}”", 6000)
 
     @Slot()
     def next_unfinished(self) -> None:
