@@ -4,7 +4,7 @@ captions to the project. Widgets only show and emit; edits go through :class:`Cl
 from __future__ import annotations
 
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
-from PySide6.QtGui import QCloseEvent, QImage
+from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage
 from PySide6.QtWidgets import (
     QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
@@ -15,7 +15,7 @@ from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
 from .dialogs import CautionsNote, ShortcutSheet
 from .editor import ClipEditor
-from .focus import FocusRing
+from .focus import FocusRing, fit_window
 from .jobs_view import ClipJobs
 from .menus import build_menus
 from .others_captions import OthersCaptions
@@ -386,10 +386,8 @@ class MainWindow(SegmentOps, QMainWindow):
 
     def _restore_layout(self) -> None:
         geo, state = self.settings.value("window/geometry"), self.settings.value("window/state")
-        if geo is not None:
-            self.restoreGeometry(geo)
-        else:
-            self.resize(1440, 900)
+        screen = self.screen() or QGuiApplication.primaryScreen()
+        fit_window(self, screen.availableGeometry(), geo)
         if state is not None:
             self.restoreState(state)
 
