@@ -142,9 +142,9 @@ def test_gui_export_runs_in_the_background(qtbot, window, tmp_path):
     said = []
     page.desk.status.connect(said.append)
     page.export(str(tmp_path / "gui-report"))
-    assert said == ["Exporting the agreement report…"]  # returns at once; the job works on
+    assert said == ["Writing the agreement report…"]  # returns at once; the job works on
     qtbot.waitUntil(lambda: any("Report written" in s for s in said), timeout=30000)
-    assert said[0].startswith("Exporting") and (tmp_path / "gui-report" / "report.html").exists()
+    assert said[0].startswith("Writing") and (tmp_path / "gui-report" / "report.html").exists()
 
 
 def test_dragging_a_gold_edge_moves_it_to_a_frame_boundary_with_undo(qtbot, window):

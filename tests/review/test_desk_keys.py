@@ -50,3 +50,23 @@ def test_queue_shows_clip_numbers_and_does_not_say_split(qtbot, window):
     # the messages name the same number: the title of the clip under review
     assert desk.title.text().startswith(f"Clip {shown[m.row_of(desk.cmp.clip.id)]}:")
     assert "label split" not in desk.title.text() and "label split" not in desk.queue_note.text()
+
+
+def test_a_desk_decision_shows_saved_where_nothing_changed_yet_was(qtbot, window):
+    w, p, desk = _desk(qtbot, window)
+    assert w.save_state.text() == "Nothing changed yet"
+    desk.editor.settle_label(desk.labels[0])
+    both = w.statusBar().currentMessage() + " | " + w.save_state.text()
+    assert w.save_state.text().startswith("Saved ") and "Nothing changed yet" not in both
+
+
+def test_the_report_action_has_one_name_on_menu_and_board(qtbot, window):
+    from PySide6.QtWidgets import QPushButton
+    w, p, desk = _desk(qtbot, window)
+    page = w.review_desk
+    name = page.export_action.text()
+    assert name == "Write agreement report…"
+    assert [b.text() for b in page.board.findChildren(QPushButton) if "report" in b.text()] == [name]
+    menus = [a.text() for m in w.menuBar().findChildren(type(w.menuBar().addMenu("x")))
+             for a in m.actions() if "report" in a.text().lower()]
+    assert set(menus) <= {name}

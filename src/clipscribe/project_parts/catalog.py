@@ -325,7 +325,8 @@ class CatalogMixin:
         """Counts for a quick overview (``clipscribe stats``)."""
         def q(s: Session) -> dict[str, Any]:
             count = lambda model: s.scalar(select(func.count()).select_from(model)) or 0  # noqa: E731
-            by_state = dict(s.execute(select(Clip.state, func.count()).group_by(Clip.state)).all())
+            by_state = {clip_state_word(k): n for k, n in
+                        s.execute(select(Clip.state, func.count()).group_by(Clip.state)).all()}
             per_annotator = {name: n for name, n in s.execute(
                 select(Annotator.name, func.count(ClipLabel.id)).join(ClipLabel, isouter=True)
                 .group_by(Annotator.name).order_by(Annotator.name)).all()}
@@ -338,6 +339,12 @@ class CatalogMixin:
                 "duration_s": round(s.scalar(select(func.coalesce(func.sum(Clip.duration), 0.0))) or 0.0, 3),
             }
         return self._read(q)
+
+
+def clip_state_word(state: str) -> str:
+    """The word people see for a clip's stored state: a clip nobody has started is "open", as
+    in the workbench (stored as "new")."""
+    return {"new": "open", "in_progress": "in progress"}.get(state, state)
 
 
 def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:

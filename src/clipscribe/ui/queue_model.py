@@ -13,6 +13,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
+from ..project_parts.catalog import clip_state_word
 from ..project_parts.workbench import QueueRow
 
 PAGE = 200
@@ -145,5 +146,5 @@ class ClipQueueModel(QAbstractTableModel):
             folder = c.path.rsplit("/", 1)[0] if "/" in c.path else "(the media folder itself)"
             return (f"clip {c.id}: {c.path.rsplit('/', 1)[-1]}\nfolder {folder}\n"
                     f"{c.frame_count} frames at {c.fps:g} fps, {c.width}×{c.height}\n"
-                    f"group {c.group or '–'}; clip state {c.state}")
+                    f"group {c.group or '–'}; clip state {clip_state_word(c.state)}")
         return None

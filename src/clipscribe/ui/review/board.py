@@ -58,7 +58,7 @@ class AgreementBoard(QWidget):
         top.addWidget(self.pair)
         self.refresh_button = QPushButton("Recompute")
         self.refresh_button.clicked.connect(self.refresh)
-        export = QPushButton("Export report…")
+        export = QPushButton("Write agreement report…")
         export.setToolTip("Write the board as report.html plus CSV tables (Ctrl+Shift+R)")
         export.clicked.connect(self.exportRequested)
         top.addWidget(self.refresh_button)
