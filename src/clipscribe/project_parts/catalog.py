@@ -24,7 +24,9 @@ from .base import row_dict
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
            "#4d7cd6", "#b5651d", "#5c946e", "#c0392b", "#7f8c8d")
-AUTO_KEYS = "1234567890"
+#: keys given to labels that have none: the digits for the first ten, then letters the workbench
+#: does not use for a command of its own (B, E, L and M mark, loop and merge segments)
+AUTO_KEYS = "1234567890qwrtyuiopasdfghjkzxcvn"
 
 Progress = Callable[[int, int], None]
 
@@ -106,6 +108,14 @@ class CatalogMixin:
 
         def work(s: Session) -> list[LabelInfo]:
             existing = {l.name: l for l in s.scalars(select(Label))}
+            now = [(l.name, l.key, l.colour or PALETTE[pos % len(PALETTE)], l.guideline or "")
+                   for pos, l in enumerate(sorted((l for l in existing.values() if not l.retired),
+                                                  key=lambda l: l.position))]
+            wanted = [(sp.name, sp.key, sp.colour or PALETTE[pos % len(PALETTE)], sp.guideline or "")
+                      for pos, sp in enumerate(specs)]
+            same_order = s.get(Setting, "label_set.ordinal")
+            if now == wanted and (ordinal is None or bool(same_order and same_order.value) == bool(ordinal)):
+                return self._labels(s)  # nothing changed: no new label-set version
             for l in existing.values():  # free keys first so reassignments don't collide
                 l.key = None
                 l.retired = l.name not in names
