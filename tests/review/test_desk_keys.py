@@ -70,3 +70,18 @@ def test_the_report_action_has_one_name_on_menu_and_board(qtbot, window):
     menus = [a.text() for m in w.menuBar().findChildren(type(w.menuBar().addMenu("x")))
              for a in m.actions() if "report" in a.text().lower()]
     assert set(menus) <= {name}
+
+
+def test_gold_table_and_track_label_name_the_same_last_frame(qtbot, window):
+    from clipscribe.ui.review.tracks import segment_text
+    w, p, desk = _desk(qtbot, window)
+    clip, label = desk.cmp.clip.id, desk.labels[0]
+    assert desk.segment_model.replace([(label, 25, 46)])      # stored end 46, exclusive
+    assert p.gold_segments(clip) == [(clip, label, 25, 46)]
+    m = desk.segment_model
+    assert m.headerData(2, Qt.Orientation.Horizontal) == "Last frame"
+    gold = [t for t in desk.tracks.tracks if t[0] == "gold"][0][1]
+    on_track = [segment_text(*g) for g in gold]
+    in_table = [f"{m.index(r, 0).data()} {m.index(r, 1).data()}–{m.index(r, 2).data()}"
+                for r in range(m.rowCount())]
+    assert on_track == in_table == [f"{label} 25–45"]
