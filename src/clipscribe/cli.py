@@ -155,6 +155,9 @@ def cmd_open(args: argparse.Namespace) -> int:
     problem = check_qt_runtime(screenshot=bool(args.screenshot))
     if problem:
         raise ProjectError(problem)
+    if folder is not None and not args.screenshot:
+        from .ui.launch import show_opening
+        show_opening(folder)  # on screen at once; the project and the workbench load behind it
     from .ui.app import run
     # with no folder, the window starts by asking for one (open, new, or the sample)
     return run(folder, user=args.user, view=args.view, screenshot=args.screenshot, note=note)
