@@ -81,6 +81,12 @@ def _outside(window):
 
 
 @pytest.fixture
+def outside():
+    """``outside(window)``: its visible widgets that stick out of it (none wanted)."""
+    return _outside
+
+
+@pytest.fixture
 def fit_check(qtbot, tmp_path):
     """``fit_check(window, width, height)``: place the window on a screen area of that size as
     the app does, lay it out, save a screenshot beside the test and return the widgets that

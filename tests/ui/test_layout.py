@@ -3,7 +3,7 @@ and every visible widget inside the window at 1366×768 and 1440×900."""
 
 import pytest
 from PySide6.QtCore import QRect, Qt
-from PySide6.QtWidgets import QApplication
+from PySide6.QtWidgets import QApplication, QWidget
 
 from clipscribe.ui.focus import fit_window
 
@@ -114,3 +114,31 @@ def test_background_job_words_on_the_strip_have_enough_contrast(qtbot):
     assert theme.contrast_ratio(theme.STATUS_TEXT, theme.STATUS_BG) >= 4.5
     # the check can fail: the old grey text straight on a white thumbnail does
     assert theme.contrast_ratio(theme.MUTED_TEXT, "#ffffff") < 4.5
+
+
+@pytest.mark.parametrize("width,height", SCREENS)
+def test_setup_dialog_and_start_window_fit(qtbot, sample, settings, outside, tmp_path, width, height):
+    from clipscribe import Project
+    from clipscribe.ui.setup import ProjectSetup
+    from clipscribe.ui.start import StartWindow
+    from PySide6.QtWidgets import QAbstractSpinBox, QLabel, QPushButton
+    with Project.open(sample) as p:
+        d = ProjectSetup(p, pick=lambda caption: "", ask=lambda what: "discard")
+        start = StartWindow(settings=settings, pick=lambda caption, folder: "")
+        for name, win in (("setup", d), ("start", start)):
+            qtbot.addWidget(win)
+            win.show()
+            QApplication.processEvents()
+            hint = win.size().expandedTo(win.minimumSizeHint())
+            assert hint.width() <= width - 16 and hint.height() <= height - 40, (name, hint)
+            win.grab().save(str(tmp_path / f"{name}-{width}x{height}.png"))
+            assert outside(win) == [], name
+            squeezed = [getattr(w, "text", lambda: w)() for w in win.findChildren(QWidget)
+                        if (isinstance(w, (QPushButton, QAbstractSpinBox))
+                            or isinstance(w, QLabel) and not w.wordWrap())
+                        and w.isVisible() and w.width() < w.minimumSizeHint().width()]
+            assert squeezed == [], name                         # no word or button cut short
+            if win is d:                                        # nothing drawn over the list
+                lt, row = d.label_text, d.ordinal
+                assert lt.mapTo(d, lt.rect().bottomLeft()).y() < row.mapTo(d, row.rect().topLeft()).y()
+            win.close()

@@ -63,7 +63,7 @@ class ProjectSetup(QDialog):
         super().__init__(parent)
         self.setObjectName("projectSetup")
         self.setWindowTitle("Set up the project")
-        self.setMinimumWidth(620)
+        self.setMinimumWidth(660)
         self.project = project
         self._changed = False
         self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
@@ -84,6 +84,9 @@ class ProjectSetup(QDialog):
         for b in self.findChildren(QPushButton):
             b.setAutoDefault(False)
             b.setDefault(False)
+        # the wrapped notes make the layout's own minimum too small: the label list would then
+        # run under the row below it
+        self.setMinimumHeight(self.sizeHint().height())
 
     @property
     def changed(self) -> bool:
@@ -94,11 +97,9 @@ class ProjectSetup(QDialog):
     def _labels_box(self) -> QGroupBox:
         box = QGroupBox("Labels")
         lay = QVBoxLayout(box)
-        intro = QLabel("One activity label per line, in the order the label buttons show them, "
-                       "optionally with its key and colour: <code>stack [k] #6a4c93</code>. "
-                       "Labels without a key get the next free one of 1–9, 0, then letters. "
-                       "A label taken off the list is retired: kept in the history, no longer "
-                       "offered.")
+        intro = QLabel("One label per line, in button order, with its key and colour if you "
+                       "like: <code>stack [k] #6a4c93</code> (no key: the next free of 1–9, 0, "
+                       "then letters). A label taken off the list is retired, kept in the history.")
         intro.setWordWrap(True)
         lay.addWidget(intro)
         self.label_text = QPlainTextEdit(self._saved_label_text())
@@ -106,7 +107,7 @@ class ProjectSetup(QDialog):
         self.label_text.setObjectName("labelList")
         self.label_text.setAccessibleName("Labels, one per line")
         self.label_text.setPlaceholderText("pick up\nput down\n…")
-        self.label_text.setFixedHeight(self.fontMetrics().height() * 7)
+        self.label_text.setFixedHeight(self.fontMetrics().height() * 6)
         lay.addWidget(self.label_text)
         row = QHBoxLayout()
         self.ordinal = QCheckBox("The labels are &ordered (weighted kappa applies)")
@@ -180,7 +181,7 @@ class ProjectSetup(QDialog):
             row.addWidget(lab)
             row.addWidget(spin)
         row.addStretch(1)
-        self.save_rules_button = QPushButton("Save caption &rules")
+        self.save_rules_button = QPushButton("Save &rules")
         self.save_rules_button.clicked.connect(self.save_caption_rules)
         row.addWidget(self.save_rules_button)
         lay.addLayout(row)
