@@ -237,3 +237,44 @@ def test_go_to_clip_by_number_or_by_part_of_its_name(qtbot, sample, open_window)
     assert w.clip.id == other.id and "No clip" in w.statusBar().currentMessage()
     assert any(a.shortcut().toString() == "Ctrl+F" for a in w.all_actions()
                if a.text() == "Go to clip…")
+
+
+def test_a_one_segment_clip_with_three_captions_takes_ten_non_text_keys(qtbot, sample, open_window):
+    """Arriving on a clip (focus where submit left it) to submitting it: the keys counted
+    are every key but the caption text itself."""
+    from clipscribe import Project
+    with Project.open(sample) as p:
+        p.add_annotator("annotator-9")
+    w, p = open_window(sample, "annotator-9")
+    ready(qtbot, w)
+    qtbot.keyClick(w.viewer, Qt.Key.Key_K)                     # a first clip, submitted by keys
+    qtbot.keyClick(w.viewer, Qt.Key.Key_Return, CTRL)
+    clip, keys = w.clip.id, 0
+    texts = ["The arm lifts the red block", "A grey arm moves one block", "A block is stacked on another"]
+
+    def key(k, mod=Qt.KeyboardModifier.NoModifier):
+        nonlocal keys
+        keys += 1
+        qtbot.keyClick(QApplication.focusWidget(), k, mod)
+
+    def type_(text):
+        qtbot.keyClicks(QApplication.focusWidget(), text)
+    shift = Qt.KeyboardModifier.ShiftModifier
+    key(Qt.Key.Key_Right, shift)                               # to the action's start
+    key(Qt.Key.Key_B)
+    key(Qt.Key.Key_Right, shift)
+    key(Qt.Key.Key_Right, shift)                               # to its end
+    key(Qt.Key.Key_E)
+    key(Qt.Key.Key_K)                                          # the clip label
+    key(Qt.Key.Key_E, CTRL)                                    # to the first caption
+    type_(texts[0])
+    key(Qt.Key.Key_Down, Qt.KeyboardModifier.AltModifier)
+    type_(texts[1])
+    key(Qt.Key.Key_Down, Qt.KeyboardModifier.AltModifier)
+    type_(texts[2])
+    key(Qt.Key.Key_Return, CTRL)                               # submit
+    assert keys == 10
+    me = "annotator-9"
+    assert p.clip_state(clip, me)[0] == "submitted" and p.my_clip_label(clip, me) == "stack"
+    assert len(p.segments(clip=clip, annotator=me)) == 1
+    assert sorted(c.text for c in p.caption_rows(clip=clip, annotator=me)) == sorted(texts)
