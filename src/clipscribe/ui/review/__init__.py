@@ -110,7 +110,7 @@ def _build_page(window, holder: QWidget) -> "ReviewPage":
     window.installEventFilter(_Closer(page))
     menu = window.menuBar().addMenu("&Review")
     for a in (page.desk.undo_action, page.desk.redo_action, page.desk.acts["next"],
-              page.desk.acts["prev"], page.export_action):
+              page.desk.acts["prev"], page.desk.acts["copy_track"], page.export_action):
         menu.addAction(a)
     window.review_desk = page
     return page
