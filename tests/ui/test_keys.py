@@ -278,3 +278,25 @@ def test_a_one_segment_clip_with_three_captions_takes_ten_non_text_keys(qtbot, s
     assert p.clip_state(clip, me)[0] == "submitted" and p.my_clip_label(clip, me) == "stack"
     assert len(p.segments(clip=clip, annotator=me)) == 1
     assert sorted(c.text for c in p.caption_rows(clip=clip, annotator=me)) == sorted(texts)
+
+
+def test_no_single_key_command_fires_while_typing_in_any_text_field(qtbot, sample, open_window):
+    from PySide6.QtGui import QKeySequence
+    w, p = open_window(sample, ME)
+    ready(qtbot, w)
+    single = sorted({s.toString() for a in w.all_actions() for s in a.shortcuts()
+                     if len(s.toString()) == 1 and s.toString().isprintable()})
+    assert {"B", "E", "L", "M", "/", "[", "]"} <= set(single)
+    fired = []
+    for a in w.all_actions():
+        a.triggered.connect(lambda _c=False, a=a: fired.append(a.text()))
+    w.clip_panel.show_skip_prompt()
+    for field in [w.clip_panel.skip_reason] + [s.edit for s in w.captions.slots]:
+        field.setFocus()
+        qtbot.waitUntil(field.hasFocus, timeout=2000)
+        before = field.text()
+        for ch in single:
+            qtbot.keyClick(field, QKeySequence(ch)[0].key())
+        assert fired == [], (field.objectName(), fired)
+        assert len(field.text()) == len(before) + len(single)    # every key became text
+    w.clip_panel.hide_skip_prompt()
