@@ -54,3 +54,54 @@ def _garbage_on_gui_thread(request):
         from clipscribe.ui import gc_guard
         gc_guard.install(request.getfixturevalue("qapp"))
     yield
+
+
+def _outside(window):
+    """Visible widgets of ``window`` that do not lie wholly inside it, as 'name: rect' lines.
+    Widgets inside a scroll area's viewport are judged by the scroll area (they scroll)."""
+    from PySide6.QtCore import QRect
+    from PySide6.QtWidgets import QAbstractScrollArea, QWidget
+    inside = window.rect()
+    bad = []
+    for wid in window.findChildren(QWidget):
+        if not wid.isVisibleTo(window) or wid.isWindow():
+            continue
+        p, scrolled = wid.parentWidget(), False
+        while p is not None and p is not window:
+            if isinstance(p.parentWidget(), QAbstractScrollArea) and p is p.parentWidget().viewport():
+                scrolled = True
+                break
+            p = p.parentWidget()
+        if scrolled:
+            continue
+        r = QRect(wid.mapTo(window, wid.rect().topLeft()), wid.size())
+        if not inside.contains(r):
+            bad.append(f"{type(wid).__name__} {wid.objectName() or wid.accessibleName()}: {r}")
+    return bad
+
+
+@pytest.fixture
+def outside():
+    """``outside(window)``: its visible widgets that stick out of it (none wanted)."""
+    return _outside
+
+
+@pytest.fixture
+def fit_check(qtbot, tmp_path):
+    """``fit_check(window, width, height)``: place the window on a screen area of that size as
+    the app does, lay it out, save a screenshot beside the test and return the widgets that
+    stick out (none wanted)."""
+    from PySide6.QtCore import QRect
+    from PySide6.QtWidgets import QApplication
+
+    from clipscribe.ui.focus import fit_window
+
+    def check(window, width, height, name="window"):
+        fit_window(window, QRect(0, 0, width, height))
+        window.show()
+        for _ in range(3):
+            QApplication.processEvents()
+        assert window.width() <= width and window.height() <= height, window.size()
+        window.grab().save(str(tmp_path / f"{name}-{width}x{height}.png"))
+        return _outside(window)
+    return check

@@ -57,9 +57,20 @@ def cmd_new(args: argparse.Namespace) -> int:
 def cmd_labels(args: argparse.Namespace) -> int:
     with _open(args) as p:
         if args.names:
-            p.define_labels(args.names, ordinal=args.ordinal or None)
+            from .schema.settings import label_specs
+            p.define_labels(label_specs(args.names, p.labels()), ordinal=args.ordinal or None)
         for l in p.labels():
             print(f"{l.key or ' '}  {l.colour}  {l.name}")
+    return 0
+
+
+def cmd_caption_rules(args: argparse.Namespace) -> int:
+    with _open(args) as p:
+        if (args.per_clip, args.min_words, args.max_words) != (None, None, None):
+            p.set_caption_rules(captions_per_clip=args.per_clip, min_words=args.min_words,
+                                max_words=args.max_words)
+        g = p.settings.caption_guideline
+        print(f"{g.captions_per_clip} captions per clip, {g.min_words}–{g.max_words} words each")
     return 0
 
 
@@ -160,6 +171,9 @@ def cmd_open(args: argparse.Namespace) -> int:
     problem = check_qt_runtime(screenshot=bool(args.screenshot)) or check_bindings()
     if problem:
         raise ProjectError(problem)
+    if folder is not None and not args.screenshot:
+        from .ui.launch import show_opening
+        show_opening(folder)  # on screen at once; the project and the workbench load behind it
     from .ui.app import run
     # with no folder, the window starts by asking for one (open, new, or the sample)
     return run(folder, user=args.user, view=args.view, screenshot=args.screenshot, note=note)
@@ -185,8 +199,14 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--name", help="project name (default: the folder's name)")
     sp.add_argument("--database-url", help="postgresql://host/db for a team server (default: SQLite in the folder)")
     sp = add("labels", cmd_labels, "show the label set, or set it in order", user=True)
-    sp.add_argument("names", nargs="*", help="label names in order; omit to list")
+    sp.add_argument("names", nargs="*", help="labels in order, each 'NAME' or 'NAME [KEY] #RRGGBB' "
+                    "(key and colour optional; kept labels keep theirs); omit to list")
     sp.add_argument("--ordinal", action="store_true", help="the labels are ordered (weighted kappa applies)")
+    sp = add("caption-rules", cmd_caption_rules, "show or set captions per clip and their word limits",
+             user=True)
+    sp.add_argument("--per-clip", type=int, metavar="N", help="reference captions per clip")
+    sp.add_argument("--min-words", type=int, metavar="N", help="fewest words in a caption")
+    sp.add_argument("--max-words", type=int, metavar="N", help="most words in a caption")
     sp = add("add-person", cmd_person, "add an annotator or a lead", user=True)
     sp.add_argument("name")
     sp.add_argument("--role", choices=("annotator", "lead"), default="annotator")

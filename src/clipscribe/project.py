@@ -185,6 +185,18 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
         self.settings = cfg
         return cfg
 
+    def set_caption_rules(self, *, captions_per_clip: int | None = None,
+                          min_words: int | None = None, max_words: int | None = None) -> ProjectSettings:
+        """Change the caption guideline's numbers (those given); the fewest words may not
+        exceed the most. RecordError names the setting at fault."""
+        g = self.settings.caption_guideline.model_dump()
+        g.update({k: v for k, v in (("captions_per_clip", captions_per_clip),
+                                    ("min_words", min_words), ("max_words", max_words)) if v is not None})
+        if g["min_words"] > g["max_words"]:
+            raise RecordError(f"caption rules: min_words {g['min_words']} is more than "
+                              f"max_words {g['max_words']}")
+        return self.update_settings(caption_guideline=g)
+
 
 def _prepare_settings(folder: Path, cfg: ProjectSettings) -> Path:
     """The settings written in full to a temporary file beside the real one (flushed to disk);

@@ -54,9 +54,9 @@ def test_label_segments_captions_and_comment_into_gold_with_undo(qtbot, window):
     desk.copy_track("annotator-2")
     want = [(g.label, g.start, g.end) for g in p.segments(clip=clip, annotator="annotator-2")]
     assert [(l, s, e) for _, l, s, e in p.gold_segments(clip)] == sorted(want, key=lambda g: g[1])
-    # edit a gold segment's end in the table
+    # edit a gold segment's last frame in the table (one earlier: the stored end moves with it)
     m = desk.segment_model
-    assert m.setData(m.index(0, 2), want[0][2] - 1)
+    assert m.setData(m.index(0, 2), want[0][2] - 2)
     assert p.gold_segments(clip)[0][3] == want[0][2] - 1
     assert not m.setData(m.index(0, 0), "no such label")
     # accept one caption, accept another with an edit, then reject the first again
@@ -142,9 +142,9 @@ def test_gui_export_runs_in_the_background(qtbot, window, tmp_path):
     said = []
     page.desk.status.connect(said.append)
     page.export(str(tmp_path / "gui-report"))
-    assert said == ["Exporting the agreement report…"]  # returns at once; the job works on
+    assert said == ["Writing the agreement report…"]  # returns at once; the job works on
     qtbot.waitUntil(lambda: any("Report written" in s for s in said), timeout=30000)
-    assert said[0].startswith("Exporting") and (tmp_path / "gui-report" / "report.html").exists()
+    assert said[0].startswith("Writing") and (tmp_path / "gui-report" / "report.html").exists()
 
 
 def test_dragging_a_gold_edge_moves_it_to_a_frame_boundary_with_undo(qtbot, window):

@@ -68,7 +68,8 @@ def test_gold_segment_model(qtbot, sample):
         model.load([], [l.name for l in p.labels()])
         assert model.add(("stack", 5, 20)) and model.add(("push", 0, 4))
         assert [model.index(r, 1).data() for r in range(2)] == [0, 5]  # start order
-        assert model.setData(model.index(1, 2), 30)
+        assert model.index(1, 2).data() == 19                         # last frame, as on the tracks
+        assert model.setData(model.index(1, 2), 29)                    # last frame 29: end 30
         assert p.gold_segments(clip) == [(clip, "push", 0, 4), (clip, "stack", 5, 30)]
         assert not model.setData(model.index(1, 1), "x")
         assert model.remove(0) and model.rowCount() == 1

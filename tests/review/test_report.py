@@ -140,3 +140,30 @@ def test_report_refused_for_non_lead(sample, tmp_path):
     with Project.open(folder, user="annotator-3") as p, pytest.raises(NotALeadError):
         write_report(p, tmp_path / "x")
     assert not (tmp_path / "x").exists()
+
+
+def test_every_table_scrolls_in_its_own_box_instead_of_overflowing_the_page(written):
+    from html.parser import HTMLParser
+    _, files, _ = written
+    html = files.html.read_text(encoding="utf-8")
+
+    class Tables(HTMLParser):
+        def __init__(self):
+            super().__init__()
+            self.stack, self.parents = [], []
+
+        def handle_starttag(self, tag, attrs):
+            if tag == "table":
+                self.parents.append(self.stack[-1] if self.stack else None)
+            self.stack.append((tag, dict(attrs).get("class")))
+
+        def handle_endtag(self, tag):
+            while self.stack and self.stack.pop()[0] != tag:
+                pass
+    t = Tables()
+    t.feed(html)
+    assert len(t.parents) >= 6
+    assert set(t.parents) == {("div", "wide")}
+    css = re.search(r"<style>(.*?)</style>", html, re.S).group(1)
+    assert re.search(r"\.wide\s*\{[^}]*overflow-x:\s*auto", css)
+    assert re.search(r"\.fig\s*\{[^}]*max-width:\s*100%", css)

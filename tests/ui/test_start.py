@@ -165,3 +165,21 @@ def test_open_another_project_in_the_window_asks_the_start_window(qtbot, open_wi
     w.actions_["open_other"].trigger()
     assert not w.isVisible()
     assert start.take_switch() == other
+
+
+@pytest.mark.parametrize("key,mods,asked", [
+    ("N", "Alt", "Choose an empty folder"), ("N", "Ctrl", "Choose an empty folder"),
+    ("O", "Alt", "Open a clipscribe project"), ("S", "Alt", "Where should the sample project go")])
+def test_start_window_buttons_answer_their_alt_letter_and_their_shortcut(qtbot, settings, key, mods, asked):
+    from PySide6.QtCore import Qt
+    asks = []
+    win = StartWindow(settings=settings, pick=lambda caption, folder: asks.append(caption) or "")
+    qtbot.addWidget(win)
+    win.show()
+    qtbot.waitExposed(win)
+    win.activateWindow()
+    qtbot.waitUntil(win.isActiveWindow, timeout=3000)
+    mod = {"Alt": Qt.KeyboardModifier.AltModifier, "Ctrl": Qt.KeyboardModifier.ControlModifier}[mods]
+    qtbot.keyClick(win, getattr(Qt.Key, f"Key_{key}"), mod)
+    qtbot.waitUntil(lambda: bool(asks), timeout=2000)             # an Alt letter clicks after a flash
+    assert len(asks) == 1 and asks[0].startswith(asked)

@@ -16,7 +16,7 @@ from sqlalchemy.orm.exc import StaleDataError
 from ..errors import ProjectError, RecordError, StaleWriteError
 from ..schema.settings import ProjectSettings
 from ..store import db, sqlite_check
-from ..store.models import Annotator, Caption, Clip, Edit, Label
+from ..store.models import Annotator, Caption, Clip, Edit, Label, utcnow
 
 T = TypeVar("T")
 SEEN_LIMIT = 200_000  # caption versions remembered per open project
@@ -69,6 +69,7 @@ class ProjectBase:
                 with db.transaction(self._writer) as s:
                     s.info["edits"] = edits
                     s.info[SEEN_KEY] = self.seen_caption_versions
+                    s.info.pop("edit_at", None)
                     out = fn(s)
                 self._forget_old_versions()
             except StaleDataError:
@@ -183,9 +184,11 @@ class ProjectBase:
              clip_id: int | None, before: dict | None, after: dict | None, *,
              who: Annotator | None = None, reverts: int | None = None) -> Edit:
         me = who if who is not None else self._me(s)
+        # every row of one transaction carries the same time, so one user action (a split
+        # writes two rows) can be found again as one step of undo after reopening
         e = Edit(annotator_id=me.id if me else None, action=action, entity=entity,
                  entity_id=entity_id, clip_id=clip_id, before=before, after=after,
-                 reverts=reverts)
+                 reverts=reverts, at=s.info.setdefault("edit_at", utcnow()))
         s.add(e)
         s.flush()
         s.info.setdefault("edits", []).append(e.id)

@@ -28,7 +28,9 @@ from .base import row_dict
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
            "#4d7cd6", "#b5651d", "#5c946e", "#c0392b", "#7f8c8d")
-AUTO_KEYS = "1234567890"
+#: keys given to labels that have none: the digits for the first ten, then letters the workbench
+#: does not use for a command of its own (B, E, L and M mark, loop and merge segments)
+AUTO_KEYS = "1234567890qwrtyuiopasdfghjkzxcvn"
 #: the group key of a clip is the folder it lies in, relative to the media root (clips directly
 #: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
 BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
@@ -128,6 +130,14 @@ class CatalogMixin:
 
         def work(s: Session) -> list[LabelInfo]:
             existing = {l.name: l for l in s.scalars(select(Label))}
+            now = [(l.name, l.key, l.colour or PALETTE[pos % len(PALETTE)], l.guideline or "")
+                   for pos, l in enumerate(sorted((l for l in existing.values() if not l.retired),
+                                                  key=lambda l: l.position))]
+            wanted = [(sp.name, sp.key, sp.colour or PALETTE[pos % len(PALETTE)], sp.guideline or "")
+                      for pos, sp in enumerate(specs)]
+            same_order = s.get(Setting, "label_set.ordinal")
+            if now == wanted and (ordinal is None or bool(same_order and same_order.value) == bool(ordinal)):
+                return self._labels(s)  # nothing changed: no new label-set version
             for l in existing.values():  # free keys first so reassignments don't collide
                 l.key = None
                 l.retired = l.name not in names
@@ -369,7 +379,8 @@ class CatalogMixin:
         """Counts for a quick overview (``clipscribe stats``)."""
         def q(s: Session) -> dict[str, Any]:
             count = lambda model: s.scalar(select(func.count()).select_from(model)) or 0  # noqa: E731
-            by_state = dict(s.execute(select(Clip.state, func.count()).group_by(Clip.state)).all())
+            by_state = {clip_state_word(k): n for k, n in
+                        s.execute(select(Clip.state, func.count()).group_by(Clip.state)).all()}
             per_annotator = {name: n for name, n in s.execute(
                 select(Annotator.name, func.count(ClipLabel.id)).join(ClipLabel, isouter=True)
                 .group_by(Annotator.name).order_by(Annotator.name)).all()}
@@ -382,6 +393,12 @@ class CatalogMixin:
                 "duration_s": round(s.scalar(select(func.coalesce(func.sum(Clip.duration), 0.0))) or 0.0, 3),
             }
         return self._read(q)
+
+
+def clip_state_word(state: str) -> str:
+    """The word people see for a clip's stored state: a clip nobody has started is "open", as
+    in the workbench (stored as "new")."""
+    return {"new": "open", "in_progress": "in progress"}.get(state, state)
 
 
 def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:

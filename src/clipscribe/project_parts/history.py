@@ -19,6 +19,7 @@ ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
             "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
             "gold_caption": GoldCaption}
 _UNDOABLE = set(ENTITIES)
+_ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own work on a clip
 
 
 @dataclass(frozen=True, slots=True)
@@ -65,6 +66,40 @@ class HistoryMixin:
             return out
         return self._write(work)
 
+    def undo_trail(self, clip: Any, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
+        """The steps ``annotator`` can still undo on ``clip``, oldest first, rebuilt from the
+        edit history: ``(what, edit ids)`` per user action (the rows of one transaction). Undo
+        rows take the steps they reverted off the trail, a redo puts them back; an undo of
+        something not on the trail (another window) ends it there."""
+        rows = [e for e in self.history(clip=clip, annotator=annotator)
+                if e.entity in _ANNOTATION]
+        groups: list[list[EditInfo]] = []
+        for e in rows:
+            last = groups[-1][-1] if groups else None
+            if last is not None and last.at == e.at and (last.action == "undo") == (e.action == "undo"):
+                groups[-1].append(e)
+            else:
+                groups.append([e])
+        done: list[tuple[str, list[int]]] = []
+        undone: list[tuple[str, list[int], list[int]]] = []  # (what, edit ids, undo ids)
+        for g in groups:
+            ids = [e.id for e in g]
+            if g[0].action != "undo":
+                done.append((_step_words(g), ids))
+                undone.clear()
+                continue
+            hit = sorted(e.reverts for e in g)
+            if done and sorted(done[-1][1]) == hit:
+                what, was = done.pop()
+                undone.append((what, was, ids))
+            elif undone and sorted(undone[-1][2]) == hit:
+                what, _was, _u = undone.pop()
+                done.append((what, ids))
+            else:
+                done.clear()
+                undone.clear()
+        return done[-limit:]
+
     def _restore(self, s: Session, e: Edit) -> Edit:
         model = ENTITIES[e.entity]
         row = s.get(model, e.entity_id)
@@ -87,6 +122,19 @@ class HistoryMixin:
         return self._log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
                          row_dict(row) if e.before is not None else None, reverts=e.id)
 
+
+
+def _step_words(rows: list[EditInfo]) -> str:
+    """Words for one undo step, from its first row."""
+    e = rows[0]
+    after = e.after or {}
+    if e.entity == "clip_label":
+        return "Label clip" if e.after else "Clear clip label"
+    if e.entity == "assignment":
+        return {"submitted": "Submit clip", "skipped": "Skip clip", "unsure": "Flag unsure",
+                "open": "Reopen clip"}.get(after.get("state"), "Clip state")
+    verb = {"add": "Add", "change": "Edit", "delete": "Delete"}.get(e.action, e.action.capitalize())
+    return f"{verb} {e.entity.replace('_', ' ')}"
 
 
 def _content(row: dict) -> dict:

@@ -13,7 +13,7 @@ from sqlalchemy.orm import Session
 
 from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Label, ReviewComment
 from .annotate import CaptionInfo, SegmentInfo
-from .catalog import ClipInfo
+from .catalog import ClipInfo, clip_info
 
 #: per-person states that count as finished work
 FINISHED = ("submitted", "skipped")
@@ -94,6 +94,23 @@ class WorkbenchMixin:
             return self._queue_stmt(s, me, filters.get("state"), filters.get("label"),
                                     filters.get("group"), filters.get("assignee")).with_only_columns(Clip.id)
         return self._in_scope(s, select(Clip.id), filters.get("group"), filters.get("assignee"))
+
+    def find_clips(self, text: str, *, limit: int = 20) -> list[ClipInfo]:
+        """Clips whose number is ``text`` or whose media path contains it (any case), the
+        number first, then in id order."""
+        text = text.strip().lstrip("#")
+        def q(s: Session) -> list[ClipInfo]:
+            if not text:
+                return []
+            found = []
+            if text.isdigit():
+                c = s.get(Clip, int(text))
+                found = [clip_info(c)] if c is not None else []
+            like = "%" + text.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
+            stmt = select(Clip).where(Clip.path.ilike(like, escape="\\")).order_by(Clip.id).limit(limit)
+            found += [clip_info(c) for c in s.scalars(stmt) if not found or c.id != found[0].id]
+            return found[:limit]
+        return self._read(q)
 
     def queue_rows(self, annotator: Any = None, *, state: str | None = None,
                    label: str | None = None, group: str | None = None,

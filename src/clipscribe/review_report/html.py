@@ -33,7 +33,9 @@ h1 { font-size: 22px; margin-bottom: 4px; } h2 { font-size: 17px; margin-top: 28
 .meta { color: #5f6b78; font-size: 13px; }
 .figs { display: flex; flex-wrap: wrap; gap: 24px; align-items: flex-start; }
 .fig { background: #ffffff; border: 1px solid #e1e6eb; padding: 10px; }
+.wide { overflow-x: auto; max-width: 100%; } .fig { max-width: 100%; overflow-x: auto; }
 table { border-collapse: collapse; font-size: 13px; margin: 8px 0; }
+td code { word-break: break-all; }
 th, td { border: 1px solid #d5dce3; padding: 3px 8px; text-align: left; vertical-align: top; }
 th { background: #eef2f6; } td.n { text-align: right; font-variant-numeric: tabular-nums; }
 code { font-size: 12px; color: #3a424d; } .note { background: #f7f3ee; padding: 8px 12px; }
@@ -71,7 +73,8 @@ def _table(table: tables.Table, limit: int | None = None) -> str:
             for r in rows[:limit]]
     if not rows:
         body.append(f'<tr><td colspan="{len(header)}">nothing to show</td></tr>')
-    return f"<table><tr>{head}</tr>{''.join(body)}</table>"
+    # a table wider than the page scrolls inside its own box instead of running off the page
+    return f'<div class="wide"><table><tr>{head}</tr>{"".join(body)}</table></div>'
 
 
 def render_html(data: dict) -> str:

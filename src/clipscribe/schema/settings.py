@@ -16,6 +16,38 @@ _HEX_COLOUR = re.compile(r"^#[0-9a-fA-F]{6}$")
 #: top-level folders of a Unix system that never hold a project's videos
 _SYSTEM_FOLDERS = frozenset({"proc", "sys", "dev", "run", "boot", "etc", "usr", "bin", "sbin",
                              "lib", "lib32", "lib64", "libx32"})
+#: one label written as text: its name, then optionally its key in brackets and its colour,
+#: "stack [k] #6a4c93" (the Set up dialog and ``clipscribe labels`` read and write this form)
+_LABEL_LINE = re.compile(r"^(?P<name>.+?)(?:\s*\[(?P<key>[^\]]?)\])?(?:\s*(?P<colour>#[0-9A-Fa-f]{6}))?\s*$")
+
+
+def parse_label_line(line: str) -> dict:
+    """``{"name", "key"?, "colour"?}`` of one label line; a key or colour left out is not in it
+    (``[]`` means no key)."""
+    m = _LABEL_LINE.match(line.strip())
+    out: dict = {"name": m["name"].strip()}
+    if m["key"] is not None:
+        out["key"] = m["key"].lower() or None
+    if m["colour"]:
+        out["colour"] = m["colour"].lower()
+    return out
+
+
+def label_line(label) -> str:
+    """The line form of a label (anything with name, key and colour)."""
+    return f"{label.name}  [{label.key or ''}]  {label.colour}"
+
+
+def label_specs(lines: list[str], known: list) -> list[dict]:
+    """Label specs from label lines; a label already in ``known`` (LabelInfo) keeps its key,
+    colour and guideline unless its line gives them."""
+    by_name = {lab.name: lab for lab in known}
+    out = []
+    for line in lines:
+        d = parse_label_line(line)
+        k = by_name.get(d["name"])
+        out.append({"key": k.key, "colour": k.colour, "guideline": k.guideline, **d} if k else d)
+    return out
 
 
 class LabelSpec(BaseModel):

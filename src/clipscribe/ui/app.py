@@ -64,7 +64,7 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
     frame, thumbnails and motion curve are shown (or after a timeout), and the app quits; it
     never asks for anything and an unopenable project exits 2.
     """
-    from . import start
+    from . import launch, start
     app = application()
     with _quit_on_interrupt(app) as interrupted:
         code = _run(app, start, folder, user=user, view=view, screenshot=screenshot,
@@ -113,6 +113,7 @@ def _run(app: QApplication, start, folder, *, user, view, screenshot, password, 
     code = 0
     while True:
         if folder is None:
+            launch.dismiss()
             if screenshot:
                 print("clipscribe: --screenshot needs a project folder", file=sys.stderr)
                 return 2
@@ -127,6 +128,7 @@ def _run(app: QApplication, start, folder, *, user, view, screenshot, password, 
             folder, note = None, problem  # back to the start window, saying why
             continue
         if project is None:  # the login was cancelled
+            launch.dismiss()
             return code
         shown = Path(project.folder).resolve()
         login = (project.user, project.engine.url.password)  # a server login's, maybe asked for
@@ -200,6 +202,8 @@ def _show(app: QApplication, project: Project, *, view: str, screenshot) -> int:
         Path(str(Path(screenshot).with_suffix(".ini"))).unlink(missing_ok=True)
     else:
         window.show()
+        from .launch import dismiss
+        dismiss()
         if project.role(project.user) == "lead" and not project.clip_count():
             QTimer.singleShot(0, window.show_setup)  # a new project: labels and videos first
         code = app.exec()

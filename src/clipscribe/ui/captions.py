@@ -18,11 +18,11 @@ from dataclasses import dataclass, field
 
 from PySide6.QtCore import Qt, QTimer, Signal, Slot
 from PySide6.QtWidgets import (
-    QComboBox, QGridLayout, QHBoxLayout, QLabel, QLineEdit, QScrollArea, QToolButton,
-    QVBoxLayout, QWidget,
+    QComboBox, QGridLayout, QHBoxLayout, QLabel, QScrollArea, QToolButton, QVBoxLayout, QWidget,
 )
 
 from .caption_checks import check_caption, count_words
+from .caption_edit import CaptionEdit
 
 IDLE_SAVE_MS = 600
 THEIRS_SHOWN = 80  # characters of the stored text quoted in a conflict note
@@ -36,7 +36,7 @@ TIPS = {False: ("Save your text over the one stored elsewhere (Ctrl+S)",
 @dataclass
 class Slot_:
     """One caption slot: its widgets and what the project holds for it."""
-    edit: QLineEdit
+    edit: CaptionEdit
     segment: QComboBox
     note: QLabel
     count: QLabel
@@ -94,7 +94,7 @@ class CaptionsPanel(QWidget):
 
     # ---- building ----------------------------------------------------------------------
     def _add_slot(self, i: int) -> Slot_:
-        edit = QLineEdit()
+        edit = CaptionEdit()
         edit.setPlaceholderText(f"Caption {i + 1}")
         edit.setAccessibleName(f"Caption {i + 1}")
         edit.setObjectName(f"caption{i + 1}")
@@ -125,6 +125,7 @@ class CaptionsPanel(QWidget):
         take.clicked.connect(lambda _=False, s=slot: self._take_theirs(s))
         edit.textEdited.connect(lambda _t, s=slot: (s.timer.start(), self._check_all()))
         edit.editingFinished.connect(lambda s=slot: self._save(s))
+        edit.undoBeyond.connect(lambda s=slot: self._undo_beyond(s))
         timer.timeout.connect(lambda s=slot: self._save(s))
         seg.activated.connect(lambda _i, s=slot: self._save(s))
         self._fill_segments(slot)
@@ -206,9 +207,10 @@ class CaptionsPanel(QWidget):
                 slot.theirs = None
                 self._mark(slot)
             self._fill_segments(slot)
-            if not pending:
+            if not pending and slot.edit.text() != slot.saved_text:
                 slot.edit.setText(slot.saved_text)
                 slot.edit.setCursorPosition(0)
+            if not pending:
                 slot.segment.setCurrentIndex(max(0, slot.segment.findData(slot.saved_segment)))
             elif text is not False:
                 slot.edit.setText(text)
@@ -333,6 +335,22 @@ class CaptionsPanel(QWidget):
             slot.edit.setProperty("problem", bool(found))
             slot.edit.style().unpolish(slot.edit)
             slot.edit.style().polish(slot.edit)
+
+    def _undo_beyond(self, slot: Slot_) -> None:
+        """Ctrl+Z in a field with no typing left to undo: save what is typed, then undo the
+        last edit of the clip."""
+        self._save(slot)
+        self.editor.undo_stack.undo()
+
+    def step_focus(self, step: int) -> None:
+        """Put the cursor in the next (``step`` 1) or previous (-1) caption, wrapping round."""
+        if not self.slots:
+            return
+        edits = [s.edit for s in self.slots]
+        here = next((i for i, e in enumerate(edits) if e.hasFocus()), -1 if step > 0 else 0)
+        e = edits[(here + step) % len(edits)]
+        e.setFocus(Qt.FocusReason.ShortcutFocusReason)
+        e.end(False)
 
     def focus_first_empty(self) -> None:
         for slot in self.slots:

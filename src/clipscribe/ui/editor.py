@@ -77,6 +77,14 @@ class ClipEditor(QObject):
         self.changed.emit()
         return out if out is not None else True
 
+    def restore_undo(self, clip: int) -> None:
+        """Undo for ``clip``: the person's steps on it still undoable, from the edit history
+        (so undo reaches back past a clip change or a reopened project)."""
+        self.undo_stack.clear()
+        for what, ids in self.project.undo_trail(clip, self.me):
+            self.undo_stack.push(EditCommand(what, self.project, ids, on_change=self._after_undo,
+                                             on_error=self.notSaved.emit))
+
     def _after_undo(self) -> None:
         self.saved.emit(time.strftime("%H:%M:%S"))
         self.changed.emit()

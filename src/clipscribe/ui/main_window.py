@@ -4,9 +4,9 @@ captions to the project. Widgets only show and emit; edits go through :class:`Cl
 from __future__ import annotations
 
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
-from PySide6.QtGui import QCloseEvent, QImage
+from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage
 from PySide6.QtWidgets import (
-    QDialog, QDockWidget, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
+    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
 
 from .actions import build_actions
@@ -15,6 +15,7 @@ from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
 from .dialogs import CautionsNote, ShortcutSheet
 from .editor import ClipEditor
+from .focus import FocusRing, fit_window
 from .jobs_view import ClipJobs
 from .menus import build_menus
 from .others_captions import OthersCaptions
@@ -100,7 +101,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.clip_panel.set_label_actions(
             [a[f"label:{l.name}"] for l in self.label_infos], self.colours)
         self.clip_panel.set_state_actions([a["submit"], a["skip"], a["unsure"]])
-        side = QWidget()
+        side = FocusRing()
+        side.setObjectName("clipSide")
         sl = QVBoxLayout(side)
         sl.setContentsMargins(6, 0, 6, 6)
         sl.addWidget(self.clip_panel)
@@ -195,9 +197,12 @@ class MainWindow(SegmentOps, QMainWindow):
             return
         self.captions.flush()
         self.jobs.cancel()
+        if self.timeline.pending_start is not None:  # the mark belongs to the clip left behind
+            self.statusBar().clearMessage()
+        self._leave_fields()
         self.clip = info = self.project.clip(clip_id)
         self.editor.clip = info.id
-        self.editor.undo_stack.clear()  # undo works within one clip at a time
+        self.editor.restore_undo(info.id)  # undo works within one clip, back to its first edit
         path = self.project.media_path(info.id)
         self.viewer.clear("Loading…")
         self.scrub.reset(info.frame_count)
@@ -244,6 +249,24 @@ class MainWindow(SegmentOps, QMainWindow):
             self.open_clip(nxt)
 
     @Slot()
+    def go_to_clip(self) -> None:
+        """Ask for a clip number or a part of a file name and open the first clip it finds."""
+        text, ok = QInputDialog.getText(self, "Go to clip", "Clip number, or part of its file name:")
+        if ok and text.strip():
+            self.open_found(text)
+
+    def open_found(self, text: str) -> None:
+        found = self.project.find_clips(text, limit=2)
+        if not found:
+            self.statusBar().showMessage(f"No clip numbered or named like “{text.strip()}”", 6000)
+            return
+        self.open_clip(found[0].id)
+        self.focus_viewer()
+        if len(found) > 1:
+            self.statusBar().showMessage(f"Opened clip {found[0].id}; more clips match "
+                                         f"“{text.strip()}”", 6000)
+
+    @Slot()
     def next_unfinished(self) -> None:
         nxt = self.project.next_unfinished_clip(after=self.clip.id if self.clip else None)
         if nxt is None:
@@ -256,6 +279,15 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions.flush()
         if self.editor.set_state("submitted") is not None:
             self.next_unfinished()
+            self.focus_viewer()  # the next keys are label and playback keys, not text
+
+    def _leave_fields(self) -> None:
+        """On clip change, move the cursor out of a caption or reason field: typing meant for
+        one clip must never land in the next one's fields."""
+        f = self.focusWidget()
+        side = self.findChild(FocusRing, "clipSide")
+        if f is not None and side is not None and side.isAncestorOf(f):
+            self.focus_viewer()
 
     def settle_conflicts(self) -> bool:
         """Before leaving the clip: ask what to do with captions changed or deleted elsewhere.
@@ -375,10 +407,8 @@ class MainWindow(SegmentOps, QMainWindow):
 
     def _restore_layout(self) -> None:
         geo, state = self.settings.value("window/geometry"), self.settings.value("window/state")
-        if geo is not None:
-            self.restoreGeometry(geo)
-        else:
-            self.resize(1440, 900)
+        screen = self.screen() or QGuiApplication.primaryScreen()
+        fit_window(self, screen.availableGeometry(), geo)
         if state is not None:
             self.restoreState(state)
 

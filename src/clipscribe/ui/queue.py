@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from PySide6.QtCore import QItemSelectionModel, Qt, Signal, Slot
+from PySide6.QtCore import QEvent, QItemSelectionModel, Qt, Signal, Slot
 from PySide6.QtWidgets import (
     QAbstractItemView, QComboBox, QFormLayout, QHeaderView, QLabel, QTableView, QVBoxLayout, QWidget,
 )
@@ -13,6 +13,9 @@ STATES = [("any", None), ("not finished", "unfinished"), ("untouched", "open"),
           ("submitted", "submitted"), ("skipped", "skipped"), ("unsure", "unsure")]
 
 
+QUEUE_MIN_WIDTH = 280
+
+
 class QueuePanel(QWidget):
     clipChosen = Signal(int)
 
@@ -20,6 +23,7 @@ class QueuePanel(QWidget):
                  people: list[str], parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setObjectName("clipQueue")
+        self.setMinimumWidth(QUEUE_MIN_WIDTH)  # other panels' text must not squeeze the names away
         self.model = model
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
@@ -47,7 +51,7 @@ class QueuePanel(QWidget):
         self.view.setWordWrap(False)
         self.view.setCornerButtonEnabled(False)
         self.view.setAlternatingRowColors(True)
-        self.view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.view.setTextElideMode(Qt.TextElideMode.ElideRight)  # the file name's start shows
         rows = self.view.verticalHeader()
         rows.setVisible(False)
         rows.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
@@ -67,9 +71,23 @@ class QueuePanel(QWidget):
         self.count = QLabel()
         self.count.setObjectName("queueCount")
         lay.addWidget(self.count)
+        self.view.installEventFilter(self)
         self.view.selectionModel().currentRowChanged.connect(self._current_changed)
         model.modelReset.connect(self._show_count)
         self._show_count()
+
+    def eventFilter(self, obj, e) -> bool:  # noqa: N802
+        """Home and End in the list go to its first and last clip (elsewhere they are the
+        first and last frame)."""
+        if obj is self.view and e.type() in (QEvent.Type.ShortcutOverride, QEvent.Type.KeyPress) \
+                and e.key() in (Qt.Key.Key_Home, Qt.Key.Key_End) \
+                and not e.modifiers() & ~Qt.KeyboardModifier.KeypadModifier:
+            e.accept()
+            if e.type() == QEvent.Type.KeyPress and self.model.rowCount():
+                row = 0 if e.key() == Qt.Key.Key_Home else self.model.reach_end()
+                self.view.setCurrentIndex(self.model.index(row, 0))
+            return True
+        return super().eventFilter(obj, e)
 
     def _combo(self, items) -> QComboBox:
         box = QComboBox()

@@ -13,6 +13,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
+from ..project_parts.catalog import clip_state_word
 from ..project_parts.workbench import QueueRow
 
 PAGE = 200
@@ -105,6 +106,12 @@ class ClipQueueModel(QAbstractTableModel):
                         self.dataChanged.emit(self.index(r, 0), self.index(r, len(COLUMNS) - 1))
                     return
 
+    def reach_end(self) -> int:
+        """Give the view every row (reading only the last page); the last row's number."""
+        if self._count < self._total:
+            self._grow(self._total)
+        return self._count - 1
+
     def row(self, r: int) -> QueueRow:
         row = self._get(r)
         if row is None:
@@ -130,12 +137,14 @@ class ClipQueueModel(QAbstractTableModel):
             return None
         col = index.column()
         if role == Qt.ItemDataRole.DisplayRole:
-            return (f"{row.clip.id}  {row.clip.path}", row.clip.group or "",
+            return (f"{row.clip.path.rsplit('/', 1)[-1]}  #{row.clip.id}", row.clip.group or "",
                     row.my_label or "", row.my_state)[col]
         if role == ClipIdRole:
             return row.clip.id
         if role == Qt.ItemDataRole.ToolTipRole:
             c = row.clip
-            return (f"{c.path}\n{c.frame_count} frames at {c.fps:g} fps, {c.width}×{c.height}\n"
-                    f"group {c.group or '–'}; clip state {c.state}")
+            folder = c.path.rsplit("/", 1)[0] if "/" in c.path else "(the media folder itself)"
+            return (f"clip {c.id}: {c.path.rsplit('/', 1)[-1]}\nfolder {folder}\n"
+                    f"{c.frame_count} frames at {c.fps:g} fps, {c.width}×{c.height}\n"
+                    f"group {c.group or '–'}; clip state {clip_state_word(c.state)}")
         return None

@@ -30,6 +30,7 @@ class ScrubBar(QWidget):
         self.thumbs: list[QImage] = []
         self.curve: np.ndarray | None = None
         self.status = ""  # "thumbnails 40%" while jobs run
+        self.status_box = QRectF()  # where the status was last drawn
 
     def sizeHint(self) -> QSize:
         return QSize(800, STRIP_H + CURVE_H + 4)
@@ -80,9 +81,15 @@ class ScrubBar(QWidget):
                 src = QRectF((img.width() - sw) / 2, 0, sw, img.height())
                 p.drawImage(cell, img, src)
         self._draw_curve(p, w)
-        if self.status:
-            p.setPen(QColor(theme.MUTED_TEXT))
-            p.drawText(QRectF(6, 0, w - 12, STRIP_H), Qt.AlignmentFlag.AlignCenter, self.status)
+        if self.status:  # on a solid box: the thumbnails under it may be any colour
+            box = p.boundingRect(QRectF(6, 0, w - 12, STRIP_H), Qt.AlignmentFlag.AlignCenter,
+                                 self.status).adjusted(-6, -2, 6, 2)
+            self.status_box = box
+            p.setRenderHint(QPainter.RenderHint.Antialiasing, False)
+            p.fillRect(box, QColor(theme.STATUS_BG))
+            p.setPen(QColor(theme.STATUS_TEXT))
+            p.drawText(box, Qt.AlignmentFlag.AlignCenter, self.status)
+            p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         x = self.x_of(self.playhead + 0.5)
         p.setPen(QPen(QColor(theme.PLAYHEAD), 2))
         p.drawLine(QPointF(x, 0), QPointF(x, self.height()))

@@ -104,3 +104,31 @@ class SegmentOps:
             self.actions_["loop"].setChecked(False)
             return
         self.player.set_loop((g.start, g.end))
+
+    def nudge_edge(self, edge: str, step: int) -> None:
+        """Move the start or end edge of the selected segment (else the one under the
+        playhead) by ``step`` frames, as one edit; the playhead follows the edge."""
+        g = self._target()
+        if g is None:
+            self._say("No segment selected or under the playhead")
+            return
+        start, end = g.start, g.end
+        if edge == "start":
+            start = max(0, min(end - 1, start + step))
+        else:
+            end = max(start + 1, min(self.player.frame_count, end + step))
+        if (start, end) == (g.start, g.end):
+            return
+        self.timeline.set_selected(g.id)
+        if self.editor.move_segment(g.id, start, end) is not None:
+            self.player.seek(start if edge == "start" else end - 1)
+
+    def jump_to_edge(self, edge: str) -> None:
+        """Playhead to the first (start) or last (end) frame of the selected segment, else of
+        the one under the playhead."""
+        g = self._target()
+        if g is None:
+            self._say("No segment selected or under the playhead")
+            return
+        self.timeline.set_selected(g.id)
+        self.player.seek(g.start if edge == "start" else g.end - 1)

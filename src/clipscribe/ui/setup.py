@@ -11,11 +11,13 @@ from pathlib import Path
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QCheckBox, QComboBox, QDialog, QDialogButtonBox, QFileDialog, QFormLayout, QGroupBox,
-    QHBoxLayout, QLabel, QPlainTextEdit, QProgressBar, QPushButton, QVBoxLayout, QWidget,
+    QHBoxLayout, QLabel, QMessageBox, QPlainTextEdit, QProgressBar, QPushButton, QSpinBox,
+    QVBoxLayout, QWidget,
 )
 
 from ..errors import RecordError
 from ..project_parts.catalog import BY_FOLDER
+from ..schema.settings import label_line, label_specs, parse_label_line
 from .people import PeopleBox
 from .workers import Job, JobRunner
 
@@ -35,6 +37,18 @@ def ingest(project, source: Path | None, pattern: str | None, *, cancel, progres
     return folder, project.add_media(folder, group_pattern=pattern, progress=progress)
 
 
+def ask_unsaved(parent, what: str) -> str:
+    """"save", "discard" or "stay" for unsaved edits of ``what`` on closing."""
+    box = QMessageBox(QMessageBox.Icon.Question, "Unsaved changes",
+                      f"The {what} you changed are not saved.", parent=parent)
+    save = box.addButton("Save", QMessageBox.ButtonRole.AcceptRole)
+    drop = box.addButton("Discard", QMessageBox.ButtonRole.DestructiveRole)
+    box.addButton("Keep editing", QMessageBox.ButtonRole.RejectRole)
+    box.setDefaultButton(save)
+    box.exec()
+    return {save: "save", drop: "discard"}.get(box.clickedButton(), "stay")
+
+
 def _note(layout) -> QLabel:
     """A wrapped line under a part of the dialog saying how its last action went."""
     note = QLabel()
@@ -47,24 +61,34 @@ def _note(layout) -> QLabel:
 class ProjectSetup(QDialog):
     """Labels, videos and people of one project; ``changed`` says whether anything was saved."""
 
-    def __init__(self, project, parent: QWidget | None = None, *, pick=None) -> None:
+    def __init__(self, project, parent: QWidget | None = None, *, pick=None, ask=None) -> None:
         super().__init__(parent)
         self.setObjectName("projectSetup")
         self.setWindowTitle("Set up the project")
-        self.setMinimumWidth(620)
+        self.setMinimumWidth(660)
         self.project = project
         self._changed = False
         self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
+        self.ask = ask or (lambda what: ask_unsaved(self, what))
         self.jobs = JobRunner(self)
         self._job: Job | None = None
         lay = QVBoxLayout(self)
         lay.addWidget(self._labels_box())
+        lay.addWidget(self._captions_box())
         lay.addWidget(self._videos_box())
         self.people = PeopleBox(project)
         lay.addWidget(self.people)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
         buttons.rejected.connect(self.reject)
         lay.addWidget(buttons)
+        # Return in a field belongs to that field (the person's name adds the person), never
+        # to whichever button happens to be the dialog's default
+        for b in self.findChildren(QPushButton):
+            b.setAutoDefault(False)
+            b.setDefault(False)
+        # the wrapped notes make the layout's own minimum too small: the label list would then
+        # run under the row below it
+        self.setMinimumHeight(self.sizeHint().height())
 
     @property
     def changed(self) -> bool:
@@ -75,16 +99,17 @@ class ProjectSetup(QDialog):
     def _labels_box(self) -> QGroupBox:
         box = QGroupBox("Labels")
         lay = QVBoxLayout(box)
-        intro = QLabel("One activity label per line, in the order the label buttons show them. "
-                       "A label taken off the list is retired: kept in the history, no longer "
-                       "offered.")
+        intro = QLabel("One label per line, in button order, with its key and colour if you "
+                       "like: <code>stack [k] #6a4c93</code> (no key: the next free of 1–9, 0, "
+                       "then letters). A label taken off the list is retired, kept in the history.")
         intro.setWordWrap(True)
         lay.addWidget(intro)
-        self.label_text = QPlainTextEdit("\n".join(lab.name for lab in self.project.labels()))
+        self.label_text = QPlainTextEdit(self._saved_label_text())
+        self.label_text.setTabChangesFocus(True)
         self.label_text.setObjectName("labelList")
         self.label_text.setAccessibleName("Labels, one per line")
         self.label_text.setPlaceholderText("pick up\nput down\n…")
-        self.label_text.setFixedHeight(self.fontMetrics().height() * 7)
+        self.label_text.setFixedHeight(self.fontMetrics().height() * 6)
         lay.addWidget(self.label_text)
         row = QHBoxLayout()
         self.ordinal = QCheckBox("The labels are &ordered (weighted kappa applies)")
@@ -97,18 +122,37 @@ class ProjectSetup(QDialog):
         self.label_note = _note(lay)
         return box
 
+    def _saved_label_text(self) -> str:
+        return "\n".join(label_line(lab) for lab in self.project.labels())
+
     def label_names(self) -> list[str]:
-        return [line.strip() for line in self.label_text.toPlainText().splitlines() if line.strip()]
+        return [parse_label_line(line)["name"] for line in self.label_text.toPlainText().splitlines()
+                if line.strip()]
+
+    @property
+    def labels_unsaved(self) -> bool:
+        """Whether the label list or the ordered box differ from what the project holds."""
+        lines = [line for line in self.label_text.toPlainText().splitlines() if line.strip()]
+        now = [parse_label_line(line) for line in lines]
+        known = {lab.name: lab for lab in self.project.labels()}
+        held = [{"name": lab.name, "key": lab.key, "colour": lab.colour} for lab in known.values()]
+        mine = [{"name": d["name"], "key": d.get("key", getattr(known.get(d["name"]), "key", None)),
+                 "colour": d.get("colour", getattr(known.get(d["name"]), "colour", None))} for d in now]
+        return mine != held or self.ordinal.isChecked() != self.project.labels_ordinal()
 
     def save_labels(self) -> bool:
-        names = self.label_names()
-        if not names:
+        lines = [parse_label_line(line) for line in self.label_text.toPlainText().splitlines()
+                 if line.strip()]
+        if not lines:
             self.label_note.setText("Write at least one label.")
             return False
-        known = {lab.name: lab for lab in self.project.labels()}
-        # labels kept by name keep their key, colour and guideline
-        specs = [{"name": n, "key": known[n].key, "colour": known[n].colour,
-                  "guideline": known[n].guideline} if n in known else n for n in names]
+        if not self.labels_unsaved:
+            self.label_note.setText(f"Nothing to save: the labels are as stored (label set "
+                                    f"v{self.project.label_set_version()}).")
+            return True
+        specs = label_specs([line for line in self.label_text.toPlainText().splitlines()
+                             if line.strip()], self.project.labels())
+        names = [d["name"] for d in lines]
         try:
             self.project.define_labels(specs, ordinal=self.ordinal.isChecked())
         except RecordError as exc:
@@ -118,6 +162,54 @@ class ProjectSetup(QDialog):
         keys = ", ".join(f"{lab.name} [{lab.key}]" for lab in self.project.labels() if lab.key)
         self.label_note.setText(f"Saved {len(names)} labels (label set "
                                 f"v{self.project.label_set_version()}). Keys: {keys}")
+        self.label_text.setPlainText(self._saved_label_text())
+        return True
+
+    # ---- caption rules --------------------------------------------------------------------
+    def _captions_box(self) -> QGroupBox:
+        box = QGroupBox("Captions")
+        lay = QVBoxLayout(box)
+        row = QHBoxLayout()
+        g = self.project.settings.caption_guideline
+        self.per_clip, self.min_words, self.max_words = QSpinBox(), QSpinBox(), QSpinBox()
+        for spin, (lo, hi), value, text in (
+                (self.per_clip, (1, 50), g.captions_per_clip, "Capt&ions per clip:"),
+                (self.min_words, (0, 200), g.min_words, "&Fewest words:"),
+                (self.max_words, (1, 400), g.max_words, "&Most words:")):
+            spin.setRange(lo, hi)
+            spin.setValue(value)
+            lab = QLabel(text)
+            lab.setBuddy(spin)
+            row.addWidget(lab)
+            row.addWidget(spin)
+        row.addStretch(1)
+        self.save_rules_button = QPushButton("Save &rules")
+        self.save_rules_button.clicked.connect(self.save_caption_rules)
+        row.addWidget(self.save_rules_button)
+        lay.addLayout(row)
+        self.rules_note = _note(lay)
+        return box
+
+    @property
+    def rules_unsaved(self) -> bool:
+        g = self.project.settings.caption_guideline
+        return (self.per_clip.value(), self.min_words.value(), self.max_words.value()) != (
+            g.captions_per_clip, g.min_words, g.max_words)
+
+    def save_caption_rules(self) -> bool:
+        if not self.rules_unsaved:
+            self.rules_note.setText("Nothing to save: the caption rules are as stored.")
+            return True
+        try:
+            self.project.set_caption_rules(captions_per_clip=self.per_clip.value(),
+                                           min_words=self.min_words.value(),
+                                           max_words=self.max_words.value())
+        except RecordError as exc:
+            self.rules_note.setText(f"Not saved: {exc}")
+            return False
+        self._changed = True
+        self.rules_note.setText(f"Saved: {self.per_clip.value()} captions per clip, "
+                                f"{self.min_words.value()}–{self.max_words.value()} words each.")
         return True
 
     # ---- videos ---------------------------------------------------------------------------
@@ -222,4 +314,13 @@ class ProjectSetup(QDialog):
         if not self.progress.isHidden():  # finish or cancel the copy first: nothing half-done
             self.video_note.setText("Videos are being added: wait, or press Cancel first.")
             return
+        what = [w for w, on in (("labels", self.labels_unsaved),
+                                ("caption rules", self.rules_unsaved)) if on]
+        if what:
+            answer = self.ask(" and ".join(what))
+            if answer == "stay":
+                return
+            if answer == "save" and not ((not self.labels_unsaved or self.save_labels())
+                                         and (not self.rules_unsaved or self.save_caption_rules())):
+                return  # refused: the note says why, and the dialog stays
         super().reject()

@@ -13,7 +13,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from PySide6.QtCore import QSettings, Qt
-from PySide6.QtGui import QIcon, QKeySequence
+from PySide6.QtGui import QIcon, QKeySequence, QShortcut
 from PySide6.QtWidgets import (
     QDialog, QFileDialog, QHBoxLayout, QLabel, QListWidget, QListWidgetItem, QProgressBar,
     QPushButton, QVBoxLayout, QWidget,
@@ -131,8 +131,8 @@ class StartWindow(QDialog):
 
     def _button(self, text: str, keys: str | None, slot, tip: str) -> QPushButton:
         b = QPushButton(text)
-        if keys:
-            b.setShortcut(QKeySequence(keys))
+        if keys:  # a shortcut of its own, so the button keeps its Alt+letter from the text
+            QShortcut(QKeySequence(keys), self, activated=b.click)
             tip = f"{tip}  ({QKeySequence(keys).toString(QKeySequence.SequenceFormat.NativeText)})"
         b.setToolTip(tip)
         b.clicked.connect(lambda _checked=False: slot())

@@ -20,6 +20,7 @@ EDGE_GRAB_PX = 6
 SCALE_H = 18         # ticks and the frame count under one's own track
 OTHER_H = 12         # one other annotator's track
 OTHER_ALPHA = 110    # their label colours, faded over the track background
+MIN_SPAN = 10        # zoomed in furthest: this many frames across the track
 
 
 def _height(n_others: int) -> int:
@@ -50,6 +51,7 @@ class Timeline(QWidget):
         self.loop: tuple[int, int] | None = None
         self._drag: tuple[int, str, int, int] | None = None  # id, "start"|"end", start, end
         self.others: list[tuple[str, list]] = []  # (annotator, their segments), read only
+        self.view_start, self.view_span = 0, 1  # the frames shown: zoomed in, a part of the clip
 
     def sizeHint(self) -> QSize:
         return QSize(800, _height(len(self.others)))
@@ -69,6 +71,7 @@ class Timeline(QWidget):
     # ---- inputs ------------------------------------------------------------------------
     def reset(self, frame_count: int) -> None:
         self.frame_count, self.playhead = max(1, frame_count), 0
+        self.view_start, self.view_span = 0, self.frame_count
         self.selected = self.pending_start = self.loop = None
         self._drag = None
         self.update()
@@ -76,7 +79,25 @@ class Timeline(QWidget):
     @Slot(int)
     def set_playhead(self, frame: int) -> None:
         self.playhead = frame
+        if not self.view_start <= frame < self.view_start + self.view_span:  # keep it in view
+            self._show_from(frame - self.view_span // 2)
         self.update()
+
+    # ---- zoom --------------------------------------------------------------------------
+    def zoom(self, factor: float) -> None:
+        """Show ``factor`` times fewer frames (more below 1), centred on the playhead; at
+        least MIN_SPAN frames, at most the whole clip."""
+        span = int(round(self.view_span / factor))
+        self.view_span = max(min(MIN_SPAN, self.frame_count), min(self.frame_count, span))
+        self._show_from(self.playhead - self.view_span // 2)
+        self.update()
+
+    def zoom_all(self) -> None:
+        self.view_start, self.view_span = 0, self.frame_count
+        self.update()
+
+    def _show_from(self, start: int) -> None:
+        self.view_start = max(0, min(self.frame_count - self.view_span, start))
 
     def set_selected(self, segment_id: int | None) -> None:
         self.selected = segment_id
@@ -88,11 +109,12 @@ class Timeline(QWidget):
 
     # ---- geometry ----------------------------------------------------------------------
     def x_of(self, frame: float) -> float:
-        return frame * self.width() / self.frame_count
+        return (frame - self.view_start) * self.width() / self.view_span
 
     def frame_at(self, x: float) -> int:
         """The frame boundary nearest ``x`` (0 .. frame_count): edges snap to whole frames."""
-        return int(min(self.frame_count, max(0, round(x * self.frame_count / max(1, self.width())))))
+        f = self.view_start + round(x * self.view_span / max(1, self.width()))
+        return int(min(self.frame_count, max(0, f)))
 
     def _hit(self, x: float) -> tuple[int, str] | None:
         """(segment id, "start"|"end"|"body") under ``x``; edges win within a few pixels."""
@@ -115,8 +137,9 @@ class Timeline(QWidget):
         w, top = self.width(), 4
         p.fillRect(self.rect(), QColor(theme.TRACK_BG))
         p.setPen(QColor(theme.TRACK_GRID))
-        fps_step = max(1, self.frame_count // 20)
-        for f in range(0, self.frame_count + 1, fps_step):
+        fps_step = max(1, self.view_span // 20)
+        first = self.view_start - self.view_start % fps_step
+        for f in range(first, min(self.frame_count, self.view_start + self.view_span) + 1, fps_step):
             x = self.x_of(f)
             p.drawLine(QPointF(x, top + TRACK_H), QPointF(x, top + TRACK_H + 4))
         if self.loop:
@@ -148,8 +171,10 @@ class Timeline(QWidget):
         p.setPen(QPen(QColor(theme.PLAYHEAD), 2))
         p.drawLine(QPointF(x, 0), QPointF(x, self.height()))
         p.setPen(QColor(theme.MUTED_TEXT))
+        zoomed = self.view_span < self.frame_count
         p.drawText(QRectF(4, top + TRACK_H, w - 8, 14), Qt.AlignmentFlag.AlignRight,
-                   f"{self.frame_count} frames")
+                   f"frames {self.view_start}–{self.view_start + self.view_span - 1} of "
+                   f"{self.frame_count}" if zoomed else f"{self.frame_count} frames")
 
     def _paint_others(self, p: QPainter, y0: float) -> None:
         """Thin faded tracks of the other annotators, each named at its left end."""

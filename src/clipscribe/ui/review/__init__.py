@@ -18,6 +18,9 @@ from .desk import ReviewDesk, desk_action
 SHARED_ACTIONS = ("work_view", "review_view", "shortcuts", "cautions", "quit", "export")
 
 
+REPORT_ACTION = "Write agreement report…"  # one name: menu, board button, messages
+
+
 class ReviewPage(QTabWidget):
     """Two tabs: "Review desk" and "Agreement board"."""
 
@@ -30,7 +33,7 @@ class ReviewPage(QTabWidget):
         self.addTab(self.desk, "&Review desk")
         self.addTab(self.board, "Agreement &board")
         self.runner = JobRunner(self)
-        self.export_action = desk_action(self, "Export agreement report…", "Ctrl+Shift+R",
+        self.export_action = desk_action(self, REPORT_ACTION, "Ctrl+Shift+R",
                                          self.ask_export)
         self.board.exportRequested.connect(self.ask_export)
         self.currentChanged.connect(self._tab)
@@ -58,7 +61,7 @@ class ReviewPage(QTabWidget):
         """Write the report in the background; progress and the outcome go to ``status``."""
         from ...review_report import write_report
         p, say = self.project, self.desk.status.emit
-        say("Exporting the agreement report…")
+        say("Writing the agreement report…")
         job = Job("agreement report", lambda cancel, progress: write_report(p, folder))
         job.signals.finished.connect(lambda files: say(
             f"Report written to {files.html} with {len(files.csv)} CSV tables "
@@ -90,15 +93,24 @@ def refusal(project, reason: str) -> QLabel:
     return lab
 
 
+def _say(window, msg: str) -> None:
+    """A desk message on the window's status bar; whether a decision was saved goes to the
+    one place that says so (which otherwise would still say "Nothing changed yet")."""
+    if msg.startswith(("Saved ", "Not saved")):
+        window._show_saved(msg, msg.startswith("Saved "))
+    else:
+        window.statusBar().showMessage(msg, 8000)
+
+
 def _build_page(window, holder: QWidget) -> "ReviewPage":
     page = ReviewPage(window.project)
     holder.layout().addWidget(page)
     page.show()  # at once, not on the next pass of the event loop
-    page.desk.status.connect(lambda msg: window.statusBar().showMessage(msg, 8000))
+    page.desk.status.connect(lambda msg: _say(window, msg))
     window.installEventFilter(_Closer(page))
     menu = window.menuBar().addMenu("&Review")
     for a in (page.desk.undo_action, page.desk.redo_action, page.desk.acts["next"],
-              page.desk.acts["prev"], page.export_action):
+              page.desk.acts["prev"], page.desk.acts["copy_track"], page.export_action):
         menu.addAction(a)
     window.review_desk = page
     return page

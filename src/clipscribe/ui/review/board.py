@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import time
 
-from PySide6.QtCore import Qt, Signal, Slot
+from PySide6.QtCore import QEvent, Qt, Signal, Slot
 from PySide6.QtWidgets import (
     QComboBox, QGridLayout, QHBoxLayout, QLabel, QPlainTextEdit, QPushButton, QScrollArea,
     QVBoxLayout, QWidget,
@@ -18,6 +18,7 @@ from ..workers import Job, JobRunner
 from .paint import FigureView
 
 #: grid cell -> figures stacked in it
+MIN_SCALE = 0.7  # figures are never drawn smaller than this; the board scrolls instead
 LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",),
           (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",)}
 
@@ -58,7 +59,7 @@ class AgreementBoard(QWidget):
         top.addWidget(self.pair)
         self.refresh_button = QPushButton("Recompute")
         self.refresh_button.clicked.connect(self.refresh)
-        export = QPushButton("Export report…")
+        export = QPushButton("Write agreement report…")
         export.setToolTip("Write the board as report.html plus CSV tables (Ctrl+Shift+R)")
         export.clicked.connect(self.exportRequested)
         top.addWidget(self.refresh_button)
@@ -82,9 +83,11 @@ class AgreementBoard(QWidget):
             grid.addLayout(cell, r, c)
         grid.setRowStretch(2, 1)
         grid.setColumnStretch(3, 1)
-        scroll = QScrollArea()
+        scroll = self.scroll = QScrollArea()
         scroll.setWidget(inner)
         scroll.setWidgetResizable(True)
+        scroll.viewport().installEventFilter(self)  # figures shrink to the width there is
+        self._grid = grid
         lay.addWidget(scroll, 1)
         bottom = QHBoxLayout()
         self.details = QPlainTextEdit()
@@ -154,6 +157,25 @@ class AgreementBoard(QWidget):
     def _pair_changed(self, i: int) -> None:
         if self.data is not None:
             self.figs["confusion"].set_figure(confusion_figure(self.data, max(0, i)))
+            self.fit_figures()
+
+    def eventFilter(self, obj, event) -> bool:  # noqa: N802
+        if obj is self.scroll.viewport() and event.type() == QEvent.Type.Resize:
+            self.fit_figures()
+        return super().eventFilter(obj, event)
+
+    def fit_figures(self) -> None:
+        """Draw the figures smaller (down to MIN_SCALE) when their columns are wider than the
+        board, so no figure is cut at the right edge; below that the board scrolls."""
+        cols: dict[int, int] = {}
+        for (_r, c), names in LAYOUT.items():
+            cols[c] = max([cols.get(c, 0)] + [self.figs[n].natural_width() for n in names])
+        m = self._grid.contentsMargins()
+        room = self.scroll.viewport().width() - m.left() - m.right() \
+            - self._grid.spacing() * (len(cols) - 1) - 4
+        scale = max(MIN_SCALE, min(1.0, room / max(1, sum(cols.values()))))
+        for v in self.figs.values():
+            v.set_scale(scale)
 
     def _details(self, text: str) -> None:
         self.details.setPlainText(text)

@@ -171,6 +171,15 @@ class CaptionGridModel(QAbstractTableModel):
             return False
         return self.setData(index, state != Qt.CheckState.Checked, Qt.ItemDataRole.CheckStateRole)
 
+    def accept_column(self, col: int) -> bool:
+        """Accept every caption of the annotator in column ``col`` into gold, as one decision
+        (those already accepted stay as they are)."""
+        if not 0 <= col < len(self.cols):
+            return False
+        gold = list(self.gold)
+        gold += [(c.text, c.id) for c in self.cols[col] if self._gold_index(c.id) is None]
+        return len(gold) > len(self.gold) and self._write(gold)
+
     def _write(self, gold: list[GoldItem]) -> bool:
         if not self.writer(gold):
             return False

@@ -147,6 +147,9 @@ class ReviewDesk(QWidget):
                              lambda: self.caption_model.toggle(self.caption_view.currentIndex()),
                              context=Qt.ShortcutContext.WidgetShortcut)
         toggle.setObjectName("toggleCaption")
+        desk_action(self.caption_view, "Accept all this annotator's captions", "Shift+A",
+                    lambda: self.caption_model.accept_column(self.caption_view.currentIndex().column()),
+                    context=Qt.ShortcutContext.WidgetShortcut).setObjectName("acceptColumn")
         cl.addWidget(self.caption_view, 2)
 
         self.settle = SettlePanel(self.labels, self.segment_model)
@@ -180,6 +183,9 @@ class ReviewDesk(QWidget):
             "queue": desk_action(self, "Go to disputed clips", "Ctrl+L", self.queue_view.setFocus),
             "captions": desk_action(self, "Go to captions", "Ctrl+E", self.caption_view.setFocus),
             "viewer": desk_action(self, "Go to viewer", "Ctrl+0", self.viewer.setFocus),
+            "copy_track": desk_action(self, "Copy the chosen annotator's segments to gold",
+                                      "Ctrl+Shift+G",
+                                      lambda: self.copy_track(self.settle.track_of.currentText())),
         })
 
     def _wire(self) -> None:
@@ -238,7 +244,7 @@ class ReviewDesk(QWidget):
         current = self.cmp.clip.id if self.cmp else None
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
-        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label split, "
+        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label disagreement, "
                              "then segment F1, then caption BLEU (worst first).")
         self.queue_note.setText(self._ranked_note)
         target = current if keep and current in self.queue_model.clips() else (
@@ -314,7 +320,7 @@ class ReviewDesk(QWidget):
         c = cmp.clip
         sc = cmp.scores
         nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
-            ("label split", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
+            ("label disagreement", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
             ("caption BLEU", "caption_bleu", "{:.1f}")))
         skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items())
         self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "

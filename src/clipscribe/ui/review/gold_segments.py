@@ -1,4 +1,6 @@
-"""The gold segments of the clip under review as an editable table (label, first frame, end).
+"""The gold segments of the clip under review as an editable table (label, first frame, last
+frame). Frames are shown as everywhere on screen: first and last frame both included ("25–105"
+on the tracks is start 25, last 105); the project stores the end exclusive (106).
 
 Edits compute the whole new list and hand it to ``writer`` (the desk's editor, which calls
 ``Project.set_gold_segments``); a refused edit leaves the table as the project has it.
@@ -13,7 +15,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 
 Index = QModelIndex | QPersistentModelIndex
 Seg = tuple[str, int, int]
-HEADERS = ("Label", "Start frame", "End frame (excl.)")
+HEADERS = ("Label", "First frame", "Last frame")
 
 
 class GoldSegmentModel(QAbstractTableModel):
@@ -49,7 +51,8 @@ class GoldSegmentModel(QAbstractTableModel):
         if not index.isValid() or not 0 <= index.row() < len(self.rows):
             return None
         if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
-            return self.rows[index.row()][index.column()]
+            v = self.rows[index.row()][index.column()]
+            return v - 1 if index.column() == 2 else v  # the last frame, included
         return None
 
     def setData(self, index: Index, value: Any, role: int = Qt.ItemDataRole.EditRole) -> bool:  # noqa: N802
@@ -62,7 +65,7 @@ class GoldSegmentModel(QAbstractTableModel):
             row[0] = str(value)
         else:
             try:
-                row[index.column()] = int(value)
+                row[index.column()] = int(value) + (1 if index.column() == 2 else 0)
             except (TypeError, ValueError):
                 return False
         rows = list(self.rows)

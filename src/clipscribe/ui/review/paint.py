@@ -67,6 +67,7 @@ class FigureView(QWidget):
         self.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Fixed)
         self.setFocusPolicy(Qt.FocusPolicy.TabFocus)
         self.fig = fig or Figure("", 10, 10)
+        self.scale = 1.0  # drawn smaller than the figure's own size, to fit a narrow screen
         self.set_figure(self.fig)
 
     def set_figure(self, fig: Figure) -> None:
@@ -75,8 +76,17 @@ class FigureView(QWidget):
         self.setFixedSize(self.sizeHint())
         self.update()
 
+    def set_scale(self, scale: float) -> None:
+        if scale != self.scale:
+            self.scale = scale
+            self.setFixedSize(self.sizeHint())
+            self.update()
+
+    def natural_width(self) -> int:
+        return int(self.fig.width + 2)
+
     def sizeHint(self) -> QSize:  # noqa: N802
-        return QSize(int(self.fig.width + 2), int(self.fig.height + 2))
+        return QSize(int((self.fig.width + 2) * self.scale), int((self.fig.height + 2) * self.scale))
 
     def tip_at(self, x: float, y: float) -> str | None:
         """The tip of the topmost mark under (x, y), if any."""
@@ -96,11 +106,12 @@ class FigureView(QWidget):
     def paintEvent(self, event) -> None:  # noqa: N802
         p = QPainter(self)
         p.fillRect(self.rect(), QColor("#ffffff"))
+        p.scale(self.scale, self.scale)
         paint_figure(p, self.fig)
 
     def mouseMoveEvent(self, event) -> None:  # noqa: N802
         pos = event.position()
-        tip = self.tip_at(pos.x(), pos.y())
+        tip = self.tip_at(pos.x() / self.scale, pos.y() / self.scale)
         if tip:
             QToolTip.showText(event.globalPosition().toPoint(), tip, self)
             self.hovered.emit(tip)

@@ -13,9 +13,10 @@ ClipIdRole = Qt.ItemDataRole.UserRole + 1
 SortRole = Qt.ItemDataRole.UserRole + 2
 Index = QModelIndex | QPersistentModelIndex
 
-COLUMNS = ("#", "Clip", "Split", "Seg F1", "BLEU", "Gold", "Labels")
+COLUMNS = ("Clip #", "File", "Disagree", "Seg F1", "BLEU", "Gold", "Labels")
 TIPS = {
-    "Split": "label split: 1 − share of the most common label among the annotators (0: all agree)",
+    "Clip #": "the clip's number (rows are ordered most disputed first)",
+    "Disagree": "label disagreement: 1 − share of the most common label among the annotators (0: all agree)",
     "Seg F1": "mean F1 over annotator pairs of one-to-one segment matches at IoU 0.5",
     "BLEU": "mean leave-one-out sentence BLEU of the clip's captions (0–100)",
     "Gold": "the label the lead settled, if any",
@@ -70,10 +71,10 @@ class DisputedClipsModel(QAbstractTableModel):
             return r.clip
         if role == Qt.ItemDataRole.DisplayRole:
             return {
-                "#": str(r.rank), "Clip": r.path,
+                "Clip #": str(r.clip), "File": r.path,
                 "Labels": (", ".join(sorted(set(r.labels.values()))) or "–")
                 + (f" · {len(r.skipped)} skipped" if r.skipped else ""),
-                "Split": _num(r.label_disagreement, "{:.2f}"),
+                "Disagree": _num(r.label_disagreement, "{:.2f}"),
                 "Seg F1": _num(r.segment_f1, "{:.2f}"),
                 "BLEU": _num(r.caption_bleu, "{:.1f}"),
                 "Gold": r.gold_label or "",
@@ -82,7 +83,7 @@ class DisputedClipsModel(QAbstractTableModel):
             who = "\n".join([f"{a}: {lab}" for a, lab in sorted(r.labels.items())]
                             + [f"{a}: skipped ({why})" for a, why in sorted(r.skipped.items())])
             return f"clip {r.clip} ({r.group or 'no group'})\n{who or 'no labels'}"
-        if role == Qt.ItemDataRole.TextAlignmentRole and col in ("#", "Split", "Seg F1",
+        if role == Qt.ItemDataRole.TextAlignmentRole and col in ("Clip #", "Disagree", "Seg F1",
                                                                  "BLEU"):
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         return None

@@ -19,6 +19,11 @@ GOLD = "gold"
 EDGE_PX = 5  # how close to a gold segment's edge a press grabs it
 
 
+def segment_text(label: str, start: int, end: int) -> str:
+    """A segment as written on a track: first and last frame, both included."""
+    return f"{label} {start}–{end - 1}"
+
+
 class TrackStack(QWidget):
     seekRequested = Signal(int)
     goldEdited = Signal(list)  # [(label, start, end)] after an edge drag
@@ -78,7 +83,7 @@ class TrackStack(QWidget):
                 p.fillRect(r, colour)
                 p.setPen(QColor(theme.text_colour_on(colour.name())))
                 p.drawText(r.adjusted(4, 0, -2, 0), Qt.AlignmentFlag.AlignVCenter,
-                           f"{label} {start}–{end - 1}")
+                           segment_text(label, start, end))
             if not segs:
                 p.setPen(QColor(theme.MUTED_TEXT))
                 p.drawText(lane.adjusted(6, 0, 0, 0), Qt.AlignmentFlag.AlignVCenter,
