@@ -116,6 +116,9 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             engine.dispose()
             if cfg.database_url is None and not isinstance(exc, OperationalError):
                 raise sqlite_check.damaged(root / DB_FILE, str(exc.orig or exc)) from None
+            if not url.startswith("sqlite"):  # a server: its own line, naming server and login
+                raise ProjectError(f"{root}: cannot open the project database: "
+                                   f"{_one_line(exc, url)}") from None
             reason = str(exc.orig or exc).strip().splitlines()[0]
             if (cfg.database_url is None and url.startswith("sqlite") and "immutable" not in url
                     and not os.access(root, os.W_OK)):
