@@ -29,6 +29,7 @@ def _make_old(pg, database: str) -> None:
     pg.sql(OLD_BLIND + "ALTER FUNCTION clipscribe_blind() RESET search_path;", dbname=database)
     pg.sql(f"GRANT TEMPORARY ON DATABASE {database} TO PUBLIC", dbname=database)
     pg.sql(f"GRANT UPDATE (state) ON clips TO {team_sql.ANNOTATOR_GROUP}", dbname=database)
+    pg.sql("ALTER TABLE assignments DROP COLUMN comments_read", dbname=database)  # from 0005
     pg.sql("UPDATE alembic_version SET version_num = '0003'", dbname=database)
 
 

@@ -67,7 +67,7 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
     from . import launch, start
     app = application()
     with _quit_on_interrupt(app) as interrupted:
-        code = _run(app, start, folder, user=user, view=view, screenshot=screenshot,
+        code = _run(app, start, launch, folder, user=user, view=view, screenshot=screenshot,
                     password=password, note=note)
     if interrupted():
         print("clipscribe: interrupted; the window was closed and work in it saved",
@@ -109,7 +109,7 @@ def _quit_on_interrupt(app: QApplication):
         signal.signal(signal.SIGINT, old)
 
 
-def _run(app: QApplication, start, folder, *, user, view, screenshot, password, note) -> int:
+def _run(app: QApplication, start, launch, folder, *, user, view, screenshot, password, note) -> int:
     code = 0
     while True:
         if folder is None:
