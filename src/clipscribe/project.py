@@ -17,7 +17,7 @@ from pydantic import ValidationError
 from sqlalchemy import select
 from sqlalchemy.exc import DatabaseError, OperationalError
 
-from .errors import ProjectError, RecordError
+from .errors import LoginRequired, ProjectError, RecordError
 from .project_parts.analysis import AnalysisMixin
 from .project_parts.annotate import AnnotateMixin
 from .project_parts.base import ProjectBase
@@ -117,8 +117,14 @@ class Project(ReviewMixin, AnalysisMixin, ExportingMixin, TeamMixin, WorkbenchMi
             if cfg.database_url is None and not isinstance(exc, OperationalError):
                 raise sqlite_check.damaged(root / DB_FILE, str(exc.orig or exc)) from None
             if not url.startswith("sqlite"):  # a server: its own line, naming server and login
-                raise ProjectError(f"{root}: cannot open the project database: "
-                                   f"{_one_line(exc, url)}") from None
+                message = f"{root}: cannot open the project database: {_one_line(exc, url)}"
+                if _wants_password(exc):
+                    from sqlalchemy.engine import make_url
+                    from .store.urls import host_of
+                    raise LoginRequired(message, server=host_of(url),
+                                        login=make_url(url).username,
+                                        refused="authentication failed" in str(exc)) from None
+                raise ProjectError(message) from None
             reason = str(exc.orig or exc).strip().splitlines()[0]
             if (cfg.database_url is None and url.startswith("sqlite") and "immutable" not in url
                     and not os.access(root, os.W_OK)):
@@ -276,6 +282,14 @@ def _one_line(exc: Exception, url: str) -> str:
         return first
     from sqlalchemy.engine import make_url
     return f"server {where}, login {make_url(url).username!r}: {first}"
+
+
+def _wants_password(exc: Exception) -> bool:
+    """Whether the server refused the login for want of a (right) password: libpq says "no
+    password supplied" or "password authentication failed". A server asking for a weaker method
+    than SCRAM is not asking for a password: none is ever sent to it."""
+    text = str(exc.orig if isinstance(exc, DatabaseError) and exc.orig is not None else exc).lower()
+    return "password" in text and "authentication method requirement" not in text
 
 
 def _first_error(exc: ValidationError) -> str:

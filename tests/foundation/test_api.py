@@ -149,3 +149,20 @@ def test_gold_decisions_can_be_undone(project):
     project.set_gold_label(1, "push", lead="lead")
     project.revert(project.last_edit_ids)
     assert project.gold_labels() == {}
+
+
+def test_recording_collects_the_edit_ids_of_the_writes_inside_only(project):
+    """``Project.recording()`` gives the edit ids of the block's writes (for an undo step),
+    nested blocks pass theirs outwards, and writes outside the block are not in it."""
+    clip = project.clips()[0].id
+    project.set_clip_label(clip, None, "pick up")          # outside: not recorded
+    with project.recording() as outer:
+        project.set_clip_label(clip, None, "put down")
+        with project.recording() as inner:
+            cap = project.add_caption(clip, None, "a hand lifts a cup")
+        assert inner == project.last_edit_ids and len(inner) == 1
+    assert outer[-1:] == inner and len(outer) == 2
+    assert [e.id for e in project.history()][-2:] == outer
+    project.revert(outer)
+    assert project.captions() == [] and project.clip_labels()[0][2] == "pick up"
+    assert cap not in [c.id for c in project.caption_rows()]

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
+from ..errors import ClipscribeError
 from .checks import PlanWarning, few_references, split_balance
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
@@ -12,7 +13,7 @@ from .policy import CaptionChoice, LabelDecision, LabelPolicy, apply_policy, cho
 from .splits import SplitResult, split_clips
 
 
-class ExportError(RuntimeError):
+class ExportError(ClipscribeError, RuntimeError):
     """An export that cannot be written (target not empty, media missing, …)."""
 
 

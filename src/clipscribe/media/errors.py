@@ -1,9 +1,11 @@
-"""Media errors."""
+"""Media errors (under the package's one exception root)."""
+
+from ..errors import ClipscribeError
 
 
-class MediaError(Exception):
+class MediaError(ClipscribeError):
     """A media file that cannot be used; the message names the file and the problem."""
 
 
-class JobCancelled(Exception):
+class JobCancelled(ClipscribeError):
     """A background media job stopped early because its cancel signal was set."""

@@ -14,27 +14,12 @@ from ..store.models import (
     Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, utcnow,
 )
 from .base import require, row_dict
+from ..types import CaptionInfo, SegmentInfo  # noqa: F401 (re-exported)
 
 
 
-@dataclass(frozen=True, slots=True)
-class SegmentInfo:
-    id: int
-    clip: int
-    annotator: str
-    label: str
-    start: int
-    end: int  # exclusive
 
 
-@dataclass(frozen=True, slots=True)
-class CaptionInfo:
-    id: int
-    clip: int
-    annotator: str
-    position: int
-    text: str
-    segment: int | None
 
 
 class AnnotateMixin:

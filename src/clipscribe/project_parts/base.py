@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import datetime as dt
 import os
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from pathlib import Path, PurePosixPath
 from typing import Any, TypeVar
 
@@ -19,6 +21,9 @@ from ..store import db, sqlite_check
 from ..store.models import Annotator, Caption, Clip, Edit, Label, utcnow
 
 T = TypeVar("T")
+#: the edit-id list of the innermost ``Project.recording()`` block of this thread, if any
+_RECORDING: contextvars.ContextVar[list[int] | None] = contextvars.ContextVar(
+    "clipscribe_recording", default=None)
 SEEN_LIMIT = 200_000  # caption versions remembered per open project
 SEEN_KEY = "seen_caption_versions"
 MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
@@ -76,8 +81,26 @@ class ProjectBase:
                 raise StaleWriteError("someone else changed this item since you loaded it; "
                                       "your change was not saved — reload and try again") from None
             self.last_edit_ids = edits
+            collector = _RECORDING.get()
+            if collector is not None:
+                collector.extend(edits)
             return out
         return db.with_retry(attempt)
+
+    @contextlib.contextmanager
+    def recording(self) -> Iterator[list[int]]:
+        """``with project.recording() as ids: ...``: ``ids`` collects the edit-history ids of
+        every write made inside the block by this thread (for an undo step; revert them with
+        :meth:`revert`). Blocks nest; other threads' writes are never mixed in."""
+        outer = _RECORDING.get()
+        ids: list[int] = []
+        token = _RECORDING.set(ids)
+        try:
+            yield ids
+        finally:
+            _RECORDING.reset(token)
+            if outer is not None:
+                outer.extend(ids)
 
     def check_writable(self, what: str) -> None:
         """ProjectError before ``what`` starts when the database cannot take a write (a

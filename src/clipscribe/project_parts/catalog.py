@@ -24,6 +24,7 @@ from ..errors import RecordError
 from ..schema.settings import LabelSpec, check_name_text
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
 from .base import row_dict
+from ..types import AnnotatorInfo, ClipInfo, IngestReport, LabelInfo, clip_state_word, duplicate_warning  # noqa: F401 (re-exported)
 
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
@@ -38,61 +39,18 @@ BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 Progress = Callable[[int, int], None]
 
 
-@dataclass(frozen=True, slots=True)
-class LabelInfo:
-    id: int
-    name: str
-    key: str | None
-    colour: str
-    guideline: str
-    position: int
 
 
-@dataclass(frozen=True, slots=True)
-class AnnotatorInfo:
-    id: int
-    name: str
-    role: str
 
 
-@dataclass(frozen=True, slots=True)
-class ClipInfo:
-    id: int
-    path: str
-    sha256: str
-    fps: float
-    frame_count: int
-    duration: float
-    width: int
-    height: int
-    group: str | None
-    source: str | None
-    licence: str | None
-    consent: bool | None
-    state: str
-    fingerprint: int | None
 
 
-@dataclass
-class IngestReport:
-    added: list[int] = field(default_factory=list)
-    already_present: list[str] = field(default_factory=list)
-    skipped: list[tuple[str, str]] = field(default_factory=list)  # (path, reason)
-    #: (added path, path of the clip already holding the same bytes): exact copies, added
-    #: anyway (a copy may be meant) but worth a look, since a copy in two splits is leakage
-    duplicates: list[tuple[str, str]] = field(default_factory=list)
-
-    def warnings(self) -> list[str]:
-        """One line per thing worth a look: each exact duplicate, naming both files."""
-        return [duplicate_warning(new, old) for new, old in self.duplicates]
 
 
 class DuplicateMediaWarning(UserWarning):
     """A clip was added whose file has the same SHA-256 as a clip already in the project."""
 
 
-def duplicate_warning(new: str, old: str) -> str:
-    return f"{new}: same content (SHA-256) as {old}, already in the project"
 
 
 def clip_info(c: Clip) -> ClipInfo:
@@ -395,10 +353,6 @@ class CatalogMixin:
         return self._read(q)
 
 
-def clip_state_word(state: str) -> str:
-    """The word people see for a clip's stored state: a clip nobody has started is "open", as
-    in the workbench (stored as "new")."""
-    return {"new": "open", "in_progress": "in progress"}.get(state, state)
 
 
 def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:

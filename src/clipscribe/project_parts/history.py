@@ -14,6 +14,7 @@ from ..store.models import (
     Annotator, Assignment, Caption, ClipLabel, Edit, GoldCaption, GoldLabel, GoldSegment, Segment,
 )
 from .base import require, row_dict
+from ..types import EditInfo  # noqa: F401 (re-exported)
 
 ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
             "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
@@ -22,18 +23,6 @@ _UNDOABLE = set(ENTITIES)
 _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own work on a clip
 
 
-@dataclass(frozen=True, slots=True)
-class EditInfo:
-    id: int
-    at: dt.datetime
-    who: str | None
-    action: str
-    entity: str
-    entity_id: int | None
-    clip: int | None
-    before: dict | None
-    after: dict | None
-    reverts: int | None
 
 
 class HistoryMixin:

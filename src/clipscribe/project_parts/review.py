@@ -16,6 +16,7 @@ from ..agreement._recipe import Recipe
 from ..errors import RecordError
 from ..store.models import Annotator, Assignment, GoldCaption
 from .annotate import CaptionInfo, SegmentInfo
+from ..types import ClipComparison, DisputedClip, GoldCaptionInfo, Throughput, TrendPoint  # noqa: F401 (re-exported)
 
 #: a pause between two edits longer than this is not counted as working time (our choice)
 IDLE_SECONDS = 300.0
@@ -23,66 +24,15 @@ IDLE_SECONDS = 300.0
 WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
 
 
-class NotALeadError(RecordError):
-    """The person acting is not a lead; only leads review and settle."""
+from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with every public error)
 
 
-@dataclass(frozen=True, slots=True)
-class DisputedClip:
-    """One row of the review queue (NaN where there is nothing to measure)."""
-
-    rank: int
-    clip: int
-    path: str
-    group: str | None
-    label_disagreement: float
-    segment_f1: float
-    caption_bleu: float
-    caption_cider: float
-    labels: dict[str, str]
-    gold_label: str | None
-    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
-
-    @property
-    def settled(self) -> bool:
-        return self.gold_label is not None
 
 
-@dataclass(frozen=True, slots=True)
-class GoldCaptionInfo:
-    id: int
-    position: int
-    text: str
-    source: int | None  # the annotator caption it came from, if any
 
 
-@dataclass(frozen=True)
-class ClipComparison:
-    """Everything the annotators said about one clip, and the lead's gold so far."""
-
-    clip: Any                                   # ClipInfo
-    annotators: list[str]
-    labels: dict[str, str]
-    segments: dict[str, list[SegmentInfo]]
-    captions: dict[str, list[CaptionInfo]]
-    gold_label: str | None
-    gold_segments: list[tuple[str, int, int]]
-    gold_captions: list[GoldCaptionInfo]
-    comments: list[tuple[int, str | None, str, str]]
-    scores: dict[str, float] = field(default_factory=dict)
-    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
 
 
-@dataclass(frozen=True, slots=True)
-class Throughput:
-    """Clips per hour of working time, from the edit history."""
-
-    annotator: str
-    clips: int
-    edits: int
-    active_seconds: float
-    clips_per_hour: float   # NaN when no working time was measured
-    recipe: Recipe
 
 
 MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
@@ -99,18 +49,6 @@ def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[i
     return out
 
 
-@dataclass(frozen=True, slots=True)
-class TrendPoint:
-    """Label agreement over one window of clips (ordered by when their labels were set), or
-    over the clips last labelled in one ISO week (``period`` "2026-W49"; "" for windows)."""
-
-    window: int
-    first: dt.datetime
-    last: dt.datetime
-    clips: list[int]
-    alpha: float
-    recipe: Recipe
-    period: str = ""
 
 
 class ReviewMixin:

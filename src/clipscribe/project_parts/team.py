@@ -21,10 +21,11 @@ from sqlalchemy.exc import DataError, DBAPIError, IntegrityError
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.attributes import set_committed_value
 
-from ..errors import RecordError, ServerBusyError, StaleWriteError
+from ..errors import PermissionRefused, RecordError, ServerBusyError, StaleWriteError
 from ..store import team
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, Edit, GoldLabel, Setting, utcnow
 from .base import require, row_dict
+from ..types import AssignmentPlan  # noqa: F401 (re-exported)
 
 T = TypeVar("T")
 DEFAULT_LEASE_S = 2 * 3600.0
@@ -35,25 +36,10 @@ _DENIED = "42501"
 _BUSY_STATES = ("55P03", "57014")
 
 
-class TeamPermissionError(RecordError, PermissionError):
-    """The database (or, on SQLite, the project) refused: this person's role may not do that."""
+#: the old name of :class:`clipscribe.errors.PermissionRefused`, kept for scripts using it
+TeamPermissionError = PermissionRefused
 
 
-@dataclass(frozen=True, slots=True)
-class AssignmentPlan:
-    """How many people each clip gets, and the recipe that chose the overlapped clips."""
-    clips: int
-    overlapped: int
-    per_clip: int
-    overlap: float
-    overlap_count: int
-    seed: int
-
-    def recipe(self) -> dict[str, Any]:
-        return {"clips": self.clips, "overlapped": self.overlapped, "per_clip": self.per_clip,
-                "overlap": self.overlap, "overlap_count": self.overlap_count, "seed": self.seed,
-                "selection": "numpy default_rng(seed).permutation over clip ids, first "
-                             "floor(overlap * clips + 0.5)"}
 
 
 def overlap_selection(clip_ids: list[int], overlap: float, seed: int) -> list[int]:
@@ -420,6 +406,7 @@ class TeamMixin:
         exc.kept_text = kept
         exc.current_text = cur.text if cur is not None else None
         exc.current_version = cur.version if cur is not None else None
+        exc.deleted = cur is None
 
     def gold_label_version(self, clip: Any) -> int:
         """Version of a clip's gold label; 0 when it has none yet."""
@@ -476,11 +463,10 @@ class TeamMixin:
 
 def _gold_conflict(clip_id: int, mine: str | None, theirs: str | None, now: int | None,
                    expected: int) -> StaleWriteError:
-    exc = StaleWriteError(
+    return StaleWriteError(
         f"clip {clip_id}: another lead changed the gold label (now {theirs!r}, version {now}; "
-        f"you edited version {expected}); your label {mine!r} was not saved")
-    exc.kept_value, exc.current_value, exc.current_version = mine, theirs, now
-    return exc
+        f"you edited version {expected}); your label {mine!r} was not saved",
+        kept_value=mine, current_value=theirs, current_version=now)
 
 
 def _raise_denied(exc: DBAPIError) -> None:

@@ -22,33 +22,13 @@ from ..errors import ProjectError
 from ..store import db, team
 from ..store import urls as db_urls
 from ..store.models import Annotator, Base, Setting
+from ..types import MoveReport, TableCheck  # noqa: F401 (re-exported)
 
 BATCH = 1000
 
 
-@dataclass(frozen=True, slots=True)
-class TableCheck:
-    table: str
-    rows_here: int
-    rows_there: int
-    sha256_here: str
-    sha256_there: str
-
-    @property
-    def ok(self) -> bool:
-        return self.rows_here == self.rows_there and self.sha256_here == self.sha256_there
 
 
-@dataclass
-class MoveReport:
-    url: str
-    tables: list[TableCheck] = field(default_factory=list)
-    sequences: dict[str, int] = field(default_factory=dict)  # table -> next id
-    lead: str | None = None
-
-    @property
-    def ok(self) -> bool:
-        return all(t.ok for t in self.tables)
 
 
 def canonical(value: Any) -> str:

@@ -14,6 +14,7 @@ from sqlalchemy.orm import Session
 from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Label, ReviewComment
 from .annotate import CaptionInfo, SegmentInfo
 from .catalog import ClipInfo, clip_info
+from ..types import CommentNote, OthersWork, QueueRow  # noqa: F401 (re-exported)
 
 #: per-person states that count as finished work
 FINISHED = ("submitted", "skipped")
@@ -24,35 +25,10 @@ _CLIP_COLUMNS = (Clip.id, Clip.path, Clip.sha256, Clip.fps, Clip.frame_count, Cl
                  Clip.state, Clip.fingerprint)  # in ClipInfo's field order
 
 
-@dataclass(frozen=True, slots=True)
-class QueueRow:
-    """One line of an annotator's clip queue."""
-    clip: ClipInfo
-    my_state: str          # open / submitted / skipped / unsure ("open" when never touched)
-    my_label: str | None   # the person's own clip label, if any
 
 
-@dataclass(frozen=True, slots=True)
-class OthersWork:
-    """The other annotators' work on one clip, for reading only (empty in blind mode)."""
-    labels: list[tuple[str, str]]    # (annotator, label), by annotator name
-    captions: list[CaptionInfo]      # by annotator, then position
-    segments: list[SegmentInfo]      # by annotator, then start frame
-
-    @property
-    def empty(self) -> bool:
-        return not (self.labels or self.captions or self.segments)
 
 
-@dataclass(frozen=True, slots=True)
-class CommentNote:
-    """A lead's comment addressed to one annotator on one clip, as that annotator sees it."""
-    id: int
-    clip: int
-    lead: str
-    text: str
-    at: dt.datetime
-    unread: bool
 
 
 class WorkbenchMixin:

@@ -13,7 +13,6 @@ from PySide6.QtCore import QCoreApplication, QSettings, QTimer
 from PySide6.QtGui import QIcon
 from PySide6.QtWidgets import QApplication
 
-from sqlalchemy.exc import OperationalError
 
 from .. import Project
 from ..errors import ProjectError, RecordError
@@ -148,7 +147,7 @@ def _open(folder, *, user, password, ask: bool) -> tuple[Project | None, str | N
     try:
         project = open_project(folder, user=user, password=password,
                                ask=ask_with_dialog if ask else None)
-    except (ProjectError, RecordError, OperationalError) as exc:
+    except (ProjectError, RecordError) as exc:
         return None, (str(exc).splitlines() or [""])[0]
     if project is not None and project.role(project.user) is None:
         name = project.user

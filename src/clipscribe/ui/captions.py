@@ -255,7 +255,7 @@ class CaptionsPanel(QWidget):
 
     def _stored(self, slot: Slot_, exc) -> tuple[str | None, int | None]:
         """(text, version) of the slot's caption as stored now; DELETED when it is gone."""
-        if hasattr(exc, "current_version"):
+        if exc.deleted or exc.current_version is not None:  # the façade said what is stored
             return exc.current_text, exc.current_version
         p = self.editor.project
         version = p.caption_versions(self.editor.clip, p.user).get(slot.caption_id)

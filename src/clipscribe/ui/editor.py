@@ -29,7 +29,7 @@ class CaptionSave:
 
 def _deleted_elsewhere(exc: StaleWriteError) -> bool:
     """Whether a refused caption write found its caption deleted (see Project.update_caption)."""
-    return hasattr(exc, "current_version") and exc.current_version is None
+    return exc.deleted
 
 
 class ClipEditor(QObject):

@@ -13,22 +13,11 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QDialog, QDialogButtonBox, QFormLayout, QLabel, QLineEdit, QVBoxLayout, QWidget,
 )
-from sqlalchemy.exc import OperationalError
-
 from .. import Project
-from ..errors import ProjectError
+from ..errors import LoginRequired
 
 #: ask(folder, user, reason) -> (user, password), or None when the person cancels
 Ask = Callable[[Path, str, str], "tuple[str, str] | None"]
-
-
-def needs_password(exc: Exception) -> bool:
-    """Whether the server refused the connection for want of a (right) password: libpq says
-    "no password supplied" or "password authentication failed"."""
-    text = str(exc).lower()
-    if "authentication method requirement" in text:
-        return False  # the server wanted a weaker method than SCRAM: no password is sent to it
-    return isinstance(exc, (ProjectError, OperationalError)) and "password" in text
 
 
 class LoginDialog(QDialog):
@@ -91,10 +80,10 @@ def open_project(folder: str | os.PathLike, *, user: str | None = None,
     while True:
         try:
             return Project.open(folder, user=user, password=password)
-        except (ProjectError, OperationalError) as exc:
-            if ask is None or not needs_password(exc):
+        except LoginRequired as exc:
+            if ask is None:
                 raise
-            if password is not None:  # a password was tried and refused
+            if exc.refused:  # a password was tried and turned down
                 reason = "The server refused that name and password. Try again."
         answer = ask(folder, user or Project.local_user_name(), reason)
         if answer is None:

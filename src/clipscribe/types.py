@@ -1,0 +1,256 @@
+"""The plain result types the façade hands out: what the UI, the CLI and scripts read.
+
+Frozen dataclasses with no behaviour beyond a few derived properties; no database, no Qt. Import
+them from here (``from clipscribe.types import QueueRow``), never from the façade's private
+modules.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+from typing import Any
+
+from .agreement._recipe import Recipe
+
+#: how a clip reference may be given wherever the API takes a clip: its id, ``str(id)``, or the
+#: media path relative to the media root
+ClipRef = int | str
+
+@dataclass(frozen=True, slots=True)
+class SegmentInfo:
+    id: int
+    clip: int
+    annotator: str
+    label: str
+    start: int
+    end: int  # exclusive
+
+
+@dataclass(frozen=True, slots=True)
+class CaptionInfo:
+    id: int
+    clip: int
+    annotator: str
+    position: int
+    text: str
+    segment: int | None
+
+
+@dataclass(frozen=True, slots=True)
+class LabelInfo:
+    id: int
+    name: str
+    key: str | None
+    colour: str
+    guideline: str
+    position: int
+
+
+@dataclass(frozen=True, slots=True)
+class AnnotatorInfo:
+    id: int
+    name: str
+    role: str
+
+
+@dataclass(frozen=True, slots=True)
+class ClipInfo:
+    id: int
+    path: str
+    sha256: str
+    fps: float
+    frame_count: int
+    duration: float
+    width: int
+    height: int
+    group: str | None
+    source: str | None
+    licence: str | None
+    consent: bool | None
+    state: str
+    fingerprint: int | None
+
+
+@dataclass
+class IngestReport:
+    added: list[int] = field(default_factory=list)
+    already_present: list[str] = field(default_factory=list)
+    skipped: list[tuple[str, str]] = field(default_factory=list)  # (path, reason)
+    #: (added path, path of the clip already holding the same bytes): exact copies, added
+    #: anyway (a copy may be meant) but worth a look, since a copy in two splits is leakage
+    duplicates: list[tuple[str, str]] = field(default_factory=list)
+
+    def warnings(self) -> list[str]:
+        """One line per thing worth a look: each exact duplicate, naming both files."""
+        return [duplicate_warning(new, old) for new, old in self.duplicates]
+
+
+def duplicate_warning(new: str, old: str) -> str:
+    return f"{new}: same content (SHA-256) as {old}, already in the project"
+
+
+def clip_state_word(state: str) -> str:
+    """The word people see for a clip's stored state: a clip nobody has started is "open", as
+    in the workbench (stored as "new")."""
+    return {"new": "open", "in_progress": "in progress"}.get(state, state)
+
+
+@dataclass(frozen=True, slots=True)
+class EditInfo:
+    id: int
+    at: dt.datetime
+    who: str | None
+    action: str
+    entity: str
+    entity_id: int | None
+    clip: int | None
+    before: dict | None
+    after: dict | None
+    reverts: int | None
+
+
+@dataclass(frozen=True, slots=True)
+class DisputedClip:
+    """One row of the review queue (NaN where there is nothing to measure)."""
+
+    rank: int
+    clip: int
+    path: str
+    group: str | None
+    label_disagreement: float
+    segment_f1: float
+    caption_bleu: float
+    caption_cider: float
+    labels: dict[str, str]
+    gold_label: str | None
+    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+
+    @property
+    def settled(self) -> bool:
+        return self.gold_label is not None
+
+
+@dataclass(frozen=True, slots=True)
+class GoldCaptionInfo:
+    id: int
+    position: int
+    text: str
+    source: int | None  # the annotator caption it came from, if any
+
+
+@dataclass(frozen=True)
+class ClipComparison:
+    """Everything the annotators said about one clip, and the lead's gold so far."""
+
+    clip: ClipInfo
+    annotators: list[str]
+    labels: dict[str, str]
+    segments: dict[str, list[SegmentInfo]]
+    captions: dict[str, list[CaptionInfo]]
+    gold_label: str | None
+    gold_segments: list[tuple[str, int, int]]
+    gold_captions: list[GoldCaptionInfo]
+    comments: list[tuple[int, str | None, str, str]]
+    scores: dict[str, float] = field(default_factory=dict)
+    skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+
+
+@dataclass(frozen=True, slots=True)
+class Throughput:
+    """Clips per hour of working time, from the edit history."""
+
+    annotator: str
+    clips: int
+    edits: int
+    active_seconds: float
+    clips_per_hour: float   # NaN when no working time was measured
+    recipe: Recipe
+
+
+@dataclass(frozen=True, slots=True)
+class TrendPoint:
+    """Label agreement over one window of clips (ordered by when their labels were set), or
+    over the clips last labelled in one ISO week (``period`` "2026-W49"; "" for windows)."""
+
+    window: int
+    first: dt.datetime
+    last: dt.datetime
+    clips: list[int]
+    alpha: float
+    recipe: Recipe
+    period: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class QueueRow:
+    """One line of an annotator's clip queue."""
+    clip: ClipInfo
+    my_state: str          # open / submitted / skipped / unsure ("open" when never touched)
+    my_label: str | None   # the person's own clip label, if any
+
+
+@dataclass(frozen=True, slots=True)
+class OthersWork:
+    """The other annotators' work on one clip, for reading only (empty in blind mode)."""
+    labels: list[tuple[str, str]]    # (annotator, label), by annotator name
+    captions: list[CaptionInfo]      # by annotator, then position
+    segments: list[SegmentInfo]      # by annotator, then start frame
+
+    @property
+    def empty(self) -> bool:
+        return not (self.labels or self.captions or self.segments)
+
+
+@dataclass(frozen=True, slots=True)
+class CommentNote:
+    """A lead's comment addressed to one annotator on one clip, as that annotator sees it."""
+    id: int
+    clip: int
+    lead: str
+    text: str
+    at: dt.datetime
+    unread: bool
+
+
+@dataclass(frozen=True, slots=True)
+class AssignmentPlan:
+    """How many people each clip gets, and the recipe that chose the overlapped clips."""
+    clips: int
+    overlapped: int
+    per_clip: int
+    overlap: float
+    overlap_count: int
+    seed: int
+
+    def recipe(self) -> dict[str, Any]:
+        return {"clips": self.clips, "overlapped": self.overlapped, "per_clip": self.per_clip,
+                "overlap": self.overlap, "overlap_count": self.overlap_count, "seed": self.seed,
+                "selection": "numpy default_rng(seed).permutation over clip ids, first "
+                             "floor(overlap * clips + 0.5)"}
+
+
+@dataclass(frozen=True, slots=True)
+class TableCheck:
+    table: str
+    rows_here: int
+    rows_there: int
+    sha256_here: str
+    sha256_there: str
+
+    @property
+    def ok(self) -> bool:
+        return self.rows_here == self.rows_there and self.sha256_here == self.sha256_there
+
+
+@dataclass
+class MoveReport:
+    url: str
+    tables: list[TableCheck] = field(default_factory=list)
+    sequences: dict[str, int] = field(default_factory=dict)  # table -> next id
+    lead: str | None = None
+
+    @property
+    def ok(self) -> bool:
+        return all(t.ok for t in self.tables)
+
