@@ -17,6 +17,10 @@ from .agreement._recipe import Recipe
 #: media path relative to the media root
 ClipRef = int | str
 
+#: the group key of a clip is the folder it lies in, relative to the media root (clips directly
+#: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
+BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
+
 @dataclass(frozen=True, slots=True)
 class SegmentInfo:
     id: int

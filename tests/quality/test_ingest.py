@@ -10,7 +10,7 @@ import pytest
 
 from clipscribe import Project
 from clipscribe.cli import main
-from clipscribe.project_parts.catalog import BY_FOLDER, DuplicateMediaWarning
+from clipscribe.project.catalog import BY_FOLDER, DuplicateMediaWarning
 from clipscribe.ui.setup import GROUPINGS, ProjectSetup
 
 

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from clipscribe import Project, RecordError
-from clipscribe.project_parts.review import IDLE_SECONDS, NotALeadError
+from clipscribe.project.review import IDLE_SECONDS, NotALeadError
 
 
 def test_non_lead_is_refused_by_the_facade(sample):

@@ -14,7 +14,7 @@ import pytest
 from sqlalchemy import text, update
 
 from clipscribe import Project
-from clipscribe.project_parts.team import TeamPermissionError, overlap_selection
+from clipscribe.project.team import TeamPermissionError, overlap_selection
 from clipscribe.store.models import Assignment
 
 from .conftest import add_clips

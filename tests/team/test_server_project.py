@@ -11,7 +11,7 @@ from alembic.runtime.migration import MigrationContext
 
 from clipscribe import Project
 from clipscribe.errors import RecordError
-from clipscribe.project_parts.team import TeamPermissionError
+from clipscribe.project.team import TeamPermissionError
 from clipscribe.schema.settings import SETTINGS_FILE
 from clipscribe.store.models import Base
 

@@ -13,8 +13,8 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
-from ..project_parts.catalog import clip_state_word
-from ..project_parts.workbench import QueueRow
+from ..project.catalog import clip_state_word
+from ..project.workbench import QueueRow
 
 PAGE = 200
 COLUMNS = ("Clip", "Group", "Your label", "Your state")

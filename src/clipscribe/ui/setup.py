@@ -16,7 +16,7 @@ from PySide6.QtWidgets import (
 )
 
 from ..errors import RecordError
-from ..project_parts.catalog import BY_FOLDER
+from ..project.catalog import BY_FOLDER
 from ..schema.settings import label_line, label_specs, parse_label_line
 from .people import PeopleBox
 from .workers import Job, JobRunner

@@ -9,7 +9,7 @@ from __future__ import annotations
 from PySide6.QtCore import QEvent, QObject, Qt
 from PySide6.QtWidgets import QDockWidget, QFileDialog, QLabel, QTabWidget, QVBoxLayout, QWidget
 
-from ...project_parts.review import NotALeadError
+from ...project.review import NotALeadError
 from ..workers import Job, JobRunner
 from .board import AgreementBoard
 from .desk import ReviewDesk, desk_action

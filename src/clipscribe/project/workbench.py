@@ -4,17 +4,15 @@ did on it."""
 
 from __future__ import annotations
 
-import datetime as dt
-from dataclasses import dataclass
 from typing import Any
 
 from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
 from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Label, ReviewComment
-from .annotate import CaptionInfo, SegmentInfo
 from .catalog import ClipInfo, clip_info
 from ..types import CommentNote, OthersWork, QueueRow  # noqa: F401 (re-exported)
+from .context import Service
 
 #: per-person states that count as finished work
 FINISHED = ("submitted", "skipped")
@@ -31,7 +29,7 @@ _CLIP_COLUMNS = (Clip.id, Clip.path, Clip.sha256, Clip.fps, Clip.frame_count, Cl
 
 
 
-class WorkbenchMixin:
+class Workbench(Service):
     def _queue_stmt(self, s: Session, me, state, label, group, assignee):
         """Clips with ``me``'s state and label; ``state``/``label`` filter on ``me``'s own."""
         # plain columns, not ORM entities: building 100k rows stays cheap
@@ -49,7 +47,7 @@ class WorkbenchMixin:
         elif state:
             stmt = stmt.where(Assignment.state == state)
         if label:
-            stmt = stmt.where(ClipLabel.label_id == self._label(s, label).id)
+            stmt = stmt.where(ClipLabel.label_id == self.ctx.label(s, label).id)
         return stmt
 
     def _in_scope(self, s: Session, stmt, group, assignee):
@@ -57,7 +55,7 @@ class WorkbenchMixin:
         if group:
             stmt = stmt.where(Clip.group_key == group)
         if assignee:
-            who = self._annotator(s, assignee)
+            who = self.ctx.annotator(s, assignee)
             stmt = stmt.where(Clip.id.in_(select(Assignment.clip_id).where(
                 Assignment.annotator_id == who.id)))
         return stmt
@@ -86,7 +84,7 @@ class WorkbenchMixin:
             stmt = select(Clip).where(Clip.path.ilike(like, escape="\\")).order_by(Clip.id).limit(limit)
             found += [clip_info(c) for c in s.scalars(stmt) if not found or c.id != found[0].id]
             return found[:limit]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def queue_rows(self, annotator: Any = None, *, state: str | None = None,
                    label: str | None = None, group: str | None = None,
@@ -96,84 +94,84 @@ class WorkbenchMixin:
         current user). ``state`` (open, unfinished, submitted, skipped, unsure) and ``label``
         filter on that person's own work only, so blind mode shows nothing of others'."""
         def q(s: Session) -> list[QueueRow]:
-            me = self._annotator(s, annotator)
+            me = self.ctx.annotator(s, annotator)
             stmt = self._queue_stmt(s, me, state, label, group, assignee).order_by(Clip.id).offset(offset)
             if limit is not None:
                 stmt = stmt.limit(limit)
             return [QueueRow(ClipInfo(*r[:-2]), r[-2] or "open", r[-1]) for r in s.execute(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def queue_row(self, clip: Any, annotator: Any = None, **filters: Any) -> QueueRow | None:
         """The :meth:`queue_rows` row of one clip, or None when the filters leave it out."""
         def q(s: Session) -> QueueRow | None:
-            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             stmt = self._queue_stmt(s, me, filters.get("state"), filters.get("label"),
                                     filters.get("group"), filters.get("assignee"))
             r = s.execute(stmt.where(Clip.id == c.id)).first()
             return None if r is None else QueueRow(ClipInfo(*r[:-2]), r[-2] or "open", r[-1])
-        return self._read(q)
+        return self.ctx.read(q)
 
     def queue_count(self, annotator: Any = None, **filters: Any) -> int:
         """Number of rows :meth:`queue_rows` yields with the same filters."""
         def q(s: Session) -> int:
-            me = self._annotator(s, annotator)
+            me = self.ctx.annotator(s, annotator)
             sub = self._queue_ids(s, me, filters)
             return s.scalar(select(func.count()).select_from(sub.subquery())) or 0
-        return self._read(q)
+        return self.ctx.read(q)
 
     def queue_index(self, clip: Any, annotator: Any = None, **filters: Any) -> int | None:
         """Row number of ``clip`` in :meth:`queue_rows` with the same filters, or None."""
         def q(s: Session) -> int | None:
-            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             stmt = self._queue_ids(s, me, filters)
             if s.scalar(stmt.where(Clip.id == c.id)) is None:
                 return None
             return s.scalar(select(func.count()).select_from(stmt.where(Clip.id < c.id).subquery())) or 0
-        return self._read(q)
+        return self.ctx.read(q)
 
     def next_unfinished_clip(self, annotator: Any = None, *, after: Any = None,
                              wrap: bool = True) -> int | None:
         """Id of the first clip after ``after`` (by id) that ``annotator`` has neither submitted
         nor skipped; wraps round to the start when ``wrap``. None when all are finished."""
         def q(s: Session) -> int | None:
-            me = self._annotator(s, annotator)
+            me = self.ctx.annotator(s, annotator)
             done = select(Assignment.clip_id).where(Assignment.annotator_id == me.id,
                                                     Assignment.state.in_(FINISHED))
             base = select(Clip.id).where(Clip.id.not_in(done)).order_by(Clip.id).limit(1)
-            start = self._clip(s, after).id if after is not None else 0
+            start = self.ctx.clip(s, after).id if after is not None else 0
             found = s.scalar(base.where(Clip.id > start))
             if found is None and wrap:
                 found = s.scalar(base)
             return found
-        return self._read(q)
+        return self.ctx.read(q)
 
     def my_clip_label(self, clip: Any, annotator: Any = None) -> str | None:
         """``annotator``'s own label of ``clip`` (default: the current user), or None."""
         def q(s: Session) -> str | None:
-            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             return s.scalar(select(Label.name).join(ClipLabel, ClipLabel.label_id == Label.id)
                             .where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
-        return self._read(q)
+        return self.ctx.read(q)
 
     def caption_versions(self, clip: Any, annotator: Any = None) -> dict[int, int]:
         """``{caption id: version}`` of ``annotator``'s captions of ``clip`` (default: the current
         user): the versions a later ``update_caption(..., expected_version=...)`` checks against."""
         def q(s: Session) -> dict[int, int]:
-            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             return dict(s.execute(select(Caption.id, Caption.version).where(
                 Caption.clip_id == c.id, Caption.annotator_id == a.id)).all())
-        return self._read(q)
+        return self.ctx.read(q)
 
     def others_work(self, clip: Any, annotator: Any = None) -> OthersWork:
         """Everyone else's clip label, captions and segments of ``clip`` (others than
         ``annotator``, default the current user). Blind mode on (:meth:`blind_mode`) gives an
         empty :class:`OthersWork` without reading any of it."""
-        if self.blind_mode():
+        if self.peers.team.blind_mode():
             return OthersWork([], [], [])
-        me = self._read(lambda s: self._annotator(s, annotator).name)
-        labels = [(who, label) for _c, who, label in self.clip_labels(clip=clip) if who != me]
-        captions = [c for c in self.caption_rows(clip=clip) if c.annotator != me]
-        segments = [g for g in self.segments(clip=clip) if g.annotator != me]
+        me = self.ctx.read(lambda s: self.ctx.annotator(s, annotator).name)
+        labels = [(who, label) for _c, who, label in self.peers.annotation.clip_labels(clip=clip) if who != me]
+        captions = [c for c in self.peers.annotation.caption_rows(clip=clip) if c.annotator != me]
+        segments = [g for g in self.peers.annotation.segments(clip=clip) if g.annotator != me]
         return OthersWork(labels, captions, segments)
 
     # ---- lead comments, as their addressee sees them ----------------------------------------
@@ -196,23 +194,23 @@ class WorkbenchMixin:
         oldest first, each marked unread until :meth:`mark_comments_read`. Comments addressed
         to others, or to no one, are never among them."""
         def q(s: Session) -> list[CommentNote]:
-            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             return [CommentNote(r.id, r.clip_id, lead, r.text, r.created_at,
                                 read is None or r.id > read)
                     for r, lead, read in self._comments_to(s, me, c.id)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def unread_comments(self, annotator: Any = None) -> dict[int, int]:
         """``{clip id: number of unread comments}`` addressed to ``annotator`` (default: the
         current user); clips with none are left out."""
         def q(s: Session) -> dict[int, int]:
-            me = self._annotator(s, annotator)
+            me = self.ctx.annotator(s, annotator)
             out: dict[int, int] = {}
             for r, _lead, read in self._comments_to(s, me):
                 if read is None or r.id > read:
                     out[r.clip_id] = out.get(r.clip_id, 0) + 1
             return out
-        return self._read(q)
+        return self.ctx.read(q)
 
     def mark_comments_read(self, clip: Any, annotator: Any = None) -> int:
         """Mark every comment addressed to ``annotator`` (default: the current user) on ``clip``
@@ -220,7 +218,7 @@ class WorkbenchMixin:
         assignment of the clip (made when missing, as opening work on a clip does); not an edit
         of the data, so it is not in the edit history and not undone."""
         def work(s: Session) -> int:
-            c, me = self._clip(s, clip), self._annotator(s, annotator)
+            c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             rows = self._comments_to(s, me, c.id)
             if not rows:
                 return 0
@@ -228,6 +226,6 @@ class WorkbenchMixin:
             read = rows[0][2]
             unread = sum(read is None or r.id > read for r, _, _ in rows)
             if unread:
-                self._touch(s, c, me).comments_read = newest
+                self.peers.annotation._touch(s, c, me).comments_read = newest
             return unread
-        return self._write(work)
+        return self.ctx.write(work)

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import datetime as dt
-from dataclasses import dataclass
 from typing import Any
 
 from sqlalchemy import select
@@ -13,7 +12,7 @@ from ..errors import StaleWriteError
 from ..store.models import (
     Annotator, Assignment, Caption, ClipLabel, Edit, GoldCaption, GoldLabel, GoldSegment, Segment,
 )
-from .base import require, row_dict
+from .context import Service, require, row_dict
 from ..types import EditInfo  # noqa: F401 (re-exported)
 
 ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
@@ -25,22 +24,22 @@ _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own wo
 
 
 
-class HistoryMixin:
+class History(Service):
     def history(self, *, clip: Any = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
         """The edit history, oldest first (the audit trail)."""
         def q(s: Session) -> list[EditInfo]:
             stmt = select(Edit, Annotator.name).join(Annotator, Annotator.id == Edit.annotator_id, isouter=True)
             if clip is not None:
-                stmt = stmt.where(Edit.clip_id == self._clip(s, clip).id)
+                stmt = stmt.where(Edit.clip_id == self.ctx.clip(s, clip).id)
             if annotator is not None:
-                stmt = stmt.where(Edit.annotator_id == self._annotator(s, annotator).id)
+                stmt = stmt.where(Edit.annotator_id == self.ctx.annotator(s, annotator).id)
             stmt = stmt.order_by(Edit.id.desc())
             if limit:
                 stmt = stmt.limit(limit)
             rows = [EditInfo(e.id, e.at, name, e.action, e.entity, e.entity_id, e.clip_id, e.before,
                              e.after, e.reverts) for e, name in s.execute(stmt)]
             return rows[::-1]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def revert(self, edit_ids: list[int]) -> list[int]:
         """Undo the given edits (newest first, in one transaction) by restoring each row's
@@ -53,7 +52,7 @@ class HistoryMixin:
                 require(e is not None and e.entity in _UNDOABLE, f"edit {eid}: cannot be undone")
                 out.append(self._restore(s, e).id)
             return out
-        return self._write(work)
+        return self.ctx.write(work)
 
     def undo_trail(self, clip: Any, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
         """The steps ``annotator`` can still undo on ``clip``, oldest first, rebuilt from the
@@ -108,7 +107,7 @@ class HistoryMixin:
                     if k != "id":
                         setattr(row, k, v)
         s.flush()
-        return self._log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
+        return self.ctx.log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
                          row_dict(row) if e.before is not None else None, reverts=e.id)
 
 

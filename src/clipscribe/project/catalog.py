@@ -7,7 +7,6 @@ import os
 import re
 import warnings
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -23,7 +22,7 @@ from ..media.scan import find_videos
 from ..errors import RecordError
 from ..schema.settings import LabelSpec, check_name_text
 from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
-from .base import row_dict
+from .context import Service, row_dict
 from ..types import AnnotatorInfo, ClipInfo, IngestReport, LabelInfo, clip_state_word, duplicate_warning  # noqa: F401 (re-exported)
 
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
@@ -32,9 +31,7 @@ PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8
 #: keys given to labels that have none: the digits for the first ten, then letters the workbench
 #: does not use for a command of its own (B, E, L and M mark, loop and merge segments)
 AUTO_KEYS = "1234567890qwrtyuiopasdfghjkzxcvn"
-#: the group key of a clip is the folder it lies in, relative to the media root (clips directly
-#: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
-BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
+from ..types import BY_FOLDER  # noqa: E402,F401 (re-exported)
 
 Progress = Callable[[int, int], None]
 
@@ -58,7 +55,7 @@ def clip_info(c: Clip) -> ClipInfo:
                     c.group_key, c.source, c.licence, c.consent, c.state, c.fingerprint)
 
 
-class CatalogMixin:
+class Catalog(Service):
     # ---- label set --------------------------------------------------------------------
     def define_labels(self, labels: Sequence[str | dict | LabelSpec], *,
                       ordinal: bool | None = None) -> list[LabelInfo]:
@@ -115,13 +112,13 @@ class CatalogMixin:
             if ordinal is not None:
                 s.merge(Setting(key="label_set.ordinal", value=bool(ordinal)))
             s.flush()
-            self._log(s, "define", "label_set", None, None, None, {"labels": names, "version": version})
+            self.ctx.log(s, "define", "label_set", None, None, None, {"labels": names, "version": version})
             return self._labels(s)
-        return self._write(work)
+        return self.ctx.write(work)
 
     def labels(self) -> list[LabelInfo]:
         """The current label set, in order."""
-        return self._read(self._labels)
+        return self.ctx.read(self._labels)
 
     @staticmethod
     def _labels(s: Session) -> list[LabelInfo]:
@@ -129,11 +126,11 @@ class CatalogMixin:
         return [LabelInfo(l.id, l.name, l.key, l.colour or PALETTE[0], l.guideline, l.position) for l in rows]
 
     def label_set_version(self) -> int:
-        return self._read(lambda s: (s.get(Setting, "label_set.version").value
+        return self.ctx.read(lambda s: (s.get(Setting, "label_set.version").value
                                      if s.get(Setting, "label_set.version") else 0))
 
     def labels_ordinal(self) -> bool:
-        return self._read(lambda s: bool(s.get(Setting, "label_set.ordinal").value
+        return self.ctx.read(lambda s: bool(s.get(Setting, "label_set.ordinal").value
                                          if s.get(Setting, "label_set.ordinal") else False))
 
     # ---- people -----------------------------------------------------------------------
@@ -149,6 +146,8 @@ class CatalogMixin:
             raise RecordError(str(exc)) from None
         if role not in ROLES:
             raise RecordError(f"annotator {name!r}: role must be one of {', '.join(ROLES)}, not {role!r}")
+        if self.ctx.is_server and password is not None:
+            self.peers.team.check_login_name(name)  # refused before anything is written
 
         def work(s: Session) -> int:
             row = s.scalar(select(Annotator).where(Annotator.name == name))
@@ -159,41 +158,39 @@ class CatalogMixin:
             row = Annotator(name=name, role=role)
             s.add(row)
             s.flush()
-            self._after_add_annotator(s, row, password)
-            self._log(s, "add", "annotator", row.id, None, None, row_dict(row))
+            if self.ctx.is_server:
+                self.peers.team.give_login(s, row, password)
+            self.ctx.log(s, "add", "annotator", row.id, None, None, row_dict(row))
             return row.id
-        return self._write(work)
-
-    def _after_add_annotator(self, s: Session, row: Annotator, password: str | None) -> None:
-        """Hook for team mode (creates the database login)."""
+        return self.ctx.write(work)
 
     def annotators(self) -> list[AnnotatorInfo]:
-        return self._read(lambda s: [AnnotatorInfo(a.id, a.name, a.role) for a in
+        return self.ctx.read(lambda s: [AnnotatorInfo(a.id, a.name, a.role) for a in
                                      s.scalars(select(Annotator).order_by(Annotator.id))])
 
     def role(self, name: str | None = None) -> str | None:
         def q(s: Session) -> str | None:
             try:
-                return self._annotator(s, name).role
+                return self.ctx.annotator(s, name).role
             except RecordError:
                 return None
-        return self._read(q)
+        return self.ctx.read(q)
 
     # ---- clips ------------------------------------------------------------------------
     def add_clip(self, media_path: str | os.PathLike, group: str | None = None, *,
                  source: str | None = None, licence: str | None = None,
                  consent: bool | None = None) -> int:
         """Register one media file that lies inside the media root; returns the clip id."""
-        rel = self.relative_media_path(media_path)
+        rel = self.ctx.relative_media_path(media_path)
         try:
-            info, digest = probe_media(self.media_root / rel)
+            info, digest = probe_media(self.ctx.media_root / rel)
         except (media.MediaError, OSError) as exc:
-            raise RecordError(_media_problem(self.media_root / rel, exc)) from None
-        same = self._read(lambda s: s.scalar(select(Clip.path).where(Clip.sha256 == digest,
+            raise RecordError(_media_problem(self.ctx.media_root / rel, exc)) from None
+        same = self.ctx.read(lambda s: s.scalar(select(Clip.path).where(Clip.sha256 == digest,
                                                                     Clip.path != rel).limit(1)))
-        cid = self._write(lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent))
+        cid = self.ctx.write(lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent))
         if same is not None:
-            warnings.warn(duplicate_warning(rel, same), DuplicateMediaWarning, stacklevel=2)
+            warnings.warn(duplicate_warning(rel, same), DuplicateMediaWarning, stacklevel=3)
         return cid
 
     def _insert_clip(self, s: Session, rel: str, digest: str, info: media.ProbeInfo,
@@ -206,7 +203,7 @@ class CatalogMixin:
                     source=source, licence=licence, consent=consent)
         s.add(clip)
         s.flush()
-        self._log(s, "add", "clip", clip.id, clip.id, None, row_dict(clip))
+        self.ctx.log(s, "add", "clip", clip.id, clip.id, None, row_dict(clip))
         return clip.id
 
     def add_media(self, folder: str | os.PathLike, *, group_pattern: str | None = None,
@@ -223,8 +220,8 @@ class CatalogMixin:
         base = Path(folder)
         if not base.is_dir():
             raise RecordError(f"{folder}: not a folder")
-        if base.resolve() != self.media_root.resolve():
-            self.relative_media_path(base)  # RecordError when the folder lies outside the root
+        if base.resolve() != self.ctx.media_root.resolve():
+            self.ctx.relative_media_path(base)  # RecordError when the folder lies outside the root
         pattern = None
         if group_pattern:
             try:
@@ -236,14 +233,14 @@ class CatalogMixin:
         groups = _read_group_csv(group_csv) if group_csv else {}
         found = find_videos(base)  # links, unreadable folders and non-UTF-8 names set aside
         files = found.files
-        known = set(self._read(lambda s: list(s.scalars(select(Clip.path)))))
-        by_digest = dict(self._read(lambda s: list(s.execute(
+        known = set(self.ctx.read(lambda s: list(s.scalars(select(Clip.path)))))
+        by_digest = dict(self.ctx.read(lambda s: list(s.execute(
             select(Clip.sha256, func.min(Clip.path)).group_by(Clip.sha256)).all())))
-        report = IngestReport(skipped=[(_shown_below(self.media_root, p), why) for p, why in found.skipped])
+        report = IngestReport(skipped=[(_shown_below(self.ctx.media_root, p), why) for p, why in found.skipped])
         for i, path in enumerate(files):
             if progress:
                 progress(i, len(files))
-            rel = self.relative_media_path(path)
+            rel = self.ctx.relative_media_path(path)
             if rel in known:
                 report.already_present.append(rel)
                 continue
@@ -256,7 +253,7 @@ class CatalogMixin:
             except (media.MediaError, OSError) as exc:
                 report.skipped.append((rel, _media_problem(path, exc)))
                 continue
-            report.added.append(self._write(
+            report.added.append(self.ctx.write(
                 lambda s: self._insert_clip(s, rel, digest, info, group, source, licence, consent)))
             if digest in by_digest:
                 report.duplicates.append((rel, by_digest[digest]))
@@ -275,9 +272,9 @@ class CatalogMixin:
         folder; :meth:`add_media` on it adds the clips (those present already are not added
         twice)."""
         src = Path(os.path.realpath(source))
-        root = Path(os.path.realpath(self.media_root))
+        root = Path(os.path.realpath(self.ctx.media_root))
         if src == root or root in src.parents:
-            raise RecordError(f"{source}: already inside the media root {self.media_root}; "
+            raise RecordError(f"{source}: already inside the media root {self.ctx.media_root}; "
                               "add it without copying")
         root.mkdir(parents=True, exist_ok=True)
         dest = copy_target(root, src.name or "videos", src)  # an interrupted copy is resumed
@@ -288,7 +285,7 @@ class CatalogMixin:
         return dest
 
     def clip(self, ref: Any) -> ClipInfo:
-        return self._read(lambda s: clip_info(self._clip(s, ref)))
+        return self.ctx.read(lambda s: clip_info(self.ctx.clip(s, ref)))
 
     def clips(self, *, state: str | None = None, group: str | None = None,
               label: str | None = None, assignee: str | None = None,
@@ -299,14 +296,14 @@ class CatalogMixin:
             if limit is not None:
                 stmt = stmt.limit(limit)
             return [clip_info(c) for c in s.scalars(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def clip_count(self, **filters: Any) -> int:
         def q(s: Session) -> int:
             sub = self._clip_query(s, filters.get("state"), filters.get("group"),
                                    filters.get("label"), filters.get("assignee")).subquery()
             return s.scalar(select(func.count()).select_from(sub)) or 0
-        return self._read(q)
+        return self.ctx.read(q)
 
     def _clip_query(self, s: Session, state, group, label, assignee):
         stmt = select(Clip)
@@ -315,23 +312,23 @@ class CatalogMixin:
         if group:
             stmt = stmt.where(Clip.group_key == group)
         if label:
-            lab = self._label(s, label)
+            lab = self.ctx.label(s, label)
             stmt = stmt.where(Clip.id.in_(select(ClipLabel.clip_id).where(ClipLabel.label_id == lab.id)))
         if assignee:
-            who = self._annotator(s, assignee)
+            who = self.ctx.annotator(s, assignee)
             stmt = stmt.where(Clip.id.in_(select(Assignment.clip_id).where(Assignment.annotator_id == who.id)))
         return stmt
 
     def groups(self) -> list[str]:
-        return self._read(lambda s: [g for g in s.scalars(
+        return self.ctx.read(lambda s: [g for g in s.scalars(
             select(Clip.group_key).where(Clip.group_key.is_not(None)).distinct().order_by(Clip.group_key))])
 
     def set_fingerprint(self, clip: Any, value: int) -> None:
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         signed = value - (1 << 64) if value >= (1 << 63) else value
         def work(s: Session) -> None:
-            self._clip(s, clip).fingerprint = signed
-        self._write(work)
+            self.ctx.clip(s, clip).fingerprint = signed
+        self.ctx.write(work)
 
     def stats(self) -> dict[str, Any]:
         """Counts for a quick overview (``clipscribe stats``)."""
@@ -343,14 +340,14 @@ class CatalogMixin:
                 select(Annotator.name, func.count(ClipLabel.id)).join(ClipLabel, isouter=True)
                 .group_by(Annotator.name).order_by(Annotator.name)).all()}
             return {
-                "project": self.settings.name, "clips": count(Clip), "clips_by_state": by_state,
+                "project": self.ctx.settings.name, "clips": count(Clip), "clips_by_state": by_state,
                 "groups": s.scalar(select(func.count(func.distinct(Clip.group_key)))) or 0,
                 "annotators": count(Annotator), "labels": len(self._labels(s)),
                 "clip_labels": count(ClipLabel), "segments": count(Segment), "captions": count(Caption),
                 "gold_labels": count(GoldLabel), "labels_per_annotator": per_annotator,
                 "duration_s": round(s.scalar(select(func.coalesce(func.sum(Clip.duration), 0.0))) or 0.0, 3),
             }
-        return self._read(q)
+        return self.ctx.read(q)
 
 
 

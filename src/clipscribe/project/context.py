@@ -1,131 +1,58 @@
-"""Shared plumbing of the façade: transactions, reference resolution, the edit log."""
+"""What every service of the façade shares: the unit of work, the folder and its settings, the
+person acting, and the resolution of references (a clip by id or path, a person by name)."""
 
 from __future__ import annotations
 
-import contextlib
-import contextvars
-import datetime as dt
 import os
-from collections.abc import Callable, Iterator
+from collections.abc import Callable
 from pathlib import Path, PurePosixPath
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
-from sqlalchemy import Engine, event, inspect, select, text
-from sqlalchemy.exc import DBAPIError
+from sqlalchemy import event, inspect, select
 from sqlalchemy.orm import Session, object_session
-from sqlalchemy.orm.exc import StaleDataError
 
-from ..errors import ProjectError, RecordError, StaleWriteError
+from ..errors import NotALeadError, ProjectError, RecordError
 from ..schema.settings import ProjectSettings
-from ..store import db, sqlite_check
 from ..store.models import Annotator, Caption, Clip, Edit, Label, utcnow
+from ..store.unit_of_work import SEEN_KEY, UnitOfWork, edit_time, session_edits
+from ..types import ClipRef
+
+if TYPE_CHECKING:
+    from .services import Peers
 
 T = TypeVar("T")
-#: the edit-id list of the innermost ``Project.recording()`` block of this thread, if any
-_RECORDING: contextvars.ContextVar[list[int] | None] = contextvars.ContextVar(
-    "clipscribe_recording", default=None)
-SEEN_LIMIT = 200_000  # caption versions remembered per open project
-SEEN_KEY = "seen_caption_versions"
 MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
 
 
-class ProjectBase:
-    def __init__(self, folder: Path, settings: ProjectSettings, engine: Engine) -> None:
+class Context:
+    """Shared state of one open project. Services hold it; they never hold each other's
+    state. ``settings`` and ``user`` may change while the project is open."""
+
+    def __init__(self, folder: Path, settings: ProjectSettings, uow: UnitOfWork) -> None:
         self.folder = folder
         self.settings = settings
-        self.engine = engine
-        self._writer = db.writer(engine)
+        self.uow = uow
         self.user: str | None = None
-        #: id of the last edit-history row written by this object (for undo stacks)
-        self.last_edit_ids: list[int] = []
-        #: the background page check of a SQLite file (set by open); writes wait for it
-        self._page_check = None
-        #: caption id -> the version this object last read or wrote: a change without an
-        #: explicit expected version is checked against it (a stale write is refused)
-        self.seen_caption_versions: dict[int, int] = {}
+        #: replaces the settings file and ``settings`` (set by the façade, which owns the file)
+        self.update_settings: Callable[..., ProjectSettings] = _no_settings_writer
 
-    # ---- lifetime ---------------------------------------------------------------------
-    def close(self) -> None:
-        if self._page_check is not None:
-            self._page_check.stop()
-        self.engine.dispose()
+    # ---- transactions -----------------------------------------------------------------
+    def write(self, fn: Callable[[Session], T]) -> T:
+        return self.uow.write(fn)
 
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
-
-    def __repr__(self) -> str:
-        return f"<Project {self.settings.name!r} at {self.folder}>"
+    def read(self, fn: Callable[[Session], T]) -> T:
+        return self.uow.read(fn)
 
     @property
     def is_server(self) -> bool:
-        return self.engine.dialect.name == "postgresql"
+        return self.uow.is_server
 
-    # ---- transactions -----------------------------------------------------------------
-    def _write(self, fn: Callable[[Session], T]) -> T:
-        """Run ``fn`` in one write transaction (retried while SQLite reports busy)."""
-        if self._page_check is not None:  # never write into a damaged file
-            self._page_check.verdict()
-        def attempt() -> T:
-            edits: list[int] = []
-            try:
-                with db.transaction(self._writer) as s:
-                    s.info["edits"] = edits
-                    s.info[SEEN_KEY] = self.seen_caption_versions
-                    s.info.pop("edit_at", None)
-                    out = fn(s)
-                self._forget_old_versions()
-            except StaleDataError:
-                raise StaleWriteError("someone else changed this item since you loaded it; "
-                                      "your change was not saved — reload and try again") from None
-            self.last_edit_ids = edits
-            collector = _RECORDING.get()
-            if collector is not None:
-                collector.extend(edits)
-            return out
-        return db.with_retry(attempt)
-
-    @contextlib.contextmanager
-    def recording(self) -> Iterator[list[int]]:
-        """``with project.recording() as ids: ...``: ``ids`` collects the edit-history ids of
-        every write made inside the block by this thread (for an undo step; revert them with
-        :meth:`revert`). Blocks nest; other threads' writes are never mixed in."""
-        outer = _RECORDING.get()
-        ids: list[int] = []
-        token = _RECORDING.set(ids)
-        try:
-            yield ids
-        finally:
-            _RECORDING.reset(token)
-            if outer is not None:
-                outer.extend(ids)
+    @property
+    def engine(self) -> Any:
+        return self.uow.engine
 
     def check_writable(self, what: str) -> None:
-        """ProjectError before ``what`` starts when the database cannot take a write (a
-        read-only file or folder), so a command never does its work and then fails to record
-        it. Costs one empty write transaction."""
-        if self.engine.dialect.name != "sqlite":
-            return
-        try:
-            self._write(lambda s: s.execute(text("UPDATE settings SET key = key WHERE 0")))
-        except DBAPIError as exc:
-            reason = sqlite_check.explain(exc, self.folder) or str(exc.orig or exc).splitlines()[0]
-            raise ProjectError(f"{what}: not started, {reason}") from None
-
-    def _read(self, fn: Callable[[Session], T]) -> T:
-        with db.transaction(self.engine) as s:
-            s.info[SEEN_KEY] = self.seen_caption_versions
-            out = fn(s)
-        self._forget_old_versions()
-        return out
-
-    def _forget_old_versions(self) -> None:
-        seen = self.seen_caption_versions
-        if len(seen) > SEEN_LIMIT:  # forget the oldest half rather than grow without end
-            for key in list(seen)[:len(seen) // 2]:
-                del seen[key]
+        self.uow.check_writable(what, self.folder)
 
     # ---- paths ------------------------------------------------------------------------
     @property
@@ -149,13 +76,13 @@ class ProjectBase:
             raise RecordError(f"{path}: is the media root itself, not a file")
         return PurePosixPath(*rel.parts).as_posix()
 
-    def media_path(self, clip: Any) -> Path:
+    def media_path(self, clip: ClipRef) -> Path:
         """Absolute path of a clip's media file."""
-        rel = self._read(lambda s: self._clip(s, clip).path)
+        rel = self.read(lambda s: self.clip(s, clip).path)
         return self.media_root / Path(*PurePosixPath(rel).parts)
 
     # ---- resolution -------------------------------------------------------------------
-    def _clip(self, s: Session, ref: Any) -> Clip:
+    def clip(self, s: Session, ref: Any) -> Clip:
         """A clip by id, str(id) or media path relative to the media root."""
         if isinstance(ref, Clip):
             return ref
@@ -176,11 +103,13 @@ class ProjectBase:
             raise RecordError(f"clip {ref!r}: no such clip in this project")
         return row
 
-    def _annotator(self, s: Session, ref: Any) -> Annotator:
+    def annotator(self, s: Session, ref: Any) -> Annotator:
+        """A person by id or name; None means the person acting."""
         if isinstance(ref, Annotator):
             return ref
         if ref is None:
             ref = self.user
+        row: Annotator | None
         if isinstance(ref, int) and not isinstance(ref, bool):
             row = s.get(Annotator, ref) if 0 < ref <= MAX_ID else None
         else:
@@ -189,7 +118,7 @@ class ProjectBase:
             raise RecordError(f"annotator {ref!r}: no such annotator (add them first)")
         return row
 
-    def _label(self, s: Session, name: Any) -> Label:
+    def label(self, s: Session, name: Any) -> Label:
         row = s.scalar(select(Label).where(Label.name == str(name)))
         if row is None or row.retired:
             known = ", ".join(s.scalars(select(Label.name).where(Label.retired.is_(False))
@@ -197,25 +126,46 @@ class ProjectBase:
             raise RecordError(f"label {name!r}: not in the label set ({known or 'empty'})")
         return row
 
-    def _me(self, s: Session) -> Annotator | None:
+    def me(self, s: Session) -> Annotator | None:
         if self.user is None:
             return None
         return s.scalar(select(Annotator).where(Annotator.name == self.user))
 
+    # ---- access: the one lead check -----------------------------------------------------
+    def require_lead(self, s: Session, what: str, who: Any = None, *,
+                     refusal: str = "{who!r} is not a lead: only leads {what}") -> Annotator:
+        """The person acting (or ``who``) when they are a lead. Otherwise
+        :class:`NotALeadError`, worded by ``refusal`` with ``{who}`` (their name), ``{what}``
+        and ``{role}`` ("an annotator", or "not a person in this project")."""
+        name = who if who is not None else self.user
+        if name is not None and "{role}" not in refusal:
+            row: Annotator | None = self.annotator(s, name)  # RecordError: no such annotator
+        else:
+            row = (self.annotator(s, name) if isinstance(name, (int, Annotator))
+                   else s.scalar(select(Annotator).where(Annotator.name == str(name))))
+        if row is None or row.role != "lead":
+            role = "not a person in this project" if row is None else f"an {row.role}"
+            shown = row.name if row is not None else name
+            raise NotALeadError(refusal.format(who=shown, what=what, role=role))
+        return row
+
     # ---- edit history -----------------------------------------------------------------
-    def _log(self, s: Session, action: str, entity: str, entity_id: int | None,
-             clip_id: int | None, before: dict | None, after: dict | None, *,
-             who: Annotator | None = None, reverts: int | None = None) -> Edit:
-        me = who if who is not None else self._me(s)
-        # every row of one transaction carries the same time, so one user action (a split
-        # writes two rows) can be found again as one step of undo after reopening
+    def log(self, s: Session, action: str, entity: str, entity_id: int | None,
+            clip_id: int | None, before: dict | None, after: dict | None, *,
+            who: Annotator | None = None, reverts: int | None = None) -> Edit:
+        """Append one row to the edit history, in the write ``s`` belongs to."""
+        me = who if who is not None else self.me(s)
         e = Edit(annotator_id=me.id if me else None, action=action, entity=entity,
                  entity_id=entity_id, clip_id=clip_id, before=before, after=after,
-                 reverts=reverts, at=s.info.setdefault("edit_at", utcnow()))
+                 reverts=reverts, at=edit_time(s, utcnow))
         s.add(e)
         s.flush()
-        s.info.setdefault("edits", []).append(e.id)
+        session_edits(s).append(e.id)
         return e
+
+
+def _no_settings_writer(**_changes: Any) -> ProjectSettings:
+    raise ProjectError("this project cannot change its settings")
 
 
 # Every caption row a project's session loads or writes: its version is remembered in the
@@ -247,6 +197,7 @@ def _caption_deleted(_mapper: Any, _conn: Any, target: Caption) -> None:
 
 def row_dict(obj: Any) -> dict[str, Any]:
     """Column values of an ORM row as JSON-safe data (for the edit history)."""
+    import datetime as dt
     out: dict[str, Any] = {}
     for attr in inspect(obj).mapper.column_attrs:
         v = getattr(obj, attr.key)
@@ -264,6 +215,11 @@ def require(cond: bool, message: str) -> None:
         raise RecordError(message)
 
 
-def check_project(cond: bool, message: str) -> None:
-    if not cond:
-        raise ProjectError(message)
+class Service:
+    """Base of every service: the shared context and the other services (``peers``)."""
+
+    def __init__(self, ctx: Context, peers: Peers) -> None:
+        self.ctx = ctx
+        self.peers = peers
+
+

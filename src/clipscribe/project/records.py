@@ -21,11 +21,12 @@ from ..schema.records import (
     parse_record,
 )
 from ..store.models import Annotator, Caption, Clip, ReviewComment, Segment
+from .context import Service
 
 MAX_LISTED = 20
 
 
-class RecordsMixin:
+class Records(Service):
     def import_records(self, path: str | os.PathLike) -> dict[str, int]:
         """Import a JSON Lines file, all or nothing. Returns counts per record type.
 
@@ -44,8 +45,8 @@ class RecordsMixin:
             if isinstance(rec, ClipRecord):
                 try:
                     rel = _safe_relative(rec.clip)
-                    rel = self.relative_media_path(self.media_root / rel)
-                    info, digest = probe_media(self.media_root / rel)
+                    rel = self.ctx.relative_media_path(self.ctx.media_root / rel)
+                    info, digest = probe_media(self.ctx.media_root / rel)
                     probed[line] = (rel, digest, info)
                 except (RecordError, media.MediaError, OSError) as exc:
                     errors.append(f"{src}:{line}: field 'clip': {exc}")
@@ -73,14 +74,14 @@ class RecordsMixin:
                     field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
                     raise RecordError(f"{src}:{line}: field '{field}': {exc}") from None
             return counts
-        return self._write(work)
+        return self.ctx.write(work)
 
     def _label_seen(self, s: Session, rec: LabelRecord, line: int,
                     labelled: dict[tuple[int, int], tuple[int, str]], src: Path) -> bool:
         """True when an earlier line of the file gave this clip and annotator the same label
         (a duplicate); RecordError naming both lines when it gave a different one."""
-        key = (self._clip(s, rec.clip).id, self._annotator(s, rec.annotator).id)
-        self._label(s, rec.label)  # an unknown label is named as such, before any clash
+        key = (self.ctx.clip(s, rec.clip).id, self.ctx.annotator(s, rec.annotator).id)
+        self.ctx.label(s, rec.label)  # an unknown label is named as such, before any clash
         if key not in labelled:
             labelled[key] = (line, rec.label)
             return False
@@ -96,21 +97,21 @@ class RecordsMixin:
             rel, digest, info = probed
             if s.scalar(select(Clip.id).where(Clip.path == rel)) is not None:
                 return 0
-            self._insert_clip(s, rel, digest, info, rec.group, rec.source, rec.licence, rec.consent)
+            self.peers.catalog._insert_clip(s, rel, digest, info, rec.group, rec.source, rec.licence, rec.consent)
             return 1
         if isinstance(rec, LabelRecord):
             if self._read_label(s, rec.clip, rec.annotator) == rec.label:
                 return 0  # already so: importing a file again changes nothing
-            self._set_clip_label(s, rec.clip, rec.annotator, rec.label)
+            self.peers.annotation._set_clip_label(s, rec.clip, rec.annotator, rec.label)
             return 1
         if isinstance(rec, SegmentRecord):
-            c, a = self._clip(s, rec.clip), self._annotator(s, rec.annotator)
+            c, a = self.ctx.clip(s, rec.clip), self.ctx.annotator(s, rec.annotator)
             if self._has_segment(s, c.id, a.id, rec):
                 return 0
-            self._add_segment(s, c, a, rec.label, rec.start, rec.end)
+            self.peers.annotation._add_segment(s, c, a, rec.label, rec.start, rec.end)
             return 1
         if isinstance(rec, CaptionRecord):
-            c, a = self._clip(s, rec.clip), self._annotator(s, rec.annotator)
+            c, a = self.ctx.clip(s, rec.clip), self.ctx.annotator(s, rec.annotator)
             if s.scalar(select(Caption.id).where(Caption.clip_id == c.id, Caption.annotator_id == a.id,
                                                  Caption.text == rec.text)) is not None:
                 return 0
@@ -122,27 +123,27 @@ class RecordsMixin:
                 if seg_id is None:
                     raise RecordError(f"clip {rec.clip!r}: no segment [{rec.segment[0]}, {rec.segment[1]}) "
                                       f"by {rec.annotator!r} to tie the caption to")
-            self._add_caption(s, c, a, rec.text, seg_id, None)
+            self.peers.annotation._add_caption(s, c, a, rec.text, seg_id, None)
             return 1
         if isinstance(rec, GoldRecord):
             if rec.label is not None:
-                self._set_gold_label(s, rec.clip, rec.label, rec.annotator)
+                self.peers.gold._set_gold_label(s, rec.clip, rec.label, rec.annotator)
             if rec.captions is not None:
-                self._set_gold_captions(s, rec.clip, rec.captions, rec.annotator)
+                self.peers.gold._set_gold_captions(s, rec.clip, rec.captions, rec.annotator)
             return 1
         if isinstance(rec, CommentRecord):
             return self._import_comment(s, rec)
         raise AssertionError(rec)
 
     def _import_comment(self, s: Session, rec: CommentRecord) -> int:
-        c, who = self._clip(s, rec.clip), self._lead(s, rec.annotator)
-        to = self._annotator(s, rec.to).id if rec.to is not None else None
+        c, who = self.ctx.clip(s, rec.clip), self.peers.gold._lead(s, rec.annotator)
+        to = self.ctx.annotator(s, rec.to).id if rec.to is not None else None
         if s.scalar(select(ReviewComment.id).where(
                 ReviewComment.clip_id == c.id, ReviewComment.lead_id == who.id,
                 ReviewComment.annotator_id.is_(to) if to is None else ReviewComment.annotator_id == to,
                 ReviewComment.text == rec.text)) is not None:
             return 0  # the same comment again: imported before
-        self._add_comment(s, c.id, who, to, rec.text)
+        self.peers.gold._add_comment(s, c.id, who, to, rec.text)
         return 1
 
     @staticmethod
@@ -188,19 +189,19 @@ class RecordsMixin:
                         counts["duplicate"] += 1
                         continue
                     if self._read_label(s, rec.clip, rec.annotator) != rec.label:
-                        self._set_clip_label(s, rec.clip, rec.annotator, rec.label)
+                        self.peers.annotation._set_clip_label(s, rec.clip, rec.annotator, rec.label)
                         counts["label"] += 1
                 except RecordError as exc:
                     if str(exc).startswith(f"{src}:"):
                         raise
                     raise RecordError(f"{src}:{line}: {exc}") from None
             return counts
-        return self._write(work)
+        return self.ctx.write(work)
 
     def _read_label(self, s: Session, clip: Any, annotator: Any) -> str | None:
         from ..store.models import ClipLabel
-        row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == self._clip(s, clip).id,
-                                               ClipLabel.annotator_id == self._annotator(s, annotator).id))
+        row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == self.ctx.clip(s, clip).id,
+                                               ClipLabel.annotator_id == self.ctx.annotator(s, annotator).id))
         return row.label.name if row is not None else None
 
     # ---- export -----------------------------------------------------------------------
@@ -217,26 +218,26 @@ class RecordsMixin:
                 out.append(ClipRecord.model_construct(clip=c.path, group=c.group_key, source=c.source,
                                       licence=c.licence, consent=c.consent))
             return out
-        out = self._read(q)
-        paths = {c.id: c.path for c in self.clips()}
-        segs = {g.id: g for g in self.segments()}
-        for clip, who, label in self.clip_labels():
+        out = self.ctx.read(q)
+        paths = {c.id: c.path for c in self.peers.catalog.clips()}
+        segs = {g.id: g for g in self.peers.annotation.segments()}
+        for clip, who, label in self.peers.annotation.clip_labels():
             out.append(LabelRecord.model_construct(clip=paths[clip], annotator=who, label=label))
         for g in segs.values():
             out.append(SegmentRecord.model_construct(clip=paths[g.clip], annotator=g.annotator, label=g.label,
                                      start=g.start, end=g.end))
-        for c in self.caption_rows():
+        for c in self.peers.annotation.caption_rows():
             seg = segs.get(c.segment) if c.segment else None
             out.append(CaptionRecord.model_construct(clip=paths[c.clip], annotator=c.annotator, text=c.text,
                                      segment=(seg.start, seg.end) if seg else None))
-        gold_caps = self.gold_captions()
-        leads = self._read(lambda s: self._gold_leads(s))
-        for clip, label in sorted(self.gold_labels().items()):
+        gold_caps = self.peers.gold.gold_captions()
+        leads = self.ctx.read(lambda s: self._gold_leads(s))
+        for clip, label in sorted(self.peers.gold.gold_labels().items()):
             out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], label=label,
                                   captions=gold_caps.pop(clip, None)))
         for clip, caps in sorted(gold_caps.items()):
             out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], captions=caps))
-        for clip, to, lead, text in self.comments():
+        for clip, to, lead, text in self.peers.gold.comments():
             out.append(CommentRecord.model_construct(clip=paths[clip], annotator=lead, to=to, text=text))
         return out
 
@@ -253,6 +254,7 @@ class RecordsMixin:
 
         Rows stored before a limit existed (a caption longer than the caption limit) are written
         as they are: a dump never fails for the whole project because of one row."""
+        self.peers.team.require_export_right()  # leads only (on a server the database decides)
         recs = self.iter_records()
 
         def write(f) -> None:
@@ -265,8 +267,9 @@ class RecordsMixin:
     def export_labels_csv(self, path: str | os.PathLike) -> int:
         """Write every clip label as CSV (``clip,annotator,label``); text cells a spreadsheet
         would run as a formula get a leading ``'`` (read back by :meth:`import_labels_csv`)."""
-        paths = {c.id: c.path for c in self.clips()}
-        rows = self.clip_labels()
+        self.peers.team.require_export_right()  # leads only (on a server the database decides)
+        paths = {c.id: c.path for c in self.peers.catalog.clips()}
+        rows = self.peers.annotation.clip_labels()
 
         def write(f) -> None:
             w = csvsafe.writer(f)

@@ -2,18 +2,19 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any
 
 from sqlalchemy import func, select
+from sqlalchemy import text as sql_text
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.attributes import set_committed_value
 
 from ..errors import RecordError, StaleWriteError
 from ..schema.records import MAX_CAPTION_CHARS
 from ..store.models import (
     Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, utcnow,
 )
-from .base import require, row_dict
+from .context import Service, require, row_dict
 from ..types import CaptionInfo, SegmentInfo  # noqa: F401 (re-exported)
 
 
@@ -22,23 +23,23 @@ from ..types import CaptionInfo, SegmentInfo  # noqa: F401 (re-exported)
 
 
 
-class AnnotateMixin:
+class Annotation(Service):
     # ---- clip labels ------------------------------------------------------------------
     def set_clip_label(self, clip: Any, annotator: Any, label: str | None) -> int | None:
         """Set (or with ``None`` clear) one annotator's label of a clip."""
-        return self._write(lambda s: self._set_clip_label(s, clip, annotator, label))
+        return self.ctx.write(lambda s: self._set_clip_label(s, clip, annotator, label))
 
     def _set_clip_label(self, s: Session, clip: Any, annotator: Any, label: str | None) -> int | None:
-        c, a = self._clip(s, clip), self._annotator(s, annotator)
+        c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
         row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
         if label is None:
             if row is not None:
                 before = row_dict(row)
                 s.delete(row)
                 s.flush()
-                self._log(s, "clear", "clip_label", before["id"], c.id, before, None)
+                self.ctx.log(s, "clear", "clip_label", before["id"], c.id, before, None)
             return None
-        lab = self._label(s, label)
+        lab = self.ctx.label(s, label)
         before = row_dict(row) if row is not None else None
         if row is None:
             row = ClipLabel(clip_id=c.id, annotator_id=a.id, label_id=lab.id)
@@ -49,15 +50,15 @@ class AnnotateMixin:
             row.label_id, row.updated_at = lab.id, utcnow()
         s.flush()
         self._touch(s, c, a)
-        self._log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
+        self.ctx.log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
         return row.id
 
     def _owned_by(self, s: Session, stmt, model, clip: Any, annotator: Any):
         """Narrow a query over a per-annotator table to one clip and/or one annotator."""
         if clip is not None:
-            stmt = stmt.where(model.clip_id == self._clip(s, clip).id)
+            stmt = stmt.where(model.clip_id == self.ctx.clip(s, clip).id)
         if annotator is not None:
-            stmt = stmt.where(model.annotator_id == self._annotator(s, annotator).id)
+            stmt = stmt.where(model.annotator_id == self.ctx.annotator(s, annotator).id)
         return stmt
 
     def clip_labels(self, *, annotator: Any = None, clip: Any = None) -> list[tuple[int, str, str]]:
@@ -68,22 +69,22 @@ class AnnotateMixin:
                     .join(Label, Label.id == ClipLabel.label_id).order_by(ClipLabel.clip_id, Annotator.name))
             stmt = self._owned_by(s, stmt, ClipLabel, clip, annotator)
             return [tuple(r) for r in s.execute(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     # ---- segments ---------------------------------------------------------------------
     def add_segment(self, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
         """Add a segment ``[start, end)`` in frames; returns its id."""
-        return self._write(lambda s: self._add_segment(s, clip, annotator, label, start, end))
+        return self.ctx.write(lambda s: self._add_segment(s, clip, annotator, label, start, end))
 
     def _add_segment(self, s: Session, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
-        c, a = self._clip(s, clip), self._annotator(s, annotator)
-        lab = self._label(s, label)
+        c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
+        lab = self.ctx.label(s, label)
         self._check_segment(s, c, a, start, end, None)
         row = Segment(clip_id=c.id, annotator_id=a.id, label_id=lab.id, start_frame=start, end_frame=end)
         s.add(row)
         s.flush()
         self._touch(s, c, a)
-        self._log(s, "add", "segment", row.id, c.id, None, row_dict(row))
+        self.ctx.log(s, "add", "segment", row.id, c.id, None, row_dict(row))
         return row.id
 
     def update_segment(self, segment_id: int, *, start: int | None = None, end: int | None = None,
@@ -98,11 +99,11 @@ class AnnotateMixin:
                                 new_start, new_end, row.id)
             row.start_frame, row.end_frame = new_start, new_end
             if label is not None:
-                row.label_id = self._label(s, label).id
+                row.label_id = self.ctx.label(s, label).id
             row.updated_at = utcnow()
             s.flush()
-            self._log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
-        self._write(work)
+            self.ctx.log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
+        self.ctx.write(work)
 
     def delete_segment(self, segment_id: int) -> None:
         def work(s: Session) -> None:
@@ -112,12 +113,12 @@ class AnnotateMixin:
                 before = row_dict(cap)
                 cap.segment_id = None
                 s.flush()
-                self._log(s, "change", "caption", cap.id, cap.clip_id, before, row_dict(cap))
+                self.ctx.log(s, "change", "caption", cap.id, cap.clip_id, before, row_dict(cap))
             before = row_dict(row)
             s.delete(row)
             s.flush()
-            self._log(s, "delete", "segment", before["id"], before["clip_id"], before, None)
-        self._write(work)
+            self.ctx.log(s, "delete", "segment", before["id"], before["clip_id"], before, None)
+        self.ctx.write(work)
 
     def split_segment(self, segment_id: int, at: int) -> int:
         """Cut a segment in two at frame ``at``; returns the id of the new right part."""
@@ -131,12 +132,12 @@ class AnnotateMixin:
                             start_frame=at, end_frame=row.end_frame)
             row.end_frame, row.updated_at = at, utcnow()
             s.flush()
-            self._log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
+            self.ctx.log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
             s.add(right)
             s.flush()
-            self._log(s, "add", "segment", right.id, right.clip_id, None, row_dict(right))
+            self.ctx.log(s, "add", "segment", right.id, right.clip_id, None, row_dict(right))
             return right.id
-        return self._write(work)
+        return self.ctx.write(work)
 
     def merge_segments(self, first_id: int, second_id: int) -> None:
         """Join two segments of one annotator into the first (spanning both; first's label)."""
@@ -150,15 +151,15 @@ class AnnotateMixin:
                 cb = row_dict(cap)
                 cap.segment_id = a.id
                 s.flush()
-                self._log(s, "change", "caption", cap.id, cap.clip_id, cb, row_dict(cap))
+                self.ctx.log(s, "change", "caption", cap.id, cap.clip_id, cb, row_dict(cap))
             s.delete(b)
             s.flush()
-            self._log(s, "delete", "segment", before_b["id"], b.clip_id, before_b, None)
+            self.ctx.log(s, "delete", "segment", before_b["id"], b.clip_id, before_b, None)
             a.start_frame, a.end_frame = min(a.start_frame, b.start_frame), max(a.end_frame, b.end_frame)
             a.updated_at = utcnow()
             s.flush()
-            self._log(s, "change", "segment", a.id, a.clip_id, before_a, row_dict(a))
-        self._write(work)
+            self.ctx.log(s, "change", "segment", a.id, a.clip_id, before_a, row_dict(a))
+        self.ctx.write(work)
 
     def segments(self, *, clip: Any = None, annotator: Any = None) -> list[SegmentInfo]:
         def q(s: Session) -> list[SegmentInfo]:
@@ -167,14 +168,14 @@ class AnnotateMixin:
             stmt = self._owned_by(s, stmt, Segment, clip, annotator)
             return [SegmentInfo(g.id, g.clip_id, name, g.label.name, g.start_frame, g.end_frame)
                     for g, name in s.execute(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     def _check_segment(self, s: Session, c: Clip, a: Annotator, start: int, end: int,
                        own_id: int | None) -> None:
         require(isinstance(start, int) and isinstance(end, int), "segment bounds must be whole frames")
         require(0 <= start < end, f"segment [{start}, {end}): needs 0 <= start < end")
         require(end <= c.frame_count, f"segment [{start}, {end}): clip {c.id} has only {c.frame_count} frames")
-        if not self.settings.segments_may_overlap:
+        if not self.ctx.settings.segments_may_overlap:
             clash = s.scalar(select(Segment).where(
                 Segment.clip_id == c.id, Segment.annotator_id == a.id, Segment.start_frame < end,
                 Segment.end_frame > start, Segment.id != (own_id or -1)))
@@ -186,12 +187,12 @@ class AnnotateMixin:
     def add_caption(self, clip: Any, annotator: Any, text: str, *, segment: int | None = None,
                     position: int | None = None) -> int:
         """Add one reference caption; returns its id."""
-        return self._write(lambda s: self._add_caption(s, clip, annotator, text, segment, position))
+        return self.ctx.write(lambda s: self._add_caption(s, clip, annotator, text, segment, position))
 
     def _add_caption(self, s: Session, clip: Any, annotator: Any, text: str, segment: int | None,
                      position: int | None) -> int:
         text = _caption_text(text)
-        c, a = self._clip(s, clip), self._annotator(s, annotator)
+        c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
         if segment is not None:
             seg = s.get(Segment, segment)
             require(seg is not None and seg.clip_id == c.id, f"segment {segment}: not a segment of clip {c.id}")
@@ -204,7 +205,7 @@ class AnnotateMixin:
         s.add(row)
         s.flush()
         self._touch(s, c, a)
-        self._log(s, "add", "caption", row.id, c.id, None, row_dict(row))
+        self.ctx.log(s, "add", "caption", row.id, c.id, None, row_dict(row))
         return row.id
 
     def update_caption(self, caption_id: int, text: str | None = None, *,
@@ -227,9 +228,12 @@ class AnnotateMixin:
                 row.segment_id = segment
             row.updated_at = utcnow()
             s.flush()
-            self._log(s, "change", "caption", row.id, row.clip_id, before, row_dict(row))
+            self.ctx.log(s, "change", "caption", row.id, row.clip_id, before, row_dict(row))
             return row.version
-        return self._write(work)
+        try:
+            return self.ctx.write(work)
+        except StaleWriteError as exc:
+            raise self._caption_conflict(exc, caption_id, text) from None
 
     def delete_caption(self, caption_id: int, *, expected_version: int | None = None) -> None:
         """Delete a caption. A caption changed or deleted meanwhile by someone else (since
@@ -241,13 +245,25 @@ class AnnotateMixin:
             before = row_dict(row)
             s.delete(row)
             s.flush()
-            self._log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
-        self._write(work)
+            self.ctx.log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
+        try:
+            self.ctx.write(work)
+        except StaleWriteError as exc:
+            raise self._caption_conflict(exc, caption_id, None) from None
+
+    def _caption_conflict(self, exc: StaleWriteError, caption_id: int,
+                          kept: str | None) -> StaleWriteError:
+        """The refusal of a caption write, with what is stored now as typed facts."""
+        cur = self.ctx.read(lambda s: s.get(Caption, caption_id))
+        return StaleWriteError(str(exc), kept_text=kept,
+                               current_text=cur.text if cur is not None else None,
+                               current_version=cur.version if cur is not None else None,
+                               deleted=cur is None)
 
     def _expected_caption(self, caption_id: int, expected_version: int | None) -> int | None:
         if expected_version is not None:
             return expected_version
-        return self.seen_caption_versions.get(caption_id)
+        return self.ctx.uow.seen_caption_versions.get(caption_id)
 
     def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
@@ -260,7 +276,7 @@ class AnnotateMixin:
             stmt = self._owned_by(s, stmt, Caption, clip, annotator)
             return [CaptionInfo(c.id, c.clip_id, name, c.position, c.text, c.segment_id)
                     for c, name in s.execute(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     # ---- clip states per annotator ----------------------------------------------------
     def set_clip_state(self, clip: Any, annotator: Any, state: str, reason: str | None = None) -> None:
@@ -269,24 +285,29 @@ class AnnotateMixin:
                 f"state {state!r}: use open, submitted, skipped or unsure")
         require(state != "skipped" or bool(reason and reason.strip()), "skipping a clip needs a reason")
         def work(s: Session) -> None:
-            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             row = self._touch(s, c, a)
             before = row_dict(row)
             row.state, row.reason, row.updated_at = state, reason, utcnow()
             s.flush()
             self._refresh_clip_state(s, c)
-            self._log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
-        self._write(work)
+            self.ctx.log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
+        self.ctx.write(work)
 
     def clip_state(self, clip: Any, annotator: Any = None) -> tuple[str, str | None]:
         def q(s: Session) -> tuple[str, str | None]:
-            c, a = self._clip(s, clip), self._annotator(s, annotator)
+            c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
             return (row.state, row.reason) if row else ("open", None)
-        return self._read(q)
+        return self.ctx.read(q)
 
     def _touch(self, s: Session, c: Clip, a: Annotator) -> Assignment:
-        """The annotator's assignment of the clip, created on first work."""
+        """The annotator's assignment of the clip, created on first work. On a server an
+        annotator may not write ``clips.state``: the database works it out (see
+        :meth:`_refresh_clip_state`)."""
+        server_starts = self.ctx.is_server and c.state == "new"
+        if server_starts:
+            set_committed_value(c, "state", "in_progress")  # written by the database below
         row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
         if row is None:
             row = Assignment(clip_id=c.id, annotator_id=a.id, state="open")
@@ -294,10 +315,20 @@ class AnnotateMixin:
             s.flush()
         if c.state == "new":
             c.state = "in_progress"
+        if server_starts:
+            self._refresh_clip_state(s, c)
         return row
 
-    @staticmethod
-    def _refresh_clip_state(s: Session, c: Clip) -> None:
+    def _refresh_clip_state(self, s: Session, c: Clip) -> None:
+        """Work a clip's state out from its gold label and everyone's assignments. On a server
+        an annotator's login sees only its own assignments and may not write ``clips.state``:
+        the database does it (``clipscribe_refresh_clip_state``, for a clip the caller has an
+        assignment on); the loaded row takes the result without writing it again."""
+        if self.ctx.is_server:
+            s.flush()
+            state = s.scalar(sql_text("SELECT clipscribe_refresh_clip_state(:c)"), {"c": c.id})
+            set_committed_value(c, "state", state)
+            return
         if s.scalar(select(GoldLabel.id).where(GoldLabel.clip_id == c.id)) is not None:
             c.state = "settled"
             return

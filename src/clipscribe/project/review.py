@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-from dataclasses import dataclass, field
 from typing import Any
 
 from sqlalchemy import select
@@ -25,6 +24,7 @@ WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
 
 
 from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with every public error)
+from .context import Service
 
 
 
@@ -51,19 +51,17 @@ def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[i
 
 
 
-class ReviewMixin:
+class Review(Service):
     # ---- who may review -----------------------------------------------------------------
     def check_reviewer(self, who: str | None = None) -> str:
         """The name of the person reviewing; :class:`NotALeadError` unless they are a lead."""
-        name = who or self.user
-        role = self.role(name)
-        if role != "lead":
-            what = "not a person in this project" if role is None else f"an {role}"
-            raise NotALeadError(f"the review desk is for leads: {name!r} is {what}")
-        return name
+        row = self.ctx.read(lambda s: self.ctx.require_lead(
+            s, "review", who or self.ctx.user,
+            refusal="the review desk is for leads: {who!r} is {role}"))
+        return row.name
 
     def _workers(self) -> set[str]:
-        return {a.name for a in self.annotators() if a.role != "lead"}
+        return {a.name for a in self.peers.catalog.annotators() if a.role != "lead"}
 
     def skips(self, clip: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
@@ -74,9 +72,9 @@ class ReviewMixin:
                     .where(Assignment.state == "skipped")
                     .order_by(Assignment.clip_id, Annotator.name))
             if clip is not None:
-                stmt = stmt.where(Assignment.clip_id == self._clip(s, clip).id)
+                stmt = stmt.where(Assignment.clip_id == self.ctx.clip(s, clip).id)
             return [(c, a, r or "") for c, a, r in s.execute(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     # ---- the queue ----------------------------------------------------------------------
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
@@ -91,23 +89,23 @@ class ReviewMixin:
         ``report`` to skip recomputing it. Leads only.
         """
         self.check_reviewer()
-        rep = report if report is not None else self.agreement_report(seed=seed, n_boot=n_boot)
-        clips = {c.id: c for c in self.clips()}
+        rep = report if report is not None else self.peers.analysis.agreement_report(seed=seed, n_boot=n_boot)
+        clips = {c.id: c for c in self.peers.catalog.clips()}
         workers = self._workers()
         by_clip: dict[int, dict[str, str]] = {}
         skips: dict[int, dict[str, str]] = {}
         for c, a, why in self.skips():
             skips.setdefault(c, {})[a] = why
-        for c, a, lab in self.clip_labels():
+        for c, a, lab in self.peers.annotation.clip_labels():
             if a in workers and a not in skips.get(c, {}):  # a skip is no vote
                 by_clip.setdefault(c, {})[a] = lab
         worked: dict[int, set[str]] = {c: set(v) for c, v in by_clip.items()}
         if annotator is not None:
-            for g in self.segments(annotator=annotator):
+            for g in self.peers.annotation.segments(annotator=annotator):
                 worked.setdefault(g.clip, set()).add(annotator)
-            for c, a, _ in self.captions(annotator=annotator):
+            for c, a, _ in self.peers.annotation.captions(annotator=annotator):
                 worked.setdefault(c, set()).add(a)
-        gold = self.gold_labels()
+        gold = self.peers.gold.gold_labels()
         out, seen = [], set()
         for row in rep.review_queue():
             cid = int(row.clip)
@@ -143,17 +141,17 @@ class ReviewMixin:
         skipped it with their reason (a skipper's left-over label is not among ``labels``).
         Leads only."""
         self.check_reviewer()
-        info = self.clip(clip)
+        info = self.peers.catalog.clip(clip)
         workers = self._workers()
         skipped = {a: why for _, a, why in self.skips(info.id) if a in workers}
-        labels = {a: lab for c, a, lab in self.clip_labels(clip=info.id)
+        labels = {a: lab for c, a, lab in self.peers.annotation.clip_labels(clip=info.id)
                   if a in workers and a not in skipped}
         segs: dict[str, list[SegmentInfo]] = {}
-        for g in self.segments(clip=info.id):
+        for g in self.peers.annotation.segments(clip=info.id):
             if g.annotator in workers:
                 segs.setdefault(g.annotator, []).append(g)
         caps: dict[str, list[CaptionInfo]] = {}
-        for c in self.caption_rows(clip=info.id):
+        for c in self.peers.annotation.caption_rows(clip=info.id):
             if c.annotator in workers:
                 caps.setdefault(c.annotator, []).append(c)
         names = sorted(set(labels) | set(segs) | set(caps) | set(skipped))
@@ -164,28 +162,28 @@ class ReviewMixin:
                 scores = {k: v for k, v in row.to_dict().items() if k != "clip"}
         return ClipComparison(
             info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
-            caps, self.gold_labels().get(info.id),
-            [(lab, s, e) for _, lab, s, e in self.gold_segments(info.id)],
-            self.gold_caption_rows(info.id), self.comments(info.id), scores, skipped)
+            caps, self.peers.gold.gold_labels().get(info.id),
+            [(lab, s, e) for _, lab, s, e in self.peers.gold.gold_segments(info.id)],
+            self.gold_caption_rows(info.id), self.peers.gold.comments(info.id), scores, skipped)
 
     def gold_caption_rows(self, clip: Any) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""
         def q(s: Session) -> list[GoldCaptionInfo]:
-            cid = self._clip(s, clip).id
+            cid = self.ctx.clip(s, clip).id
             stmt = select(GoldCaption).where(GoldCaption.clip_id == cid).order_by(
                 GoldCaption.position, GoldCaption.id)
             return [GoldCaptionInfo(g.id, g.position, g.text, g.source_caption_id)
                     for g in s.scalars(stmt)]
-        return self._read(q)
+        return self.ctx.read(q)
 
     # ---- throughput and trend -------------------------------------------------------------
     def _work_events(self) -> list[tuple[dt.datetime, str, int]]:
         """(when, annotator, clip) of every annotation edit, credited to the annotator whose
         row changed (an import by the lead counts for the annotator it was for)."""
-        ids = {a.id: a.name for a in self.annotators()}
+        ids = {a.id: a.name for a in self.peers.catalog.annotators()}
         workers = self._workers()
         out = []
-        for e in self.history():
+        for e in self.peers.history.history():
             if e.entity not in WORK_ENTITIES or e.clip is None:
                 continue
             row = e.after or e.before or {}
@@ -229,7 +227,7 @@ class ReviewMixin:
         if by not in ("auto", "clips", "week"):
             raise RecordError(f"trend by {by!r}: use auto, clips or week")
         workers = self._workers()
-        rows = [r for r in self.clip_labels() if r[1] in workers]
+        rows = [r for r in self.peers.annotation.clip_labels() if r[1] in workers]
         when: dict[int, dt.datetime] = {}
         for at, _, clip in self._work_events():
             when[clip] = max(when.get(clip, at), at)
@@ -244,7 +242,7 @@ class ReviewMixin:
             parts = [("", order[k:k + size]) for k in range(0, len(order), size)]
             how = f"windows of {size} clips by time of last label"
         names = sorted({a for _, a, _ in rows})
-        labels = [l.name for l in self.labels()]
+        labels = [l.name for l in self.peers.catalog.labels()]
         cell = {(c, a): lab for c, a, lab in rows}
         out = []
         for period, part in parts:

@@ -19,45 +19,49 @@ from typing import Any
 from .. import export, media
 from ..errors import RecordError
 from ..store.models import Setting
+from .context import Service
 
 Progress = Callable[[int, int], None] | None
 ASSIGNMENT_KEY = "export.assignment"
 
 
-class ExportingMixin:
+class Exporting(Service):
+    #: unfinished folders of a killed export that the last export removed
+    last_export_cleaned: list[str] = []
+
     def compute_fingerprints(self, *, progress: Progress = None,
                              cancel: threading.Event | None = None) -> int:
         """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
-        todo = [c for c in self.clips() if c.fingerprint is None]
+        todo = [c for c in self.peers.catalog.clips() if c.fingerprint is None]
         for i, c in enumerate(todo):
             if progress:
                 progress(i, len(todo))
             try:
-                value = media.clip_fingerprint(self.media_path(c.id), cancel=cancel)
+                value = media.clip_fingerprint(self.ctx.media_path(c.id), cancel=cancel)
             except media.MediaError:
                 continue  # reported by the leakage check as a clip without fingerprint
-            self.set_fingerprint(c.id, value)
+            self.peers.catalog.set_fingerprint(c.id, value)
         if progress:
             progress(len(todo), len(todo))
         return len(todo)
 
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
-        leads = {a.name for a in self.annotators() if a.role == "lead"}
+        leads = {a.name for a in self.peers.catalog.annotators() if a.role == "lead"}
         labels: dict[int, list[tuple[str, str]]] = defaultdict(list)
-        for clip, who, label in self._voting_labels(leads):
+        for clip, who, label in self.peers.analysis._voting_labels(leads):
             labels[clip].append((who, label))
         skips: dict[int, list[tuple[str, str]]] = defaultdict(list)
-        for clip, who, reason in self.skips():
+        for clip, who, reason in self.peers.review.skips():
             if who not in leads:
                 skips[clip].append((who, reason))
         segs: dict[tuple[int, str], list] = defaultdict(list)
-        for g in self.segments():
+        for g in self.peers.annotation.segments():
             segs[(g.clip, g.annotator)].append(g)
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
         seg_by_id = {g.id: g for v in segs.values() for g in v}
-        for c in self.caption_rows():
+        for c in self.peers.annotation.caption_rows():
             if c.annotator in leads:
                 continue
             tied = seg_by_id.get(c.segment) if c.segment else None
@@ -65,12 +69,12 @@ class ExportingMixin:
             caps[c.clip].append(export.CaptionInput(c.text, c.annotator,
                                                     (c.clip, c.annotator) not in skipped,
                                                     (tied.start, tied.end) if tied else None))
-        gold_labels, gold_caps = self.gold_labels(), self.gold_captions()
+        gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)
-        for clip, label, start, end in self.gold_segments():
+        for clip, label, start, end in self.peers.gold.gold_segments():
             gold_segs[clip].append(export.SegmentInput(label, start, end))
         out = []
-        for c in self.clips():
+        for c in self.peers.catalog.clips():
             votes = labels.get(c.id, [])
             # the majority label does not depend on the minimum agreement (that only decides
             # whether the clip is kept), so it is safe to pick segments with it here
@@ -90,7 +94,7 @@ class ExportingMixin:
                 gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
                 gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
                 segments=tuple(chosen), consent=c.consent, licence=c.licence,
-                source_path=str(self.media_root / c.path)))
+                source_path=str(self.ctx.media_root / c.path)))
         return out
 
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
@@ -109,14 +113,14 @@ class ExportingMixin:
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
         if frozen is None:
-            frozen = self._read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
+            frozen = self.ctx.read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
                                            if s.get(Setting, ASSIGNMENT_KEY) else {}))
         elif isinstance(frozen, (str, os.PathLike)):
             frozen = _manifest_assignment(Path(frozen))
         try:
             return export.build_plan(
                 self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
-                project=self.settings.name, seed=seed, frozen=frozen,
+                project=self.ctx.settings.name, seed=seed, frozen=frozen,
                 **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold))
         except ValueError as exc:
             raise RecordError(f"export: {exc}") from None
@@ -128,10 +132,10 @@ class ExportingMixin:
         """Write a planned export atomically; remember its assignment for the next export.
         Blocking leakage findings stop it unless ``override_reason`` is given (recorded)."""
         self._require_lead("export")
-        self.check_writable("export")  # the export is recorded in the project: check first
+        self.ctx.check_writable("export")  # the export is recorded in the project: check first
         #: unfinished folders of an earlier, killed export to the same place, removed now
         self.last_export_cleaned = export.remove_stale_partials(out_dir)
-        override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
+        override = export.Override(by=self.ctx.user or "unknown", reason=override_reason) if override_reason else None
         manifest = export.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt,
                                        override=override, overwrite=overwrite,
                                        progress=progress, cancel=cancel)
@@ -139,9 +143,9 @@ class ExportingMixin:
 
         def work(s) -> None:
             s.merge(Setting(key=ASSIGNMENT_KEY, value=assignment))
-            self._log(s, "export", "dataset", None, None, None,
+            self.ctx.log(s, "export", "dataset", None, None, None,
                       {"folder": str(out_dir), "clips": len(plan.clips), "override": override_reason})
-        _recorded_or_removed(lambda: self._write(work), Path(out_dir))
+        _recorded_or_removed(lambda: self.ctx.write(work), Path(out_dir))
         return manifest
 
     def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
@@ -154,7 +158,7 @@ class ExportingMixin:
         self.compute_fingerprints(progress=progress)
         inputs = self.export_inputs()
         try:
-            opts = dict(project=self.settings.name, seed=seed,
+            opts = dict(project=self.ctx.settings.name, seed=seed,
                         **self._plan_options(min_agreement, captions, hamming_radius,
                                              caption_threshold))
             base = export.build_plan(inputs, {"all": 1.0}, **opts)
@@ -178,12 +182,12 @@ class ExportingMixin:
         out = Path(out_dir)
         if out.exists() and any(out.iterdir()):
             raise RecordError(f"{out}: exists and is not empty")
-        self.check_writable("export")
+        self.ctx.check_writable("export")
         self.last_export_cleaned = export.remove_stale_partials(out)
         blocked = [i + 1 for i, pl in enumerate(plans) if pl.leakage.blocking]
         if blocked and not override_reason:
             raise export.ExportBlocked(plans[blocked[0] - 1].leakage)
-        override = export.Override(by=self.user or "unknown", reason=override_reason) if override_reason else None
+        override = export.Override(by=self.ctx.user or "unknown", reason=override_reason) if override_reason else None
         tmp = out.with_name(f".{out.name}.folds-{os.getpid()}")
         manifests = []
         try:
@@ -199,7 +203,7 @@ class ExportingMixin:
             if tmp.exists():
                 import shutil
                 shutil.rmtree(tmp, ignore_errors=True)
-        _recorded_or_removed(lambda: self._write(lambda s: self._log(
+        _recorded_or_removed(lambda: self.ctx.write(lambda s: self.ctx.log(
             s, "export", "dataset", None, None, None,
             {"folder": str(out), "folds": len(plans), "override": override_reason})), out)
         return manifests
@@ -208,15 +212,15 @@ class ExportingMixin:
                       caption_threshold: float) -> dict[str, Any]:
         """Options of :func:`clipscribe.export.build_plan` that come from the project."""
         return dict(policy=export.LabelPolicy(min_agreement=min_agreement, captions=captions),
-                    require_consent=self.settings.require_consent, hamming_radius=hamming_radius,
+                    require_consent=self.ctx.settings.require_consent, hamming_radius=hamming_radius,
                     caption_threshold=caption_threshold,
-                    captions_wanted=self.settings.caption_guideline.captions_per_clip)
+                    captions_wanted=self.ctx.settings.caption_guideline.captions_per_clip)
 
     def _require_lead(self, what: str) -> None:
-        if self.role(self.user) != "lead":
-            raise RecordError(f"only a lead may {what}; {self.user!r} is not a lead")
-        if self.is_server:
-            self.require_export_right()  # the server decides by the login, not by self.user
+        self.ctx.read(lambda s: self.ctx.require_lead(
+            s, what, refusal="only a lead may {what}; {who!r} is not a lead"))
+        if self.ctx.is_server:
+            self.peers.team.require_export_right()  # the server decides by the login, not by self.ctx.user
 
 
 def _recorded_or_removed(record: Callable[[], Any], out: Path) -> None:

@@ -13,7 +13,6 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import json
-from dataclasses import dataclass, field
 from typing import Any
 
 from sqlalchemy import Connection, Table, delete, func, select, update
@@ -64,7 +63,7 @@ def move_to_server(project_cls: Any, folder: Any, url: str, *, lead: str | None 
     ``lead`` names the person whose database login is the admin's (default: the first lead).
     Raises ProjectError when the target is not empty or a check fails (nothing is kept then).
     """
-    from ..project import _without_password
+    from .facade import _without_password
     src = project_cls.open(folder)
     try:
         if src.is_server:
