@@ -6,7 +6,7 @@ from __future__ import annotations
 import os
 from collections.abc import Callable
 from pathlib import Path, PurePosixPath
-from typing import TYPE_CHECKING, Any, TypeVar
+from typing import TYPE_CHECKING, Any, ContextManager, TypeVar
 
 from sqlalchemy import event, inspect, select
 from sqlalchemy.orm import Session, object_session
@@ -42,6 +42,10 @@ class Context:
 
     def read(self, fn: Callable[[Session], T]) -> T:
         return self.uow.read(fn)
+
+    def snapshot(self) -> ContextManager[Session]:
+        """Reads inside the block see one state of the database (see UnitOfWork.snapshot)."""
+        return self.uow.snapshot()
 
     @property
     def is_server(self) -> bool:

@@ -47,6 +47,10 @@ class Exporting(Service):
 
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
+        with self.ctx.snapshot():  # one state of the database for every read below
+            return self._export_inputs()
+
+    def _export_inputs(self) -> list[export.ClipInput]:
         leads = {a.name for a in self.peers.catalog.annotators() if a.role == "lead"}
         labels: dict[int, list[tuple[str, str]]] = defaultdict(list)
         for clip, who, label in self.peers.analysis._voting_labels(leads):
@@ -61,13 +65,13 @@ class Exporting(Service):
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
         seg_by_id = {g.id: g for v in segs.values() for g in v}
-        for c in self.peers.annotation.caption_rows():
-            if c.annotator in leads:
+        for cap in self.peers.annotation.caption_rows():
+            if cap.annotator in leads:
                 continue
-            tied = seg_by_id.get(c.segment) if c.segment else None
+            tied = seg_by_id.get(cap.segment) if cap.segment else None
             # a skipper's left-over captions are not references
-            caps[c.clip].append(export.CaptionInput(c.text, c.annotator,
-                                                    (c.clip, c.annotator) not in skipped,
+            caps[cap.clip].append(export.CaptionInput(cap.text, cap.annotator,
+                                                    (cap.clip, cap.annotator) not in skipped,
                                                     (tied.start, tied.end) if tied else None))
         gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)

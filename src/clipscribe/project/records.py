@@ -205,13 +205,17 @@ class Records(Service):
         return row.label.name if row is not None else None
 
     # ---- export -----------------------------------------------------------------------
-    def iter_records(self):
+    def iter_records(self) -> list[Any]:
         """Every clip, label, segment, caption, gold decision and lead comment as interchange
         records (comments: those this login may read; on a server an annotator reads only the
         ones addressed to them).
 
         Built from stored rows without validating them again, so a row stored before a limit
         existed is still written out (an import then names it)."""
+        with self.ctx.snapshot():  # one state of the database for every read below
+            return self._iter_records()
+
+    def _iter_records(self) -> list[Any]:
         def q(s: Session) -> list[Any]:
             out: list[Any] = []
             for c in s.scalars(select(Clip).order_by(Clip.id)):

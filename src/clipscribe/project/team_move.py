@@ -15,7 +15,7 @@ import hashlib
 import json
 from typing import Any
 
-from sqlalchemy import Connection, Table, delete, func, select, update
+from sqlalchemy import Connection, Table, delete, func, insert, select, update
 
 from ..errors import ProjectError
 from ..store import db, team
@@ -124,7 +124,7 @@ def _copy(src: Any, target: Any, url: str, lead: str | None) -> MoveReport:
                                                  top + 1, False)))
                 report.sequences[t.name] = top + 1
         report.lead = _map_admin(there, lead)
-        there.execute(Setting.__table__.insert(), [{"key": team.BLIND_KEY,
+        there.execute(insert(Setting), [{"key": team.BLIND_KEY,
                                                     "value": bool(src.settings.blind)}])
     return report
 

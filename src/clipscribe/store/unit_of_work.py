@@ -185,7 +185,10 @@ class UnitOfWork:
             self._forget_old_versions()
 
     def read(self, fn: Callable[[Session], T]) -> T:
-        """Run ``fn`` in one read transaction."""
+        """Run ``fn`` in one read transaction; inside :meth:`snapshot` it joins that one."""
+        joined: Session | None = getattr(self._local, "snapshot", None)
+        if joined is not None:
+            return fn(joined)
         def attempt() -> T:
             with db.transaction(self.engine) as s:
                 s.info[SEEN_KEY] = self.seen_caption_versions
@@ -197,13 +200,20 @@ class UnitOfWork:
 
     @contextlib.contextmanager
     def snapshot(self) -> Iterator[Session]:
-        """One read transaction for a composite read (several queries that must agree): on a
-        server it runs REPEATABLE READ, so a concurrent team write cannot mix states; SQLite's
-        read transaction sees one state of the file already."""
+        """One read transaction for a composite read (several queries that must agree): every
+        :meth:`read` of this thread inside the block joins it. On a server it runs REPEATABLE
+        READ, so a concurrent team write cannot mix states; on SQLite the read transaction is
+        started at once, so every query sees the file as it was then."""
+        if getattr(self._local, "snapshot", None) is not None:  # nested: the outer one holds
+            yield self._local.snapshot
+            return
         with db.transaction(self.engine) as s:
             if self.is_server:
                 s.connection(execution_options={"isolation_level": "REPEATABLE READ"})
+            else:  # pysqlite begins lazily; one query now takes the read snapshot
+                s.execute(text("SELECT 1 FROM settings LIMIT 1"))
             s.info[SEEN_KEY] = self.seen_caption_versions
+            self._local.snapshot = s
             try:
                 yield s
             except DBAPIError as exc:
@@ -211,6 +221,8 @@ class UnitOfWork:
                 if err is not None:
                     raise err from exc
                 raise
+            finally:
+                self._local.snapshot = None
 
     def _translated(self, fn: Callable[[], T]) -> T:
         try:
