@@ -1,4 +1,5 @@
-"""Annotation edits (labels, segments, captions, clip states), the edit history and undo."""
+"""Annotation edits: clip labels, segments, captions and a person's clip states (the edit
+history and undo live in :mod:`.history`)."""
 
 from __future__ import annotations
 
@@ -12,20 +13,23 @@ from sqlalchemy.orm.attributes import set_committed_value
 from ..errors import RecordError, StaleWriteError
 from ..schema.records import MAX_CAPTION_CHARS
 from ..store.models import (
-    Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, utcnow,
+    Annotator,
+    Assignment,
+    Caption,
+    Clip,
+    ClipLabel,
+    GoldLabel,
+    Label,
+    Segment,
+    utcnow,
 )
+from ..types import CaptionInfo, ClipRef, SegmentInfo  # noqa: F401 (re-exported)
 from .context import Service, require, row_dict
-from ..types import CaptionInfo, SegmentInfo  # noqa: F401 (re-exported)
-
-
-
-
-
 
 
 class Annotation(Service):
     # ---- clip labels ------------------------------------------------------------------
-    def set_clip_label(self, clip: Any, annotator: Any, label: str | None) -> int | None:
+    def set_clip_label(self, clip: ClipRef, annotator: Any, label: str | None) -> int | None:
         """Set (or with ``None`` clear) one annotator's label of a clip."""
         return self.ctx.write(lambda s: self._set_clip_label(s, clip, annotator, label))
 
@@ -61,7 +65,7 @@ class Annotation(Service):
             stmt = stmt.where(model.annotator_id == self.ctx.annotator(s, annotator).id)
         return stmt
 
-    def clip_labels(self, *, annotator: Any = None, clip: Any = None) -> list[tuple[int, str, str]]:
+    def clip_labels(self, *, annotator: Any = None, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         def q(s: Session) -> list[tuple[int, str, str]]:
             stmt = (select(ClipLabel.clip_id, Annotator.name, Label.name)
@@ -72,7 +76,7 @@ class Annotation(Service):
         return self.ctx.read(q)
 
     # ---- segments ---------------------------------------------------------------------
-    def add_segment(self, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
+    def add_segment(self, clip: ClipRef, annotator: Any, label: str, start: int, end: int) -> int:
         """Add a segment ``[start, end)`` in frames; returns its id."""
         return self.ctx.write(lambda s: self._add_segment(s, clip, annotator, label, start, end))
 
@@ -161,7 +165,7 @@ class Annotation(Service):
             self.ctx.log(s, "change", "segment", a.id, a.clip_id, before_a, row_dict(a))
         self.ctx.write(work)
 
-    def segments(self, *, clip: Any = None, annotator: Any = None) -> list[SegmentInfo]:
+    def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
         def q(s: Session) -> list[SegmentInfo]:
             stmt = (select(Segment, Annotator.name).join(Annotator, Annotator.id == Segment.annotator_id)
                     .order_by(Segment.clip_id, Annotator.name, Segment.start_frame, Segment.id))
@@ -184,7 +188,7 @@ class Annotation(Service):
                     if clash else "")
 
     # ---- captions ---------------------------------------------------------------------
-    def add_caption(self, clip: Any, annotator: Any, text: str, *, segment: int | None = None,
+    def add_caption(self, clip: ClipRef, annotator: Any, text: str, *, segment: int | None = None,
                     position: int | None = None) -> int:
         """Add one reference caption; returns its id."""
         return self.ctx.write(lambda s: self._add_caption(s, clip, annotator, text, segment, position))
@@ -265,11 +269,11 @@ class Annotation(Service):
             return expected_version
         return self.ctx.uow.seen_caption_versions.get(caption_id)
 
-    def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
+    def captions(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
         return [(c.clip, c.annotator, c.text) for c in self.caption_rows(clip=clip, annotator=annotator)]
 
-    def caption_rows(self, *, clip: Any = None, annotator: Any = None) -> list[CaptionInfo]:
+    def caption_rows(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[CaptionInfo]:
         def q(s: Session) -> list[CaptionInfo]:
             stmt = (select(Caption, Annotator.name).join(Annotator, Annotator.id == Caption.annotator_id)
                     .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
@@ -279,7 +283,7 @@ class Annotation(Service):
         return self.ctx.read(q)
 
     # ---- clip states per annotator ----------------------------------------------------
-    def set_clip_state(self, clip: Any, annotator: Any, state: str, reason: str | None = None) -> None:
+    def set_clip_state(self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None) -> None:
         """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
         require(state in ("open", "submitted", "skipped", "unsure"),
                 f"state {state!r}: use open, submitted, skipped or unsure")
@@ -294,7 +298,7 @@ class Annotation(Service):
             self.ctx.log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
         self.ctx.write(work)
 
-    def clip_state(self, clip: Any, annotator: Any = None) -> tuple[str, str | None]:
+    def clip_state(self, clip: ClipRef, annotator: Any = None) -> tuple[str, str | None]:
         def q(s: Session) -> tuple[str, str | None]:
             c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
             row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))

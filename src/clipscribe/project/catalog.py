@@ -15,15 +15,34 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
+from ..errors import RecordError
 from ..export.csvsafe import read_cell
 from ..media._common import shown
 from ..media.copy_in import copy_target, copy_videos
 from ..media.scan import find_videos
-from ..errors import RecordError
 from ..schema.settings import LabelSpec, check_name_text
-from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, ClipLabel, GoldLabel, Label, Segment, Setting
+from ..store.models import (
+    ROLES,
+    Annotator,
+    Assignment,
+    Caption,
+    Clip,
+    ClipLabel,
+    GoldLabel,
+    Label,
+    Segment,
+    Setting,
+)
+from ..types import (  # noqa: F401 (re-exported)
+    AnnotatorInfo,
+    ClipInfo,
+    ClipRef,
+    IngestReport,
+    LabelInfo,
+    clip_state_word,
+    duplicate_warning,
+)
 from .context import Service, row_dict
-from ..types import AnnotatorInfo, ClipInfo, IngestReport, LabelInfo, clip_state_word, duplicate_warning  # noqa: F401 (re-exported)
 
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
@@ -323,7 +342,7 @@ class Catalog(Service):
         return self.ctx.read(lambda s: [g for g in s.scalars(
             select(Clip.group_key).where(Clip.group_key.is_not(None)).distinct().order_by(Clip.group_key))])
 
-    def set_fingerprint(self, clip: Any, value: int) -> None:
+    def set_fingerprint(self, clip: ClipRef, value: int) -> None:
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         signed = value - (1 << 64) if value >= (1 << 63) else value
         def work(s: Session) -> None:

@@ -8,13 +8,13 @@ from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import TYPE_CHECKING, Any, ContextManager, TypeVar
 
-from sqlalchemy import event, inspect, select
-from sqlalchemy.orm import Session, object_session
+from sqlalchemy import inspect, select
+from sqlalchemy.orm import Session
 
 from ..errors import NotALeadError, ProjectError, RecordError
 from ..schema.settings import ProjectSettings
-from ..store.models import Annotator, Caption, Clip, Edit, Label, utcnow
-from ..store.unit_of_work import SEEN_KEY, UnitOfWork, edit_time, session_edits
+from ..store.models import Annotator, Clip, Edit, Label, utcnow
+from ..store.unit_of_work import UnitOfWork, edit_time, session_edits
 from ..types import ClipRef
 
 if TYPE_CHECKING:
@@ -170,33 +170,6 @@ class Context:
 
 def _no_settings_writer(**_changes: Any) -> ProjectSettings:
     raise ProjectError("this project cannot change its settings")
-
-
-# Every caption row a project's session loads or writes: its version is remembered in the
-# project's ``seen_caption_versions`` (the session carries that dict in ``info``).
-@event.listens_for(Caption, "load")
-@event.listens_for(Caption, "refresh")
-def _caption_read(target: Caption, context: Any, *_attrs: Any) -> None:
-    seen = context.session.info.get(SEEN_KEY) if context.session is not None else None
-    if seen is not None and target.version is not None:
-        seen[target.id] = target.version
-
-
-@event.listens_for(Caption, "after_insert")
-@event.listens_for(Caption, "after_update")
-def _caption_written(_mapper: Any, _conn: Any, target: Caption) -> None:
-    s = object_session(target)
-    seen = s.info.get(SEEN_KEY) if s is not None else None
-    if seen is not None and target.version is not None:
-        seen[target.id] = target.version
-
-
-@event.listens_for(Caption, "after_delete")
-def _caption_deleted(_mapper: Any, _conn: Any, target: Caption) -> None:
-    s = object_session(target)
-    seen = s.info.get(SEEN_KEY) if s is not None else None
-    if seen is not None:  # deleted by this project itself: nothing stale to report later
-        seen.pop(target.id, None)
 
 
 def row_dict(obj: Any) -> dict[str, Any]:

@@ -7,6 +7,7 @@ its own transaction and appends to the edit history.
 
 from __future__ import annotations
 
+import datetime as dt
 import getpass
 import os
 from collections.abc import Callable, Mapping, Sequence
@@ -15,20 +16,39 @@ from typing import TYPE_CHECKING, Any, ContextManager, TypeVar
 
 from pydantic import ValidationError
 from sqlalchemy import Engine, select
-from sqlalchemy.orm import Session
 from sqlalchemy.exc import DatabaseError, OperationalError
+from sqlalchemy.orm import Session
 
 from ..errors import LoginRequired, ProjectError, RecordError
 from ..schema.settings import SETTINGS_FILE, ProjectSettings
 from ..store import db, sqlite_check
 from ..store.models import Annotator
-from ..store.unit_of_work import UnitOfWork
-from .context import Context
-from .services import Peers
-from ..types import AnnotatorInfo, AssignmentPlan, CaptionInfo, ClipComparison, ClipInfo, ClipRef, CommentNote, DisputedClip, EditInfo, GoldCaptionInfo, IngestReport, LabelInfo, MoveReport, OthersWork, QueueRow, SegmentInfo, Throughput, TrendPoint
+from ..store.unit_of_work import UnitOfWork, simulated_clock
+from ..types import (
+    AnnotatorInfo,
+    AssignmentPlan,
+    CaptionInfo,
+    ClipComparison,
+    ClipInfo,
+    ClipRef,
+    CommentNote,
+    DisputedClip,
+    EditInfo,
+    GoldCaptionInfo,
+    IngestReport,
+    LabelInfo,
+    MoveReport,
+    OthersWork,
+    QueueRow,
+    SegmentInfo,
+    Throughput,
+    TrendPoint,
+)
 from .analysis import AgreementReport
 from .catalog import LabelSpec, Progress
+from .context import Context
 from .review import IDLE_SECONDS
+from .services import Peers
 
 if TYPE_CHECKING:
     import threading
@@ -125,6 +145,13 @@ class Project:
         :meth:`revert`). Blocks nest; other threads' writes are never mixed in."""
         return self._uow.recording()
 
+    @staticmethod
+    def simulated_clock(clock: Callable[[], dt.datetime]) -> ContextManager[None]:
+        """``with Project.simulated_clock(lambda: next_time()): ...``: the edit-history rows of
+        writes made inside the block (by this thread) carry ``clock()`` as their time, read
+        once per write. For sample projects and tests; the history stays append-only."""
+        return simulated_clock(clock)
+
     def check_writable(self, what: str) -> None:
         """ProjectError before ``what`` starts when the database cannot take a write."""
         self._ctx.check_writable(what)
@@ -141,7 +168,7 @@ class Project:
     def _read(self, fn: Callable[[Session], T]) -> T:
         return self._uow.read(fn)
 
-    def _add_caption(self, s: Session, clip: ClipRef, annotator: Any, text: str,
+    def _add_caption(self, s: Session, clip: Any, annotator: Any, text: str,
                      segment: int | None, position: int | None) -> int:
         return self._annotation._add_caption(s, clip, annotator, text, segment, position)
 
@@ -221,6 +248,7 @@ class Project:
                 message = f"{root}: cannot open the project database: {_one_line(exc, url)}"
                 if _wants_password(exc):
                     from sqlalchemy.engine import make_url
+
                     from ..store.urls import host_of
                     raise LoginRequired(message, server=host_of(url),
                                         login=make_url(url).username,
@@ -386,7 +414,7 @@ class Project:
     def groups(self) -> list[str]:
         return self._catalog.groups()
 
-    def set_fingerprint(self, clip: Any, value: int) -> None:
+    def set_fingerprint(self, clip: ClipRef, value: int) -> None:
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         return self._catalog.set_fingerprint(clip, value)
 
@@ -395,15 +423,15 @@ class Project:
         return self._catalog.stats()
 
     # ---- annotate (Annotation) ----------------------------------------------------
-    def set_clip_label(self, clip: Any, annotator: Any, label: str | None) -> int | None:
+    def set_clip_label(self, clip: ClipRef, annotator: Any, label: str | None) -> int | None:
         """Set (or with ``None`` clear) one annotator's label of a clip."""
         return self._annotation.set_clip_label(clip, annotator, label)
 
-    def clip_labels(self, *, annotator: Any = None, clip: Any = None) -> list[tuple[int, str, str]]:
+    def clip_labels(self, *, annotator: Any = None, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         return self._annotation.clip_labels(annotator=annotator, clip=clip)
 
-    def add_segment(self, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
+    def add_segment(self, clip: ClipRef, annotator: Any, label: str, start: int, end: int) -> int:
         """Add a segment ``[start, end)`` in frames; returns its id."""
         return self._annotation.add_segment(clip, annotator, label, start, end)
 
@@ -422,11 +450,11 @@ class Project:
         """Join two segments of one annotator into the first (spanning both; first's label)."""
         return self._annotation.merge_segments(first_id, second_id)
 
-    def segments(self, *, clip: Any = None, annotator: Any = None) -> list[SegmentInfo]:
+    def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
         return self._annotation.segments(clip=clip, annotator=annotator)
 
     def add_caption(
-            self, clip: Any, annotator: Any, text: str, *, segment: int | None = None, position: int | None = None) -> int:
+            self, clip: ClipRef, annotator: Any, text: str, *, segment: int | None = None, position: int | None = None) -> int:
         """Add one reference caption; returns its id."""
         return self._annotation.add_caption(clip, annotator, text, segment=segment, position=position)
 
@@ -444,19 +472,19 @@ class Project:
         nothing is deleted."""
         return self._annotation.delete_caption(caption_id, expected_version=expected_version)
 
-    def captions(self, *, clip: Any = None, annotator: Any = None) -> list[tuple[int, str, str]]:
+    def captions(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
         return self._annotation.captions(clip=clip, annotator=annotator)
 
-    def caption_rows(self, *, clip: Any = None, annotator: Any = None) -> list[CaptionInfo]:
+    def caption_rows(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[CaptionInfo]:
         return self._annotation.caption_rows(clip=clip, annotator=annotator)
 
     def set_clip_state(
-            self, clip: Any, annotator: Any, state: str, reason: str | None = None) -> None:
+            self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None) -> None:
         """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
         return self._annotation.set_clip_state(clip, annotator, state, reason)
 
-    def clip_state(self, clip: Any, annotator: Any = None) -> tuple[str, str | None]:
+    def clip_state(self, clip: ClipRef, annotator: Any = None) -> tuple[str, str | None]:
         return self._annotation.clip_state(clip, annotator)
 
     # ---- workbench (Workbench) ----------------------------------------------------
@@ -472,7 +500,7 @@ class Project:
         filter on that person's own work only, so blind mode shows nothing of others'."""
         return self._workbench.queue_rows(annotator, state=state, label=label, group=group, assignee=assignee, offset=offset, limit=limit)
 
-    def queue_row(self, clip: Any, annotator: Any = None, **filters: Any) -> QueueRow | None:
+    def queue_row(self, clip: ClipRef, annotator: Any = None, **filters: Any) -> QueueRow | None:
         """The :meth:`queue_rows` row of one clip, or None when the filters leave it out."""
         return self._workbench.queue_row(clip, annotator, **filters)
 
@@ -480,7 +508,7 @@ class Project:
         """Number of rows :meth:`queue_rows` yields with the same filters."""
         return self._workbench.queue_count(annotator, **filters)
 
-    def queue_index(self, clip: Any, annotator: Any = None, **filters: Any) -> int | None:
+    def queue_index(self, clip: ClipRef, annotator: Any = None, **filters: Any) -> int | None:
         """Row number of ``clip`` in :meth:`queue_rows` with the same filters, or None."""
         return self._workbench.queue_index(clip, annotator, **filters)
 
@@ -490,22 +518,22 @@ class Project:
         nor skipped; wraps round to the start when ``wrap``. None when all are finished."""
         return self._workbench.next_unfinished_clip(annotator, after=after, wrap=wrap)
 
-    def my_clip_label(self, clip: Any, annotator: Any = None) -> str | None:
+    def my_clip_label(self, clip: ClipRef, annotator: Any = None) -> str | None:
         """``annotator``'s own label of ``clip`` (default: the current user), or None."""
         return self._workbench.my_clip_label(clip, annotator)
 
-    def caption_versions(self, clip: Any, annotator: Any = None) -> dict[int, int]:
+    def caption_versions(self, clip: ClipRef, annotator: Any = None) -> dict[int, int]:
         """``{caption id: version}`` of ``annotator``'s captions of ``clip`` (default: the current
         user): the versions a later ``update_caption(..., expected_version=...)`` checks against."""
         return self._workbench.caption_versions(clip, annotator)
 
-    def others_work(self, clip: Any, annotator: Any = None) -> OthersWork:
+    def others_work(self, clip: ClipRef, annotator: Any = None) -> OthersWork:
         """Everyone else's clip label, captions and segments of ``clip`` (others than
         ``annotator``, default the current user). Blind mode on (:meth:`blind_mode`) gives an
         empty :class:`OthersWork` without reading any of it."""
         return self._workbench.others_work(clip, annotator)
 
-    def my_comments(self, clip: Any, annotator: Any = None) -> list[CommentNote]:
+    def my_comments(self, clip: ClipRef, annotator: Any = None) -> list[CommentNote]:
         """Lead comments addressed to ``annotator`` (default: the current user) on ``clip``,
         oldest first, each marked unread until :meth:`mark_comments_read`. Comments addressed
         to others, or to no one, are never among them."""
@@ -516,7 +544,7 @@ class Project:
         current user); clips with none are left out."""
         return self._workbench.unread_comments(annotator)
 
-    def mark_comments_read(self, clip: Any, annotator: Any = None) -> int:
+    def mark_comments_read(self, clip: ClipRef, annotator: Any = None) -> int:
         """Mark every comment addressed to ``annotator`` (default: the current user) on ``clip``
         as read; returns how many were unread. The read state lives on the person's own
         assignment of the clip (made when missing, as opening work on a clip does); not an edit
@@ -524,56 +552,56 @@ class Project:
         return self._workbench.mark_comments_read(clip, annotator)
 
     # ---- gold (Gold) --------------------------------------------------------------
-    def gold_label_version(self, clip: Any) -> int:
+    def gold_label_version(self, clip: ClipRef) -> int:
         """Version of a clip's gold label; 0 when it has none yet."""
         return self._gold.gold_label_version(clip)
 
     def set_gold_label(
-            self, clip: Any, label: str | None, *, lead: Any = None, expected_version: int | None = None) -> None:
+            self, clip: ClipRef, label: str | None, *, lead: Any = None, expected_version: int | None = None) -> None:
         """Settle a clip's label. With ``expected_version`` (from :meth:`gold_label_version`)
         a gold label another lead changed meanwhile raises StaleWriteError (``kept_value`` is
         your label, ``current_value`` theirs) instead of being overwritten."""
         return self._gold.set_gold_label(clip, label, lead=lead, expected_version=expected_version)
 
     def set_gold_segments(
-            self, clip: Any, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
+            self, clip: ClipRef, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
         """Replace a clip's gold segments with ``(label, start, end)`` triples."""
         return self._gold.set_gold_segments(clip, segments, lead=lead)
 
     def set_gold_captions(
-            self, clip: Any, captions: list[str | tuple[str, int | None]], *, lead: Any = None) -> None:
+            self, clip: ClipRef, captions: list[str | tuple[str, int | None]], *, lead: Any = None) -> None:
         """Replace a clip's gold reference captions; items are texts or ``(text, source caption id)``."""
         return self._gold.set_gold_captions(clip, captions, lead=lead)
 
     def gold_labels(self) -> dict[int, str]:
         return self._gold.gold_labels()
 
-    def gold_segments(self, clip: Any = None) -> list[tuple[int, str, int, int]]:
+    def gold_segments(self, clip: ClipRef | None = None) -> list[tuple[int, str, int, int]]:
         return self._gold.gold_segments(clip)
 
-    def gold_captions(self, clip: Any = None) -> dict[int, list[str]]:
+    def gold_captions(self, clip: ClipRef | None = None) -> dict[int, list[str]]:
         return self._gold.gold_captions(clip)
 
-    def add_comment(self, clip: Any, text: str, *, annotator: Any = None, lead: Any = None) -> int:
+    def add_comment(self, clip: ClipRef, text: str, *, annotator: Any = None, lead: Any = None) -> int:
         """Leave a lead's comment on a clip, optionally addressed to one annotator. Only a
         comment addressed to an annotator reaches them (on that clip, in their clip panel);
         one addressed to no one stays among the leads. See :meth:`comment_to_annotators`."""
         return self._gold.add_comment(clip, text, annotator=annotator, lead=lead)
 
     def comment_to_annotators(
-            self, clip: Any, text: str, *, annotators: Any = None, lead: Any = None) -> list[int]:
+            self, clip: ClipRef, text: str, *, annotators: Any = None, lead: Any = None) -> list[int]:
         """The same comment to several annotators of ``clip``, one addressed copy each, in one
         transaction. ``annotators`` defaults to everyone (leads excepted) who labelled,
         segmented, captioned, skipped or was assigned the clip. Returns the comment ids."""
         return self._gold.comment_to_annotators(clip, text, annotators=annotators, lead=lead)
 
-    def comments(self, clip: Any = None) -> list[tuple[int, str | None, str, str]]:
+    def comments(self, clip: ClipRef | None = None) -> list[tuple[int, str | None, str, str]]:
         """``(clip id, addressee or None, lead, text)``."""
         return self._gold.comments(clip)
 
     # ---- history (History) --------------------------------------------------------
     def history(
-            self, *, clip: Any = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
+            self, *, clip: ClipRef | None = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
         """The edit history, oldest first (the audit trail)."""
         return self._history.history(clip=clip, annotator=annotator, limit=limit)
 
@@ -584,7 +612,7 @@ class Project:
         return self._history.revert(edit_ids)
 
     def undo_trail(
-            self, clip: Any, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
+            self, clip: ClipRef, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
         """The steps ``annotator`` can still undo on ``clip``, oldest first, rebuilt from the
         edit history: ``(what, edit ids)`` per user action (the rows of one transaction). Undo
         rows take the steps they reverted off the trail, a redo puts them back; an undo of
@@ -632,7 +660,7 @@ class Project:
         """The name of the person reviewing; :class:`NotALeadError` unless they are a lead."""
         return self._review.check_reviewer(who)
 
-    def skips(self, clip: Any = None) -> list[tuple[int, str, str]]:
+    def skips(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
         name. A skip is not a label: agreement and exports leave the skipper's label out."""
         return self._review.skips(clip)
@@ -653,13 +681,13 @@ class Project:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
         return self._review.most_disputed_clip()
 
-    def clip_comparison(self, clip: Any, *, report: Any = None) -> ClipComparison:
+    def clip_comparison(self, clip: ClipRef, *, report: Any = None) -> ClipComparison:
         """Every annotator's label, segments and captions of ``clip`` beside the gold, and who
         skipped it with their reason (a skipper's left-over label is not among ``labels``).
         Leads only."""
         return self._review.clip_comparison(clip, report=report)
 
-    def gold_caption_rows(self, clip: Any) -> list[GoldCaptionInfo]:
+    def gold_caption_rows(self, clip: ClipRef) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""
         return self._review.gold_caption_rows(clip)
 
@@ -860,6 +888,7 @@ def _one_line(exc: Exception, url: str) -> str:
     """The driver's own first line (not SQLAlchemy's wrapping with SQL and links), naming the
     server and login for a server URL; never a password."""
     from sqlalchemy.exc import DBAPIError
+
     from ..store.urls import host_of
     inner = exc.orig if isinstance(exc, DBAPIError) and exc.orig is not None else exc
     lines = [ln.strip() for ln in str(inner).strip().splitlines() if ln.strip()]

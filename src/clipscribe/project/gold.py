@@ -10,9 +10,17 @@ from sqlalchemy.orm import Session
 
 from ..errors import StaleWriteError
 from ..store.models import (
-    Annotator, Assignment, Caption, ClipLabel, GoldCaption, GoldLabel, GoldSegment, ReviewComment,
+    Annotator,
+    Assignment,
+    Caption,
+    ClipLabel,
+    GoldCaption,
+    GoldLabel,
+    GoldSegment,
+    ReviewComment,
     Segment,
 )
+from ..types import ClipRef
 from .annotate import check_caption_length
 from .context import Service, require, row_dict
 
@@ -21,14 +29,14 @@ class Gold(Service):
     def _lead(self, s: Session, lead: Any) -> Annotator:
         return self.ctx.require_lead(s, "settle gold", lead)
 
-    def gold_label_version(self, clip: Any) -> int:
+    def gold_label_version(self, clip: ClipRef) -> int:
         """Version of a clip's gold label; 0 when it has none yet."""
         def q(s: Session) -> int:
             row = s.scalar(select(GoldLabel).where(GoldLabel.clip_id == self.ctx.clip(s, clip).id))
             return row.version if row is not None else 0
         return self.ctx.read(q)
 
-    def set_gold_label(self, clip: Any, label: str | None, *, lead: Any = None,
+    def set_gold_label(self, clip: ClipRef, label: str | None, *, lead: Any = None,
                        expected_version: int | None = None) -> None:
         """Settle a clip's label. With ``expected_version`` (from :meth:`gold_label_version`)
         a gold label another lead changed meanwhile raises StaleWriteError (``kept_value`` is
@@ -77,7 +85,7 @@ class Gold(Service):
             s.flush()
             self.ctx.log(s, "delete", entity, before["id"], clip_id, before, None, who=who)
 
-    def set_gold_segments(self, clip: Any, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
+    def set_gold_segments(self, clip: ClipRef, segments: list[tuple[str, int, int]], *, lead: Any = None) -> None:
         """Replace a clip's gold segments with ``(label, start, end)`` triples."""
         def work(s: Session) -> None:
             c, who = self.ctx.clip(s, clip), self._lead(s, lead)
@@ -91,7 +99,7 @@ class Gold(Service):
                 self.ctx.log(s, "add", "gold_segment", row.id, c.id, None, row_dict(row), who=who)
         self.ctx.write(work)
 
-    def set_gold_captions(self, clip: Any, captions: list[str | tuple[str, int | None]], *,
+    def set_gold_captions(self, clip: ClipRef, captions: list[str | tuple[str, int | None]], *,
                           lead: Any = None) -> None:
         """Replace a clip's gold reference captions; items are texts or ``(text, source caption id)``."""
         self.ctx.write(lambda s: self._set_gold_captions(s, clip, captions, lead))
@@ -111,7 +119,7 @@ class Gold(Service):
     def gold_labels(self) -> dict[int, str]:
         return self.ctx.read(lambda s: {g.clip_id: g.label.name for g in s.scalars(select(GoldLabel))})
 
-    def gold_segments(self, clip: Any = None) -> list[tuple[int, str, int, int]]:
+    def gold_segments(self, clip: ClipRef | None = None) -> list[tuple[int, str, int, int]]:
         def q(s: Session):
             stmt = select(GoldSegment).order_by(GoldSegment.clip_id, GoldSegment.start_frame)
             if clip is not None:
@@ -119,7 +127,7 @@ class Gold(Service):
             return [(g.clip_id, g.label.name, g.start_frame, g.end_frame) for g in s.scalars(stmt)]
         return self.ctx.read(q)
 
-    def gold_captions(self, clip: Any = None) -> dict[int, list[str]]:
+    def gold_captions(self, clip: ClipRef | None = None) -> dict[int, list[str]]:
         def q(s: Session):
             stmt = select(GoldCaption).order_by(GoldCaption.clip_id, GoldCaption.position)
             if clip is not None:
@@ -130,7 +138,7 @@ class Gold(Service):
             return out
         return self.ctx.read(q)
 
-    def add_comment(self, clip: Any, text: str, *, annotator: Any = None, lead: Any = None) -> int:
+    def add_comment(self, clip: ClipRef, text: str, *, annotator: Any = None, lead: Any = None) -> int:
         """Leave a lead's comment on a clip, optionally addressed to one annotator. Only a
         comment addressed to an annotator reaches them (on that clip, in their clip panel);
         one addressed to no one stays among the leads. See :meth:`comment_to_annotators`."""
@@ -140,7 +148,7 @@ class Gold(Service):
             return self._add_comment(s, c.id, who, to, text)
         return self.ctx.write(work)
 
-    def comment_to_annotators(self, clip: Any, text: str, *, annotators: Any = None,
+    def comment_to_annotators(self, clip: ClipRef, text: str, *, annotators: Any = None,
                               lead: Any = None) -> list[int]:
         """The same comment to several annotators of ``clip``, one addressed copy each, in one
         transaction. ``annotators`` defaults to everyone (leads excepted) who labelled,
@@ -168,7 +176,7 @@ class Gold(Service):
         self.ctx.log(s, "add", "comment", row.id, clip_id, None, row_dict(row), who=who)
         return row.id
 
-    def comments(self, clip: Any = None) -> list[tuple[int, str | None, str, str]]:
+    def comments(self, clip: ClipRef | None = None) -> list[tuple[int, str | None, str, str]]:
         """``(clip id, addressee or None, lead, text)``."""
         def q(s: Session):
             stmt = select(ReviewComment).order_by(ReviewComment.id)

@@ -10,10 +10,18 @@ from sqlalchemy.orm import Session
 
 from ..errors import StaleWriteError
 from ..store.models import (
-    Annotator, Assignment, Caption, ClipLabel, Edit, GoldCaption, GoldLabel, GoldSegment, Segment,
+    Annotator,
+    Assignment,
+    Caption,
+    ClipLabel,
+    Edit,
+    GoldCaption,
+    GoldLabel,
+    GoldSegment,
+    Segment,
 )
+from ..types import ClipRef, EditInfo  # noqa: F401 (re-exported)
 from .context import Service, require, row_dict
-from ..types import EditInfo  # noqa: F401 (re-exported)
 
 ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
             "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
@@ -25,7 +33,7 @@ _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own wo
 
 
 class History(Service):
-    def history(self, *, clip: Any = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
+    def history(self, *, clip: ClipRef | None = None, annotator: Any = None, limit: int | None = None) -> list[EditInfo]:
         """The edit history, oldest first (the audit trail)."""
         def q(s: Session) -> list[EditInfo]:
             stmt = select(Edit, Annotator.name).join(Annotator, Annotator.id == Edit.annotator_id, isouter=True)
@@ -54,7 +62,7 @@ class History(Service):
             return out
         return self.ctx.write(work)
 
-    def undo_trail(self, clip: Any, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
+    def undo_trail(self, clip: ClipRef, annotator: Any, *, limit: int = 200) -> list[tuple[str, list[int]]]:
         """The steps ``annotator`` can still undo on ``clip``, oldest first, rebuilt from the
         edit history: ``(what, edit ids)`` per user action (the rows of one transaction). Undo
         rows take the steps they reverted off the trail, a redo puts them back; an undo of

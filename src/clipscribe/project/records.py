@@ -13,14 +13,20 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from .. import media
-from ..export import csvsafe, jsonl
-from .catalog import probe_media
 from ..errors import RecordError
+from ..export import csvsafe, jsonl
 from ..schema.records import (
-    RECORD_TYPES, CaptionRecord, ClipRecord, CommentRecord, GoldRecord, LabelRecord, SegmentRecord,
+    RECORD_TYPES,
+    CaptionRecord,
+    ClipRecord,
+    CommentRecord,
+    GoldRecord,
+    LabelRecord,
+    SegmentRecord,
     parse_record,
 )
 from ..store.models import Annotator, Caption, Clip, ReviewComment, Segment
+from .catalog import probe_media
 from .context import Service
 
 MAX_LISTED = 20

@@ -1,5 +1,5 @@
 """The lead's review desk, as façade queries: the disputed-clip queue, one clip's comparison,
-annotator throughput and the agreement trend. Writes go through :class:`GoldMixin`."""
+annotator throughput and the agreement trend. Writes go through the gold service (:mod:`.gold`)."""
 
 from __future__ import annotations
 
@@ -14,8 +14,15 @@ from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
 from ..store.models import Annotator, Assignment, GoldCaption
+from ..types import (  # noqa: F401 (re-exported)
+    ClipComparison,
+    ClipRef,
+    DisputedClip,
+    GoldCaptionInfo,
+    Throughput,
+    TrendPoint,
+)
 from .annotate import CaptionInfo, SegmentInfo
-from ..types import ClipComparison, DisputedClip, GoldCaptionInfo, Throughput, TrendPoint  # noqa: F401 (re-exported)
 
 #: a pause between two edits longer than this is not counted as working time (our choice)
 IDLE_SECONDS = 300.0
@@ -25,15 +32,6 @@ WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
 
 from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with every public error)
 from .context import Service
-
-
-
-
-
-
-
-
-
 
 MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
 
@@ -63,7 +61,7 @@ class Review(Service):
     def _workers(self) -> set[str]:
         return {a.name for a in self.peers.catalog.annotators() if a.role != "lead"}
 
-    def skips(self, clip: Any = None) -> list[tuple[int, str, str]]:
+    def skips(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
         name. A skip is not a label: agreement and exports leave the skipper's label out."""
         def q(s: Session) -> list[tuple[int, str, str]]:
@@ -136,7 +134,7 @@ class Review(Service):
         return rows[0].clip if rows else None
 
     # ---- one clip -----------------------------------------------------------------------
-    def clip_comparison(self, clip: Any, *, report: Any = None) -> ClipComparison:
+    def clip_comparison(self, clip: ClipRef, *, report: Any = None) -> ClipComparison:
         """Every annotator's label, segments and captions of ``clip`` beside the gold, and who
         skipped it with their reason (a skipper's left-over label is not among ``labels``).
         Leads only."""
@@ -166,7 +164,7 @@ class Review(Service):
             [(lab, s, e) for _, lab, s, e in self.peers.gold.gold_segments(info.id)],
             self.gold_caption_rows(info.id), self.peers.gold.comments(info.id), scores, skipped)
 
-    def gold_caption_rows(self, clip: Any) -> list[GoldCaptionInfo]:
+    def gold_caption_rows(self, clip: ClipRef) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""
         def q(s: Session) -> list[GoldCaptionInfo]:
             cid = self.ctx.clip(s, clip).id

@@ -18,9 +18,18 @@ from sqlalchemy.orm import Session
 
 from ..errors import NotALeadError, PermissionRefused, RecordError
 from ..store import team
-from ..store.models import ROLES, Annotator, Assignment, Caption, Clip, Edit, Setting, utcnow
-from .context import Service, require, row_dict
+from ..store.models import (
+    ROLES,
+    Annotator,
+    Assignment,
+    Caption,
+    Clip,
+    Edit,
+    Setting,
+    utcnow,
+)
 from ..types import AssignmentPlan  # noqa: F401 (re-exported)
+from .context import Service, require, row_dict
 
 DEFAULT_LEASE_S = 2 * 3600.0
 

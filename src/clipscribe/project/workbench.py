@@ -9,9 +9,17 @@ from typing import Any
 from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
-from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Label, ReviewComment
+from ..store.models import (
+    Annotator,
+    Assignment,
+    Caption,
+    Clip,
+    ClipLabel,
+    Label,
+    ReviewComment,
+)
+from ..types import ClipRef, CommentNote, OthersWork, QueueRow  # noqa: F401 (re-exported)
 from .catalog import ClipInfo, clip_info
-from ..types import CommentNote, OthersWork, QueueRow  # noqa: F401 (re-exported)
 from .context import Service
 
 #: per-person states that count as finished work
@@ -101,7 +109,7 @@ class Workbench(Service):
             return [QueueRow(ClipInfo(*r[:-2]), r[-2] or "open", r[-1]) for r in s.execute(stmt)]
         return self.ctx.read(q)
 
-    def queue_row(self, clip: Any, annotator: Any = None, **filters: Any) -> QueueRow | None:
+    def queue_row(self, clip: ClipRef, annotator: Any = None, **filters: Any) -> QueueRow | None:
         """The :meth:`queue_rows` row of one clip, or None when the filters leave it out."""
         def q(s: Session) -> QueueRow | None:
             c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
@@ -119,7 +127,7 @@ class Workbench(Service):
             return s.scalar(select(func.count()).select_from(sub.subquery())) or 0
         return self.ctx.read(q)
 
-    def queue_index(self, clip: Any, annotator: Any = None, **filters: Any) -> int | None:
+    def queue_index(self, clip: ClipRef, annotator: Any = None, **filters: Any) -> int | None:
         """Row number of ``clip`` in :meth:`queue_rows` with the same filters, or None."""
         def q(s: Session) -> int | None:
             c, me = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
@@ -145,7 +153,7 @@ class Workbench(Service):
             return found
         return self.ctx.read(q)
 
-    def my_clip_label(self, clip: Any, annotator: Any = None) -> str | None:
+    def my_clip_label(self, clip: ClipRef, annotator: Any = None) -> str | None:
         """``annotator``'s own label of ``clip`` (default: the current user), or None."""
         def q(s: Session) -> str | None:
             c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
@@ -153,7 +161,7 @@ class Workbench(Service):
                             .where(ClipLabel.clip_id == c.id, ClipLabel.annotator_id == a.id))
         return self.ctx.read(q)
 
-    def caption_versions(self, clip: Any, annotator: Any = None) -> dict[int, int]:
+    def caption_versions(self, clip: ClipRef, annotator: Any = None) -> dict[int, int]:
         """``{caption id: version}`` of ``annotator``'s captions of ``clip`` (default: the current
         user): the versions a later ``update_caption(..., expected_version=...)`` checks against."""
         def q(s: Session) -> dict[int, int]:
@@ -162,7 +170,7 @@ class Workbench(Service):
                 Caption.clip_id == c.id, Caption.annotator_id == a.id)).all())
         return self.ctx.read(q)
 
-    def others_work(self, clip: Any, annotator: Any = None) -> OthersWork:
+    def others_work(self, clip: ClipRef, annotator: Any = None) -> OthersWork:
         """Everyone else's clip label, captions and segments of ``clip`` (others than
         ``annotator``, default the current user). Blind mode on (:meth:`blind_mode`) gives an
         empty :class:`OthersWork` without reading any of it."""
@@ -189,7 +197,7 @@ class Workbench(Service):
             stmt = stmt.where(ReviewComment.clip_id == clip_id)
         return s.execute(stmt).all()
 
-    def my_comments(self, clip: Any, annotator: Any = None) -> list[CommentNote]:
+    def my_comments(self, clip: ClipRef, annotator: Any = None) -> list[CommentNote]:
         """Lead comments addressed to ``annotator`` (default: the current user) on ``clip``,
         oldest first, each marked unread until :meth:`mark_comments_read`. Comments addressed
         to others, or to no one, are never among them."""
@@ -212,7 +220,7 @@ class Workbench(Service):
             return out
         return self.ctx.read(q)
 
-    def mark_comments_read(self, clip: Any, annotator: Any = None) -> int:
+    def mark_comments_read(self, clip: ClipRef, annotator: Any = None) -> int:
         """Mark every comment addressed to ``annotator`` (default: the current user) on ``clip``
         as read; returns how many were unread. The read state lives on the person's own
         assignment of the clip (made when missing, as opening work on a clip does); not an edit

@@ -18,13 +18,20 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any, Protocol, TypeVar
 
-from sqlalchemy import Engine, text
+from sqlalchemy import Engine, event, text
 from sqlalchemy.exc import DataError, DBAPIError, OperationalError
-from sqlalchemy.orm import Session
+from sqlalchemy.orm import Session, object_session
 from sqlalchemy.orm.exc import StaleDataError
 
-from ..errors import DatabaseFault, PermissionRefused, RecordError, ServerBusyError, StaleWriteError
+from ..errors import (
+    DatabaseFault,
+    PermissionRefused,
+    RecordError,
+    ServerBusyError,
+    StaleWriteError,
+)
 from . import db, sqlite_check
+from .models import Caption
 
 T = TypeVar("T")
 
@@ -36,6 +43,9 @@ SEEN_KEY = "seen_caption_versions"
 EDIT_AT_KEY = "edit_at"
 SEEN_LIMIT = 200_000  # caption versions remembered per open project
 
+#: the clock of the innermost ``simulated_clock()`` block of this thread, if any
+_CLOCK: contextvars.ContextVar[Callable[[], Any] | None] = contextvars.ContextVar(
+    "clipscribe_clock", default=None)
 #: the edit-id list of the innermost ``recording()`` block of this thread, if any
 _RECORDING: contextvars.ContextVar[list[int] | None] = contextvars.ContextVar(
     "clipscribe_recording", default=None)
@@ -281,5 +291,48 @@ def session_edits(s: Session) -> list[int]:
 
 def edit_time(s: Session, now: Callable[[], Any]) -> Any:
     """The one time every edit row of ``s``'s transaction carries (so one user action that
-    writes several rows is found again as one undo step)."""
-    return s.info.setdefault(EDIT_AT_KEY, now())
+    writes several rows is found again as one undo step): ``now()``, or the simulated
+    clock's reading inside :func:`simulated_clock`."""
+    if EDIT_AT_KEY not in s.info:
+        clock = _CLOCK.get()
+        s.info[EDIT_AT_KEY] = clock() if clock is not None else now()
+    return s.info[EDIT_AT_KEY]
+
+
+@contextlib.contextmanager
+def simulated_clock(clock: Callable[[], Any]) -> Iterator[None]:
+    """Inside the block, each write's edit rows carry ``clock()`` (read once per write) as
+    their time instead of the wall clock: for generated sample projects and tests that need
+    a history spread over days. The history stays append-only; nothing is rewritten."""
+    token = _CLOCK.set(clock)
+    try:
+        yield
+    finally:
+        _CLOCK.reset(token)
+
+
+# Every caption row a project's session loads or writes: its version is remembered in the
+# unit of work's ``seen_caption_versions`` (the session carries that dict in ``info``).
+@event.listens_for(Caption, "load")
+@event.listens_for(Caption, "refresh")
+def _caption_read(target: Caption, context: Any, *_attrs: Any) -> None:
+    seen = context.session.info.get(SEEN_KEY) if context.session is not None else None
+    if seen is not None and target.version is not None:
+        seen[target.id] = target.version
+
+
+@event.listens_for(Caption, "after_insert")
+@event.listens_for(Caption, "after_update")
+def _caption_written(_mapper: Any, _conn: Any, target: Caption) -> None:
+    s = object_session(target)
+    seen = s.info.get(SEEN_KEY) if s is not None else None
+    if seen is not None and target.version is not None:
+        seen[target.id] = target.version
+
+
+@event.listens_for(Caption, "after_delete")
+def _caption_deleted(_mapper: Any, _conn: Any, target: Caption) -> None:
+    s = object_session(target)
+    seen = s.info.get(SEEN_KEY) if s is not None else None
+    if seen is not None:  # deleted by this project itself: nothing stale to report later
+        seen.pop(target.id, None)
