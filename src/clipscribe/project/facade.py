@@ -44,6 +44,7 @@ from ..types import (
     Throughput,
     TrendPoint,
 )
+from . import opening
 from .analysis import AgreementReport
 from .catalog import LabelSpec, Progress
 from .context import Context
@@ -184,15 +185,15 @@ class Project:
             raise ProjectError(f"{root}: exists and is not a folder")
         try:
             cfg = ProjectSettings(name=name or root.resolve().name or "project",
-                                  database_url=_without_password(database_url), **settings)
+                                  database_url=opening.without_password(database_url), **settings)
         except ValidationError as exc:
-            raise RecordError(f"project settings: {_first_error(exc)}") from None
+            raise RecordError(f"project settings: {opening.first_error(exc)}") from None
         root.mkdir(parents=True, exist_ok=True)
-        _check_media_root(root, cfg)
+        opening.check_media_root(root, cfg)
         media = cfg.media_root
         (root / media if not Path(media).is_absolute() else Path(media)).mkdir(
             parents=True, exist_ok=True)
-        _write_settings(root, cfg)
+        opening.write_settings(root, cfg)
         try:
             project = cls._connect(root, cfg, user=user, password=None, url=database_url)
         except Exception:
@@ -214,12 +215,12 @@ class Project:
         try:
             cfg = ProjectSettings.model_validate_json(path.read_text(encoding="utf-8"))
         except ValidationError as exc:
-            raise ProjectError(f"{path}: {_first_error(exc)}") from None
+            raise ProjectError(f"{path}: {opening.first_error(exc)}") from None
         except UnicodeDecodeError as exc:
             raise ProjectError(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
         except OSError as exc:
             raise ProjectError(f"{path}: cannot read the settings ({exc.strerror or exc})") from None
-        _check_media_root(root, cfg)
+        opening.check_media_root(root, cfg)
         local_db = cfg.database_url is None
         if local_db:  # only create makes a database: a missing or empty file is an error
             check_sqlite_file(root / DB_FILE)
@@ -232,7 +233,7 @@ class Project:
     def _connect(cls, root: Path, cfg: ProjectSettings, *, user: str | None,
                  password: str | None, url: str | None = None) -> "Project":
         if url is None:  # a given url (create: the admin's, maybe with password) is used as is
-            url = _with_login(cfg.database_url or db.sqlite_url(root.resolve() / DB_FILE),
+            url = opening.with_login(cfg.database_url or db.sqlite_url(root.resolve() / DB_FILE),
                               user, password)
         engine = db.make_engine(url)
         try:
@@ -245,8 +246,8 @@ class Project:
             if cfg.database_url is None and not isinstance(exc, OperationalError):
                 raise sqlite_check.damaged(root / DB_FILE, str(exc.orig or exc)) from None
             if not url.startswith("sqlite"):  # a server: its own line, naming server and login
-                message = f"{root}: cannot open the project database: {_one_line(exc, url)}"
-                if _wants_password(exc):
+                message = f"{root}: cannot open the project database: {opening.one_line(exc, url)}"
+                if opening.wants_password(exc):
                     from sqlalchemy.engine import make_url
 
                     from ..store.urls import host_of
@@ -261,13 +262,13 @@ class Project:
                 # the file as it is (every write is then refused as read-only)
                 return cls._connect(root, cfg, user=user, password=password,
                                     url=sqlite_check.read_only_url(root.resolve() / DB_FILE))
-            if "i/o error" in reason.lower() and _disk_full(root):
+            if "i/o error" in reason.lower() and opening.disk_full(root):
                 reason = f"the disk holding it is full ({reason})"
             raise ProjectError(f"{root}: cannot open the project database: {reason}") from None
         except Exception as exc:
             engine.dispose()
             raise ProjectError(f"{root}: cannot open the project database: "
-                               f"{_one_line(exc, url)}") from exc
+                               f"{opening.one_line(exc, url)}") from exc
         project = cls(root, cfg, engine)
         project.user = user or project._default_user()
         return project
@@ -311,8 +312,8 @@ class Project:
         try:
             cfg = ProjectSettings.model_validate({**self.settings.model_dump(), **changes})
         except ValidationError as exc:
-            raise RecordError(f"project settings: {_first_error(exc)}") from None
-        tmp = _prepare_settings(self.folder, cfg)
+            raise RecordError(f"project settings: {opening.first_error(exc)}") from None
+        tmp = opening.prepare_settings(self.folder, cfg)
         try:
             if together_with is not None:
                 together_with()
@@ -825,94 +826,3 @@ class Project:
         """Only leads export. On a server the database decides (``clipscribe_is_lead()``)."""
         return self._team.require_export_right()
 
-
-def _prepare_settings(folder: Path, cfg: ProjectSettings) -> Path:
-    """The settings written in full to a temporary file beside the real one (flushed to disk);
-    ProjectError naming the file when that fails (nothing is left behind)."""
-    tmp = folder / (SETTINGS_FILE + ".tmp")
-    try:
-        with open(tmp, "w", encoding="utf-8") as f:
-            f.write(cfg.model_dump_json(indent=2) + "\n")
-            f.flush()
-            os.fsync(f.fileno())
-    except OSError as exc:
-        tmp.unlink(missing_ok=True)
-        raise ProjectError(f"{folder / SETTINGS_FILE}: cannot write the settings "
-                           f"({exc.strerror or exc}); nothing was changed") from None
-    return tmp
-
-
-def _write_settings(folder: Path, cfg: ProjectSettings) -> None:
-    """Write the settings file atomically (a temporary file renamed into place)."""
-    os.replace(_prepare_settings(folder, cfg), folder / SETTINGS_FILE)
-
-
-def _check_media_root(root: Path, cfg: ProjectSettings) -> None:
-    """ProjectError when an absolute (shared-storage) media root holds the project folder
-    itself: scanning it would walk the project and everything beside it."""
-    media = Path(cfg.media_root)
-    if not media.is_absolute():
-        return
-    real_media, real_root = Path(os.path.realpath(media)), Path(os.path.realpath(root))
-    if real_media == real_root or real_media in real_root.parents:
-        raise ProjectError(f"{root / SETTINGS_FILE}: media_root {cfg.media_root!r} contains the "
-                           "project folder; point it at the shared-storage folder that holds "
-                           "the videos")
-
-
-def _disk_full(folder: Path) -> bool:
-    import shutil
-    try:
-        return shutil.disk_usage(folder).free < 256 * 1024
-    except OSError:
-        return False
-
-
-def _with_login(url: str, user: str | None, password: str | None) -> str:
-    """Put a login into a PostgreSQL URL (team mode); SQLite URLs are returned unchanged."""
-    if not url.startswith("postgresql") or not user:
-        return url
-    from sqlalchemy.engine import make_url
-    u = make_url(url).set(username=user.lower(), password=password)
-    return u.render_as_string(hide_password=False)
-
-
-def _without_password(url: str | None) -> str | None:
-    """The URL to keep in the settings file: never a password, in user-info or query
-    (libpq's ~/.pgpass has it)."""
-    from ..store.urls import without_secrets
-    return without_secrets(url)
-
-
-def _one_line(exc: Exception, url: str) -> str:
-    """The driver's own first line (not SQLAlchemy's wrapping with SQL and links), naming the
-    server and login for a server URL; never a password."""
-    from sqlalchemy.exc import DBAPIError
-
-    from ..store.urls import host_of
-    inner = exc.orig if isinstance(exc, DBAPIError) and exc.orig is not None else exc
-    lines = [ln.strip() for ln in str(inner).strip().splitlines() if ln.strip()]
-    # libpq puts the reason after "connection to server at ... failed:" on the same line
-    first = next((ln for ln in lines if "password" in ln.lower()), lines[0] if lines else repr(inner))
-    if "authentication method requirement" in first:
-        first += ("; no password was sent (clipscribe logs in only by SCRAM; is this the team's "
-                  "server? see the threat model in docs/team-server.md)")
-    where = host_of(url)
-    if where is None:
-        return first
-    from sqlalchemy.engine import make_url
-    return f"server {where}, login {make_url(url).username!r}: {first}"
-
-
-def _wants_password(exc: Exception) -> bool:
-    """Whether the server refused the login for want of a (right) password: libpq says "no
-    password supplied" or "password authentication failed". A server asking for a weaker method
-    than SCRAM is not asking for a password: none is ever sent to it."""
-    text = str(exc.orig if isinstance(exc, DatabaseError) and exc.orig is not None else exc).lower()
-    return "password" in text and "authentication method requirement" not in text
-
-
-def _first_error(exc: ValidationError) -> str:
-    err = exc.errors()[0]
-    where = ".".join(str(p) for p in err.get("loc", ())) or "value"
-    return f"{where}: {err.get('msg')}"

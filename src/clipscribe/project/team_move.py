@@ -63,7 +63,7 @@ def move_to_server(project_cls: Any, folder: Any, url: str, *, lead: str | None 
     ``lead`` names the person whose database login is the admin's (default: the first lead).
     Raises ProjectError when the target is not empty or a check fails (nothing is kept then).
     """
-    from .facade import _without_password
+    from .opening import without_password
     src = project_cls.open(folder)
     try:
         if src.is_server:
@@ -73,7 +73,7 @@ def move_to_server(project_cls: Any, folder: Any, url: str, *, lead: str | None 
             report = _copy(src, target, url, lead)
         finally:
             target.dispose()
-        src.update_settings(database_url=_without_password(url))
+        src.update_settings(database_url=without_password(url))
         return report
     finally:
         src.close()
