@@ -41,6 +41,9 @@ class AssignmentState(str, enum.Enum):
     EXPIRED = "expired"
 
 
+#: a pause between two edits longer than this is not counted as working time (our choice)
+IDLE_SECONDS = 300.0
+
 #: the group key of a clip is the folder it lies in, relative to the media root (clips directly
 #: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
 BY_FOLDER = r"^(?P<group>.+)/[^/]+$"

@@ -10,7 +10,8 @@ import pytest
 
 from clipscribe import Project
 from clipscribe.cli import main
-from clipscribe.project.catalog import BY_FOLDER, DuplicateMediaWarning
+from clipscribe.errors import DuplicateMediaWarning
+from clipscribe.types import BY_FOLDER
 from clipscribe.ui.setup import GROUPINGS, ProjectSetup
 
 

@@ -11,7 +11,7 @@ from alembic.runtime.migration import MigrationContext
 
 from clipscribe import Project
 from clipscribe.errors import RecordError
-from clipscribe.project.team import TeamPermissionError
+from clipscribe.errors import PermissionRefused as TeamPermissionError
 from clipscribe.schema.settings import SETTINGS_FILE
 from clipscribe.store.models import Base
 

@@ -15,7 +15,7 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from .. import media
-from ..errors import RecordError
+from ..errors import DuplicateMediaWarning, RecordError
 from ..export.csvsafe import read_cell
 from ..media._common import shown
 from ..media.copy_in import copy_target, copy_videos
@@ -61,10 +61,6 @@ Progress = Callable[[int, int], None]
 
 
 
-
-
-class DuplicateMediaWarning(UserWarning):
-    """A clip was added whose file has the same SHA-256 as a clip already in the project."""
 
 
 

@@ -25,6 +25,7 @@ from ..store import db, sqlite_check
 from ..store.models import Annotator
 from ..store.unit_of_work import UnitOfWork, simulated_clock
 from ..types import (
+    IDLE_SECONDS,
     AnnotatorInfo,
     AssignmentPlan,
     CaptionInfo,
@@ -48,7 +49,6 @@ from . import opening
 from .analysis import AgreementReport
 from .catalog import LabelSpec, Progress
 from .context import Context
-from .review import IDLE_SECONDS
 from .services import Peers
 
 if TYPE_CHECKING:

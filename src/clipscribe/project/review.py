@@ -15,6 +15,7 @@ from ..agreement._recipe import Recipe
 from ..errors import RecordError
 from ..store.models import Annotator, Assignment, GoldCaption
 from ..types import (  # noqa: F401 (re-exported)
+    IDLE_SECONDS,
     ClipComparison,
     ClipRef,
     DisputedClip,
@@ -24,8 +25,6 @@ from ..types import (  # noqa: F401 (re-exported)
 )
 from .annotate import CaptionInfo, SegmentInfo
 
-#: a pause between two edits longer than this is not counted as working time (our choice)
-IDLE_SECONDS = 300.0
 #: entities whose history rows count as annotation work
 WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
 
