@@ -110,7 +110,7 @@ def cmd_add_media(args: argparse.Namespace) -> int:
 
 def cmd_import(args: argparse.Namespace) -> int:
     with _open(args) as p:
-        counts = p.import_records(args.file)
+        counts = p.import_records(args.file, progress=Bar("importing (check, then write)"))
         dups = counts.pop("duplicate", 0)
         print("imported " + ", ".join(f"{n} {k}" for k, n in counts.items() if n) if any(counts.values())
               else "nothing new to import")

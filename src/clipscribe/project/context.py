@@ -3,6 +3,7 @@ person acting, and the resolution of references (a clip by id or path, a person 
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from collections.abc import Callable
 from pathlib import Path, PurePosixPath
@@ -174,17 +175,17 @@ def _no_settings_writer(**_changes: Any) -> ProjectSettings:
 
 def row_dict(obj: Any) -> dict[str, Any]:
     """Column values of an ORM row as JSON-safe data (for the edit history)."""
-    import datetime as dt
-    out: dict[str, Any] = {}
-    for attr in inspect(obj).mapper.column_attrs:
-        v = getattr(obj, attr.key)
-        if isinstance(v, dt.datetime):
-            # times are stored in UTC; SQLite hands them back without a zone, PostgreSQL with
-            # its own zone object: write one form so history rows compare equal
-            v = (v.replace(tzinfo=dt.timezone.utc) if v.tzinfo is None
-                 else v.astimezone(dt.timezone.utc)).isoformat()
-        out[attr.key] = v
-    return out
+    return {attr.key: json_value(getattr(obj, attr.key)) for attr in inspect(obj).mapper.column_attrs}
+
+
+def json_value(v: Any) -> Any:
+    """One column value as the edit history keeps it."""
+    if isinstance(v, dt.datetime):
+        # times are stored in UTC; SQLite hands them back without a zone, PostgreSQL with
+        # its own zone object: write one form so history rows compare equal
+        return (v.replace(tzinfo=dt.timezone.utc) if v.tzinfo is None
+                else v.astimezone(dt.timezone.utc)).isoformat()
+    return v
 
 
 def require(cond: bool, message: str) -> None:

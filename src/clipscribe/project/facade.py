@@ -621,19 +621,24 @@ class Project:
         return self._history.undo_trail(clip, annotator, limit=limit)
 
     # ---- records (Records) --------------------------------------------------------
-    def import_records(self, path: str | os.PathLike) -> dict[str, int]:
+    def import_records(self, path: str | os.PathLike, *, progress: Progress | None = None,
+                       cancel: threading.Event | None = None) -> dict[str, int]:
         """Import a JSON Lines file, all or nothing. Returns counts per record type.
 
         Every line is validated first; then clips are probed; then everything is written in one
-        transaction. Any problem raises RecordError naming file, line, field and reason, and
-        nothing is written. Captions and segments identical to ones already present are not
-        added twice, so importing a file again changes nothing.
+        transaction (labels and captions in bulk). Any problem raises RecordError naming file,
+        line, field and reason, and nothing is written. Captions and segments identical to ones
+        already present are not added twice, so importing a file again changes nothing.
+        ``progress(done, total)`` counts every record twice, once checked and once written;
+        setting ``cancel`` stops the import (JobCancelled) with nothing written.
         """
-        return self._records.import_records(path)
+        return self._records.import_records(path, progress=progress, cancel=cancel)
 
-    def import_labels_csv(self, path: str | os.PathLike) -> dict[str, int]:
-        """Import clip labels from CSV with the columns ``clip,annotator,label`` (all or nothing)."""
-        return self._records.import_labels_csv(path)
+    def import_labels_csv(self, path: str | os.PathLike, *, progress: Progress | None = None,
+                          cancel: threading.Event | None = None) -> dict[str, int]:
+        """Import clip labels from CSV with the columns ``clip,annotator,label`` (all or nothing;
+        ``progress`` and ``cancel`` as for :meth:`import_records`)."""
+        return self._records.import_labels_csv(path, progress=progress, cancel=cancel)
 
     def iter_records(self):
         """Every clip, label, segment, caption, gold decision and lead comment as interchange

@@ -5,6 +5,8 @@ from __future__ import annotations
 import csv
 import json
 import os
+import threading
+from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import Any
 
@@ -25,30 +27,36 @@ from ..schema.records import (
     SegmentRecord,
     parse_record,
 )
-from ..store.models import Annotator, Caption, Clip, ReviewComment, Segment
-from .catalog import probe_media
+from ..store.models import Annotator, Clip, ReviewComment, Segment
+from .bulk import TICK_EVERY, BulkImport, Lookup
+from .catalog import Progress, probe_media
 from .context import Service
 
 MAX_LISTED = 20
 
 
 class Records(Service):
-    def import_records(self, path: str | os.PathLike) -> dict[str, int]:
+    def import_records(self, path: str | os.PathLike, *, progress: Progress | None = None,
+                       cancel: threading.Event | None = None) -> dict[str, int]:
         """Import a JSON Lines file, all or nothing. Returns counts per record type.
 
         Every line is validated first; then clips are probed; then everything is written in one
-        transaction. Any problem raises RecordError naming file, line, field and reason, and
-        nothing is written. Captions and segments identical to ones already present are not
-        added twice, so importing a file again changes nothing.
+        transaction (labels and captions in bulk). Any problem raises RecordError naming file,
+        line, field and reason, and nothing is written. Captions and segments identical to ones
+        already present are not added twice, so importing a file again changes nothing.
+        ``progress(done, total)`` counts every record twice, once checked and once written;
+        setting ``cancel`` stops the import (JobCancelled) with nothing written.
         """
         src = Path(path)
         if src.suffix.lower() == ".csv":
-            return self.import_labels_csv(src)
-        records = _parse_jsonl(src)
+            return self.import_labels_csv(src, progress=progress, cancel=cancel)
+        steps = _Steps(progress, cancel)
+        records = _parse_jsonl(src, steps)
         probed: dict[int, tuple[str, str, media.ProbeInfo]] = {}
         errors: list[str] = []
         for line, rec in records:
             if isinstance(rec, ClipRecord):
+                steps.stop_if_cancelled()
                 try:
                     rel = _safe_relative(rec.clip)
                     rel = self.ctx.relative_media_path(self.ctx.media_root / rel)
@@ -57,79 +65,65 @@ class Records(Service):
                 except (RecordError, media.MediaError, OSError) as exc:
                     errors.append(f"{src}:{line}: field 'clip': {exc}")
         _raise_if(errors, src)
+        steps.stop_if_cancelled()  # the last moment before the write lock is taken
 
         def work(s: Session) -> dict[str, int]:
+            steps.stop_if_cancelled()
             counts = {"clip": 0, "label": 0, "segment": 0, "caption": 0, "gold": 0, "duplicate": 0}
+            lookup = Lookup(self.ctx, s)
+            bulk = BulkImport(self.ctx, s, lookup, wrap=lambda line, exc: _in_file(src, line, exc),
+                              clash=_clash(src))
             seen: set[str] = set()
-            labelled: dict[tuple[int, int], tuple[int, str]] = {}  # (clip, annotator) -> (line, label)
-            for line, rec in records:
+            run: list[tuple[int, Any]] = []  # label and caption records, written together
+            run_start = 0
+
+            def write_run(upto: int) -> None:
+                for kind, n in bulk.run(run, lambda j: steps.written(run_start + j)).items():
+                    counts[kind] += n
+                run.clear()
+                steps.written(upto)
+            for i, (line, rec) in enumerate(records):
                 key = rec.model_dump_json()
                 if key in seen:  # the same record twice in one file is applied once
                     counts["duplicate"] += 1
-                    continue
-                seen.add(key)
-                try:
-                    if isinstance(rec, LabelRecord) and self._label_seen(s, rec, line, labelled, src):
-                        counts["duplicate"] += 1
-                        continue
-                    # "comment" counts appear only when the file holds comments
-                    counts[rec.type] = counts.get(rec.type, 0) + self._apply_record(s, rec, probed.get(line))
-                except RecordError as exc:
-                    if str(exc).startswith(f"{src}:"):
-                        raise
-                    field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
-                    raise RecordError(f"{src}:{line}: field '{field}': {exc}") from None
+                elif isinstance(rec, (LabelRecord, CaptionRecord)):
+                    seen.add(key)
+                    if not run:
+                        run_start = i
+                    run.append((line, rec))
+                else:
+                    seen.add(key)
+                    write_run(i)
+                    steps.stop_if_cancelled()
+                    try:
+                        # "comment" counts appear only when the file holds comments
+                        counts[rec.type] = counts.get(rec.type, 0) + self._apply_record(
+                            s, rec, probed.get(line), lookup)
+                    except RecordError as exc:
+                        raise _in_file(src, line, exc) from None
+                if not run:
+                    steps.written(i + 1)
+            write_run(len(records))
+            steps.stop_if_cancelled()
             return counts
         return self.ctx.write(work)
 
-    def _label_seen(self, s: Session, rec: LabelRecord, line: int,
-                    labelled: dict[tuple[int, int], tuple[int, str]], src: Path) -> bool:
-        """True when an earlier line of the file gave this clip and annotator the same label
-        (a duplicate); RecordError naming both lines when it gave a different one."""
-        key = (self.ctx.clip(s, rec.clip).id, self.ctx.annotator(s, rec.annotator).id)
-        self.ctx.label(s, rec.label)  # an unknown label is named as such, before any clash
-        if key not in labelled:
-            labelled[key] = (line, rec.label)
-            return False
-        first, label = labelled[key]
-        if label == rec.label:
-            return True
-        raise RecordError(f"{src}:{line}: field 'label': clip {rec.clip!r} by {rec.annotator!r} is "
-                          f"labelled {label!r} on line {first} and {rec.label!r} on line {line}; "
-                          f"keep one of them — nothing was imported")
-
-    def _apply_record(self, s: Session, rec: Any, probed: tuple | None) -> int:
+    def _apply_record(self, s: Session, rec: Any, probed: tuple | None, lookup: Lookup) -> int:
+        """Write one clip, segment, gold or comment record (labels and captions go in bulk)."""
         if isinstance(rec, ClipRecord):
+            assert probed is not None
             rel, digest, info = probed
             if s.scalar(select(Clip.id).where(Clip.path == rel)) is not None:
                 return 0
-            self.peers.catalog._insert_clip(s, rel, digest, info, rec.group, rec.source, rec.licence, rec.consent)
-            return 1
-        if isinstance(rec, LabelRecord):
-            if self._read_label(s, rec.clip, rec.annotator) == rec.label:
-                return 0  # already so: importing a file again changes nothing
-            self.peers.annotation._set_clip_label(s, rec.clip, rec.annotator, rec.label)
+            cid = self.peers.catalog._insert_clip(s, rel, digest, info, rec.group, rec.source,
+                                                  rec.licence, rec.consent)
+            lookup.add_clip(cid, rel)
             return 1
         if isinstance(rec, SegmentRecord):
             c, a = self.ctx.clip(s, rec.clip), self.ctx.annotator(s, rec.annotator)
             if self._has_segment(s, c.id, a.id, rec):
                 return 0
             self.peers.annotation._add_segment(s, c, a, rec.label, rec.start, rec.end)
-            return 1
-        if isinstance(rec, CaptionRecord):
-            c, a = self.ctx.clip(s, rec.clip), self.ctx.annotator(s, rec.annotator)
-            if s.scalar(select(Caption.id).where(Caption.clip_id == c.id, Caption.annotator_id == a.id,
-                                                 Caption.text == rec.text)) is not None:
-                return 0
-            seg_id = None
-            if rec.segment is not None:
-                seg_id = s.scalar(select(Segment.id).where(
-                    Segment.clip_id == c.id, Segment.annotator_id == a.id,
-                    Segment.start_frame == rec.segment[0], Segment.end_frame == rec.segment[1]))
-                if seg_id is None:
-                    raise RecordError(f"clip {rec.clip!r}: no segment [{rec.segment[0]}, {rec.segment[1]}) "
-                                      f"by {rec.annotator!r} to tie the caption to")
-            self.peers.annotation._add_caption(s, c, a, rec.text, seg_id, None)
             return 1
         if isinstance(rec, GoldRecord):
             if rec.label is not None:
@@ -158,25 +152,19 @@ class Records(Service):
             Segment.clip_id == clip_id, Segment.annotator_id == annotator_id,
             Segment.start_frame == rec.start, Segment.end_frame == rec.end)) is not None
 
-    def import_labels_csv(self, path: str | os.PathLike) -> dict[str, int]:
-        """Import clip labels from CSV with the columns ``clip,annotator,label`` (all or nothing)."""
+    def import_labels_csv(self, path: str | os.PathLike, *, progress: Progress | None = None,
+                          cancel: threading.Event | None = None) -> dict[str, int]:
+        """Import clip labels from CSV with the columns ``clip,annotator,label`` (all or nothing;
+        ``progress`` and ``cancel`` as for :meth:`import_records`)."""
         src = Path(path)
-        recs: list[tuple[int, LabelRecord]] = []
-        errors: list[str] = []
+        rows: list[tuple[int, dict[str, str | None]]] = []
         try:
             with open(src, newline="", encoding="utf-8-sig") as f:
                 reader = csv.DictReader(f)
                 missing = {"clip", "annotator", "label"} - set(reader.fieldnames or ())
                 if missing:
                     raise RecordError(f"{src}:1: missing column(s) {', '.join(sorted(missing))}")
-                for line, row in enumerate(reader, start=2):
-                    try:
-                        recs.append((line, LabelRecord(
-                            clip=csvsafe.read_cell(row["clip"] or ""),
-                            annotator=csvsafe.read_cell(row["annotator"] or ""),
-                            label=csvsafe.read_cell(row["label"] or ""))))
-                    except ValidationError as exc:
-                        errors.extend(_describe(src, line, exc))
+                rows = list(enumerate(reader, start=2))
         except OSError as exc:
             raise RecordError(f"{src}: {exc.strerror or exc}") from None
         except UnicodeDecodeError as exc:
@@ -184,31 +172,31 @@ class Records(Service):
                               "save it as UTF-8 — nothing was imported") from None
         except csv.Error as exc:
             raise RecordError(f"{src}: not a readable CSV file ({exc}) — nothing was imported") from None
+        steps = _Steps(progress, cancel, len(rows))
+        recs: list[tuple[int, Any]] = []
+        errors: list[str] = []
+        for i, (line, row) in enumerate(rows):
+            steps.checked(i)
+            try:
+                recs.append((line, LabelRecord(
+                    clip=csvsafe.read_cell(row["clip"] or ""),
+                    annotator=csvsafe.read_cell(row["annotator"] or ""),
+                    label=csvsafe.read_cell(row["label"] or ""))))
+            except ValidationError as exc:
+                errors.extend(_describe(src, line, exc))
         _raise_if(errors, src)
+        steps.stop_if_cancelled()  # the last moment before the write lock is taken
+
+        def wrap(line: int, exc: RecordError) -> RecordError:
+            return exc if str(exc).startswith(f"{src}:") else RecordError(f"{src}:{line}: {exc}")
 
         def work(s: Session) -> dict[str, int]:
-            counts = {"label": 0, "duplicate": 0}
-            labelled: dict[tuple[int, int], tuple[int, str]] = {}
-            for line, rec in recs:
-                try:
-                    if self._label_seen(s, rec, line, labelled, src):
-                        counts["duplicate"] += 1
-                        continue
-                    if self._read_label(s, rec.clip, rec.annotator) != rec.label:
-                        self.peers.annotation._set_clip_label(s, rec.clip, rec.annotator, rec.label)
-                        counts["label"] += 1
-                except RecordError as exc:
-                    if str(exc).startswith(f"{src}:"):
-                        raise
-                    raise RecordError(f"{src}:{line}: {exc}") from None
-            return counts
+            steps.stop_if_cancelled()
+            bulk = BulkImport(self.ctx, s, Lookup(self.ctx, s), wrap=wrap, clash=_clash(src))
+            counts = bulk.run(recs, steps.written)
+            steps.stop_if_cancelled()
+            return {"label": counts["label"], "duplicate": counts["duplicate"]}
         return self.ctx.write(work)
-
-    def _read_label(self, s: Session, clip: Any, annotator: Any) -> str | None:
-        from ..store.models import ClipLabel
-        row = s.scalar(select(ClipLabel).where(ClipLabel.clip_id == self.ctx.clip(s, clip).id,
-                                               ClipLabel.annotator_id == self.ctx.annotator(s, annotator).id))
-        return row.label.name if row is not None else None
 
     # ---- export -----------------------------------------------------------------------
     def iter_records(self) -> list[Any]:
@@ -314,7 +302,7 @@ def _safe_relative(ref: str) -> str:
     return p.as_posix()
 
 
-def _parse_jsonl(src: Path) -> list[tuple[int, Any]]:
+def _parse_jsonl(src: Path, steps: _Steps) -> list[tuple[int, Any]]:
     try:
         text = src.read_text(encoding="utf-8")
     except OSError as exc:
@@ -323,9 +311,14 @@ def _parse_jsonl(src: Path) -> list[tuple[int, Any]]:
         raise RecordError(f"{src}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
     out: list[tuple[int, Any]] = []
     errors: list[str] = []
-    for line, raw in enumerate(jsonl.split(text), start=1):
+    lines = jsonl.split(text)
+    steps.total = 2 * sum(1 for raw in lines if raw.strip())
+    done = 0
+    for line, raw in enumerate(lines, start=1):
         if not raw.strip():
             continue
+        steps.checked(done)
+        done += 1
         try:
             obj = json.loads(raw)
         except json.JSONDecodeError as exc:
@@ -346,6 +339,48 @@ def _parse_jsonl(src: Path) -> list[tuple[int, Any]]:
             errors.extend(_describe(src, line, exc))
     _raise_if(errors, src)
     return out
+
+
+class _Steps:
+    """Progress of an import over its records, each counted twice (checked, then written),
+    and its cancel signal."""
+
+    def __init__(self, progress: Progress | None, cancel: threading.Event | None,
+                 records: int = 0) -> None:
+        self.progress, self.cancel, self.total = progress, cancel, 2 * records
+
+    def checked(self, done: int) -> None:
+        if done % TICK_EVERY == 0:
+            self.stop_if_cancelled()
+            self._report(done)
+
+    def written(self, done: int) -> None:
+        self._report(self.total // 2 + done)
+
+    def _report(self, done: int) -> None:
+        if self.progress is not None:
+            self.progress(min(done, self.total), self.total)
+
+    def stop_if_cancelled(self) -> None:
+        if self.cancel is not None and self.cancel.is_set():
+            raise media.JobCancelled("import cancelled; nothing was imported")
+
+
+def _in_file(src: Path, line: int, exc: RecordError) -> RecordError:
+    """A refusal of one record as the import names it: file, line and field."""
+    if str(exc).startswith(f"{src}:"):
+        return exc
+    field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
+    return RecordError(f"{src}:{line}: field '{field}': {exc}")
+
+
+def _clash(src: Path) -> Callable[[int, int, LabelRecord, str], RecordError]:
+    """The refusal of two different labels for one clip and person in one file."""
+    def clash(line: int, first: int, rec: LabelRecord, label: str) -> RecordError:
+        return RecordError(f"{src}:{line}: field 'label': clip {rec.clip!r} by {rec.annotator!r} is "
+                           f"labelled {label!r} on line {first} and {rec.label!r} on line {line}; "
+                           f"keep one of them — nothing was imported")
+    return clash
 
 
 def _describe(src: Path, line: int, exc: ValidationError) -> list[str]:
