@@ -10,12 +10,13 @@ give record by record, with the same refusals in the same order.
 
 from __future__ import annotations
 
+import json
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import PurePosixPath
 from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import bindparam, func, insert, select, update
+from sqlalchemy import JSON, bindparam, func, insert, select, update
 from sqlalchemy import text as sql_text
 from sqlalchemy.orm import Session
 
@@ -31,6 +32,8 @@ if TYPE_CHECKING:
 
 #: ids per ``IN (...)`` list when loading the stored rows of a run's clips
 IN_CHUNK = 5000
+#: rows per INSERT on a server (one array per column)
+ARRAY_CHUNK = 20_000
 #: records planned between two progress reports
 TICK_EVERY = 1000
 
@@ -295,16 +298,26 @@ class BulkImport:
         if not changed:
             return
         t = ClipLabel.__table__
-        stmt = (update(t).where(t.c.id == bindparam("b_id"), t.c.version == bindparam("b_version"))
-                .values(label_id=bindparam("b_label"), updated_at=bindparam("b_at"),
-                        version=bindparam("b_next")))
-        params = []
-        for before, row in changed:
-            params.append({"b_id": row["id"], "b_version": row["version"], "b_label": row["label_id"],
-                           "b_at": now, "b_next": row["version"] + 1})
+        params = [{"b_id": row["id"], "b_version": row["version"], "b_label": row["label_id"],
+                   "b_at": now, "b_next": row["version"] + 1} for _before, row in changed]
+        for _before, row in changed:
             row.update(updated_at=stamp, version=row["version"] + 1)
-        done = conn.execute(stmt, params).rowcount
-        if conn.dialect.supports_sane_multi_rowcount and done != len(params):
+        if conn.dialect.name == "postgresql":  # one statement over arrays, whatever the count
+            done = conn.execute(sql_text(
+                "UPDATE clip_labels AS t SET label_id = v.label_id, updated_at = :at, "
+                "version = v.version + 1 FROM unnest(CAST(:ids AS INTEGER[]), "
+                "CAST(:versions AS INTEGER[]), CAST(:labels AS INTEGER[])) AS v(id, version, label_id) "
+                "WHERE t.id = v.id AND t.version = v.version"),
+                {"at": now, "ids": [p["b_id"] for p in params],
+                 "versions": [p["b_version"] for p in params],
+                 "labels": [p["b_label"] for p in params]}).rowcount
+        else:
+            done = conn.execute(update(t).where(t.c.id == bindparam("b_id"),
+                                                t.c.version == bindparam("b_version"))
+                                .values(label_id=bindparam("b_label"), updated_at=bindparam("b_at"),
+                                        version=bindparam("b_next")), params).rowcount
+        if done != len(params) and (conn.dialect.name == "postgresql"
+                                    or conn.dialect.supports_sane_multi_rowcount):
             raise StaleWriteError("someone else changed a clip label while it was imported; "
                                   "nothing was imported — try again")
 
@@ -320,35 +333,69 @@ class BulkImport:
             for ids in _chunks(clips):
                 fresh += conn.execute(select(Clip.id).where(Clip.id.in_(ids), Clip.state == "new")).scalars()
         if missing:
-            conn.execute(insert(Assignment.__table__), [
+            _insert(conn, Assignment, [
                 {"clip_id": c, "annotator_id": a, "state": "open", "reason": None, "assigned_at": now,
                  "expires_at": None, "updated_at": now, "version": 1, "comments_read": None}
-                for c, a in missing])
-        if self.ctx.is_server:
-            for cid in fresh:
-                conn.execute(sql_text("SELECT clipscribe_refresh_clip_state(:c)"), {"c": cid})
+                for c, a in missing], ids=False)
+        if self.ctx.is_server and fresh:  # the server's own function, once per clip
+            conn.execute(sql_text("SELECT count(clipscribe_refresh_clip_state(c)) "
+                                  "FROM unnest(CAST(:ids AS INTEGER[])) AS c"), {"ids": fresh})
         elif clips:
             t = Clip.__table__
             conn.execute(update(t).where(t.c.id == bindparam("b_id"), t.c.state == "new")
                          .values(state="in_progress"), [{"b_id": c} for c in clips])
 
 
-def _insert(conn: Any, model: Any, rows: list[dict[str, Any]]) -> list[int]:
-    """Insert ``rows`` with executemany; their new ids, in the order of ``rows``."""
+def _insert(conn: Any, model: Any, rows: list[dict[str, Any]], *, ids: bool = True) -> list[int]:
+    """Insert ``rows`` in bulk; their new ids in the order of ``rows`` (with ``ids``)."""
     if not rows:
         return []
     t = model.__table__
-    if conn.dialect.name != "sqlite":
-        result = conn.execute(insert(t).returning(t.c.id, sort_by_parameter_order=True), rows)
-        return list(result.scalars())
+    if conn.dialect.name == "postgresql":
+        return _insert_arrays(conn, t, rows, ids=ids)
+    if not ids:
+        conn.execute(insert(t), rows)
+        return []
     # SQLite: this write holds the lock and the tables never reuse an id (AUTOINCREMENT), so
     # the new rows take the ids after the largest one, in the order of ``rows``; a plain
     # executemany is many times faster than RETURNING row by row
     last = conn.scalar(select(func.max(t.c.id))) or 0
     conn.execute(insert(t), rows)
-    ids = list(conn.execute(select(t.c.id).where(t.c.id > last).order_by(t.c.id)).scalars())
-    assert len(ids) == len(rows), (model, len(ids), len(rows))
-    return ids
+    new = list(conn.execute(select(t.c.id).where(t.c.id > last).order_by(t.c.id)).scalars())
+    assert len(new) == len(rows), (t.name, len(new), len(rows))
+    return new
+
+
+def _insert_arrays(conn: Any, t: Any, rows: list[dict[str, Any]], *, ids: bool) -> list[int]:
+    """PostgreSQL: ids drawn from the table's sequence in one query, then the rows sent as
+    one array per column (``INSERT … SELECT FROM unnest(…)``), one statement per chunk. Row
+    security and triggers apply to each row as to any insert."""
+    q = conn.dialect.identifier_preparer.quote
+    new: list[int] = []
+    if ids:
+        new = sorted(conn.execute(sql_text(
+            "SELECT nextval(pg_get_serial_sequence(:t, 'id')) FROM generate_series(1, :n)"),
+            {"t": t.name, "n": len(rows)}).scalars())
+    names = [c for c in rows[0] if any(r[c] is not None for r in rows)]
+    for start in range(0, len(rows), ARRAY_CHUNK):
+        part = rows[start:start + ARRAY_CHUNK]
+        params: dict[str, Any] = {}
+        columns, arrays = [], []
+        if ids:
+            params["p_id"] = new[start:start + len(part)]
+            columns.append("id")
+            arrays.append("CAST(:p_id AS INTEGER[])")
+        for i, name in enumerate(names):
+            col = t.c[name]
+            values = [r[name] for r in part]
+            if isinstance(col.type, JSON):  # as the ORM stores it: None is JSON null
+                values = [json.dumps(v) for v in values]
+            params[f"p{i}"] = values
+            columns.append(q(name))
+            arrays.append(f"CAST(:p{i} AS {col.type.compile(conn.dialect)}[])")
+        conn.execute(sql_text(f"INSERT INTO {q(t.name)} ({', '.join(columns)}) "
+                              f"SELECT * FROM unnest({', '.join(arrays)})"), params)
+    return new
 
 
 def _chunks(ids: Iterable[int]) -> Iterator[list[int]]:
