@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import json
 import random
+import re
 import sqlite3
 import threading
 from pathlib import Path
@@ -123,18 +124,22 @@ TIMES = ("updated_at", "assigned_at", "at", "added_at", "created_at")
 
 
 def _content(p: Project) -> dict[str, list]:
-    """Every row of the tables an import writes, as stored (JSON as its text), times left out."""
+    """Every row of the tables an import writes, as stored (JSON as its text); of a time only
+    its form is kept (every digit a 0, no fraction of a second)."""
     out = {}
     with p.engine.connect() as conn:
         for table in ("clip_labels", "captions", "assignments", "segments", "clips", "edits"):
             rows = conn.execute(text(f"SELECT * FROM {table} ORDER BY id")).mappings()
-            out[table] = [{k: _untimed(v) for k, v in r.items() if k not in TIMES} for r in rows]
+            out[table] = [{k: _untimed(k, v) for k, v in r.items()} for r in rows]
     return out
 
 
-def _untimed(v):
+def _untimed(key, v):
+    if key in TIMES:
+        # (a time on a whole second is written without its fraction)
+        return re.sub(r"\d", "0", re.sub(r"\.\d{6}", "", v)) if isinstance(v, str) else v
     if isinstance(v, str) and v.startswith("{"):
-        return {k: x for k, x in json.loads(v).items() if k not in TIMES}
+        return {k: _untimed(k, x) for k, x in json.loads(v).items()}
     return v
 
 

@@ -10,6 +10,7 @@ give record by record, with the same refusals in the same order.
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
@@ -32,7 +33,7 @@ if TYPE_CHECKING:
 
 #: ids per ``IN (...)`` list when loading the stored rows of a run's clips
 IN_CHUNK = 5000
-#: rows per INSERT on a server (one array per column)
+#: rows per INSERT on a server
 ARRAY_CHUNK = 20_000
 #: records planned between two progress reports
 TICK_EVERY = 1000
@@ -337,9 +338,10 @@ class BulkImport:
                 {"clip_id": c, "annotator_id": a, "state": "open", "reason": None, "assigned_at": now,
                  "expires_at": None, "updated_at": now, "version": 1, "comments_read": None}
                 for c, a in missing], ids=False)
-        if self.ctx.is_server and fresh:  # the server's own function, once per clip
-            conn.execute(sql_text("SELECT count(clipscribe_refresh_clip_state(c)) "
-                                  "FROM unnest(CAST(:ids AS INTEGER[])) AS c"), {"ids": fresh})
+        if self.ctx.is_server:
+            if fresh:  # the server's own function, once per clip
+                conn.execute(sql_text("SELECT count(clipscribe_refresh_clip_state(c)) "
+                                      "FROM unnest(CAST(:ids AS INTEGER[])) AS c"), {"ids": fresh})
         elif clips:
             t = Clip.__table__
             conn.execute(update(t).where(t.c.id == bindparam("b_id"), t.c.state == "new")
@@ -353,49 +355,70 @@ def _insert(conn: Any, model: Any, rows: list[dict[str, Any]], *, ids: bool = Tr
     t = model.__table__
     if conn.dialect.name == "postgresql":
         return _insert_arrays(conn, t, rows, ids=ids)
-    if not ids:
-        conn.execute(insert(t), rows)
-        return []
     # SQLite: this write holds the lock and the tables never reuse an id (AUTOINCREMENT), so
     # the new rows take the ids after the largest one, in the order of ``rows``; a plain
     # executemany is many times faster than RETURNING row by row
-    last = conn.scalar(select(func.max(t.c.id))) or 0
-    conn.execute(insert(t), rows)
+    last = conn.scalar(select(func.max(t.c.id))) or 0 if ids else 0
+    _executemany(conn, t, rows)
+    if not ids:
+        return []
     new = list(conn.execute(select(t.c.id).where(t.c.id > last).order_by(t.c.id)).scalars())
     assert len(new) == len(rows), (t.name, len(new), len(rows))
     return new
 
 
+def _executemany(conn: Any, t: Any, rows: list[dict[str, Any]]) -> None:
+    """One driver executemany of ``rows``, each value turned into what the column's type
+    stores (as SQLAlchemy would, without its per-row bookkeeping)."""
+    names = list(rows[0])
+    procs = [t.c[c].type.dialect_impl(conn.dialect).bind_processor(conn.dialect) for c in names]
+    memo: list[dict[Any, Any] | None] = [None if p is None or isinstance(t.c[c].type, JSON) else {}
+                                         for c, p in zip(names, procs)]
+
+    def value(i: int, v: Any) -> Any:
+        proc, seen = procs[i], memo[i]
+        if proc is None:
+            return v
+        if seen is None:  # JSON: None is stored as JSON null, as the ORM does
+            return proc(v)
+        if v is None:
+            return None
+        if v not in seen:  # e.g. one time stamp for every row
+            seen[v] = proc(v)
+        return seen[v]
+    q = conn.dialect.identifier_preparer.quote
+    sql = (f"INSERT INTO {q(t.name)} ({', '.join(q(c) for c in names)}) "
+           f"VALUES ({', '.join('?' for _ in names)})")
+    conn.exec_driver_sql(sql, [tuple(value(i, r[c]) for i, c in enumerate(names)) for r in rows])
+
+
 def _insert_arrays(conn: Any, t: Any, rows: list[dict[str, Any]], *, ids: bool) -> list[int]:
-    """PostgreSQL: ids drawn from the table's sequence in one query, then the rows sent as
-    one array per column (``INSERT … SELECT FROM unnest(…)``), one statement per chunk. Row
-    security and triggers apply to each row as to any insert."""
+    """PostgreSQL: ids drawn from the table's sequence in one query, then the rows sent as one
+    JSON document per chunk and unpacked by the server (``INSERT … SELECT FROM
+    json_to_recordset(…)``). Row security and triggers apply to each row as to any insert."""
     q = conn.dialect.identifier_preparer.quote
     new: list[int] = []
     if ids:
         new = sorted(conn.execute(sql_text(
             "SELECT nextval(pg_get_serial_sequence(:t, 'id')) FROM generate_series(1, :n)"),
             {"t": t.name, "n": len(rows)}).scalars())
+        rows = [{"id": i, **r} for i, r in zip(new, rows)]
     names = [c for c in rows[0] if any(r[c] is not None for r in rows)]
+    fields = ", ".join(f"{q(c)} {t.c[c].type.compile(conn.dialect)}" for c in names)
+    # JSON null where the ORM stores it (a JSON column given None), not SQL NULL
+    values = ", ".join(f"COALESCE(x.{q(c)}, 'null'::json)" if isinstance(t.c[c].type, JSON)
+                       else f"x.{q(c)}" for c in names)
+    stmt = sql_text(f"INSERT INTO {q(t.name)} ({', '.join(q(c) for c in names)}) SELECT {values} "
+                    f"FROM json_to_recordset(CAST(:rows AS json)) AS x({fields})")
     for start in range(0, len(rows), ARRAY_CHUNK):
-        part = rows[start:start + ARRAY_CHUNK]
-        params: dict[str, Any] = {}
-        columns, arrays = [], []
-        if ids:
-            params["p_id"] = new[start:start + len(part)]
-            columns.append("id")
-            arrays.append("CAST(:p_id AS INTEGER[])")
-        for i, name in enumerate(names):
-            col = t.c[name]
-            values = [r[name] for r in part]
-            if isinstance(col.type, JSON):  # as the ORM stores it: None is JSON null
-                values = [json.dumps(v) for v in values]
-            params[f"p{i}"] = values
-            columns.append(q(name))
-            arrays.append(f"CAST(:p{i} AS {col.type.compile(conn.dialect)}[])")
-        conn.execute(sql_text(f"INSERT INTO {q(t.name)} ({', '.join(columns)}) "
-                              f"SELECT * FROM unnest({', '.join(arrays)})"), params)
+        conn.execute(stmt, {"rows": json.dumps(rows[start:start + ARRAY_CHUNK], default=_iso)})
     return new
+
+
+def _iso(v: Any) -> str:
+    if isinstance(v, dt.datetime):
+        return v.isoformat()
+    raise TypeError(f"{type(v).__name__} is not JSON")
 
 
 def _chunks(ids: Iterable[int]) -> Iterator[list[int]]:
