@@ -188,6 +188,7 @@ class Project:
                                   database_url=opening.without_password(database_url), **settings)
         except ValidationError as exc:
             raise RecordError(f"project settings: {opening.first_error(exc)}") from None
+        opening.check_sqlite_url("database_url", database_url, root.absolute() / DB_FILE)
         root.mkdir(parents=True, exist_ok=True)
         opening.check_media_root(root, cfg)
         media = cfg.media_root
@@ -221,6 +222,7 @@ class Project:
         except OSError as exc:
             raise ProjectError(f"{path}: cannot read the settings ({exc.strerror or exc})") from None
         opening.check_media_root(root, cfg)
+        opening.check_sqlite_url(str(path), cfg.database_url, root.absolute() / DB_FILE)
         local_db = cfg.database_url is None
         if local_db:  # only create makes a database: a missing or empty file is an error
             check_sqlite_file(root / DB_FILE)

@@ -47,6 +47,29 @@ def check_media_root(root: Path, cfg: ProjectSettings) -> None:
                            "the videos")
 
 
+def check_sqlite_url(source: str, url: str | None, own: Path) -> None:
+    """ProjectError when ``url`` (named by ``source``: the settings file, or the URL given to
+    create) is a SQLite database other than the folder's own file ``own``: a project's SQLite
+    database lives in the project folder, and a URL pointing elsewhere would make clipscribe
+    create its tables inside an unrelated file."""
+    if not url or not url.startswith("sqlite"):
+        return
+    from urllib.parse import unquote, urlparse
+
+    from sqlalchemy.engine import make_url
+    try:
+        db = make_url(url).database or ""
+    except Exception:  # noqa: BLE001 - any unreadable URL gets the same one line
+        raise ProjectError(f"{source}: database_url {url!r} is not a database URL") from None
+    if db.startswith("file:"):  # a SQLite URI filename
+        db = unquote(urlparse(db).path)
+    if db and db != ":memory:" and os.path.realpath(db) == os.path.realpath(own):
+        return
+    shown = f"the SQLite file {os.path.abspath(db)}" if db and db != ":memory:" else "a SQLite database in memory"
+    raise ProjectError(f"{source}: database_url names {shown}, not this project's own {own}; a "
+                       "project's SQLite database lives in its folder: remove database_url to use it")
+
+
 def disk_full(folder: Path) -> bool:
     import shutil
     try:
