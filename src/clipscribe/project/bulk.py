@@ -56,6 +56,7 @@ class Lookup:
         self.labels: dict[str, int] = {n: i for i, n in s.execute(
             select(Label.id, Label.name).where(Label.retired.is_(False)))}
         self._refs: dict[str, int] = {}
+        self._refused: dict[tuple[str, str], RecordError] = {}  # asked once, refused every time
 
     def add_clip(self, cid: int, path: str) -> None:
         self.clip_by_id[cid] = path
@@ -76,7 +77,7 @@ class Lookup:
             if not rel.is_absolute() and ".." not in rel.parts:
                 cid = self.clip_by_path.get(rel.as_posix())
         if cid is None:  # the context names the refusal (or finds a clip added meanwhile)
-            row = self.ctx.clip(self.s, ref)
+            row = self._ask("clip", ref, self.ctx.clip)
             self.add_clip(row.id, row.path)
             cid = row.id
         self._refs[ref] = cid
@@ -85,14 +86,24 @@ class Lookup:
     def annotator(self, name: str) -> int:
         hit = self.people.get(name)
         if hit is None:
-            hit = self.people[name] = self.ctx.annotator(self.s, name).id
+            hit = self.people[name] = self._ask("annotator", name, self.ctx.annotator).id
         return hit
 
     def label(self, name: str) -> int:
         hit = self.labels.get(name)
         if hit is None:
-            hit = self.labels[name] = self.ctx.label(self.s, name).id
+            hit = self.labels[name] = self._ask("label", name, self.ctx.label).id
         return hit
+
+    def _ask(self, kind: str, ref: str, resolve: Callable[[Session, str], Any]) -> Any:
+        refused = self._refused.get((kind, ref))
+        if refused is not None:
+            raise refused
+        try:
+            return resolve(self.s, ref)
+        except RecordError as exc:
+            self._refused[(kind, ref)] = exc
+            raise
 
 
 @dataclass
@@ -215,6 +226,9 @@ class BulkImport:
                 raise RecordError(f"clip {rec.clip!r}: no segment [{rec.segment[0]}, {rec.segment[1]}) "
                                   f"by {rec.annotator!r} to tie the caption to")
         text = _caption_text(rec.text)
+        if self.ctx.is_server and "\x00" in text:
+            raise RecordError("caption text holds a NUL character (0x00), which PostgreSQL "
+                              "text cannot store")
         last = stored.last_position.get(key)
         position = stored.last_position[key] = 0 if last is None else last + 1
         stored.texts.add((item.clip, item.annotator, text))
@@ -232,7 +246,7 @@ class BulkImport:
         label_clips = {i.clip for i in ok if isinstance(i.rec, LabelRecord)}
         caption_clips = {i.clip for i in ok if isinstance(i.rec, CaptionRecord)}
         segment_clips = {i.clip for i in ok if isinstance(i.rec, CaptionRecord) and i.rec.segment}
-        t = ClipLabel.__table__
+        t: Any = ClipLabel.__table__
         for ids in _chunks(label_clips):
             for row in s.execute(select(t).where(t.c.clip_id.in_(ids))).mappings():
                 out.labels[(row["clip_id"], row["annotator_id"])] = {k: json_value(v) for k, v in row.items()}
@@ -298,7 +312,7 @@ class BulkImport:
     def _update_labels(self, conn: Any, changed: list[tuple[dict, dict]], now: Any, stamp: str) -> None:
         if not changed:
             return
-        t = ClipLabel.__table__
+        t: Any = ClipLabel.__table__
         params = [{"b_id": row["id"], "b_version": row["version"], "b_label": row["label_id"],
                    "b_at": now, "b_next": row["version"] + 1} for _before, row in changed]
         for _before, row in changed:
@@ -343,7 +357,7 @@ class BulkImport:
                 conn.execute(sql_text("SELECT count(clipscribe_refresh_clip_state(c)) "
                                       "FROM unnest(CAST(:ids AS INTEGER[])) AS c"), {"ids": fresh})
         elif clips:
-            t = Clip.__table__
+            t: Any = Clip.__table__
             conn.execute(update(t).where(t.c.id == bindparam("b_id"), t.c.state == "new")
                          .values(state="in_progress"), [{"b_id": c} for c in clips])
 
