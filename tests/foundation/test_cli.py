@@ -130,6 +130,18 @@ def test_an_unexpected_fault_is_one_line_and_exit_1(run, tmp_path, monkeypatch):
 
 # --- the process boundary: the installed command --------------------------------------------
 
+def test_the_command_line_loads_nothing_heavy_before_a_command_needs_it():
+    # in a fresh interpreter: the parser (what --help and the start of `open` need) is built
+    # without the database, video, numeric or Qt modules; the commands import those themselves
+    code = ("import sys; from clipscribe.cli import build_parser; build_parser(); "
+            "print(sorted(m for m in sys.modules if m.split('.')[0] in "
+            "('sqlalchemy', 'cv2', 'numpy', 'PySide6', 'pydantic') or m in "
+            "('clipscribe.project', 'clipscribe.store', 'clipscribe.media', 'clipscribe.ui')))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip() == "[]"
+
+
 def test_the_installed_command_is_the_cli_main(sample_dir):
     (script,) = entry_points(group="console_scripts", name="clipscribe")
     assert script.value == "clipscribe.cli:main"
