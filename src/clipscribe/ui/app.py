@@ -41,7 +41,7 @@ def open_window(project: Project, *, view: str = "work", settings: QSettings | N
     """The workbench window on ``view``: "work", "review" (the review desk) or "board" (the
     agreement board, the review view's second tab)."""
     from .main_window import MainWindow
-    from .review import install_review_desk
+    from .review.page import install_review_desk
     page_view = "review" if view == "board" else view
     window = MainWindow(project, settings=settings, view=page_view)
     install_review_desk(window, view=page_view)
