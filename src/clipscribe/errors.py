@@ -69,3 +69,7 @@ class PermissionRefused(RecordError, PermissionError):
 
 class NotALeadError(PermissionRefused):
     """Only leads may do this; the person acting is not one."""
+
+
+class DuplicateMediaWarning(UserWarning):
+    """A clip was added whose file has the same SHA-256 as a clip already in the project."""

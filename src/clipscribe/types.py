@@ -8,6 +8,7 @@ modules.
 from __future__ import annotations
 
 import datetime as dt
+import enum
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -16,6 +17,36 @@ from .agreement._recipe import Recipe
 #: how a clip reference may be given wherever the API takes a clip: its id, ``str(id)``, or the
 #: media path relative to the media root
 ClipRef = int | str
+
+class Role(str, enum.Enum):
+    """What a person may do in a project."""
+    ANNOTATOR = "annotator"
+    LEAD = "lead"
+
+
+class ClipState(str, enum.Enum):
+    """Where a clip stands for the whole team (stored in ``clips.state``)."""
+    NEW = "new"
+    IN_PROGRESS = "in_progress"
+    DONE = "done"
+    SETTLED = "settled"
+
+
+class AssignmentState(str, enum.Enum):
+    """Where one person stands on one clip (stored in ``assignments.state``)."""
+    OPEN = "open"
+    SUBMITTED = "submitted"
+    SKIPPED = "skipped"
+    UNSURE = "unsure"
+    EXPIRED = "expired"
+
+
+#: a pause between two edits longer than this is not counted as working time (our choice)
+IDLE_SECONDS = 300.0
+
+#: the group key of a clip is the folder it lies in, relative to the media root (clips directly
+#: in the media root get none); the default of ``add_media`` from the CLI and the setup dialog
+BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 
 @dataclass(frozen=True, slots=True)
 class SegmentInfo:

@@ -166,3 +166,17 @@ def test_recording_collects_the_edit_ids_of_the_writes_inside_only(project):
     project.revert(outer)
     assert project.captions() == [] and project.clip_labels()[0][2] == "pick up"
     assert cap not in [c.id for c in project.caption_rows()]
+
+
+def test_a_composite_read_sees_one_state_while_another_writer_commits(project):
+    """Reads inside one snapshot (as ``iter_records`` and ``export_inputs`` run) do not see a
+    write another connection commits between them; the next read outside does."""
+    clip = project.clips()[0].id
+    with Project.open(project.folder, user="ann-a") as other:
+        with project._uow.snapshot():
+            before = project.clip_labels()
+            other.set_clip_label(clip, "ann-a", "push")        # committed meanwhile
+            assert project.clip_labels() == before == []
+        assert project.clip_labels() == [(clip, "ann-a", "push")]
+        records = project.iter_records()                      # one snapshot, whole and consistent
+    assert [r.label for r in records if r.type == "label"] == ["push"]

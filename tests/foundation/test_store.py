@@ -133,3 +133,17 @@ def test_create_on_unreachable_server_leaves_no_project(tmp_path):
     with pytest.raises(ProjectError, match="cannot open the project database"):
         Project.create(tmp_path / "p", database_url="postgresql://nobody@127.0.0.1:1/none")
     assert not (tmp_path / "p" / "clipscribe-project.json").exists()
+
+
+def test_old_migrations_do_not_run_live_code_that_may_change_later():
+    """A revision's effect is fixed once released: revisions 0001-0003 import nothing from
+    clipscribe (their DDL is frozen in the file); only revisions written as "apply the current
+    server set-up" (0004, 0005: ``team.harden``, safe to run again) may call the live module."""
+    import ast
+
+    from clipscribe.store.db import MIGRATIONS
+    for path in sorted((MIGRATIONS / "versions").glob("000[123]_*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        imported = {n.module for n in ast.walk(tree) if isinstance(n, ast.ImportFrom)}
+        imported |= {a.name for n in ast.walk(tree) if isinstance(n, ast.Import) for a in n.names}
+        assert not any(m and m.startswith("clipscribe") for m in imported), path.name

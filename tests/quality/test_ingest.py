@@ -10,8 +10,9 @@ import pytest
 
 from clipscribe import Project
 from clipscribe.cli import main
-from clipscribe.project_parts.catalog import BY_FOLDER, DuplicateMediaWarning
-from clipscribe.ui.setup import GROUPINGS, ProjectSetup
+from clipscribe.errors import DuplicateMediaWarning
+from clipscribe.types import BY_FOLDER
+from clipscribe.ui.dialogs.setup import GROUPINGS, ProjectSetup
 
 
 @pytest.fixture

@@ -7,7 +7,8 @@ import numpy as np
 import pytest
 
 from clipscribe import Project, RecordError
-from clipscribe.project_parts.review import IDLE_SECONDS, NotALeadError
+from clipscribe.errors import NotALeadError
+from clipscribe.types import IDLE_SECONDS
 
 
 def test_non_lead_is_refused_by_the_facade(sample):

@@ -10,7 +10,7 @@ import pytest
 from clipscribe import Project, __version__
 from clipscribe.agreement import agreement_report
 from clipscribe.cli import main
-from clipscribe.project_parts.review import NotALeadError
+from clipscribe.errors import NotALeadError
 from clipscribe.review_report import read_numbers, write_report
 
 TOL = 1e-9

@@ -136,7 +136,7 @@ def _blind_state(folder):
 def test_blind_off_on_a_full_disk_changes_neither_settings_nor_database(proj, monkeypatch, capsys):
     """ENOSPC at the file layer: the settings file cannot be written."""
     before = (proj / SETTINGS_FILE).read_bytes()
-    import clipscribe.project as project_mod
+    import clipscribe.project.facade as project_mod
 
     def full(_fd):
         raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
@@ -154,7 +154,7 @@ def test_blind_off_whose_database_write_fails_leaves_the_settings_file(proj, mon
     with Project.open(proj, user="lead") as p:
         def refuse(_fn):
             raise ProjectError("database refused")
-        monkeypatch.setattr(p, "_write", refuse)
+        monkeypatch.setattr(p._uow, "write", refuse)  # the unit of work runs every write
         with pytest.raises(ProjectError):
             p.set_blind(False)
     assert (proj / SETTINGS_FILE).read_bytes() == before

@@ -14,7 +14,8 @@ import pytest
 from sqlalchemy import text, update
 
 from clipscribe import Project
-from clipscribe.project_parts.team import TeamPermissionError, overlap_selection
+from clipscribe.errors import PermissionRefused as TeamPermissionError
+from clipscribe.project.team import overlap_selection
 from clipscribe.store.models import Assignment
 
 from .conftest import add_clips

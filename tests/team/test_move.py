@@ -11,7 +11,7 @@ from sqlalchemy.engine import make_url
 from clipscribe import Project
 from clipscribe.cli import main
 from clipscribe.errors import ProjectError
-from clipscribe.project_parts.team_move import canonical
+from clipscribe.project.team_move import canonical
 from clipscribe.schema.settings import SETTINGS_FILE
 
 from .conftest import add_clips

@@ -9,7 +9,7 @@ import pytest
 from psycopg import sql
 
 from clipscribe import Project
-from clipscribe.project_parts.team import TeamPermissionError
+from clipscribe.errors import PermissionRefused as TeamPermissionError
 
 from .conftest import add_clips, connect_as
 

@@ -9,8 +9,8 @@ import pytest
 
 from clipscribe import Project, RecordError
 from clipscribe.cli import main
-from clipscribe.project_parts.review import NotALeadError
-from clipscribe.project_parts.team import TeamPermissionError
+from clipscribe.errors import NotALeadError
+from clipscribe.errors import PermissionRefused as TeamPermissionError
 from clipscribe.store.team import ANNOTATOR_GROUP, LEAD_GROUP
 
 from .conftest import add_clips, connect_as

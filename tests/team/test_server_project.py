@@ -11,7 +11,7 @@ from alembic.runtime.migration import MigrationContext
 
 from clipscribe import Project
 from clipscribe.errors import RecordError
-from clipscribe.project_parts.team import TeamPermissionError
+from clipscribe.errors import PermissionRefused as TeamPermissionError
 from clipscribe.schema.settings import SETTINGS_FILE
 from clipscribe.store.models import Base
 
@@ -124,3 +124,27 @@ def test_models_match_migrations_sqlite(tmp_path):
 @pytest.mark.postgres
 def test_models_match_migrations_postgres(server_project):
     assert _no_diff(server_project.engine) == []
+
+
+def test_the_frozen_team_revision_downgrades_and_upgrades_again(server_project):
+    """Revision 0002 carries its own server set-up (frozen DDL): going down to 0001 removes
+    its helper functions and row-level security, going back up restores them."""
+    from alembic import command
+    from sqlalchemy import text as sql_text
+
+    from clipscribe.store import db
+    p = server_project
+    cfg = db.alembic_config(p.engine)
+
+    def state() -> tuple[int, int]:
+        with p.engine.connect() as c:
+            fns = c.execute(sql_text("SELECT count(*) FROM pg_proc WHERE proname LIKE 'clipscribe%'")).scalar()
+            rls = c.execute(sql_text("SELECT count(*) FROM pg_class WHERE relrowsecurity "
+                                     "AND relname = 'captions'")).scalar()
+        return fns, rls
+    before = state()
+    assert before[0] > 0 and before[1] == 1
+    command.downgrade(cfg, "0001")
+    assert state() == (0, 0)
+    command.upgrade(cfg, "head")
+    assert state() == before

@@ -189,9 +189,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         cider = cider_d(by_clip)
         cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed))
         acc: dict[Any, list] = {}
-        for c in loo.captions:
-            if not math.isnan(c.bleu):
-                acc.setdefault(c.clip, []).append(c.bleu)
+        for one in loo.captions:
+            if not math.isnan(one.bleu):
+                acc.setdefault(one.clip, []).append(one.bleu)
         cap_bleu = {k: float(np.mean(v)) for k, v in acc.items()}
         cap_cider = cider.per_clip
     clips = _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider)

@@ -17,7 +17,7 @@ def cmd_add_media(args: argparse.Namespace) -> int:
         if args.copy_from:
             folder = p.copy_media_in(args.copy_from, progress=Bar("copying videos (bytes)"))
             print(f"copied into {folder}")
-        from ..project_parts.catalog import BY_FOLDER
+        from ..types import BY_FOLDER
         pattern = args.group_pattern
         if pattern is None and args.group_csv is None and args.group_by == "folder":
             pattern = BY_FOLDER

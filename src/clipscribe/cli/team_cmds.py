@@ -15,7 +15,7 @@ from .common import open_project
 
 def cmd_move(args: argparse.Namespace) -> int:
     from ..project import Project
-    from ..project_parts.team_move import write_report
+    from ..project.team_move import write_report
     url = args.url
     pw = os.environ.get("CLIPSCRIBE_PASSWORD")
     if pw:

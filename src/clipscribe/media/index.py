@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import io
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import cv2
@@ -47,6 +47,8 @@ class FrameIndex:
 
     timestamps_ms: np.ndarray
     keyframes: np.ndarray
+    #: whether timestamps name frames one to one (set in __post_init__)
+    seekable: bool = field(init=False, default=False, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         keys = np.round(self.timestamps_ms, _TS_DECIMALS)

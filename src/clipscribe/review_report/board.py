@@ -26,7 +26,7 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
 
     ``agreement`` is exactly ``AgreementReport.to_dict()`` of ``project.agreement_report(seed=,
     n_boot=)`` (or of ``report``); throughput, trend and the queue come from
-    :class:`~clipscribe.project_parts.review.ReviewMixin`. Leads only.
+    :class:`~clipscribe.project.review.Review`. Leads only.
     """
     lead = project.check_reviewer()
     rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)

@@ -9,6 +9,7 @@ simulated annotators whose work disagrees the way people's does, and a lead (the
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 import random
 import time
@@ -85,64 +86,66 @@ def build_sample(folder: str | os.PathLike, *, seed: int = 7) -> dict:
             clip = p.add_clip(dst, group=cell.name, source="rendered sample scene (invented)",
                               licence="CC0-1.0", consent=True)
             actions.append((clip, act))
+        pace = _Pace(seed, people)
         for clip, act in actions:
-            _annotate(p, rng, clip, act, people)
-        _pace_history(p, rng, people)
+            _annotate(p, rng, clip, act, people, pace)
         p.user = lead
     return {"folder": str(root), "clips": len(PLAN), "annotators": people, "lead": lead,
             "seconds": round(time.perf_counter() - t0, 2)}
 
 
-def _pace_history(p: Project, rng: random.Random, people: list[str]) -> None:
-    """Spread each simulated annotator's edits over a working morning (20-70 s apart, a
-    longer pause between clips), so throughput and trends on the board look like people's.
-    The sample writes its history within seconds; this rewrites only those simulated times
-    (edits are credited to the annotator whose work they changed)."""
-    import datetime as dt
+class _Pace:
+    """Simulated working times: each annotator's edits 20-70 s apart over a working morning,
+    with a longer pause when they move to another clip, so throughput and trends on the board
+    look like people's. Its own random stream, so the sample's content does not depend on it."""
 
-    from sqlalchemy import select
+    def __init__(self, seed: int, people: list[str]) -> None:
+        start = dt.datetime(2026, 11, 2, 9, 0, tzinfo=dt.timezone.utc)
+        self.rng = random.Random(seed + 7919)
+        self.clock = {who: (start + dt.timedelta(minutes=7 * k), None)
+                      for k, who in enumerate(people)}
 
-    from ..store.db import transaction
-    from ..store.models import Annotator, Edit
-
-    start = dt.datetime(2026, 11, 2, 9, 0, tzinfo=dt.timezone.utc)
-    with transaction(p.engine) as s:
-        ids = {s.scalar(select(Annotator.id).where(Annotator.name == n)): k for k, n in enumerate(people)}
-        clock = {k: (start + dt.timedelta(minutes=7 * k), None) for k in ids.values()}
-        for e in s.scalars(select(Edit).order_by(Edit.id)):
-            row = e.after or e.before or {}
-            k = ids.get(row.get("annotator_id"))
-            if k is None:
-                continue  # the lead's own setup: label set, people, clips
-            at, last_clip = clock[k]
-            at += dt.timedelta(seconds=rng.uniform(20, 70) + (rng.uniform(60, 240) if e.clip_id != last_clip else 0))
-            e.at, clock[k] = at, (at, e.clip_id)
+    def of(self, who: str, clip: int):
+        """A clock for ``who`` working on ``clip`` (read once per write)."""
+        def tick() -> dt.datetime:
+            at, last_clip = self.clock[who]
+            at += dt.timedelta(seconds=self.rng.uniform(20, 70)
+                               + (self.rng.uniform(60, 240) if clip != last_clip else 0))
+            self.clock[who] = (at, clip)
+            return at
+        return tick
 
 
-def _annotate(p: Project, rng: random.Random, clip: int, act: scene.Action, people: list[str]) -> None:
+def _annotate(p: Project, rng: random.Random, clip: int, act: scene.Action, people: list[str],
+              pace: _Pace) -> None:
     for who in people:
         if who == "annotator-3" and rng.random() < 0.25:
             continue  # a careless annotator skipped this clip entirely
-        label = act.label
-        if who == "annotator-2" and label == "stack":
-            label = "put down"  # systematic confusion
-        if who == "annotator-3" and rng.random() < 0.33:
-            label = rng.choice([l["name"] for l in LABELS if l["name"] != label])
-        p.set_clip_label(clip, who, label)
-        if act.label != "idle":
-            slack = {"annotator-1": 2, "annotator-2": 3, "annotator-3": 8}[who]
-            start = max(0, act.start + rng.randint(-slack, slack))
-            end = min(N_FRAMES, act.end + rng.randint(-slack, slack))
-            seg = p.add_segment(clip, who, label, start, max(start + 1, end))
+        with Project.simulated_clock(pace.of(who, clip)):
+            _annotate_one(p, rng, clip, act, who)
+
+
+def _annotate_one(p: Project, rng: random.Random, clip: int, act: scene.Action, who: str) -> None:
+    label = act.label
+    if who == "annotator-2" and label == "stack":
+        label = "put down"  # systematic confusion
+    if who == "annotator-3" and rng.random() < 0.33:
+        label = rng.choice([l["name"] for l in LABELS if l["name"] != label])
+    p.set_clip_label(clip, who, label)
+    if act.label != "idle":
+        slack = {"annotator-1": 2, "annotator-2": 3, "annotator-3": 8}[who]
+        start = max(0, act.start + rng.randint(-slack, slack))
+        end = min(N_FRAMES, act.end + rng.randint(-slack, slack))
+        seg = p.add_segment(clip, who, label, start, max(start + 1, end))
+    else:
+        seg = None
+    verbs = VERBS[act.label] if who != "annotator-2" or act.label != "stack" else VERBS["put down"]
+    picks = rng.sample(verbs, 3)
+    for k, phrase in enumerate(picks):
+        if who == "annotator-3" and rng.random() < 0.4:
+            text = rng.choice(VAGUE)
         else:
-            seg = None
-        verbs = VERBS[act.label] if who != "annotator-2" or act.label != "stack" else VERBS["put down"]
-        picks = rng.sample(verbs, 3)
-        for k, phrase in enumerate(picks):
-            if who == "annotator-3" and rng.random() < 0.4:
-                text = rng.choice(VAGUE)
-            else:
-                text = f"{rng.choice(SUBJECTS)} {phrase.format(c=act.colour, o=act.other)}"
-                text = text[0].upper() + text[1:] + "."
-            p.add_caption(clip, who, text, segment=seg if k == 0 else None)
-        p.set_clip_state(clip, who, "submitted")
+            text = f"{rng.choice(SUBJECTS)} {phrase.format(c=act.colour, o=act.other)}"
+            text = text[0].upper() + text[1:] + "."
+        p.add_caption(clip, who, text, segment=seg if k == 0 else None)
+    p.set_clip_state(clip, who, "submitted")

@@ -175,7 +175,8 @@ def _block(img: np.ndarray, x: float, y: float, colour: tuple[int, int, int]) ->
 
 
 def write_clip(path: str, frames: list[np.ndarray], fps: float = FPS) -> None:
-    out = cv2.VideoWriter(path, cv2.VideoWriter_fourcc(*"mp4v"), fps, (W, H))
+    fourcc = cv2.VideoWriter_fourcc(*"mp4v")  # type: ignore[attr-defined]
+    out = cv2.VideoWriter(path, fourcc, fps, (W, H))
     if not out.isOpened():
         raise RuntimeError(f"{path}: OpenCV cannot write MPEG-4 video here")
     for img in frames:

@@ -16,6 +16,8 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
+from ..types import AssignmentState, ClipState, Role
+
 NAMING = {
     "ix": "ix_%(column_0_label)s",
     "uq": "uq_%(table_name)s_%(column_0_N_name)s",
@@ -30,9 +32,15 @@ clip_fk = Annotated[int, mapped_column(ForeignKey("clips.id", ondelete="CASCADE"
 annotator_fk = Annotated[int, mapped_column(ForeignKey("annotators.id", ondelete="CASCADE"), index=True)]
 label_fk = Annotated[int, mapped_column(ForeignKey("labels.id", ondelete="RESTRICT"))]
 
-ROLES = ("annotator", "lead")
-ASSIGNMENT_STATES = ("open", "submitted", "skipped", "unsure", "expired")
-CLIP_STATES = ("new", "in_progress", "done", "settled")
+ROLES = tuple(r.value for r in Role)
+ASSIGNMENT_STATES = tuple(a.value for a in AssignmentState)
+CLIP_STATES = tuple(c.value for c in ClipState)
+
+
+def one_of(column: str, values: tuple[str, ...], name: str) -> CheckConstraint:
+    """A CHECK that ``column`` holds one of ``values`` (generated from the enums, so the
+    database and the code cannot disagree)."""
+    return CheckConstraint(f"{column} IN ({', '.join(repr(v) for v in values)})", name=name)
 
 
 def utcnow() -> dt.datetime:
@@ -75,7 +83,7 @@ class Annotator(Base):
     __tablename__ = "annotators"
     __table_args__ = (
         UniqueConstraint("name"),
-        CheckConstraint("role IN ('annotator', 'lead')", name="role"),
+        one_of("role", ROLES, "role"),
     )
     id: Mapped[intpk]
     name: Mapped[str] = mapped_column(String(200))
@@ -89,7 +97,7 @@ class Clip(Base):
     __table_args__ = (
         UniqueConstraint("path"),
         CheckConstraint("frame_count >= 0", name="frame_count"),
-        CheckConstraint("state IN ('new', 'in_progress', 'done', 'settled')", name="state"),
+        one_of("state", CLIP_STATES, "state"),
     )
     id: Mapped[intpk]
     path: Mapped[str] = mapped_column(String(4096), doc="relative to the media root, '/' separated")
@@ -114,7 +122,7 @@ class Assignment(Base):
     __tablename__ = "assignments"
     __table_args__ = (
         UniqueConstraint("clip_id", "annotator_id"),
-        CheckConstraint("state IN ('open', 'submitted', 'skipped', 'unsure', 'expired')", name="state"),
+        one_of("state", ASSIGNMENT_STATES, "state"),
         NO_ID_REUSE,
     )
     id: Mapped[intpk]

@@ -1,0 +1,247 @@
+"""Dataset export from a project: gathers plain inputs for the Qt-free export engine.
+
+Label policy: gold first, else majority vote (``min_agreement``). Segments: gold segments, else
+those of the first annotator (by name) whose label equals the exported label. Captions: by the
+caption policy (gold only, or gold plus agreeing annotators). Skips are not labels. Splits stay stable across exports: the
+assignment of the last export is kept in the project and passed in as ``frozen``.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import threading
+from collections import defaultdict
+from collections.abc import Callable, Mapping
+from pathlib import Path
+from typing import Any
+
+from .. import export, media
+from ..errors import RecordError
+from ..store.models import Setting
+from .context import Service
+
+Progress = Callable[[int, int], None] | None
+ASSIGNMENT_KEY = "export.assignment"
+
+
+class Exporting(Service):
+    #: unfinished folders of a killed export that the last export removed
+    last_export_cleaned: list[str] = []
+
+    def compute_fingerprints(self, *, progress: Progress = None,
+                             cancel: threading.Event | None = None) -> int:
+        """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
+        todo = [c for c in self.peers.catalog.clips() if c.fingerprint is None]
+        for i, c in enumerate(todo):
+            if progress:
+                progress(i, len(todo))
+            try:
+                value = media.clip_fingerprint(self.ctx.media_path(c.id), cancel=cancel)
+            except media.MediaError:
+                continue  # reported by the leakage check as a clip without fingerprint
+            self.peers.catalog.set_fingerprint(c.id, value)
+        if progress:
+            progress(len(todo), len(todo))
+        return len(todo)
+
+    def export_inputs(self) -> list[export.ClipInput]:
+        """Every clip as the export engine's plain input (leads' own labels excluded)."""
+        with self.ctx.snapshot():  # one state of the database for every read below
+            return self._export_inputs()
+
+    def _export_inputs(self) -> list[export.ClipInput]:
+        leads = {a.name for a in self.peers.catalog.annotators() if a.role == "lead"}
+        labels: dict[int, list[tuple[str, str]]] = defaultdict(list)
+        for clip, who, label in self.peers.analysis._voting_labels(leads):
+            labels[clip].append((who, label))
+        skips: dict[int, list[tuple[str, str]]] = defaultdict(list)
+        for clip, who, reason in self.peers.review.skips():
+            if who not in leads:
+                skips[clip].append((who, reason))
+        segs: dict[tuple[int, str], list] = defaultdict(list)
+        for g in self.peers.annotation.segments():
+            segs[(g.clip, g.annotator)].append(g)
+        caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
+        skipped = {(c, who) for c, v in skips.items() for who, _ in v}
+        seg_by_id = {g.id: g for v in segs.values() for g in v}
+        for cap in self.peers.annotation.caption_rows():
+            if cap.annotator in leads:
+                continue
+            tied = seg_by_id.get(cap.segment) if cap.segment else None
+            # a skipper's left-over captions are not references
+            caps[cap.clip].append(export.CaptionInput(cap.text, cap.annotator,
+                                                    (cap.clip, cap.annotator) not in skipped,
+                                                    (tied.start, tied.end) if tied else None))
+        gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
+        gold_segs: dict[int, list] = defaultdict(list)
+        for clip, label, start, end in self.peers.gold.gold_segments():
+            gold_segs[clip].append(export.SegmentInput(label, start, end))
+        out = []
+        for c in self.peers.catalog.clips():
+            votes = labels.get(c.id, [])
+            # the majority label does not depend on the minimum agreement (that only decides
+            # whether the clip is kept), so it is safe to pick segments with it here
+            decided = gold_labels.get(c.id) or export.decide_label(
+                [v for _, v in votes], min_agreement=0.0, require_label=False).label
+            if c.id in gold_segs:
+                chosen = gold_segs[c.id]
+            else:
+                who = sorted(w for w, v in votes if v == decided)
+                chosen = [export.SegmentInput(g.label, g.start, g.end) for g in segs.get((c.id, who[0]), [])] if who else []
+            fp = c.fingerprint
+            out.append(export.ClipInput(
+                clip_id=str(c.id), media_path=c.path, group=c.group, sha256=c.sha256,
+                fingerprint=None if fp is None else fp & 0xFFFFFFFFFFFFFFFF, fps=c.fps,
+                frame_count=c.frame_count, labels=tuple(v for _, v in votes),
+                annotator_labels=tuple(votes), skipped=tuple(skips.get(c.id, ())),
+                gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
+                gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
+                segments=tuple(chosen), consent=c.consent, licence=c.licence,
+                source_path=str(self.ctx.media_root / c.path)))
+        return out
+
+    def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
+                    min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
+                    hamming_radius: int = 8, caption_threshold: float = 0.9,
+                    progress: Progress = None, captions: str = "gold") -> export.ExportPlan:
+        """Decide labels, assign splits and run every leakage check; writes nothing.
+
+        ``frozen`` defaults to the assignment of this project's last export; a path to an
+        export manifest (or its folder) uses that manifest's assignment instead. ``captions``
+        is the caption policy, ``"gold"`` or ``"gold+agreeing"`` (see
+        :class:`clipscribe.export.LabelPolicy`); clips with fewer references than the caption
+        guideline's captions per clip, and splits empty or far from their ratios, are in the
+        plan's ``warnings``.
+        """
+        self._require_lead("export")
+        self.compute_fingerprints(progress=progress)
+        if frozen is None:
+            frozen = self.ctx.read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
+                                           if s.get(Setting, ASSIGNMENT_KEY) else {}))
+        elif isinstance(frozen, (str, os.PathLike)):
+            frozen = _manifest_assignment(Path(frozen))
+        try:
+            return export.build_plan(
+                self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
+                project=self.ctx.settings.name, seed=seed, frozen=frozen,
+                **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold))
+        except ValueError as exc:
+            raise RecordError(f"export: {exc}") from None
+
+    def write_export(self, out_dir: str | os.PathLike, plan: export.ExportPlan, *,
+                     media_mode: str | None = None, webvtt: bool = False,
+                     override_reason: str | None = None, overwrite: bool = False,
+                     progress: Progress = None, cancel: threading.Event | None = None):
+        """Write a planned export atomically; remember its assignment for the next export.
+        Blocking leakage findings stop it unless ``override_reason`` is given (recorded)."""
+        self._require_lead("export")
+        self.ctx.check_writable("export")  # the export is recorded in the project: check first
+        #: unfinished folders of an earlier, killed export to the same place, removed now
+        self.last_export_cleaned = export.remove_stale_partials(out_dir)
+        override = export.Override(by=self.ctx.user or "unknown", reason=override_reason) if override_reason else None
+        manifest = export.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt,
+                                       override=override, overwrite=overwrite,
+                                       progress=progress, cancel=cancel)
+        assignment = dict(manifest.assignment)
+
+        def work(s) -> None:
+            s.merge(Setting(key=ASSIGNMENT_KEY, value=assignment))
+            self.ctx.log(s, "export", "dataset", None, None, None,
+                      {"folder": str(out_dir), "clips": len(plan.clips), "override": override_reason})
+        _recorded_or_removed(lambda: self.ctx.write(work), Path(out_dir))
+        return manifest
+
+    def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
+                   min_agreement: float = 0.6, hamming_radius: int = 8,
+                   caption_threshold: float = 0.9, progress: Progress = None,
+                   captions: str = "gold") -> list[export.ExportPlan]:
+        """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
+        groups), each planned and leakage-checked like a single export; writes nothing."""
+        self._require_lead("export")
+        self.compute_fingerprints(progress=progress)
+        inputs = self.export_inputs()
+        try:
+            opts = dict(project=self.ctx.settings.name, seed=seed,
+                        **self._plan_options(min_agreement, captions, hamming_radius,
+                                             caption_threshold))
+            base = export.build_plan(inputs, {"all": 1.0}, **opts)
+            items = [(c.clip_id, c.group, base.decisions[c.clip_id].label) for c in base.clips]
+            folds = export.assign_folds(items, k, seed=seed, val_fraction=val_fraction)
+            ratios = {"train": (k - 1) / k * (1 - val_fraction), "test": 1 / k}
+            if val_fraction:
+                ratios["val"] = (k - 1) / k * val_fraction
+            # every kept clip is frozen to its fold's split, so planning only checks leakage
+            return [export.build_plan(inputs, ratios, frozen=fold, **opts) for fold in folds]
+        except ValueError as exc:
+            raise RecordError(f"export: {exc}") from None
+
+    def write_folds(self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *,
+                    media_mode: str | None = None, webvtt: bool = False,
+                    override_reason: str | None = None, progress: Progress = None,
+                    cancel: threading.Event | None = None) -> list:
+        """Write folds as ``out_dir/split-1 .. split-k``, all or nothing: nothing is written when
+        any fold has blocking findings (unless overridden) or a write fails."""
+        self._require_lead("export")
+        out = Path(out_dir)
+        if out.exists() and any(out.iterdir()):
+            raise RecordError(f"{out}: exists and is not empty")
+        self.ctx.check_writable("export")
+        self.last_export_cleaned = export.remove_stale_partials(out)
+        blocked = [i + 1 for i, pl in enumerate(plans) if pl.leakage.blocking]
+        if blocked and not override_reason:
+            raise export.ExportBlocked(plans[blocked[0] - 1].leakage)
+        override = export.Override(by=self.ctx.user or "unknown", reason=override_reason) if override_reason else None
+        tmp = out.with_name(f".{out.name}.folds-{os.getpid()}")
+        manifests = []
+        try:
+            for i, plan in enumerate(plans, start=1):
+                manifests.append(export.write_export(
+                    tmp / f"split-{i}", plan, media_mode=media_mode, webvtt=webvtt, override=override,
+                    progress=(lambda d, n, i=i: progress((i - 1) * n + d, len(plans) * n)) if progress else None,
+                    cancel=cancel))
+            if out.exists():
+                out.rmdir()
+            os.replace(tmp, out)
+        finally:
+            if tmp.exists():
+                import shutil
+                shutil.rmtree(tmp, ignore_errors=True)
+        _recorded_or_removed(lambda: self.ctx.write(lambda s: self.ctx.log(
+            s, "export", "dataset", None, None, None,
+            {"folder": str(out), "folds": len(plans), "override": override_reason})), out)
+        return manifests
+
+    def _plan_options(self, min_agreement: float, captions: str, hamming_radius: int,
+                      caption_threshold: float) -> dict[str, Any]:
+        """Options of :func:`clipscribe.export.build_plan` that come from the project."""
+        return dict(policy=export.LabelPolicy(min_agreement=min_agreement, captions=captions),
+                    require_consent=self.ctx.settings.require_consent, hamming_radius=hamming_radius,
+                    caption_threshold=caption_threshold,
+                    captions_wanted=self.ctx.settings.caption_guideline.captions_per_clip)
+
+    def _require_lead(self, what: str) -> None:
+        self.ctx.read(lambda s: self.ctx.require_lead(
+            s, what, refusal="only a lead may {what}; {who!r} is not a lead"))
+        if self.ctx.is_server:
+            self.peers.team.require_export_right()  # the server decides by the login, not by self.ctx.user
+
+
+def _recorded_or_removed(record: Callable[[], Any], out: Path) -> None:
+    """Record a written export in the project; when that fails, remove the export again so
+    the command's failure and its effect agree (nothing half-done is left)."""
+    try:
+        record()
+    except Exception:
+        import shutil
+        shutil.rmtree(out, ignore_errors=True)
+        raise
+
+
+def _manifest_assignment(path: Path) -> dict[str, str]:
+    file = path / "manifest.json" if path.is_dir() else path
+    try:
+        data: Any = json.loads(file.read_text(encoding="utf-8"))
+        return {str(k): str(v) for k, v in data["assignment"].items()}
+    except (OSError, ValueError, KeyError, AttributeError) as exc:
+        raise RecordError(f"{file}: not an export manifest with an assignment ({exc})") from None
