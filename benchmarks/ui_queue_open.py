@@ -47,8 +47,8 @@ def main() -> None:
         build_s = time.perf_counter() - t
 
         from clipscribe.ui.app import application
-        from clipscribe.ui.main_window import MainWindow
-        from clipscribe.ui.queue_model import ClipQueueModel
+        from clipscribe.ui.workbench.main_window import MainWindow
+        from clipscribe.ui.workbench.queue_model import ClipQueueModel
         app = application()
         settings = QSettings(str(tmp / "w.ini"), QSettings.Format.IniFormat)
 

@@ -92,4 +92,9 @@ def test_cli_add_media_copy_from(project, shoot, capsys):
     assert "copied into" in out and "added 3 clip(s)" in out
     with Project.open(folder) as p:
         assert len(p.clips()) == 6
-    assert main(["add-media", str(folder), "x", "--copy-from", str(shoot)]) == 1
+    capsys.readouterr()
+    # FOLDER and --copy-from together is a usage error: exit 2, one line, nothing copied
+    assert main(["add-media", str(folder), "x", "--copy-from", str(shoot)]) == 2
+    assert capsys.readouterr().err == "clipscribe: error: give either FOLDER or --copy-from, not both\n"
+    with Project.open(folder) as p:
+        assert len(p.clips()) == 6

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt
 
-from clipscribe.ui.export_dialog import ExportDialog
+from clipscribe.ui.dialogs.export_dialog import ExportDialog
 
 WAIT_MS = 20000
 

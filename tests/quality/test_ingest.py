@@ -12,7 +12,7 @@ from clipscribe import Project
 from clipscribe.cli import main
 from clipscribe.errors import DuplicateMediaWarning
 from clipscribe.types import BY_FOLDER
-from clipscribe.ui.setup import GROUPINGS, ProjectSetup
+from clipscribe.ui.dialogs.setup import GROUPINGS, ProjectSetup
 
 
 @pytest.fixture

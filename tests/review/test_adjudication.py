@@ -6,7 +6,7 @@ from PySide6.QtWidgets import QLabel
 
 from clipscribe.export.inputs import CaptionInput
 from clipscribe.export.policy import decide_captions, decide_label
-from clipscribe.ui.review import ReviewPage
+from clipscribe.ui.review.page import ReviewPage
 from clipscribe.ui.review.desk import ReviewDesk
 
 import pytest

@@ -237,13 +237,13 @@ def test_the_window_reports_a_damaged_database_instead_of_saving(proj, qapp):
         p.close()
 
 
-def test_export_to_a_full_disk_is_one_line_and_leaves_nothing(proj, tiny_disk):
+def test_export_to_a_full_disk_is_one_line_and_leaves_nothing(proj, tiny_disk, capsys):
     out = tiny_disk / "out"
     _fill(tiny_disk)
-    r = run_cli("export", str(proj), str(out), "--override", "test", "--min-agreement", "0",
-                "--media", "copy", "--user", "lead")
-    assert r.returncode == 1
-    assert "No space left on device" in one_error_line(r.stderr)
+    rc, err = _cli(capsys, "export", str(proj), str(out), "--override", "test", "--min-agreement",
+                   "0", "--media", "copy", "--user", "lead")
+    assert rc == 1
+    assert "No space left on device" in one_error_line(err)
     assert [p.name for p in tiny_disk.iterdir()] == ["filler"]
 
 

@@ -10,8 +10,9 @@ import sys
 import pytest
 
 from clipscribe import Project
+from clipscribe.cli import main
 
-from ._fixtures import env, run_cli, small_project
+from ._fixtures import env, small_project
 
 KILLED_COPY = """
 import os, signal, sys
@@ -51,7 +52,14 @@ def proj(tmp_path, make_video):
         yield p.folder
 
 
-def test_a_killed_copy_resumes_in_the_same_folder_without_duplicates(proj, tmp_path, make_video):
+def _cli(capsys, *args):
+    rc = main([str(a) for a in args])
+    out, err = capsys.readouterr()
+    return rc, out, err
+
+
+def test_a_killed_copy_resumes_in_the_same_folder_without_duplicates(proj, tmp_path, make_video,
+                                                                     capsys):
     src = tmp_path / "shoot"
     for i in range(4):
         make_video(src / f"take-{i}.mp4", n=30, size=(160, 120), seed=20 + i)
@@ -60,28 +68,28 @@ def test_a_killed_copy_resumes_in_the_same_folder_without_duplicates(proj, tmp_p
     left = sorted(p.name for p in dest.iterdir())
     assert any(n.endswith(".part") for n in left), left       # the fault really left a .part
     assert any(n.endswith(".mp4") and not n.startswith(".") for n in left), left
-    r = run_cli("add-media", str(proj), "--copy-from", str(src), "--user", "lead")
-    assert r.returncode == 0, r.stderr
-    assert f"copied into {dest}" in r.stdout and "added 4 clip(s)" in r.stdout
+    rc, out, err = _cli(capsys, "add-media", proj, "--copy-from", src, "--user", "lead")
+    assert rc == 0, err
+    assert f"copied into {dest}" in out and "added 4 clip(s)" in out
     assert not (proj / "media" / "shoot-2").exists()
     assert sorted(p.name for p in dest.iterdir()) == [f"take-{i}.mp4" for i in range(4)]
     for i in range(4):
         assert (dest / f"take-{i}.mp4").read_bytes() == (src / f"take-{i}.mp4").read_bytes()
-    r = run_cli("add-media", str(proj), "--copy-from", str(src), "--user", "lead")
-    assert r.returncode == 0 and "added 0 clip(s); 4 already present" in r.stdout
+    rc, out, _ = _cli(capsys, "add-media", proj, "--copy-from", src, "--user", "lead")
+    assert rc == 0 and "added 0 clip(s); 4 already present" in out
     with Project.open(proj) as p:
         assert len(p.clips()) == 8 and len({c.path for c in p.clips()}) == 8
 
 
-def test_an_export_cleans_what_a_killed_export_left(proj, tmp_path):
+def test_an_export_cleans_what_a_killed_export_left(proj, tmp_path, capsys):
     out = tmp_path / "out"
     _killed(KILLED_EXPORT, proj, out)
     stale = [p for p in tmp_path.iterdir() if p.name.startswith(".out.") and p.name.endswith(".partial")]
     assert len(stale) == 1 and any(stale[0].rglob("*.mp4"))
     assert not out.exists()
-    r = run_cli("export", str(proj), str(out), "--override", "test", "--min-agreement", "0",
-                "--user", "lead")
-    assert r.returncode == 0, r.stderr
-    assert f"removed {stale[0].name}, left unfinished by an earlier export" in r.stdout
+    rc, stdout, err = _cli(capsys, "export", proj, out, "--override", "test", "--min-agreement", "0",
+                           "--user", "lead")
+    assert rc == 0, err
+    assert f"removed {stale[0].name}, left unfinished by an earlier export" in stdout
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".out.")]
     assert (out / "manifest.json").is_file()

@@ -11,6 +11,7 @@ import subprocess
 import pytest
 
 from clipscribe import Project, ProjectError, RecordError
+from clipscribe.cli import main
 from clipscribe.schema.settings import SETTINGS_FILE
 
 from ._fixtures import can_drop_privileges, one_error_line, run_cli, small_project
@@ -80,16 +81,15 @@ def test_unreadable_file_and_folder_are_named_with_the_true_reason(proj, make_vi
 
 
 @pytest.mark.parametrize("root", ["/", "/proc", "../outside", "/usr/share"])
-def test_a_media_root_that_would_walk_the_machine_is_refused(proj, root):
+def test_a_media_root_that_would_walk_the_machine_is_refused(proj, root, capsys):
     path = proj.folder / SETTINGS_FILE
     data = json.loads(path.read_text())
     data["media_root"] = root
     path.write_text(json.dumps(data))
     with pytest.raises(ProjectError, match="media_root"):
         Project.open(proj.folder)
-    r = run_cli("add-media", str(proj.folder))
-    assert r.returncode == 1
-    assert "media root" in one_error_line(r.stderr)
+    assert main(["add-media", str(proj.folder)]) == 1
+    assert "media root" in one_error_line(capsys.readouterr().err)
 
 
 def test_a_media_root_holding_the_project_is_refused(tmp_path):

@@ -13,7 +13,7 @@ from clipscribe import RecordError
 from clipscribe.cli import main
 from clipscribe.schema.records import MAX_CAPTION_CHARS
 from clipscribe.store.models import Caption
-from clipscribe.ui.caption_checks import check_caption
+from clipscribe.schema.caption_rules import check_caption
 
 from ._fixtures import one_error_line, small_project
 

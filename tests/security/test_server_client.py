@@ -105,7 +105,7 @@ def test_a_folder_pointing_at_a_hostile_server_gets_no_password(tmp_path, rogue)
     assert "no password was sent" in str(err.value)
     assert secret.encode() not in rogue.received
     # the workbench does not ask again for a password it would not send anyway
-    from clipscribe.ui.login import open_project
+    from clipscribe.ui.dialogs.login import open_project
     with pytest.raises(ProjectError, match="no password was sent"):
         open_project(folder, user="ann", password=secret,
                      ask=lambda *a: pytest.fail("asked for a password for a non-SCRAM server"))
@@ -171,7 +171,7 @@ def test_add_person_takes_the_variable_only_without_a_terminal(server_project, u
 
 
 def test_login_dialog_names_the_server(qtbot, tmp_path):
-    from clipscribe.ui.login import LoginDialog
+    from clipscribe.ui.dialogs.login import LoginDialog
     dlg = LoginDialog(Path(tmp_path), "ann", "", server="db.example.test:5432/kitchen")
     qtbot.addWidget(dlg)
     texts = " ".join(w.text() for w in dlg.findChildren(type(dlg.reason)))

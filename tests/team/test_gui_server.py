@@ -10,7 +10,7 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")  # before Qt is imported a
 import pytest  # noqa: E402
 from PySide6.QtCore import QSettings, Qt  # noqa: E402
 
-from clipscribe.ui.queue_model import ClipIdRole  # noqa: E402
+from clipscribe.ui.workbench.queue_model import ClipIdRole  # noqa: E402
 
 from .conftest import add_clips  # noqa: E402
 
@@ -24,8 +24,8 @@ def gui(qtbot, tmp_path, monkeypatch):
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "cache"))  # thumbnails, motion curves
     monkeypatch.delenv("CLIPSCRIBE_PASSWORD", raising=False)
     from clipscribe.ui.app import application
-    from clipscribe.ui.login import open_project
-    from clipscribe.ui.main_window import MainWindow
+    from clipscribe.ui.dialogs.login import open_project
+    from clipscribe.ui.workbench.main_window import MainWindow
     made = []
 
     def make(folder, user, ask):
@@ -59,7 +59,7 @@ def team(server_project, uid):
 
 def test_login_dialog_prefills_the_name_and_hides_the_password(qtbot, tmp_path):
     from clipscribe.ui.app import application
-    from clipscribe.ui.login import LoginDialog
+    from clipscribe.ui.dialogs.login import LoginDialog
     from PySide6.QtWidgets import QLineEdit
     application()
     dlg = LoginDialog(tmp_path, "ann", "The server refused that name and password. Try again.")
@@ -78,7 +78,7 @@ def test_cancelled_login_opens_nothing(team, gui):
 
 
 def test_cancelling_the_login_of_clipscribe_open_exits_0(team, monkeypatch):
-    import clipscribe.ui.login as login
+    import clipscribe.ui.dialogs.login as login
     from clipscribe.ui.app import run
     p, ann, _ = team
     monkeypatch.delenv("CLIPSCRIBE_PASSWORD", raising=False)
@@ -91,8 +91,8 @@ def test_reopening_the_same_project_keeps_the_login_it_asked_for(team, monkeypat
     """After Set up project the window reopens on the same project: the password the login
     dialog gave is used again, not asked for twice; another project starts afresh."""
     import clipscribe.ui.app as app_module
-    import clipscribe.ui.login as login
-    from clipscribe.ui import start
+    import clipscribe.ui.dialogs.login as login
+    from clipscribe.ui.dialogs import start
     p, ann, _ = team
     monkeypatch.delenv("CLIPSCRIBE_PASSWORD", raising=False)
     asked, shown = [], []

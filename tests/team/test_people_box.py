@@ -4,7 +4,7 @@ new password replaces the old one."""
 import psycopg
 import pytest
 
-from clipscribe.ui.people import PeopleBox
+from clipscribe.ui.dialogs.people import PeopleBox
 
 from .conftest import connect_as
 

@@ -32,7 +32,7 @@ def settings(tmp_path):
 def open_window(qtbot, settings):
     """Open the workbench on a project folder as a user; closes everything afterwards."""
     from clipscribe.ui.app import application
-    from clipscribe.ui.main_window import MainWindow
+    from clipscribe.ui.workbench.main_window import MainWindow
     made = []
 
     def make(folder, user, **kw):

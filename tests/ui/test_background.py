@@ -10,7 +10,7 @@ import numpy as np
 from PySide6.QtCore import QTimer
 from PySide6.QtGui import QImage
 
-from clipscribe.ui.jobs_view import ClipJobs
+from clipscribe.ui.workbench.jobs_view import ClipJobs
 from clipscribe.ui.workers import FrameLoader
 
 HEARTBEAT_MS = 10

@@ -2,7 +2,7 @@
 
 import pytest
 
-from clipscribe.ui.caption_checks import check_caption, count_words, starts_with
+from clipscribe.schema.caption_rules import check_caption, count_words, starts_with
 
 RULES = dict(min_words=3, max_words=8, banned_openings=["there is", "a video of"])
 

@@ -6,7 +6,7 @@ from PySide6.QtCore import Qt, QTimer
 from PySide6.QtWidgets import QApplication
 
 from clipscribe import Project
-from clipscribe.ui.captions import IDLE_SAVE_MS
+from clipscribe.ui.workbench.captions import IDLE_SAVE_MS
 
 from .conftest import wait_frame
 

@@ -5,7 +5,7 @@ from PySide6.QtGui import QInputMethodEvent
 from PySide6.QtWidgets import QApplication
 
 from clipscribe import Project
-from clipscribe.ui.queue_model import ClipIdRole
+from clipscribe.ui.workbench.queue_model import ClipIdRole
 
 from .conftest import wait_frame
 

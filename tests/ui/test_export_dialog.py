@@ -15,8 +15,8 @@ from PySide6.QtWidgets import QMainWindow
 from clipscribe import Project
 from clipscribe.export import ExportCancelled, Finding, export_schemas
 from clipscribe.ui.app import application
-from clipscribe.ui.export_dialog import ExportDialog, open_export_dialog
-from clipscribe.ui.leakage_model import LeakageModel, RowsModel, split_label_rows
+from clipscribe.ui.dialogs.export_dialog import ExportDialog, open_export_dialog
+from clipscribe.ui.dialogs.leakage_model import LeakageModel, RowsModel, split_label_rows
 
 WAIT_MS = 15000
 

@@ -109,7 +109,7 @@ def test_leakage_model_with_split_column_passes_the_model_tester(qtbot):
 
     from clipscribe.export import Finding
     from clipscribe.ui.app import application
-    from clipscribe.ui.leakage_model import LeakageModel
+    from clipscribe.ui.dialogs.leakage_model import LeakageModel
     application()
     m = LeakageModel()
     QAbstractItemModelTester(m, QAbstractItemModelTester.FailureReportingMode.Fatal)

@@ -2,7 +2,7 @@
 
 from PySide6.QtGui import QKeySequence
 
-from clipscribe.ui.dialogs import ShortcutSheet, shortcut_rows
+from clipscribe.ui.dialogs.help import ShortcutSheet, shortcut_rows
 
 from .conftest import wait_frame
 

@@ -25,7 +25,7 @@ def test_the_opening_window_needs_only_qt_and_goes_when_the_workbench_shows(qtbo
     from PySide6.QtWidgets import QApplication
 
     from clipscribe.ui import app as app_module
-    from clipscribe.ui.main_window import MainWindow
+    from clipscribe.ui.workbench.main_window import MainWindow
     seen = []
 
     def exec_(self):  # instead of running: note what is on screen, then close the workbench

@@ -94,7 +94,7 @@ def test_background_job_words_on_the_strip_have_enough_contrast(qtbot):
     from PySide6.QtGui import QColor, QImage
 
     from clipscribe.ui import theme
-    from clipscribe.ui.scrub_bar import ScrubBar
+    from clipscribe.ui.workbench.scrub_bar import ScrubBar
     bar = ScrubBar()
     qtbot.addWidget(bar)
     bar.resize(800, bar.sizeHint().height())
@@ -119,8 +119,8 @@ def test_background_job_words_on_the_strip_have_enough_contrast(qtbot):
 @pytest.mark.parametrize("width,height", SCREENS)
 def test_setup_dialog_and_start_window_fit(qtbot, sample, settings, outside, tmp_path, width, height):
     from clipscribe import Project
-    from clipscribe.ui.setup import ProjectSetup
-    from clipscribe.ui.start import StartWindow
+    from clipscribe.ui.dialogs.setup import ProjectSetup
+    from clipscribe.ui.dialogs.start import StartWindow
     from PySide6.QtWidgets import QAbstractSpinBox, QLabel, QPushButton
     with Project.open(sample) as p:
         d = ProjectSetup(p, pick=lambda caption: "", ask=lambda what: "discard")

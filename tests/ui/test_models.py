@@ -4,14 +4,14 @@ from PySide6.QtCore import QModelIndex
 from PySide6.QtTest import QAbstractItemModelTester
 
 from clipscribe import Project
-from clipscribe.ui.queue_model import ClipIdRole, ClipQueueModel
-from clipscribe.ui.segment_model import SegmentModel
+from clipscribe.ui.workbench.queue_model import ClipIdRole, ClipQueueModel
+from clipscribe.ui.workbench.segment_model import SegmentModel
 
 Mode = QAbstractItemModelTester.FailureReportingMode
 
 
 def test_queue_model_pages_filters_and_refreshes(qtbot, sample, monkeypatch):
-    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 5)  # force several pages
+    monkeypatch.setattr("clipscribe.ui.workbench.queue_model.PAGE", 5)  # force several pages
     with Project.open(sample, user="annotator-3") as p:
         model = ClipQueueModel(p)
         assert model.rowCount() == 5 and model.canFetchMore(QModelIndex())
@@ -45,7 +45,7 @@ def test_segment_model(qtbot, sample):
 
 
 def test_queue_jump_reads_only_the_page_of_the_target(qtbot, sample, monkeypatch):
-    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 3)  # 12 clips: pages 0..3
+    monkeypatch.setattr("clipscribe.ui.workbench.queue_model.PAGE", 3)  # 12 clips: pages 0..3
     with Project.open(sample, user="annotator-3") as p:
         model = ClipQueueModel(p)
         QAbstractItemModelTester(model, Mode.Fatal)  # watches the inserts of the jump too
@@ -66,8 +66,8 @@ def test_queue_jump_reads_only_the_page_of_the_target(qtbot, sample, monkeypatch
 
 
 def test_queue_panel_selects_a_far_clip(qtbot, sample, monkeypatch):
-    from clipscribe.ui.queue import QueuePanel
-    monkeypatch.setattr("clipscribe.ui.queue_model.PAGE", 2)
+    from clipscribe.ui.workbench.queue import QueuePanel
+    monkeypatch.setattr("clipscribe.ui.workbench.queue_model.PAGE", 2)
     with Project.open(sample, user="annotator-3") as p:
         model = ClipQueueModel(p)
         panel = QueuePanel(model, labels=[], groups=[], people=[])

@@ -6,8 +6,8 @@ import pytest
 
 from clipscribe import Project
 from clipscribe.media import copy_in
-from clipscribe.ui import start
-from clipscribe.ui.setup import GROUPINGS, ProjectSetup
+from clipscribe.ui.dialogs import start
+from clipscribe.ui.dialogs.setup import GROUPINGS, ProjectSetup
 
 
 @pytest.fixture
@@ -118,7 +118,7 @@ def test_the_window_offers_setup_to_a_lead_and_reopens_after_a_change(qtbot, ope
 
         def exec(self):
             return 0
-    monkeypatch.setattr("clipscribe.ui.setup.ProjectSetup", Changed)
+    monkeypatch.setattr("clipscribe.ui.dialogs.setup.ProjectSetup", Changed)
     w2.actions_["setup"].trigger()
     assert not w2.isVisible() and start.take_switch() == p2.folder
 

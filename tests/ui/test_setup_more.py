@@ -7,7 +7,7 @@ from PySide6.QtCore import Qt
 
 from clipscribe import Project
 from clipscribe.cli import main
-from clipscribe.ui.setup import ProjectSetup
+from clipscribe.ui.dialogs.setup import ProjectSetup
 
 
 @pytest.fixture

@@ -8,10 +8,10 @@ from PySide6.QtWidgets import QDialog
 from clipscribe import Project
 from clipscribe.schema.settings import SETTINGS_FILE
 from clipscribe.ui import app as app_module
-from clipscribe.ui import start
+from clipscribe.ui.dialogs import start
 from clipscribe.ui.boot import LAST_PROJECT_KEY, RECENT_MAX, recent_projects, remember_project
 from clipscribe.media.copy_in import free_folder
-from clipscribe.ui.start import SAMPLE_NAME, StartWindow
+from clipscribe.ui.dialogs.start import SAMPLE_NAME, StartWindow
 
 
 def _window(qtbot, settings, *picks):

@@ -18,7 +18,7 @@ from .. import Project
 from ..errors import ProjectError, RecordError
 from . import gc_guard
 from .boot import APPLICATION, ORGANISATION
-from .style import STYLE_SHEET
+from .theme import STYLE_SHEET
 
 ICON = Path(__file__).with_name("assets") / "clipscribe.svg"
 SCREENSHOT_SIZE = (1440, 900)
@@ -40,14 +40,8 @@ def application() -> QApplication:
 def open_window(project: Project, *, view: str = "work", settings: QSettings | None = None):
     """The workbench window on ``view``: "work", "review" (the review desk) or "board" (the
     agreement board, the review view's second tab)."""
-    from .main_window import MainWindow
-    from .review import install_review_desk
-    page_view = "review" if view == "board" else view
-    window = MainWindow(project, settings=settings, view=page_view)
-    install_review_desk(window, view=page_view)
-    if view == "board" and hasattr(window.review_desk, "show_board"):
-        window.review_desk.show_board()  # starts computing the board in the background
-    return window
+    from .workbench.main_window import MainWindow
+    return MainWindow(project, settings=settings, view=view)
 
 
 def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str = "work",
@@ -63,7 +57,8 @@ def run(folder: str | os.PathLike | None, *, user: str | None = None, view: str 
     frame, thumbnails and motion curve are shown (or after a timeout), and the app quits; it
     never asks for anything and an unopenable project exits 2.
     """
-    from . import launch, start
+    from . import launch
+    from .dialogs import start
     app = application()
     with _quit_on_interrupt(app) as interrupted:
         code = _run(app, start, launch, folder, user=user, view=view, screenshot=screenshot,
@@ -143,7 +138,7 @@ def _run(app: QApplication, start, launch, folder, *, user, view, screenshot, pa
 
 def _open(folder, *, user, password, ask: bool) -> tuple[Project | None, str | None]:
     """(project or None if the login was cancelled, None) or (None, one line saying why not)."""
-    from .login import ask_with_dialog, open_project
+    from .dialogs.login import ask_with_dialog, open_project
     try:
         project = open_project(folder, user=user, password=password,
                                ask=ask_with_dialog if ask else None)
@@ -185,12 +180,12 @@ def _show(app: QApplication, project: Project, *, view: str, screenshot) -> int:
                 done["fired"] = True
                 QTimer.singleShot(150, grab)  # let the last paint land
 
-        page = window.review_desk if view in ("review", "board") else None
-        if view == "board" and hasattr(page, "board"):  # computed in the background: wait
+        page = window.review_page.page if view in ("review", "board") else None
+        if page is not None and view == "board":  # computed in the background: wait
             page.board.loaded.connect(once)
-        elif hasattr(page, "desk"):  # the desk ranks its queue in the background: wait for it
+        elif page is not None:  # the desk ranks its queue in the background: wait for it
             page.desk.ready.connect(once)
-        elif page is not None:  # the refusal note of a non-lead: nothing to wait for
+        elif view in ("review", "board"):  # the refusal note of a non-lead: nothing to wait for
             once()
         else:
             window.ready.connect(once)

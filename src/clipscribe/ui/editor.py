@@ -11,10 +11,7 @@ from typing import Any
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
-from sqlalchemy.exc import DBAPIError
-
 from ..errors import ProjectError, RecordError, ServerBusyError, StaleWriteError
-from ..store.sqlite_check import explain
 from .undo import EditCommand
 
 
@@ -59,17 +56,16 @@ class ClipEditor(QObject):
         self.saving.emit()
         self.last_refusal = None
         try:
-            out = fn()
+            with self.project.recording() as ids:
+                out = fn()
         except (RecordError, ServerBusyError) as exc:  # busy: a lock elsewhere, try again
             self.last_refusal = exc
             self.notSaved.emit(stale(exc) if stale and isinstance(exc, StaleWriteError) else str(exc))
             return None
-        except (ProjectError, DBAPIError) as exc:  # a damaged, read-only, full or busy database
+        except ProjectError as exc:  # a damaged, read-only, full or busy database (DatabaseFault)
             self.last_refusal = exc
-            known = explain(exc) if isinstance(exc, DBAPIError) else None
-            self.notSaved.emit(known or str(exc).splitlines()[0])
+            self.notSaved.emit((str(exc).splitlines() or [type(exc).__name__])[0])
             return None
-        ids = list(self.project.last_edit_ids)
         if undoable and ids:
             self.undo_stack.push(EditCommand(text, self.project, ids, on_change=self._after_undo,
                                              on_error=self.notSaved.emit))

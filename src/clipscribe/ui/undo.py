@@ -1,7 +1,7 @@
 """Undo and redo over the project's edit history.
 
 Each command is pushed *after* its edit has been written; it holds the history row ids the
-write produced (``Project.last_edit_ids``). Undo reverts them; redo reverts the undo.
+write produced (collected with ``Project.recording()``). Undo reverts them; redo reverts the undo.
 """
 
 from __future__ import annotations

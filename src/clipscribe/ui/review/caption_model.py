@@ -14,7 +14,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
-from ...project.review import ClipComparison
+from ...types import ClipComparison
 
 Index = QModelIndex | QPersistentModelIndex
 GoldItem = tuple[str, int | None]

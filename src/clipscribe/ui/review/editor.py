@@ -58,8 +58,9 @@ class GoldCommand(QUndoCommand):
         try:
             return p.revert(ids)
         except StaleWriteError:
-            write_gold(p, self.clip, self.kind, target, ed.me)
-            return list(p.last_edit_ids)
+            with p.recording() as written:
+                write_gold(p, self.clip, self.kind, target, ed.me)
+            return written
         except RecordError as exc:
             ed.notSaved.emit(f"Cannot undo “{self.text()}”: {exc}")
             self.setObsolete(True)
@@ -90,11 +91,11 @@ class ReviewEditor(ClipEditor):
         before = gold_state(self.project, clip, kind)
         self.saving.emit()
         try:
-            fn()
+            with self.project.recording() as ids:
+                fn()
         except RecordError as exc:
             self.notSaved.emit(str(exc))
             return None
-        ids = list(self.project.last_edit_ids)
         after = gold_state(self.project, clip, kind)
         if ids and after != before:
             self.undo_stack.push(GoldCommand(text, self, clip, kind, before, after, ids))

@@ -7,7 +7,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
-from ...project.review import DisputedClip
+from ...types import DisputedClip
 
 ClipIdRole = Qt.ItemDataRole.UserRole + 1
 SortRole = Qt.ItemDataRole.UserRole + 2

@@ -1,6 +1,5 @@
 """Team-mode commands: move a project onto a server, give people logins, change their roles,
-plan assignments, pull the next clip, switch blind mode. Registered by
-:func:`clipscribe.cli._extend`."""
+plan assignments, pull the next clip, switch blind mode."""
 
 from __future__ import annotations
 
@@ -10,24 +9,19 @@ import json
 import os
 import sys
 
-from .errors import RecordError
-
-
-def _open(args: argparse.Namespace):
-    from .project import Project
-    return Project.open(args.project, user=getattr(args, "user", None),
-                        password=os.environ.get("CLIPSCRIBE_PASSWORD"))
+from ..errors import RecordError
+from .common import open_project
 
 
 def cmd_move(args: argparse.Namespace) -> int:
-    from .project import Project
-    from .project.team_move import write_report
+    from ..project import Project
+    from ..project.team_move import write_report
     url = args.url
     pw = os.environ.get("CLIPSCRIBE_PASSWORD")
     if pw:
         from sqlalchemy.engine import make_url
         url = make_url(url).set(password=pw).render_as_string(hide_password=False)
-    from .store.urls import secret_warning
+    from ..store.urls import secret_warning
     if warning := secret_warning(url, "the URL"):
         print(f"clipscribe: {warning}", file=sys.stderr)
     report = Project.move_to_server(args.project, url, lead=args.lead)
@@ -37,7 +31,7 @@ def cmd_move(args: argparse.Namespace) -> int:
 
 
 def cmd_assign(args: argparse.Namespace) -> int:
-    with _open(args) as p:
+    with open_project(args) as p:
         if args.lease_hours is not None:
             p.set_lease(args.lease_hours)
         plan = p.assign(per_clip=args.per_clip, overlap=args.overlap,
@@ -49,7 +43,7 @@ def cmd_assign(args: argparse.Namespace) -> int:
 
 
 def cmd_next(args: argparse.Namespace) -> int:
-    with _open(args) as p:
+    with open_project(args) as p:
         clip = p.next_clip()
         if clip is None:
             print("nothing left to annotate")
@@ -78,14 +72,14 @@ def new_password(name: str, *, required: bool = False) -> str | None:
 
 def cmd_password(args: argparse.Namespace) -> int:
     pw = new_password(args.name, required=True)
-    with _open(args) as p:
+    with open_project(args) as p:
         login = p.set_password(args.name, pw)
         print(f"{args.name!r} logs in as {login!r}")
     return 0
 
 
 def cmd_role(args: argparse.Namespace) -> int:
-    with _open(args) as p:
+    with open_project(args) as p:
         before = p.role(args.name)
         p.set_role(args.name, args.role)
         article = "a" if args.role == "lead" else "an"
@@ -94,7 +88,7 @@ def cmd_role(args: argparse.Namespace) -> int:
 
 
 def cmd_blind(args: argparse.Namespace) -> int:
-    with _open(args) as p:
+    with open_project(args) as p:
         if args.mode is not None:
             p.set_blind(args.mode == "on")
         print(f"blind mode {'on' if p.blind_mode() else 'off'}")

@@ -6,9 +6,9 @@ from pathlib import Path
 
 from PySide6.QtCore import QObject, Signal, Slot
 
-from ..media import motion_curve, thumbnail_strip
-from .images import bgr_to_qimage
-from .workers import Job, JobRunner
+from ...media import motion_curve, thumbnail_strip
+from ..images import bgr_to_qimage
+from ..workers import Job, JobRunner
 
 THUMBS = 24
 THUMB_H = 56

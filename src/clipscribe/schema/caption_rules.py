@@ -15,7 +15,7 @@ import unicodedata
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
-from ..schema.records import MAX_CAPTION_CHARS
+from .records import MAX_CAPTION_CHARS
 
 # Han ideographs (with extensions and compatibility forms), kana, bopomofo, and CJK symbols
 # that are themselves words. Hangul is spaced like English and is counted by spaces.

@@ -34,7 +34,7 @@ def make_action(parent, text: str, keys, slot: Callable | None, group: str, *,
 
 
 def _open_export(w) -> None:
-    from .export_dialog import open_export_dialog  # loaded on first use
+    from ..dialogs.export_dialog import open_export_dialog  # loaded on first use
     open_export_dialog(w)
 
 

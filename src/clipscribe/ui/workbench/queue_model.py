@@ -13,8 +13,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 
-from ..project.catalog import clip_state_word
-from ..project.workbench import QueueRow
+from ...types import QueueRow, clip_state_word
 
 PAGE = 200
 COLUMNS = ("Clip", "Group", "Your label", "Your state")

@@ -19,11 +19,11 @@ from PySide6.QtWidgets import (
     QPushButton, QVBoxLayout, QWidget,
 )
 
-from ..media.copy_in import free_folder
-from ..schema.settings import SETTINGS_FILE
-from .boot import recent_projects
-from .dialogs import CautionsNote
-from .workers import Job, JobRunner
+from ...media.copy_in import free_folder
+from ...schema.settings import SETTINGS_FILE
+from ..boot import recent_projects
+from ..workers import Job, JobRunner
+from .help import CautionsNote
 
 SAMPLE_NAME = "clipscribe-sample"
 
@@ -36,14 +36,14 @@ def _file_dialog(parent: QWidget) -> Pick:
 
 
 def _build_sample(folder: Path, *, cancel, progress) -> Path:  # worker thread
-    from ..sample import build_sample
+    from ...sample import build_sample
     progress(0, 0)
     build_sample(folder)
     return folder
 
 
 def _create_empty(folder: Path, *, cancel, progress) -> Path:  # worker thread
-    from .. import Project
+    from ... import Project
     progress(0, 0)
     with Project.create(folder):
         pass

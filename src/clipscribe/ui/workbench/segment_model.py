@@ -6,7 +6,7 @@ from typing import Any
 
 from PySide6.QtCore import QAbstractListModel, QModelIndex, QPersistentModelIndex, Qt
 
-from ..project.annotate import SegmentInfo
+from ...types import SegmentInfo
 
 SegmentRole = Qt.ItemDataRole.UserRole + 1
 Index = QModelIndex | QPersistentModelIndex

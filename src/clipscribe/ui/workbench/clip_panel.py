@@ -14,7 +14,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from . import theme
+from .. import theme
 
 
 #: unread comments stand out: dark amber text on a pale ground (readable in light and dark themes)

@@ -1,5 +1,6 @@
 """The workbench window: wires the queue, viewer, scrub bar, timeline, clip panel and
-captions to the project. Widgets only show and emit; edits go through :class:`ClipEditor`."""
+captions to the project. Widgets only show and emit; edits go through :class:`ClipEditor`.
+The window has two views: the work view and the review view (the lead's review page)."""
 
 from __future__ import annotations
 
@@ -9,24 +10,26 @@ from PySide6.QtWidgets import (
     QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
 )
 
+from ..boot import remember_project
+from ..dialogs.help import CautionsNote, ShortcutSheet
+from ..editor import ClipEditor
+from ..focus import FocusRing, fit_window
+from ..player import Player, TransportBar
+from ..review.page import ReviewPage, ReviewView
+from ..viewer import FrameView
 from .actions import build_actions
-from .boot import remember_project
 from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
-from .dialogs import CautionsNote, ShortcutSheet
-from .editor import ClipEditor
-from .focus import FocusRing, fit_window
 from .jobs_view import ClipJobs
 from .menus import build_menus
 from .others_captions import OthersCaptions
-from .player import Player, TransportBar
 from .queue import QueuePanel
 from .queue_model import ClipQueueModel
 from .scrub_bar import ScrubBar
 from .segment_model import SegmentModel
 from .segments_ops import SegmentOps
 from .timeline import Timeline
-from .viewer import FrameView
+from .work_pause import WorkViewPause
 
 RESUME_MS = 400
 
@@ -35,6 +38,8 @@ class MainWindow(SegmentOps, QMainWindow):
     ready = Signal()  # the first clip's frame, thumbnails and motion curve are on screen
 
     def __init__(self, project, *, settings: QSettings | None = None, view: str = "work") -> None:
+        """``view``: "work", "review" (the review desk) or "board" (the agreement board, the
+        review view's second tab)."""
         super().__init__()
         self.project = project
         self.settings = settings if settings is not None else QSettings()
@@ -48,15 +53,17 @@ class MainWindow(SegmentOps, QMainWindow):
         self._ready_parts: set[str] = set()
         self._build_widgets()
         self.actions_ = build_actions(self)
+        self.work_pause = WorkViewPause(self.actions_, lambda: self.findChildren(QDockWidget),
+                                        self.editor.undo_stack)
         self._build_panels()
         build_menus(self)
         self._wire()
         self._resume_timer = QTimer(self, singleShot=True, interval=RESUME_MS)
         self._resume_timer.timeout.connect(self._write_resume)
         self._restore_layout()
-        self.show_view(view)
         self._open_first()
         self._announce_comments()
+        self.show_view(view)
         self._write_resume()  # remembered as the last project even before any clip is open
 
     # ---- building ----------------------------------------------------------------------
@@ -91,9 +98,7 @@ class MainWindow(SegmentOps, QMainWindow):
         lay.addWidget(transport)
         lay.addWidget(self.scrub)
         lay.addWidget(self.timeline)
-        self.review_page = QLabel("The review desk is not part of this build yet.\n"
-                                  "Use the work view (Ctrl+1).")
-        self.review_page.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.review_page = ReviewView(self.project)
         self.stack = QStackedWidget()
         self.stack.addWidget(work)
         self.stack.addWidget(self.review_page)
@@ -138,6 +143,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.timeline.segmentSelected.connect(self._segment_selected)
         self.timeline.edgeMoved.connect(self.editor.move_segment)
         self.queue.clipChosen.connect(self.open_clip)
+        self.stack.currentChanged.connect(self._view_switched)
+        self.review_page.built.connect(self._review_built)
         self.clip_panel.skipConfirmed.connect(lambda r: self.editor.set_state("skipped", r))
         self.clip_panel.commentsRead.connect(self.mark_comments_read)
         self.editor.changed.connect(self.refresh)
@@ -339,18 +346,47 @@ class MainWindow(SegmentOps, QMainWindow):
         self.save_state.setText(text)
 
     # ---- views, focus, help ------------------------------------------------------------
-    def set_review_view(self, widget: QWidget) -> None:
-        """Put the review desk in place of its placeholder (page 1 of the stack)."""
-        self.stack.removeWidget(self.review_page)
-        self.review_page.deleteLater()
-        self.review_page = widget
-        self.stack.insertWidget(1, widget)
-
     def show_view(self, view: str) -> None:
-        review = view == "review"
+        """"work", "review" or "board" (the review view on its agreement board tab)."""
+        review = view in ("review", "board")
         self.stack.setCurrentIndex(1 if review else 0)
         self.actions_["work_view"].setChecked(not review)
         self.actions_["review_view"].setChecked(review)
+        page = self.review_page.page
+        if view == "board" and page is not None:
+            page.show_board()  # starts computing the board in the background
+
+    @property
+    def review_desk(self) -> ReviewPage | QLabel | None:
+        """A lead's review page once built (None before the first switch to the review view);
+        for anyone else the note saying why there is none."""
+        return self.review_page.page or self.review_page.refusal
+
+    @Slot(int)
+    def _view_switched(self, index: int) -> None:
+        """Keep the work view's docks and shortcuts out of the review view's way."""
+        if self.stack.widget(index) is self.review_page:
+            self.review_page.build()
+            self.player.pause()
+            self.work_pause.hold()
+        else:
+            self.work_pause.release()
+
+    @Slot(ReviewPage)
+    def _review_built(self, page: ReviewPage) -> None:
+        page.desk.status.connect(self._review_status)
+        menu = self.menuBar().addMenu("&Review")
+        for a in page.menu_actions():
+            menu.addAction(a)
+
+    @Slot(str)
+    def _review_status(self, msg: str) -> None:
+        """A desk message on the status bar; whether a decision was saved goes to the one
+        place that says so (which otherwise would still say "Nothing changed yet")."""
+        if msg.startswith(("Saved ", "Not saved")):
+            self._show_saved(msg, msg.startswith("Saved "))
+        else:
+            self.statusBar().showMessage(msg, 8000)
 
     def focus_viewer(self) -> None:
         self.viewer.setFocus(Qt.FocusReason.ShortcutFocusReason)
@@ -366,7 +402,7 @@ class MainWindow(SegmentOps, QMainWindow):
 
     def open_other_project(self) -> None:
         """Choose another project in the start window; this window closes and it opens."""
-        from .start import StartWindow, request_switch, take_switch
+        from ..dialogs.start import StartWindow, request_switch, take_switch
         chooser = StartWindow(settings=self.settings, parent=self)
         if chooser.exec() != QDialog.DialogCode.Accepted or chooser.chosen is None:
             return
@@ -379,8 +415,8 @@ class MainWindow(SegmentOps, QMainWindow):
     def show_setup(self) -> None:
         """The label set and videos; when anything changed, the window reopens on the project
         (label keys, buttons and the queue are built when the window is)."""
-        from .setup import ProjectSetup
-        from .start import request_switch, take_switch
+        from ..dialogs.setup import ProjectSetup
+        from ..dialogs.start import request_switch, take_switch
         dialog = ProjectSetup(self.project, self)
         dialog.exec()
         if dialog.changed:
@@ -424,4 +460,5 @@ class MainWindow(SegmentOps, QMainWindow):
         self.jobs.cancel()
         self.player.close()
         self.jobs.wait()
+        self.review_page.shutdown()
         super().closeEvent(event)

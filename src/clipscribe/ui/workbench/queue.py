@@ -37,6 +37,8 @@ class QueuePanel(QWidget):
         form.addRow("Your label", self.label)
         form.addRow("Group", self.group)
         form.addRow("Assigned to", self.assignee)
+        for box in (self.state, self.label, self.group, self.assignee):
+            box.currentIndexChanged.connect(self._filters_changed)
         lay.addLayout(form)
         # a table, not a tree: with fixed row heights it places row 100 000 by arithmetic,
         # where a tree view lays out (and asks the model about) every row before it
@@ -93,13 +95,10 @@ class QueuePanel(QWidget):
         box = QComboBox()
         for text, value in items:
             box.addItem(text, value)
-        box.currentIndexChanged.connect(self._filters_changed)
         return box
 
     @Slot()
     def _filters_changed(self) -> None:
-        if not hasattr(self, "assignee"):
-            return  # still building
         self.model.set_filters(state=self.state.currentData(), label=self.label.currentData(),
                                group=self.group.currentData(), assignee=self.assignee.currentData())
 

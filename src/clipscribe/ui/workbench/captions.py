@@ -21,7 +21,7 @@ from PySide6.QtWidgets import (
     QComboBox, QGridLayout, QHBoxLayout, QLabel, QScrollArea, QToolButton, QVBoxLayout, QWidget,
 )
 
-from .caption_checks import check_caption, count_words
+from ...schema.caption_rules import check_caption, count_words
 from .caption_edit import CaptionEdit
 
 IDLE_SAVE_MS = 600

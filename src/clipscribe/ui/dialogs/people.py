@@ -11,7 +11,7 @@ from PySide6.QtWidgets import (
     QPushButton, QVBoxLayout, QWidget,
 )
 
-from ..errors import RecordError
+from ...errors import RecordError
 
 ROLES = ("annotator", "lead")
 

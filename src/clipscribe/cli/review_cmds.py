@@ -5,11 +5,12 @@ from __future__ import annotations
 import argparse
 import sys
 
+from .common import open_project
+
 
 def cmd_report(args: argparse.Namespace) -> int:
-    from .cli import _open
-    from .review_report import write_report
-    with _open(args) as p:
+    from ..review_report import write_report
+    with open_project(args) as p:
         files = write_report(p, args.out, seed=args.seed, n_boot=args.boot,
                              progress=lambda msg: print(f"report: {msg}", file=sys.stderr))
     print(f"wrote {files.html} and {len(files.csv)} CSV table(s) in {files.seconds:.2f} s")

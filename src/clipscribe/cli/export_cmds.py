@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import argparse
 
-from .errors import RecordError
+from ..errors import RecordError
+from .common import Bar, open_project
 
 
 def _ratios(text: str) -> dict[str, float]:
@@ -57,7 +58,7 @@ def _print_cleaned(p) -> None:
 
 def _write(fn):
     """Run a write; blocked or failed exports become one-line errors (nothing was written)."""
-    from . import export
+    from .. import export
     try:
         return fn()
     except export.ExportBlocked as exc:
@@ -67,8 +68,7 @@ def _write(fn):
 
 
 def cmd_export(args: argparse.Namespace) -> int:
-    from .cli import Bar, _open
-    with _open(args) as p:
+    with open_project(args) as p:
         if args.folds:
             return _export_folds(p, args)
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
@@ -89,7 +89,6 @@ def cmd_export(args: argparse.Namespace) -> int:
 
 
 def _export_folds(p, args: argparse.Namespace) -> int:
-    from .cli import Bar
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
                          progress=Bar("fingerprints"), captions=args.captions)

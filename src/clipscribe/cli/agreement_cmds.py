@@ -5,10 +5,11 @@ from __future__ import annotations
 import argparse
 import json
 
+from .common import open_project
+
 
 def cmd_agreement(args: argparse.Namespace) -> int:
-    from .cli import _open
-    with _open(args) as p:
+    with open_project(args) as p:
         rep = p.agreement_report(seed=args.seed, n_boot=args.boot)
     if args.json:
         print(json.dumps(rep.to_dict(), indent=2, ensure_ascii=False))

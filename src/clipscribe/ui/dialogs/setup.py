@@ -15,11 +15,11 @@ from PySide6.QtWidgets import (
     QVBoxLayout, QWidget,
 )
 
-from ..errors import RecordError
-from ..project.catalog import BY_FOLDER
-from ..schema.settings import label_line, label_specs, parse_label_line
+from ...errors import RecordError
+from ...schema.settings import label_line, label_specs, parse_label_line
+from ...types import BY_FOLDER
+from ..workers import Job, JobRunner
 from .people import PeopleBox
-from .workers import Job, JobRunner
 
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {

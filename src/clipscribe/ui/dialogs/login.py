@@ -13,8 +13,8 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QDialog, QDialogButtonBox, QFormLayout, QLabel, QLineEdit, QVBoxLayout, QWidget,
 )
-from .. import Project
-from ..errors import LoginRequired
+from ... import Project
+from ...errors import LoginRequired
 
 #: ask(folder, user, reason) -> (user, password), or None when the person cancels
 Ask = Callable[[Path, str, str], "tuple[str, str] | None"]

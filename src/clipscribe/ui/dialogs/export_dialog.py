@@ -16,14 +16,14 @@ from pathlib import Path
 from PySide6.QtCore import Qt, Signal, Slot
 from PySide6.QtWidgets import (
     QCheckBox, QDialog, QDialogButtonBox, QFileDialog, QHBoxLayout, QLabel, QLineEdit,
-    QProgressBar, QPushButton, QVBoxLayout, QWidget,
+    QMainWindow, QProgressBar, QPushButton, QVBoxLayout, QWidget,
 )
 
-from ..errors import ProjectError
-from ..media import JobCancelled
+from ...errors import ProjectError
+from ...media import JobCancelled
+from ..workers import Job, JobRunner
 from .export_options import ExportOptions
 from .export_results import CheckResults
-from .workers import Job, JobRunner
 NOTE_STYLE = {"info": "color: palette(text);", "ok": "color: #2e7d32;", "bad": "color: #b3261e;"}
 
 
@@ -33,19 +33,19 @@ def _plain_errors(fn):
     The worker reports ValueError as ``"<job>: <message>"``; anything else would reach the user
     as a traceback, which this dialog never shows.
     """
-    from .. import export
+    from ... import export
 
     def run(*, cancel, progress):
         try:
             return fn(cancel=cancel, progress=progress)
         except (JobCancelled, export.ExportCancelled):
             raise JobCancelled("cancelled") from None
-        except (export.ExportError, ValueError, OSError, LookupError, ProjectError) as exc:
+        except ProjectError as exc:  # a read-only, full, damaged or busy database among them
+            raise ValueError((str(exc).splitlines() or [type(exc).__name__])[0]) from None
+        except (export.ExportError, ValueError, OSError, LookupError) as exc:
             raise ValueError(str(exc) or type(exc).__name__) from None
         except Exception as exc:  # a bug; still one line, the details stay in the exception
-            from ..store.sqlite_check import explain
-            known = explain(exc)  # a read-only, full, damaged or busy database
-            raise ValueError(known or f"unexpected {type(exc).__name__}: {exc}") from None
+            raise ValueError(f"unexpected {type(exc).__name__}: {exc}") from None
     return run
 
 
@@ -209,7 +209,7 @@ class ExportDialog(ExportOptions, QDialog):
 
     def _status(self, text: str) -> None:
         win = self.parent()
-        if win is not None and hasattr(win, "statusBar"):
+        if isinstance(win, QMainWindow):
             win.statusBar().showMessage(text, 15000)
 
     @Slot()

@@ -1,0 +1,92 @@
+"""What every command shares: opening the project named on the command line, the progress bar,
+and turning a failure into one line on stderr and an exit status.
+
+Exit statuses: 0 done; 1 the work failed (bad input, a project that cannot be used, a fault of
+the machine); 2 the command line itself is wrong (argparse's own errors, and
+:class:`UsageError` for what only the code can see); 130 interrupted (Ctrl+C).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import time
+
+from ..errors import ProjectError, RecordError
+
+DONE, FAILED, USAGE, INTERRUPTED = 0, 1, 2, 130
+
+
+class UsageError(Exception):
+    """The options given do not make a command (missing or conflicting ones) in a way argparse
+    cannot see. Exits 2, as argparse's own usage errors do; nothing has been done yet."""
+
+
+class Bar:
+    """A one-line progress bar on stderr. Hand-written because it is fifteen lines and a
+    dependency for it would outweigh it; silent when stderr is not a terminal."""
+
+    def __init__(self, what: str) -> None:
+        self.what, self.tty, self.t0, self.last = what, sys.stderr.isatty(), time.monotonic(), 0.0
+
+    def __call__(self, done: int, total: int) -> None:
+        now = time.monotonic()
+        if not self.tty or (now - self.last < 0.1 and done < total):
+            return
+        self.last = now
+        frac = done / total if total else 1.0
+        fill = int(30 * frac)
+        sys.stderr.write(f"\r{self.what} [{'#' * fill}{'.' * (30 - fill)}] {done}/{total} "
+                         f"{now - self.t0:5.1f}s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def open_project(args: argparse.Namespace):
+    """The project in ``args.project``, as ``args.user`` (when the command has ``--user``),
+    with the password from CLIPSCRIBE_PASSWORD for a server project."""
+    from ..project import Project
+    return Project.open(args.project, user=getattr(args, "user", None),
+                        password=os.environ.get("CLIPSCRIBE_PASSWORD"))
+
+
+def _known_problem(exc: Exception, project: str | None) -> str | None:
+    """One plain line for faults of the machine rather than of clipscribe: a database that is
+    read-only, full, damaged or busy; a full disk or a refused file elsewhere."""
+    from sqlalchemy.exc import DBAPIError
+
+    from ..store.sqlite_check import explain
+    if isinstance(exc, DBAPIError):
+        return explain(exc, project)
+    if isinstance(exc, OSError) and exc.strerror:
+        if exc.filename is not None:
+            return f"{exc.filename}: {exc.strerror}"
+        return f"{exc.strerror} (working on {project})" if project else exc.strerror
+    return None
+
+
+def expected(exc: BaseException) -> bool:
+    """True for failures clipscribe raises on purpose; the others re-raise under
+    CLIPSCRIBE_DEBUG so their traceback can be read."""
+    return isinstance(exc, (UsageError, RecordError, ProjectError, KeyboardInterrupt))
+
+
+def fail(exc: BaseException, project: str | None) -> int:
+    """Print the one line that says what went wrong (never a traceback) and return the exit
+    status for it."""
+    if isinstance(exc, KeyboardInterrupt):
+        print("clipscribe: interrupted", file=sys.stderr)
+        return INTERRUPTED
+    if isinstance(exc, (UsageError, RecordError, ProjectError)):
+        print(f"clipscribe: error: {exc}", file=sys.stderr)
+        return USAGE if isinstance(exc, UsageError) else FAILED
+    from ..media import MediaError
+    known = _known_problem(exc, project) if isinstance(exc, Exception) else None
+    if known:
+        print(f"clipscribe: error: {known}", file=sys.stderr)
+        return FAILED
+    kind = "error" if isinstance(exc, (MediaError, OSError)) else f"unexpected {type(exc).__name__}"
+    print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
+    return FAILED
