@@ -57,7 +57,7 @@ class Context:
         return self.uow.engine
 
     def check_writable(self, what: str) -> None:
-        self.uow.check_writable(what, self.folder)
+        self.uow.check_writable(what)
 
     # ---- paths ------------------------------------------------------------------------
     @property

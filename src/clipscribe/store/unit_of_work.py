@@ -257,7 +257,7 @@ class UnitOfWork:
             if outer is not None:
                 outer.extend(ids)
 
-    def check_writable(self, what: str, folder: Path) -> None:
+    def check_writable(self, what: str) -> None:
         """ProjectError before ``what`` starts when the database cannot take a write (a
         read-only file or folder), so a command never does its work and then fails to record
         it. Costs one empty write transaction."""
@@ -268,7 +268,8 @@ class UnitOfWork:
         except DatabaseFault as exc:
             raise DatabaseFault(f"{what}: not started, {exc}") from None
         except OperationalError as exc:
-            reason = sqlite_check.explain(exc, folder) or str(exc.orig or exc).splitlines()[0]
+            reason = (sqlite_check.explain(exc, self.policy.folder)
+                      or str(exc.orig or exc).splitlines()[0])
             raise DatabaseFault(f"{what}: not started, {reason}") from None
 
     def close(self) -> None:
