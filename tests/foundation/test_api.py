@@ -1,4 +1,4 @@
-"""The scripting API exactly as documented in DESIGN.md 'Contracts'."""
+"""The scripting API exactly as documented (README, "Scripting"; docs/architecture.md)."""
 
 from __future__ import annotations
 
