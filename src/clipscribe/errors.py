@@ -73,3 +73,12 @@ class NotALeadError(PermissionRefused):
 
 class DuplicateMediaWarning(UserWarning):
     """A clip was added whose file has the same SHA-256 as a clip already in the project."""
+
+
+class NotEnoughLabels(RecordError):
+    """Too few labelled clips to learn label suggestions from. ``have`` of ``need`` counts the
+    labelled clips toward the minimum; ``reason`` says what is missing, in words."""
+
+    def __init__(self, have: int, need: int, reason: str) -> None:
+        super().__init__(f"not enough labels yet: {have} of {need} ({reason})")
+        self.have, self.need, self.reason = have, need, reason

@@ -68,19 +68,21 @@ def test_mbh_is_empty_for_uniform_motion_and_finds_a_vertical_boundary():
 
 
 def test_hog_of_vertical_stripes_votes_for_horizontal_gradients():
-    img = np.zeros((64, 128), np.uint8)
+    img = np.zeros((80, 144), np.uint8)
     img[:, ::8] = 255
     img = cv2.GaussianBlur(img, (0, 0), 1.0)
     blocks = F.hog(img).reshape(-1, 4, 9)
     # gradient angle 0 lies between the centres of bins 8 (170 deg) and 0 (10 deg)
     assert blocks[..., [0, 8]].sum() / blocks.sum() > 0.95
-    assert F.hog(img).shape == (756,)
+    assert F.hog(img).shape == (144,)
 
 
-def test_hog_blocks_are_unit_length_and_clipped():
+def test_hog_quarters_average_unit_length_blocks():
     rng = np.random.default_rng(1)
-    blocks = F.hog(rng.integers(0, 255, (90, 160, 3), dtype=np.uint8)).reshape(-1, 36)
-    np.testing.assert_allclose(np.linalg.norm(blocks, axis=1), 1.0, atol=1e-3)
+    quarters = F.hog(rng.integers(0, 255, (90, 160, 3), dtype=np.uint8)).reshape(-1, 36)
+    # a mean of unit vectors is at most 1 long, and noise blocks point much the same way
+    assert np.all(np.linalg.norm(quarters, axis=1) <= 1.0 + 1e-9)
+    assert np.all(np.linalg.norm(quarters, axis=1) > 0.8)
     assert F.hog(np.zeros((64, 128), np.uint8)).max() == 0  # a flat picture has no edges
 
 

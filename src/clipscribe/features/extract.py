@@ -28,7 +28,7 @@ from . import descriptors as d
 from .sampling import SnippetPlan, snippet_plan
 
 #: bump when any descriptor changes: old cache files are then ignored
-FEATURE_VERSION = 1
+FEATURE_VERSION = 2
 STREAMS = ("single-frame", "appearance", "motion")
 
 Cancel = threading.Event | Callable[[], bool] | None
@@ -47,7 +47,7 @@ class FeatureRecipe:
     def describe(self) -> str:
         return (f"features v{FEATURE_VERSION}: {self.snippets} segment-centre snippets; frames "
                 f"scaled to {self.height} px high; appearance = sqrt HSV histogram 8x4x4 + HOG "
-                f"(9 bins, 16-px cells, 2x2 blocks, L2-Hys) of each snippet's centre frame, mean "
+                f"(9 bins, 16-px cells, 2x2 blocks, L2-Hys, averaged per quarter) of each snippet's centre frame, mean "
                 f"over snippets; single-frame = the same of the clip's middle frame; motion = DIS "
                 f"'fast' optical flow of {self.pairs} consecutive frame pairs per snippet, sqrt "
                 f"HOF (2x2 grid, 8 directions + still) + sqrt MBH (x and y, 2x2 grid, 8 "

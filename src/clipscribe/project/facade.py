@@ -78,6 +78,7 @@ class Project:
         self._gold, self._history, self._records = peers.gold, peers.history, peers.records
         self._review, self._analysis, self._exporting = peers.review, peers.analysis, peers.exporting
         self._team = peers.team
+        self._suggestions = peers.suggestions
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -718,6 +719,35 @@ class Project:
         :func:`clipscribe.agreement.krippendorff_alpha` (Krippendorff 2004, *Content Analysis*,
         ch. 11)."""
         return self._review.agreement_trend(window=window, by=by)
+
+    # ---- label suggestions (Suggestions) --------------------------------------------
+    def train_suggester(self, *, progress: Progress = None,
+                        cancel: threading.Event | Callable[[], bool] | None = None,
+                        min_agreement: float = 0.6, seed: int = 0) -> Any:
+        """Compute missing clip features, then train the suggester on the labelled clips
+        (labels by the export label policy). Too few labels raise
+        :class:`~clipscribe.errors.NotEnoughLabels` ("not enough labels yet: N of M")."""
+        return self._suggestions.train_suggester(progress=progress, cancel=cancel,
+                                                 min_agreement=min_agreement, seed=seed)
+
+    def suggest(self, clip: ClipRef) -> list[tuple[str, float]]:
+        """``[(label, probability), ...]`` best first; ``[]`` when there is no model yet (see
+        :meth:`suggestion_reason`). Never sets a label."""
+        return self._suggestions.suggest(clip)
+
+    def suggestion_reason(self, clip: ClipRef | None = None) -> str:
+        """Why :meth:`suggest` gives nothing ("" when it gives suggestions)."""
+        return self._suggestions.suggestion_reason(clip)
+
+    def compare_streams(self, folds: int = 5, seed: int = 0, *, progress: Progress = None,
+                        cancel: threading.Event | Callable[[], bool] | None = None,
+                        min_agreement: float = 0.6, n_boot: int = 1000) -> Any:
+        """Grouped cross-validation of the "single-frame", "appearance", "motion" and "fused"
+        streams: ``.accuracy``, ``.macro_f1``, ``.predictions`` (out-of-fold label per clip id),
+        ``.confusion``, ``.intervals``, ``.weight`` and ``.recipe`` (see
+        :class:`clipscribe.features.models.StreamComparison`)."""
+        return self._suggestions.compare_streams(folds, seed, progress=progress, cancel=cancel,
+                                                 min_agreement=min_agreement, n_boot=n_boot)
 
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(

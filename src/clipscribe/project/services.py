@@ -15,6 +15,7 @@ from .gold import Gold
 from .history import History
 from .records import Records
 from .review import Review
+from .suggestions import Suggestions
 from .team import Team
 from .workbench import Workbench
 
@@ -33,3 +34,4 @@ class Peers:
         self.analysis = Analysis(ctx, self)
         self.exporting = Exporting(ctx, self)
         self.team = Team(ctx, self)
+        self.suggestions = Suggestions(ctx, self)
