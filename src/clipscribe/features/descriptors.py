@@ -128,7 +128,7 @@ APPEARANCE_DIMS = int(np.prod(HSV_BINS)) + 4 * 4 * HOG_BINS
 def flow_engine() -> cv2.DISOpticalFlow:
     """Dense inverse search optical flow (Kroeger et al. 2016, ECCV, doi:10.1007/978-3-319-46493-0_29)
     with OpenCV's "fast" preset. Not thread-safe: one per thread."""
-    return cv2.DISOpticalFlow_create(cv2.DISOPTICAL_FLOW_PRESET_FAST)
+    return cv2.DISOpticalFlow.create(cv2.DISOPTICAL_FLOW_PRESET_FAST)
 
 
 def dense_flow(prev: np.ndarray, nxt: np.ndarray, engine: cv2.DISOpticalFlow | None = None
