@@ -312,8 +312,12 @@ class Annotation(Service):
         server_starts = self.ctx.is_server and c.state == "new"
         if server_starts:
             set_committed_value(c, "state", "in_progress")  # written by the database below
-        row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
-        if row is None:
+        mine = select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id)
+        row = s.scalar(mine)
+        if row is None and self.ctx.is_server:
+            start_work(s, [(c.id, a.id)])
+            row = s.scalar(mine)
+        elif row is None:
             row = Assignment(clip_id=c.id, annotator_id=a.id, state="open")
             s.add(row)
             s.flush()
@@ -344,6 +348,17 @@ class Annotation(Service):
             c.state = "in_progress"
         else:
             c.state = "new"
+
+
+def start_work(s: Any, pairs: list[tuple[int, int]]) -> None:
+    """On a server, make the assignments of ``(clip id, person id)`` pairs that have none,
+    through the database's checked function (an annotator's login may not insert them
+    itself; a refusal becomes a PermissionRefused like any other). ``s``: a session or a
+    connection; a session is flushed first, so the work that justifies the row is there."""
+    if isinstance(s, Session):
+        s.flush()
+    s.execute(sql_text("SELECT clipscribe_start(CAST(:c AS INTEGER[]), CAST(:a AS INTEGER[]))"),
+              {"c": [c for c, _ in pairs], "a": [a for _, a in pairs]})
 
 
 def _caption_to_write(s: Session, caption_id: int, expected_version: int | None,
