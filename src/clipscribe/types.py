@@ -10,9 +10,10 @@ from __future__ import annotations
 import datetime as dt
 import enum
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from .agreement._recipe import Recipe
+if TYPE_CHECKING:  # the agreement package (numpy) loads only where a recipe is made
+    from .agreement._recipe import Recipe
 
 #: how a clip reference may be given wherever the API takes a clip: its id, ``str(id)``, or the
 #: media path relative to the media root

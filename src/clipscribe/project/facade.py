@@ -46,8 +46,6 @@ from ..types import (
     TrendPoint,
 )
 from . import opening
-from .analysis import AgreementReport
-from .catalog import LabelSpec, Progress
 from .context import Context
 from .services import Peers
 
@@ -55,6 +53,9 @@ if TYPE_CHECKING:
     import threading
 
     from .. import export
+    from ..schema.settings import LabelSpec
+    from .analysis import AgreementReport
+    from .catalog import Progress
 
 T = TypeVar("T")
 DB_FILE = "project.sqlite"
@@ -72,12 +73,19 @@ class Project:
         self._uow = UnitOfWork(engine, folder)
         self._ctx = Context(folder, settings, self._uow)
         self._ctx.update_settings = self.update_settings
-        peers = Peers(self._ctx)
-        self._peers = peers
-        self._catalog, self._annotation, self._workbench = peers.catalog, peers.annotation, peers.workbench
-        self._gold, self._history, self._records = peers.gold, peers.history, peers.records
-        self._review, self._analysis, self._exporting = peers.review, peers.analysis, peers.exporting
-        self._team = peers.team
+        self._peers = Peers(self._ctx)
+
+    # the services, each made (and its module imported) on first use
+    _catalog = property(lambda self: self._peers.catalog)
+    _annotation = property(lambda self: self._peers.annotation)
+    _workbench = property(lambda self: self._peers.workbench)
+    _gold = property(lambda self: self._peers.gold)
+    _history = property(lambda self: self._peers.history)
+    _records = property(lambda self: self._peers.records)
+    _review = property(lambda self: self._peers.review)
+    _analysis = property(lambda self: self._peers.analysis)
+    _exporting = property(lambda self: self._peers.exporting)
+    _team = property(lambda self: self._peers.team)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -310,7 +318,9 @@ class Project:
 
         ``together_with`` (a database write) runs after the new file is fully written under a
         temporary name and before it is renamed into place: when either fails, neither the
-        database nor the settings file changes (a full disk fails the file write first)."""
+        database nor the settings file changes (a full disk fails the file write first).
+        Lead only."""
+        self._ctx.check_lead("change the project settings")
         try:
             cfg = ProjectSettings.model_validate({**self.settings.model_dump(), **changes})
         except ValidationError as exc:

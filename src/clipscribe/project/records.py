@@ -15,7 +15,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from .. import media
-from ..errors import RecordError
+from ..errors import PermissionRefused, RecordError
 from ..export import csvsafe, jsonl
 from ..schema.records import (
     RECORD_TYPES,
@@ -370,6 +370,8 @@ def _in_file(src: Path, line: int, exc: RecordError) -> RecordError:
     """A refusal of one record as the import names it: file, line and field."""
     if str(exc).startswith(f"{src}:"):
         return exc
+    if isinstance(exc, PermissionRefused):  # about the person acting, not a field: same kind
+        return type(exc)(f"{src}:{line}: {exc}")
     field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
     return RecordError(f"{src}:{line}: field '{field}': {exc}")
 
