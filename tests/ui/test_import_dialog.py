@@ -47,18 +47,24 @@ def _mine(p: Project) -> int:
     return len(p.caption_rows(annotator="annotator-3"))
 
 
+def _held(qtbot, p: Project, path):
+    """A shown dialog whose import has started and is held on its worker thread."""
+    gate = Gate(p)
+    p.import_records = gate
+    dlg = ImportDialog(p, path)
+    qtbot.addWidget(dlg)
+    dlg.show()
+    job = dlg.start()
+    assert gate.entered.wait(WAIT_MS / 1000)
+    return dlg, job, gate
+
+
 def test_import_runs_in_the_background_with_progress_and_reports_counts(qtbot, project, tmp_path):
     p = project
     before = _mine(p)
-    gate = Gate(p)
-    p.import_records = gate
-    dlg = ImportDialog(p, _captions_file(p, tmp_path / "caps.jsonl", 2500))
-    qtbot.addWidget(dlg)
-    dlg.show()
+    dlg, job, gate = _held(qtbot, p, _captions_file(p, tmp_path / "caps.jsonl", 2500))
     seen = []
-    job = dlg.start()
-    job.signals.progress.connect(lambda d, t: seen.append((d, t)))
-    assert gate.entered.wait(WAIT_MS / 1000)
+    job.signals.progress.connect(lambda d, t: seen.append((d, t)))  # nothing sent while held
     # the worker is held: the UI thread still runs events and shows the dialog
     qtbot.wait(50)
     assert dlg.isVisible() and dlg.running and dlg.cancel_button.isEnabled()
@@ -77,13 +83,7 @@ def test_import_runs_in_the_background_with_progress_and_reports_counts(qtbot, p
 def test_cancel_before_the_write_imports_nothing(qtbot, project, tmp_path):
     p = project
     before = _mine(p)
-    gate = Gate(p)
-    p.import_records = gate
-    dlg = ImportDialog(p, _captions_file(p, tmp_path / "caps.jsonl", 50))
-    qtbot.addWidget(dlg)
-    dlg.show()
-    dlg.start()
-    assert gate.entered.wait(WAIT_MS / 1000)
+    dlg, _job, gate = _held(qtbot, p, _captions_file(p, tmp_path / "caps.jsonl", 50))
     dlg.cancel_button.click()
     assert dlg.status.text() == "Cancelling…"
     gate.release.set()
