@@ -19,6 +19,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
+from operator import itemgetter
 from typing import Any, Iterable, Sequence
 
 import numpy as np
@@ -129,31 +130,43 @@ class InferredLabels:
         return out
 
 
+def _codes(values: Sequence[Any], keys: Sequence[Any]) -> np.ndarray:
+    index = {x: i for i, x in enumerate(keys)}
+    return np.fromiter(map(index.__getitem__, values), dtype=np.int64, count=len(values))
+
+
 def _encode_triples(triples: Iterable[Sequence[Any]], label_order):
-    rows: dict[tuple, Any] = {}
-    for n, row in enumerate(triples):
-        try:
-            item, annotator, label = row
-        except (TypeError, ValueError):
-            raise ValueError(f"triples[{n}] must be an (item, annotator, label) tuple") from None
-        if _checks.is_missing(label):
-            continue
-        rows[(item, str(annotator))] = label     # a repeated pair keeps the last row
+    rows = triples if isinstance(triples, list) else list(triples)
     if not rows:
         raise ValueError("triples hold no label: nothing to infer")
-    items = list(dict.fromkeys(k[0] for k in rows))
-    annotators = sorted({k[1] for k in rows})
-    cats = category_order(list(rows.values()), label_order)
-    iid = {x: i for i, x in enumerate(items)}
-    aid = {x: i for i, x in enumerate(annotators)}
-    cid = {x: i for i, x in enumerate(cats)}
-    n = len(rows)
-    it = np.fromiter((iid[k[0]] for k in rows), dtype=np.int64, count=n)
-    an = np.fromiter((aid[k[1]] for k in rows), dtype=np.int64, count=n)
     try:
-        lab = np.fromiter((cid[v] for v in rows.values()), dtype=np.int64, count=n)
-    except KeyError as e:
-        raise ValueError(f"label {e.args[0]!r} is not among the declared labels") from None
+        bad = next((n for n, size in enumerate(map(len, rows)) if size != 3), None)
+    except TypeError:
+        bad = next(n for n, r in enumerate(rows) if not hasattr(r, "__len__"))
+    if bad is not None:
+        raise ValueError(f"triples[{bad}] must be an (item, annotator, label) tuple")
+    item_t, ann_t, lab_t = (list(map(itemgetter(k), rows)) for k in range(3))
+    distinct = list(dict.fromkeys(lab_t))
+    if any(_checks.is_missing(v) for v in distinct):
+        keep = [i for i, v in enumerate(lab_t) if not _checks.is_missing(v)]
+        item_t, ann_t, lab_t = ([t[i] for i in keep] for t in (item_t, ann_t, lab_t))
+        distinct = [v for v in distinct if not _checks.is_missing(v)]
+        if not keep:
+            raise ValueError("triples hold no label: nothing to infer")
+    if not all(isinstance(a, str) for a in dict.fromkeys(ann_t)):
+        ann_t = list(map(str, ann_t))
+    items = list(dict.fromkeys(item_t))
+    annotators = sorted(set(ann_t))
+    cats = category_order(distinct, label_order)
+    unknown = set(distinct) - set(cats)
+    if unknown:
+        raise ValueError(f"label {next(iter(unknown))!r} is not among the declared labels")
+    it, an, lab = _codes(item_t, items), _codes(ann_t, annotators), _codes(lab_t, cats)
+    pair = it * len(annotators) + an
+    if np.bincount(pair).max() > 1:             # a repeated pair keeps the last row
+        last = len(pair) - 1 - np.unique(pair[::-1], return_index=True)[1]
+        last.sort()
+        it, an, lab = it[last], an[last], lab[last]
     return items, annotators, cats, it, an, lab
 
 
