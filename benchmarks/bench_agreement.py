@@ -212,7 +212,8 @@ def bench_report(n_clips: int, n_boot: int) -> dict:
     codes = np.where(rng.random((5, n_clips)) < 0.7, truth, rng.integers(0, len(labels), (5, n_clips)))
     names = [f"annotator-{k}" for k in range(5)]
     rows = [(c, names[a], labels[codes[a, c]]) for a in range(5) for c in range(n_clips)]
-    t_ours, rep = best_of(lambda: agreement_report(rows, n_boot=n_boot), 3)
+    t_ours, rep = best_of(lambda: agreement_report(rows, n_boot=n_boot, reliability=False), 3)
+    t_rel, _ = best_of(lambda: agreement_report(rows, n_boot=n_boot), 1)
 
     def reference():
         alpha = krippendorff.alpha(reliability_data=codes.astype(float),
@@ -250,13 +251,15 @@ def bench_report(n_clips: int, n_boot: int) -> dict:
     t_point, _ = best_of(lambda: reference_same_work(0), 1)
     t_ten, _ = best_of(lambda: reference_same_work(10), 1)
     t_same = t_point + (t_ten - t_point) * n_boot / 10
-    t_one, _ = best_of(lambda: agreement_report(rows, n_boot=1), 3)
+    t_one, _ = best_of(lambda: agreement_report(rows, n_boot=1, reliability=False), 3)
     lab = rep.labels
     diff = max(abs(float(lab.alpha) - alpha), abs(float(lab.fleiss) - fleiss),
                *(abs(float(p.kappa) - k) for p, k in zip(lab.pairs, kappas)))
     t_text, _ = best_of(lambda: (rep.to_dict(), rep.to_text()), 1)
     return {"clips": n_clips, "annotators": 5, "n_boot": n_boot,
             "ours_label_part_s": t_ours,
+            "ours_with_reliability_s": t_rel,
+            "reliability_includes": "Dawid-Skene inferred labels and confusion (full model)",
             "ours_includes": "parse rows, alpha + 95% CI, per-label alpha + CI, Fleiss, "
                              "10 Cohen pairs + confusion, per-clip disagreement",
             "reference_s": t_ref,

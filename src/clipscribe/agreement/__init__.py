@@ -22,6 +22,7 @@ from .labels import (cohen_kappa, confusion_matrix, fleiss_kappa, observed_agree
                      pairwise_kappa)
 from .loo import LooBleu, leave_one_out_bleu
 from .loo_overlap import LooOverlap, leave_one_out_chrf, leave_one_out_rouge_l
+from .reliability import CheckResult, ReliabilitySummary, reliability_summary
 from .proportion import Proportion, proportion, wilson_interval
 from .report import AgreementReport, agreement_report
 from .retrieval import RetrievalResult, caption_retrieval
@@ -37,5 +38,5 @@ __all__ = [
     "observed_agreement", "segment_matching", "sentence_bleu", "temporal_iou", "tokenize_13a",
     "ChrfScore", "InferredLabels", "LooOverlap", "Proportion", "RougeScore", "corpus_chrf",
     "dawid_skene", "leave_one_out_chrf", "leave_one_out_rouge_l", "proportion", "rouge_l",
-    "wilson_interval",
+    "wilson_interval", "CheckResult", "ReliabilitySummary", "reliability_summary",
 ]

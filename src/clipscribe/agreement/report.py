@@ -14,6 +14,8 @@ from .cider import CiderResult, cider_d
 from .interpret import CITATION
 from .label_summary import LabelSummary, collect, summarize
 from .loo import FLAG_RULE, LooBleu, leave_one_out_bleu
+from .loo_overlap import LooOverlap, leave_one_out_chrf, leave_one_out_rouge_l
+from .reliability import ReliabilitySummary, reliability_summary
 from .retrieval import RetrievalResult, caption_retrieval
 from .segments import PairMatch, check_segments, frame_agreement, segment_matching
 
@@ -36,10 +38,14 @@ class CaptionSummary:
     bleu: LooBleu
     cider: CiderResult
     retrieval: RetrievalResult
+    rouge_l: LooOverlap | None = None
+    chrf: LooOverlap | None = None
 
     def to_dict(self) -> dict:
         b = self.bleu
-        return {"bleu": {"overall": b.overall.to_dict(),
+        return {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
+                "chrf": None if self.chrf is None else self.chrf.to_dict(),
+                "bleu": {"overall": b.overall.to_dict(),
                          "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
                          "recipe": b.recipe.to_dict()},
                 "flag_rule": FLAG_RULE,
@@ -99,6 +105,7 @@ class AgreementReport:
     captions: CaptionSummary | None
     clips: ClipTable
     recipe: Recipe
+    reliability: ReliabilitySummary | None = None
 
     def review_queue(self, top: int | None = None) -> list[ClipScore]:
         """Clips worst first (see :meth:`ClipTable.worst_first`), the first ``top`` or all."""
@@ -111,7 +118,8 @@ class AgreementReport:
                 "labels": None if self.labels is None else self.labels.to_dict(),
                 "segments": None if self.segments is None else self.segments.to_dict(),
                 "captions": None if self.captions is None else self.captions.to_dict(),
-                "clips": [c.to_dict() for c in self.clips]}
+                "clips": [c.to_dict() for c in self.clips],
+                "reliability": None if self.reliability is None else self.reliability.to_dict()}
 
     def to_text(self, *, top: int = 10) -> str:
         from ._report_text import render
@@ -125,8 +133,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                      label_order: Sequence[Any] | None = None, ordinal: bool = False,
                      fps: Mapping[Any, float] | float | None = None,
                      frame_count: Mapping[Any, int] | None = None, seed: int = 0,
-                     n_boot: int = 1000, label_set_version: str | None = None
-                     ) -> AgreementReport:
+                     n_boot: int = 1000, label_set_version: str | None = None,
+                     reliability: bool = True, truth_model: str = "full",
+                     known_answers: Mapping[Any, Any] | None = None) -> AgreementReport:
     """Agreement of a whole project: labels, and optionally segments and captions.
 
     Parameters
@@ -142,6 +151,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     frame_count : mapping clip -> number of frames, for frame-level alpha.
     seed, n_boot : bootstrap over clips for the confidence intervals (95 %, percentile).
     label_set_version : written into every recipe.
+    reliability : (default True) also infer true labels and each annotator's confusion (Dawid-Skene,
+        ``truth_model`` "full" or "one-coin") and, with ``known_answers`` {clip: label}, score
+        each annotator on those check clips (accuracy with Wilson interval, kappa).
 
     Returns
     -------
@@ -157,6 +169,7 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     """
     n_boot = _checks.positive_int("n_boot", n_boot)
     seed = _checks.positive_int("seed", seed, minimum=0)
+    labels = labels if isinstance(labels, list) else list(labels)
     codes, clip_list, annotators, label_list = collect(labels, label_order)
     summary = None
     if codes.size:
@@ -187,7 +200,8 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         # caption consensus needs a clip captioned by two people; with none it is not measured
         loo = leave_one_out_bleu(by_clip)
         cider = cider_d(by_clip)
-        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed))
+        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed),
+                                     leave_one_out_rouge_l(by_clip), leave_one_out_chrf(by_clip))
         acc: dict[Any, list] = {}
         for one in loo.captions:
             if not math.isnan(one.bleu):
@@ -199,7 +213,11 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     recipe = Recipe.make("report", "agreement", ordinal=ordinal, seed=seed, n_boot=n_boot,
                          n_raters=len(everyone), n_items=len(clips), annotators=everyone,
                          label_set_version=label_set_version)
-    return AgreementReport(summary, seg_summary, cap_summary, clips, recipe)
+    rel = None
+    if reliability:
+        rel = reliability_summary(labels, known=known_answers, label_order=label_order,
+                                  model=truth_model, label_set_version=label_set_version)
+    return AgreementReport(summary, seg_summary, cap_summary, clips, recipe, rel)
 
 
 def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> ClipTable:

@@ -721,10 +721,14 @@ class Project:
 
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(
-            self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000) -> AgreementReport:
+            self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000,
+            truth_model: str = "full") -> AgreementReport:
         """Labels, segments and captions agreement over every annotator's work (leads' gold
-        decisions excluded), with bootstrap confidence intervals resampling clips."""
-        return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot)
+        decisions excluded), with bootstrap confidence intervals resampling clips, and the
+        annotator reliability section (``.reliability``: inferred labels by Dawid-Skene with
+        ``truth_model`` "full" or "one-coin", and check-clip accuracy)."""
+        return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot,
+                                               truth_model=truth_model)
 
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""

@@ -164,4 +164,15 @@ def board_figures(data: dict) -> dict[str, Figure]:
         figs[f"confusion_{k}"] = confusion_figure(data, k)
     figs.update({"caption_bleu": bleu, "caption_cider": cider,
                  "throughput": throughput_figure(data), "trend": trend_figure(data)})
+    figs.update(reliability_figures(data))
     return figs
+
+
+def reliability_figures(data: dict) -> dict[str, Figure]:
+    """The annotator reliability panel and the leave-one-out ROUGE-L and chrF bars."""
+    from .reliability import check_accuracy_figure, confusion_grid_figure, overlap_figure
+
+    return {"reliability": confusion_grid_figure(data),
+            "check_accuracy": check_accuracy_figure(data),
+            "caption_rouge_l": overlap_figure(data, "rouge_l"),
+            "caption_chrf": overlap_figure(data, "chrf")}

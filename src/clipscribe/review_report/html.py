@@ -11,7 +11,7 @@ from html import escape
 from pathlib import Path
 from typing import Callable
 
-from . import tables
+from . import reliability, tables
 from .board import board_data, board_figures
 from .svg import to_svg
 
@@ -103,9 +103,17 @@ def render_html(data: dict) -> str:
         "<h3>Confusion between annotators</h3>", block(conf),
         _table(tables.pairwise(data)),
         "<h2>Segments</h2>", _table(tables.segment_pairs(data)),
-        "<h2>Captions</h2>", block(["caption_bleu", "caption_cider"]),
+        "<h2>Captions</h2>", block(["caption_bleu", "caption_cider", "caption_rouge_l",
+                                     "caption_chrf"]),
         _table(tables.caption_annotators(data)),
         "<h3>Flagged captions</h3>", _table(tables.flagged(data)),
+        "<h2>Annotator reliability</h2>",
+        "<p>Inferred labels and each annotator's estimated confusion come from the EM method of "
+        "Dawid &amp; Skene (1979), Applied Statistics 28(1):20–28; check-clip intervals are "
+        "Wilson (1927) score intervals. Estimates from few clips are rough.</p>",
+        block(["reliability", "check_accuracy"]),
+        _table(reliability.checks_table(data)),
+        "<h3>Least certain inferred labels</h3>", _table(_least_certain(data), limit=20),
         "<h2>Throughput and trend</h2>", block(["throughput", "trend"]),
         _table(tables.throughput(data)), _table(tables.trend(data)),
         "<h2>Most disputed clips</h2>", _table(tables.disputed(data)),
@@ -124,6 +132,11 @@ def render_html(data: dict) -> str:
         "</body></html>",
     ]
     return "\n".join(parts)
+
+
+def _least_certain(data: dict) -> tables.Table:
+    header, rows = reliability.inferred_table(data)
+    return header[:3], sorted((r[:3] for r in rows), key=lambda r: r[2])
 
 
 def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: int = 1000,

@@ -8,6 +8,7 @@ import io
 from typing import Any
 
 from ..export import csvsafe
+from . import reliability
 
 Table = tuple[list[str], list[list[Any]]]
 
@@ -48,6 +49,7 @@ def summary(data: dict) -> Table:
         for key in ("r_at_1", "r_at_5", "r_at_10", "median_rank"):
             rows.append(["captions", "all", f"retrieval {key}", r[key], None, None, None,
                          r["recipe"]["text"]])
+    rows += reliability.summary_rows(data)
     return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe"], rows)
 
 
@@ -122,7 +124,7 @@ def trend(data: dict) -> Table:
 ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
        "segment_pairs": segment_pairs, "caption_annotators": caption_annotators,
        "flagged_captions": flagged, "clips": clips, "disputed_clips": disputed,
-       "throughput": throughput, "trend": trend}
+       "throughput": throughput, "trend": trend, **reliability.TABLES}
 
 
 def _cell(v: Any) -> Any:

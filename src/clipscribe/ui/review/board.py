@@ -20,7 +20,10 @@ from .paint import FigureView
 #: grid cell -> figures stacked in it
 MIN_SCALE = 0.7  # figures are never drawn smaller than this; the board scrolls instead
 LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",),
-          (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",)}
+          (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",),
+          # annotator reliability panel, and the other caption consensus measures
+          (2, 0): ("reliability",), (2, 1): ("check_accuracy",),
+          (2, 2): ("caption_rouge_l", "caption_chrf")}
 
 
 class FocusFigure(FigureView):
@@ -81,7 +84,7 @@ class AgreementBoard(QWidget):
                 cell.addWidget(v, 0, Qt.AlignmentFlag.AlignLeft)
             cell.addStretch(1)
             grid.addLayout(cell, r, c)
-        grid.setRowStretch(2, 1)
+        grid.setRowStretch(max(r for r, _ in LAYOUT) + 1, 1)
         grid.setColumnStretch(3, 1)
         scroll = self.scroll = QScrollArea()
         scroll.setWidget(inner)
