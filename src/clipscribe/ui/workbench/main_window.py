@@ -7,7 +7,8 @@ from __future__ import annotations
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage
 from PySide6.QtWidgets import (
-    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
+    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QSizePolicy, QStackedWidget,
+    QVBoxLayout, QWidget,
 )
 
 from ..boot import remember_project
@@ -32,6 +33,9 @@ from .timeline import Timeline
 from .work_pause import WorkViewPause
 
 RESUME_MS = 400
+#: the work view's dock layout (a key of its own: the layout once saved under "window/state"
+#: may be a review view's, with every dock hidden, and is not read)
+WORK_STATE_KEY = "window/work/state"
 
 
 class MainWindow(SegmentOps, QMainWindow):
@@ -102,6 +106,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.stack = QStackedWidget()
         self.stack.addWidget(work)
         self.stack.addWidget(self.review_page)
+        self.review_page.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Ignored)
         self.setCentralWidget(self.stack)
         self.clip_panel.set_label_actions(
             [a[f"label:{l.name}"] for l in self.label_infos], self.colours)
@@ -126,7 +131,8 @@ class MainWindow(SegmentOps, QMainWindow):
         d.setObjectName(name)
         d.setWidget(widget)
         d.setFeatures(QDockWidget.DockWidgetFeature.DockWidgetMovable
-                      | QDockWidget.DockWidgetFeature.DockWidgetFloatable)
+                      | QDockWidget.DockWidgetFeature.DockWidgetFloatable
+                      | QDockWidget.DockWidgetFeature.DockWidgetClosable)  # View menu brings it back
         self.addDockWidget(area, d)
         return d
 
@@ -349,6 +355,8 @@ class MainWindow(SegmentOps, QMainWindow):
     def show_view(self, view: str) -> None:
         """"work", "review" or "board" (the review view on its agreement board tab)."""
         review = view in ("review", "board")
+        if review and self.stack.currentIndex() == 0:
+            self._work_state = self.saveState()  # the work view's docks, before they are hidden
         self.stack.setCurrentIndex(1 if review else 0)
         self.actions_["work_view"].setChecked(not review)
         self.actions_["review_view"].setChecked(review)
@@ -362,15 +370,33 @@ class MainWindow(SegmentOps, QMainWindow):
         for anyone else the note saying why there is none."""
         return self.review_page.page or self.review_page.refusal
 
+    @property
+    def in_review_view(self) -> bool:
+        return self.stack.currentWidget() is self.review_page
+
     @Slot(int)
     def _view_switched(self, index: int) -> None:
-        """Keep the work view's docks and shortcuts out of the review view's way."""
+        """Keep the work view's docks and shortcuts out of the review view's way. Only the
+        page on show counts towards the window's minimum size, so a wide page hidden in the
+        stack never widens the window of the other view."""
+        size = self.size()
+        for i in range(self.stack.count()):
+            page, shown = self.stack.widget(i), i == index
+            page.setSizePolicy(QSizePolicy.Policy.Preferred if shown else QSizePolicy.Policy.Ignored,
+                               QSizePolicy.Policy.Preferred if shown else QSizePolicy.Policy.Ignored)
         if self.stack.widget(index) is self.review_page:
-            self.review_page.build()
             self.player.pause()
-            self.work_pause.hold()
+            self.work_pause.hold()  # docks hidden first: the page must not count beside them
+            self.review_page.build()
         else:
+            self.stack.layout().invalidate()  # the review page's minimum no longer counts
             self.work_pause.release()
+            self.restoreState(self._work_state)  # the docks at the widths they had
+        self.layout().activate()
+        if self.width() > size.width() or self.height() > size.height():
+            # the docks came back at their old widths beside the page's minimum: the window
+            # keeps the size it had (the docks give way), so it never grows off the screen
+            self.resize(size.expandedTo(self.minimumSizeHint()))
 
     @Slot(ReviewPage)
     def _review_built(self, page: ReviewPage) -> None:
@@ -442,11 +468,25 @@ class MainWindow(SegmentOps, QMainWindow):
         self.settings.sync()
 
     def _restore_layout(self) -> None:
-        geo, state = self.settings.value("window/geometry"), self.settings.value("window/state")
+        """The saved size and the work view's docks as the person left them. A saved dock
+        layout that does not restore, or one that hid every dock (never the person's doing
+        in the work view), is dropped for the default one."""
+        geo, state = self.settings.value("window/geometry"), self.settings.value(WORK_STATE_KEY)
         screen = self.screen() or QGuiApplication.primaryScreen()
         fit_window(self, screen.availableGeometry(), geo)
-        if state is not None:
-            self.restoreState(state)
+        self._work_state = self.saveState()  # the default layout
+        docks = self.findChildren(QDockWidget)
+        if state is None or not self.restoreState(state) or all(d.isHidden() for d in docks):
+            self.restoreState(self._work_state)
+            for d in docks:
+                d.setHidden(False)
+
+    def _save_layout(self) -> None:
+        """Geometry, and the work view's dock layout as it was in the work view (the review
+        view hides the docks; that is not the person's layout)."""
+        self.settings.setValue("window/geometry", self.saveGeometry())
+        self.settings.setValue(WORK_STATE_KEY,
+                               self._work_state if self.in_review_view else self.saveState())
 
     def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
         if not self.settle_conflicts():
@@ -454,8 +494,7 @@ class MainWindow(SegmentOps, QMainWindow):
             return
         self.captions.flush()
         self._write_resume()
-        self.settings.setValue("window/geometry", self.saveGeometry())
-        self.settings.setValue("window/state", self.saveState())
+        self._save_layout()
         self.settings.sync()
         self.jobs.cancel()
         self.player.close()
