@@ -48,7 +48,11 @@ def summary(data: dict) -> Table:
         for key in ("r_at_1", "r_at_5", "r_at_10", "median_rank"):
             rows.append(["captions", "all", f"retrieval {key}", r[key], None, None, None,
                          r["recipe"]["text"]])
-    return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe"], rows)
+    rows = [r + [None] for r in rows]
+    for part, why in a.get("not_measured", {}).items():  # each part stands alone
+        rows.append([part, "all", "not measured", None, None, None, None, None, why])
+    return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe", "note"],
+            rows)
 
 
 def pairwise(data: dict) -> Table:

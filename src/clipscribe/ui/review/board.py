@@ -138,6 +138,7 @@ class AgreementBoard(QWidget):
         for p in (lab["pairs"] if lab else []):
             self.pair.addItem(f"{p['annotator_a']} vs {p['annotator_b']}")
         self.pair.blockSignals(False)
+        self.pair.setEnabled(self.pair.count() > 0)
         self._pair_changed(0)
         m = data["meta"]
         if lab:
@@ -146,9 +147,12 @@ class AgreementBoard(QWidget):
             alpha = (f"Krippendorff alpha {a['value']:.3f} ({a['band']}), 95% interval "
                      f"[{ci['low']:.3f}, {ci['high']:.3f}]" if a["value"] is not None
                      and ci["low"] is not None else "alpha not measurable")
-        else:
-            alpha = "no labels yet"
-        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha} · "
+        missing = data["agreement"].get("not_measured", {})
+        if not lab:
+            alpha = f"labels not measured: {missing.get('labels', 'no labels yet')}"
+        others = "".join(f" · {part} not measured: {why}" for part, why in missing.items()
+                         if part != "labels")
+        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha}{others} · "
                              f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
         self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))

@@ -244,8 +244,11 @@ class ReviewDesk(QWidget):
         current = self.cmp.clip.id if self.cmp else None
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
+        missing = self.report.not_measured
         self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label disagreement, "
-                             "then segment F1, then caption BLEU (worst first).")
+                             "then segment F1, then caption BLEU (worst first)."
+                             + "".join(f" {part.capitalize()} not measured: {why}."
+                                       for part, why in missing.items()))
         self.queue_note.setText(self._ranked_note)
         target = current if keep and current in self.queue_model.clips() else (
             rows[0].clip if rows else None)
@@ -319,9 +322,13 @@ class ReviewDesk(QWidget):
         self.caption_view.setEnabled(True)
         c = cmp.clip
         sc = cmp.scores
-        nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
-            ("label disagreement", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
-            ("caption BLEU", "caption_bleu", "{:.1f}")))
+        missing = self.report.not_measured if self.report is not None else {}
+        nums = "  ·  ".join(
+            f"{k}: {'not measured' if part in missing else _fmt(sc.get(key), f)}"
+            for k, key, f, part in (
+                ("label disagreement", "label_disagreement", "{:.2f}", "labels"),
+                ("segment F1", "segment_f1", "{:.2f}", "segments"),
+                ("caption BLEU", "caption_bleu", "{:.1f}", "captions")))
         skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items())
         self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "
                            f"frames at {c.fps:g} fps — {nums}{skips}")
