@@ -28,8 +28,13 @@ from .tracks import GOLD, TrackStack
 QUEUE_BOOT = 1  # the queue's order needs no intervals; the board computes those
 
 
+#: the group the review desk's commands are listed under in the shortcut sheet
+DESK_GROUP = "Review desk"
+
+
 def desk_action(parent: QWidget, text: str, keys, slot, *, context=None) -> QAction:
     a = QAction(text, parent)
+    a.setProperty("group", DESK_GROUP)
     if keys:
         a.setShortcuts([QKeySequence(k) for k in (keys if isinstance(keys, list) else [keys])])
         a.setToolTip(f"{text}  ({a.shortcut().toString(QKeySequence.SequenceFormat.NativeText)})")
@@ -187,6 +192,13 @@ class ReviewDesk(QWidget):
                                       "Ctrl+Shift+G",
                                       lambda: self.copy_track(self.settle.track_of.currentText())),
         })
+
+    def key_actions(self) -> list[QAction]:
+        """Every command of the desk that has a key (for the shortcut sheet)."""
+        for a in (self.undo_action, self.redo_action):
+            a.setProperty("group", DESK_GROUP)
+        return [*self.acts.values(), *self.caption_view.actions(), self.undo_action,
+                self.redo_action]
 
     def _wire(self) -> None:
         pl = self.player
@@ -365,6 +377,10 @@ class ReviewDesk(QWidget):
         start = min(self.player.frame, c.frame_count - 1)
         end = min(c.frame_count, start + max(1, round(c.fps)))
         label = self.cmp.gold_label or self.settle.any_label.currentText()
+        if not label:  # never a label picked for the lead
+            self.status.emit("Settle the clip label, or choose one in the list, before adding "
+                             "a gold segment")
+            return
         self.segment_model.add((label, start, end))
 
     def _comment(self, text: str, to) -> None:

@@ -30,7 +30,7 @@ from .scrub_bar import ScrubBar
 from .segment_model import SegmentModel
 from .segments_ops import SegmentOps
 from .timeline import Timeline
-from .work_pause import WorkViewPause
+from .work_pause import SHARED_ACTIONS, WorkViewPause
 
 RESUME_MS = 400
 #: the work view's dock layout (a key of its own: the layout once saved under "window/state"
@@ -387,7 +387,9 @@ class MainWindow(SegmentOps, QMainWindow):
         if self.stack.widget(index) is self.review_page:
             self.player.pause()
             self.work_pause.hold()  # docks hidden first: the page must not count beside them
-            self.review_page.build()
+            page = self.review_page.build()
+            if page is not None:
+                page.focus_current()
         else:
             self.stack.layout().invalidate()  # the review page's minimum no longer counts
             self.work_pause.release()
@@ -423,8 +425,18 @@ class MainWindow(SegmentOps, QMainWindow):
     def all_actions(self) -> list:
         return list(self.actions_.values())
 
+    def shortcut_sheet(self) -> ShortcutSheet:
+        """The keys that work where the person is: in the review view, the review page's
+        and the window's shared commands; in the work view, the work view's."""
+        page = self.review_page.page
+        if self.in_review_view and page is not None:
+            shared = [self.actions_[n] for n in SHARED_ACTIONS if n in self.actions_]
+            return ShortcutSheet(page.key_actions() + shared, self, extra_rows=page.key_rows(),
+                                 title="Keyboard shortcuts — review view")
+        return ShortcutSheet(self.all_actions(), self)
+
     def show_shortcuts(self) -> None:
-        ShortcutSheet(self.all_actions(), self).exec()
+        self.shortcut_sheet().exec()
 
     def open_other_project(self) -> None:
         """Choose another project in the start window; this window closes and it opens."""
