@@ -327,12 +327,16 @@ class Project:
         return cfg
 
     def set_caption_rules(self, *, captions_per_clip: int | None = None,
-                          min_words: int | None = None, max_words: int | None = None) -> ProjectSettings:
+                          min_words: int | None = None, max_words: int | None = None,
+                          at_submit: str | None = None) -> ProjectSettings:
         """Change the caption guideline's numbers (those given); the fewest words may not
-        exceed the most. RecordError names the setting at fault."""
+        exceed the most. ``at_submit`` is what submitting captions that miss the guideline
+        does: "off", "warn" (an override with a reason lets it through, recorded) or "block".
+        RecordError names the setting at fault."""
         g = self.settings.caption_guideline.model_dump()
         g.update({k: v for k, v in (("captions_per_clip", captions_per_clip),
-                                    ("min_words", min_words), ("max_words", max_words)) if v is not None})
+                                    ("min_words", min_words), ("max_words", max_words),
+                                    ("at_submit", at_submit)) if v is not None})
         if g["min_words"] > g["max_words"]:
             raise RecordError(f"caption rules: min_words {g['min_words']} is more than "
                               f"max_words {g['max_words']}")
@@ -417,6 +421,15 @@ class Project:
     def groups(self) -> list[str]:
         return self._catalog.groups()
 
+    def set_clip_facts(self, clip: ClipRef, *, group: Any = ..., consent: Any = ...,
+                       licence: Any = ..., source: Any = ...) -> bool:
+        """Change facts of a clip already added: its ``group`` (the unit kept on one side of a
+        split), ``consent``, ``licence`` and ``source``. Only the facts given change; None makes
+        a fact unknown (a clip without a group is its own group). Lead only. One edit in the
+        history, undone by :meth:`revert` like other edits; returns False when nothing changed."""
+        return self._peers.clip_facts.set_clip_facts(clip, group=group, consent=consent,
+                                                      licence=licence, source=source)
+
     def set_fingerprint(self, clip: ClipRef, value: int) -> None:
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         return self._catalog.set_fingerprint(clip, value)
@@ -483,9 +496,17 @@ class Project:
         return self._annotation.caption_rows(clip=clip, annotator=annotator)
 
     def set_clip_state(
-            self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None) -> None:
-        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
-        return self._annotation.set_clip_state(clip, annotator, state, reason)
+            self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None, *,
+            override: str | None = None) -> None:
+        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``.
+
+        When the project checks the caption guideline at submit (``caption_guideline.at_submit``
+        "warn" or "block", see :meth:`set_caption_rules`), submitting captions that miss it
+        raises :class:`~clipscribe.errors.GuidelineNotMet` listing what is missing. With "warn",
+        ``override`` (a reason) submits anyway and the edit history records the override and
+        what it let through; "block" refuses overrides. Any later edit of one's own submitted
+        clip (label, segment, caption) reopens it, recorded in the history and undone with it."""
+        return self._annotation.set_clip_state(clip, annotator, state, reason, override=override)
 
     def clip_state(self, clip: ClipRef, annotator: Any = None) -> tuple[str, str | None]:
         return self._annotation.clip_state(clip, annotator)
@@ -643,9 +664,9 @@ class Project:
         return self._records.import_labels_csv(path, progress=progress, cancel=cancel)
 
     def iter_records(self):
-        """Every clip, label, segment, caption, gold decision and lead comment as interchange
-        records (comments: those this login may read; on a server an annotator reads only the
-        ones addressed to them).
+        """Every clip, label, segment, caption, gold decision, lead comment and clip state
+        (submitted, skipped with its reason, unsure) as interchange records (comments: those
+        this login may read; on a server an annotator reads only the ones addressed to them).
 
         Built from stored rows without validating them again, so a row stored before a limit
         existed is still written out (an import then names it)."""
