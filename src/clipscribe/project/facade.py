@@ -694,17 +694,23 @@ class Project:
         name. A skip is not a label: agreement and exports leave the skipper's label out."""
         return self._review.skips(clip)
 
+    def unsure_flags(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator, note)`` of every clip flagged unsure (or of one clip), by clip
+        and name; note "" when none was given. Unlike a skip, the flagger's label counts."""
+        return self._review.unsure_flags(clip)
+
     def review_queue(
-            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200) -> list[DisputedClip]:
+            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
-        person labelled, segmented or captioned; ``group`` keeps one group. Pass a ready
-        ``report`` to skip recomputing it. Leads only.
+        person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
+        clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
+        it. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""

@@ -94,7 +94,7 @@ class ExportOptions:
             "the lead's gold segments; without them, the segments of the annotator (among those "
             "whose label equals the exported one) whose segments overlap the others' most; else "
             "none. Gold only: clips without gold segments export none. Recorded in the manifest.")
-        form.addRow("Segment "Segments: gold, else &best"basis", self.segment_rule)
+        form.addRow("Segment &basis", self.segment_rule)
         self.radius = QSpinBox()
         self.radius.setRange(0, 64)
         self.radius.setValue(8)
