@@ -33,6 +33,7 @@ class ClipFactsDialog(QDialog):
         super().__init__(parent)
         self.setObjectName("clipFacts")
         self.setWindowTitle("Clip facts")
+        self.setMinimumWidth(520)
         self.project = project
         self.clip = None
         self.jobs = JobRunner(self)

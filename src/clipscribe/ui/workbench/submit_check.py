@@ -18,6 +18,7 @@ class SubmitCheckDialog(QDialog):
         super().__init__(parent)
         self.setObjectName("submitCheck")
         self.setWindowTitle("Captions miss the guideline")
+        self.setMinimumWidth(560)
         lay = QVBoxLayout(self)
         head = ("This clip cannot be submitted yet: the lead made the caption guideline a block."
                 if blocking else "This clip's captions miss the caption guideline:")
@@ -26,6 +27,7 @@ class SubmitCheckDialog(QDialog):
         lay.addWidget(top)
         self.items = QListWidget()
         self.items.setObjectName("missingList")
+        self.items.setWordWrap(True)
         self.items.addItems(list(missing))
         self.items.setFocusPolicy(Qt.FocusPolicy.NoFocus)
         lay.addWidget(self.items)
