@@ -22,7 +22,7 @@ from ..workers import Job, JobRunner
 from .people import PeopleBox
 
 #: what submitting captions that miss the guideline does (``caption_guideline.at_submit``)
-AT_SUBMIT = (("not checked", "off"), ("ask for an override", "warn"), ("refuse", "block"))
+AT_SUBMIT = (("no check", "off"), ("override", "warn"), ("refuse", "block"))
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {
     "their folder (one folder per source video or person)": BY_FOLDER,
@@ -67,7 +67,7 @@ class ProjectSetup(QDialog):
         super().__init__(parent)
         self.setObjectName("projectSetup")
         self.setWindowTitle("Set up the project")
-        self.setMinimumWidth(780)
+        self.setMinimumWidth(820)
         self.project = project
         self._changed = False
         self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
@@ -190,8 +190,8 @@ class ProjectSetup(QDialog):
             self.at_submit.addItem(text, value)
         self.at_submit.setCurrentIndex([v for _, v in AT_SUBMIT].index(g.at_submit))
         self.at_submit.setToolTip("What submitting a clip whose captions miss these rules does: "
-                                  "nothing, ask for an override with a reason (kept in the edit "
-                                  "history), or refuse")
+                                  "no check; override: ask for a reason to submit anyway (kept "
+                                  "in the edit history); refuse")
         lab = QLabel("At s&ubmit:")
         lab.setBuddy(self.at_submit)
         row.addWidget(lab)
