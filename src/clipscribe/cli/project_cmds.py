@@ -14,7 +14,7 @@ from .team_cmds import new_password
 
 def cmd_new(args: argparse.Namespace) -> int:
     from ..project import Project
-    from ..store.urls import secret_warning
+    from ..project.opening import secret_warning
     if warning := secret_warning(args.database_url, "--database-url"):
         print(f"clipscribe: {warning}", file=sys.stderr)
     # a project a person makes checks the caption guideline at submit (warn, with override)

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-import datetime as dt
 from typing import Any
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import StaleWriteError
+from ..store.history_values import row_values
 from ..store.models import (
     Annotator,
     Assignment,
@@ -29,8 +29,6 @@ ENTITIES = {"clip": Clip, "clip_label": ClipLabel, "segment": Segment, "caption"
             "gold_caption": GoldCaption}
 _UNDOABLE = set(ENTITIES)
 _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own work on a clip
-
-
 
 
 class History(Service):
@@ -111,7 +109,7 @@ class History(Service):
         if e.before is None:
             s.delete(row)
         else:
-            values = {k: _from_json(v) for k, v in e.before.items() if k != "version"}
+            values = row_values(model, {k: v for k, v in e.before.items() if k != "version"})
             if row is None:
                 row = model(**values)
                 s.add(row)
@@ -122,7 +120,6 @@ class History(Service):
         s.flush()
         return self.ctx.log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
                          row_dict(row) if e.before is not None else None, reverts=e.id)
-
 
 
 def _step_words(rows: list[EditInfo]) -> str:
@@ -142,11 +139,3 @@ def _content(row: dict) -> dict:
     """A row's values without the bookkeeping columns (version, timestamps)."""
     return {k: v for k, v in row.items() if k not in ("version", "updated_at")}
 
-
-def _from_json(v: Any) -> Any:
-    if isinstance(v, str) and len(v) >= 19 and v[4] == "-" and v[10] == "T":
-        try:
-            return dt.datetime.fromisoformat(v)
-        except ValueError:
-            return v
-    return v
