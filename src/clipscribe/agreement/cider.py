@@ -10,7 +10,7 @@ import numpy as np
 
 from . import _checks
 from ._recipe import Recipe
-from .captions import NgramIndex, ngram_index, tokenizer
+from .captions import NgramIndex, corpus_index, tokenizer
 from .loo import _flatten
 
 
@@ -63,9 +63,9 @@ def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4
     max_order = _checks.positive_int("max_order", max_order)
     sigma = _checks.finite_number("sigma", sigma, minimum=1e-9)
     scale = _checks.finite_number("scale", scale)
-    tok = tokenizer(tokenize)
+    tokenizer(tokenize)  # checks the name
     clip, authors, texts, clip_keys = _flatten(captions_by_clip)
-    index = ngram_index([tok(t) for t in texts], max_order)
+    index = corpus_index(tuple(texts), tokenize, max_order)
     names = {a: i for i, a in enumerate(sorted(set(authors)))}
     author = np.fromiter((names[a] for a in authors), dtype=np.int64, count=len(authors))
     scores = _scores(index, clip, author, len(clip_keys), max_order, sigma, scale)

@@ -282,7 +282,14 @@ class Annotation(Service):
 
     def captions(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
-        return [(c.clip, c.annotator, c.text) for c in self.caption_rows(clip=clip, annotator=annotator)]
+        def q(s: Session) -> list[tuple[int, str, str]]:
+            # plain columns, not caption objects: a report reads every caption of the project
+            stmt = (select(Caption.clip_id, Annotator.name, Caption.text)
+                    .join(Annotator, Annotator.id == Caption.annotator_id)
+                    .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
+            stmt = self._owned_by(s, stmt, Caption, clip, annotator)
+            return [tuple(r) for r in s.execute(stmt)]
+        return self.ctx.read(q)
 
     def caption_rows(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[CaptionInfo]:
         def q(s: Session) -> list[CaptionInfo]:
