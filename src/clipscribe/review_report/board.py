@@ -32,6 +32,10 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
     rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
     queue = project.review_queue(report=rep)
     clips = project.clips()
+    paths = {c.id: c.path for c in clips}
+    workers = {a.name for a in project.annotators() if a.role != "lead"}
+    flags = sorted([(c, a, "skipped", why) for c, a, why in project.skips()]
+                   + [(c, a, "unsure", note) for c, a, note in project.unsure_flags()])
     return {
         "meta": {"project": project.settings.name, "tool": "clipscribe", "version": __version__,
                  "made": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
@@ -52,7 +56,10 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
                    "label_disagreement": _clean(r.label_disagreement),
                    "segment_f1": _clean(r.segment_f1), "caption_bleu": _clean(r.caption_bleu),
                    "caption_cider": _clean(r.caption_cider), "labels": r.labels,
-                   "gold_label": r.gold_label} for r in queue[:QUEUE_TOP]],
+                   "gold_label": r.gold_label, "skipped": r.skipped, "unsure": r.unsure}
+                  for r in queue[:QUEUE_TOP]],
+        "flags": [{"clip": c, "path": paths.get(c), "annotator": a, "state": st, "reason": why}
+                  for c, a, st, why in flags if a in workers],
     }
 
 

@@ -118,6 +118,11 @@ def render_html(data: dict) -> str:
         "<h2>Throughput and trend</h2>", block(["throughput", "trend"]),
         _table(tables.throughput(data)), _table(tables.trend(data)),
         "<h2>Most disputed clips</h2>", _table(tables.disputed(data)),
+        "<h2>Skipped and unsure clips</h2>",
+        "<p>A skip is not a label (the skipper is left out of agreement and exports); an unsure "
+        "flag keeps the label and asks the lead to look.</p>" if data.get("flags") else
+        "<p>No annotator skipped a clip or flagged one unsure.</p>",
+        _table(tables.skipped_unsure(data)) if data.get("flags") else "",
         "<h2>How to read this</h2>",
         f"<p>Bands for kappa and alpha: {escape(bands)}; below 0 poor. Source: "
         f"{escape(m['bands_source'])}. The bands were offered as a convention.</p>",

@@ -152,9 +152,16 @@ class AgreementBoard(QWidget):
             alpha = f"labels not measured: {missing.get('labels', 'no labels yet')}"
         others = "".join(f" · {part} not measured: {why}" for part, why in missing.items()
                          if part != "labels")
-        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha}{others} · "
+        flags = data.get("flags", [])
+        n_skip = sum(f["state"] == "skipped" for f in flags)
+        marks = (f" · {n_skip} skipped, {len(flags) - n_skip} unsure (hover for who and why)"
+                 if flags else "")
+        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha}{others}{marks} · "
                              f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
-        self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
+        self.summary.setToolTip("\n".join(
+            ([lab["alpha"]["recipe"]["text"]] if lab else [])
+            + [f"clip {f['clip']} {f['path']}: {f['annotator']} {f['state']}"
+               + (f" — {f['reason']}" if f["reason"] else "") for f in flags[:30]]))
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
 

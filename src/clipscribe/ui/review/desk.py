@@ -93,6 +93,12 @@ class ReviewDesk(QWidget):
                 box.addItem(it, it)
             box.setAccessibleName(name)
             ll.addWidget(box)
+        self.by_flag = QComboBox()
+        self.by_flag.setObjectName("flagFilter")
+        self.by_flag.addItem("all clips", False)
+        self.by_flag.addItem("skipped/unsure", True)
+        self.by_flag.setAccessibleName("Filter: clips someone skipped or flagged unsure")
+        ll.addWidget(self.by_flag)
         self.queue_view = QTableView()
         self.queue_view.setObjectName("disputedClips")
         self.queue_view.setModel(self.queue_model)
@@ -207,7 +213,7 @@ class ReviewDesk(QWidget):
         pl.failed.connect(self.status)
         self.tracks.seekRequested.connect(pl.seek)
         self.tracks.goldEdited.connect(self.drag_gold)
-        for box in (self.by_label, self.by_person, self.by_group):
+        for box in (self.by_label, self.by_person, self.by_group, self.by_flag):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
             lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
@@ -230,7 +236,7 @@ class ReviewDesk(QWidget):
         if self.ranking is not None:
             self.ranking.cancel()
         flt = dict(label=self.by_label.currentData(), annotator=self.by_person.currentData(),
-                   group=self.by_group.currentData())
+                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()))
 
         def rank(cancel, progress):
             report = p.agreement_report(n_boot=QUEUE_BOOT)
@@ -341,7 +347,8 @@ class ReviewDesk(QWidget):
                 ("label disagreement", "label_disagreement", "{:.2f}", "labels"),
                 ("segment F1", "segment_f1", "{:.2f}", "segments"),
                 ("caption BLEU", "caption_bleu", "{:.1f}", "captions")))
-        skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items())
+        skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items()) + "".join(
+            f"  ·  unsure: {a}" + (f" ({note})" if note else "") for a, note in cmp.unsure.items())
         self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "
                            f"frames at {c.fps:g} fps — {nums}{skips}")
         tracks = [(a, [(g.label, g.start, g.end) for g in cmp.segments.get(a, [])])
@@ -359,7 +366,7 @@ class ReviewDesk(QWidget):
         self.caption_model.load(cmp, bleu=bleu, flags=flags)
         self.segment_model.load(cmp.gold_segments, self.labels)
         self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
-                              cmp.skipped)
+                              cmp.skipped, cmp.unsure)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)

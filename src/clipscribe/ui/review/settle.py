@@ -103,9 +103,11 @@ class SettlePanel(QWidget):
         self._vote_buttons: list[QPushButton] = []
 
     def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
-                  comments: list, skipped: dict[str, str] | None = None) -> None:
-        """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote)."""
-        skipped = skipped or {}
+                  comments: list, skipped: dict[str, str] | None = None,
+                  unsure: dict[str, str] | None = None) -> None:
+        """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote);
+        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts)."""
+        skipped, unsure = skipped or {}, unsure or {}
         self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
         # the list shows this clip's gold, or nothing chosen: never a label left from another
         # clip or decision, which Settle would then write over the gold
@@ -119,6 +121,8 @@ class SettlePanel(QWidget):
         for i, name in enumerate(annotators):
             lab = labels.get(name)
             said = f"skipped ({skipped[name]})" if name in skipped else lab or '—'
+            if name in unsure:
+                said += f" (unsure: {unsure[name]})" if unsure[name] else " (unsure)"
             b = QPushButton(f"&{i + 1}  {name}: {said}" if i < 9 else f"{name}: {said}")
             b.setToolTip(f"Settle “{lab}” (Alt+{i + 1})" if lab else
                          f"{name} skipped this clip: {skipped[name]}" if name in skipped else

@@ -11,6 +11,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout, QWidget,
 )
 
+from ...errors import GuidelineNotMet
 from ..boot import remember_project
 from ..dialogs.help import CautionsNote, ShortcutSheet
 from ..editor import ClipEditor
@@ -29,6 +30,7 @@ from .queue_model import ClipQueueModel
 from .scrub_bar import ScrubBar
 from .segment_model import SegmentModel
 from .segments_ops import SegmentOps
+from .submit_check import ask_override
 from .timeline import Timeline
 from .work_pause import SHARED_ACTIONS, WorkViewPause
 
@@ -46,6 +48,7 @@ class MainWindow(SegmentOps, QMainWindow):
         review view's second tab)."""
         super().__init__()
         self.project = project
+        self._shown_state: tuple[int, str] | None = None  # (clip, state) last shown, for reopens
         self.settings = settings if settings is not None else QSettings()
         self.setWindowTitle(f"clipscribe — {project.settings.name} — {project.user}")
         self.setObjectName("workbench")
@@ -239,6 +242,10 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions.load(p.caption_rows(clip=cid, annotator=me), segments,
                            versions=p.caption_versions(cid, me))
         state, reason = p.clip_state(cid, me)
+        if self._shown_state == (cid, "submitted") and state == "open":
+            self.statusBar().showMessage(f"Clip {cid} reopened: you changed it after submitting; "
+                                         "submit it again when done (Ctrl+Return)", 8000)
+        self._shown_state = (cid, state)
         c = self.clip
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
                                   f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
@@ -290,9 +297,18 @@ class MainWindow(SegmentOps, QMainWindow):
     @Slot()
     def submit_clip(self) -> None:
         self.captions.flush()
-        if self.editor.set_state("submitted") is not None:
+        done = self.editor.set_state("submitted")
+        missed = self.editor.last_refusal
+        if done is None and isinstance(missed, GuidelineNotMet):
+            reason = self.ask_override(missed.missing, blocking=missed.blocking)
+            done = self.editor.set_state("submitted", override=reason) if reason else None
+        if done is not None:
             self.next_unfinished()
             self.focus_viewer()  # the next keys are label and playback keys, not text
+
+    def ask_override(self, missing, *, blocking: bool) -> str | None:
+        """What the clip's captions miss; the override reason, or None to go back."""
+        return ask_override(self, missing, blocking=blocking)
 
     def _leave_fields(self) -> None:
         """On clip change, move the cursor out of a caption or reason field: typing meant for
