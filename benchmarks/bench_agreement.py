@@ -4,11 +4,11 @@ Prints one JSON object. Run: PYTHONPATH=src .venv/bin/python benchmarks/bench_ag
 Options: --quick (smaller sizes for a smoke run), --sacrebleu-clips N (LOO reference subset).
 Timings are the best of several runs (one run for leave-one-out BLEU); the machine is shared,
 so ratios from the same run are the numbers to read.
-Goals (DESIGN.md): equal to 1e-9, never slower than the reference, leave-one-out BLEU >= 5x
-faster than sacrebleu, the label part of the report on 100k clips x 5 annotators < 1 s,
-Dawid-Skene on 50k clips x 5 annotators <= 0.5 x crowd-kit (same start, same stopping rule, so
-the same number of rounds), leave-one-out ROUGE-L and chrF beside rouge-score and sacrebleu
-doing the same caption by caption.
+Goals (docs/architecture.md, "Budgets"): equal to 1e-9, never slower than the reference,
+leave-one-out BLEU >= 5x faster than sacrebleu, the label part of the report on 100k clips x 5
+annotators < 1 s, Dawid-Skene on 50k clips x 5 annotators <= 0.5 x crowd-kit (same start, same
+stopping rule, so the same number of rounds), leave-one-out ROUGE-L and chrF beside rouge-score
+and sacrebleu doing the same caption by caption.
 """
 
 from __future__ import annotations

@@ -11,9 +11,16 @@ def _n(x, digits: int = 3) -> str:
     return "-" if x is None or (isinstance(x, float) and math.isnan(x)) else f"{x:.{digits}f}"
 
 
+def _not_measured(report, part: str, title: str) -> list[str]:
+    """The heading of a part that was not measured, and why (in its place)."""
+    why = report.not_measured.get(part)
+    return ["", title, f"  not measured: {why}"] if why else []
+
+
 def render(report, *, top: int = 10) -> str:
     out = [f"Agreement report  ({report.recipe.text()})", ""]
     lab = report.labels
+    out += _not_measured(report, "labels", "Labels")[1:]
     if lab is not None:
         a = lab.alpha
         out.append(f"Labels: {len(lab.clips)} clips, {len(lab.annotators)} annotators, "
@@ -35,6 +42,7 @@ def render(report, *, top: int = 10) -> str:
         for k, (s, ci) in lab.per_label.items():
             out.append(f"  {str(k):<24.24}{_n(s):>8}{'[' + _n(ci.low) + ', ' + _n(ci.high) + ']':>20}")
     seg = report.segments
+    out += _not_measured(report, "segments", "Segments")
     if seg is not None:
         out += ["", "Segments"]
         if seg.frame_alpha is not None:
@@ -48,6 +56,7 @@ def render(report, *, top: int = 10) -> str:
                        f"{_n(p.boundary_offset_frames, 1):>10}"
                        f"{_n(p.boundary_offset_seconds, 2):>10}")
     cap = report.captions
+    out += _not_measured(report, "captions", "Captions")
     if cap is not None:
         b = cap.bleu.overall
         out += ["", "Captions",

@@ -9,6 +9,7 @@ from __future__ import annotations
 from .analysis import Analysis
 from .annotate import Annotation
 from .catalog import Catalog
+from .clip_facts import ClipFacts
 from .context import Context
 from .exporting import Exporting
 from .gold import Gold
@@ -24,6 +25,7 @@ class Peers:
 
     def __init__(self, ctx: Context) -> None:
         self.catalog = Catalog(ctx, self)
+        self.clip_facts = ClipFacts(ctx, self)
         self.annotation = Annotation(ctx, self)
         self.workbench = Workbench(ctx, self)
         self.gold = Gold(ctx, self)

@@ -141,6 +141,7 @@ class AgreementBoard(QWidget):
         for p in (lab["pairs"] if lab else []):
             self.pair.addItem(f"{p['annotator_a']} vs {p['annotator_b']}")
         self.pair.blockSignals(False)
+        self.pair.setEnabled(self.pair.count() > 0)
         self._pair_changed(0)
         m = data["meta"]
         if lab:
@@ -149,11 +150,21 @@ class AgreementBoard(QWidget):
             alpha = (f"Krippendorff alpha {a['value']:.3f} ({a['band']}), 95% interval "
                      f"[{ci['low']:.3f}, {ci['high']:.3f}]" if a["value"] is not None
                      and ci["low"] is not None else "alpha not measurable")
-        else:
-            alpha = "no labels yet"
-        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha} · "
+        missing = data["agreement"].get("not_measured", {})
+        if not lab:
+            alpha = f"labels not measured: {missing.get('labels', 'no labels yet')}"
+        others = "".join(f" · {part} not measured: {why}" for part, why in missing.items()
+                         if part != "labels")
+        flags = data.get("flags", [])
+        n_skip = sum(f["state"] == "skipped" for f in flags)
+        marks = (f" · {n_skip} skipped, {len(flags) - n_skip} unsure (hover for who and why)"
+                 if flags else "")
+        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha}{others}{marks} · "
                              f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
-        self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
+        self.summary.setToolTip("\n".join(
+            ([lab["alpha"]["recipe"]["text"]] if lab else [])
+            + [f"clip {f['clip']} {f['path']}: {f['annotator']} {f['state']}"
+               + (f" — {f['reason']}" if f["reason"] else "") for f in flags[:30]]))
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
 
