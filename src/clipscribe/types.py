@@ -157,6 +157,7 @@ class DisputedClip:
     labels: dict[str, str]
     gold_label: str | None
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+    unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
 
     @property
     def settled(self) -> bool:
@@ -186,6 +187,7 @@ class ClipComparison:
     comments: list[tuple[int, str | None, str, str]]
     scores: dict[str, float] = field(default_factory=dict)
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+    unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
 
 
 @dataclass(frozen=True, slots=True)

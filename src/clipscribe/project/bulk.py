@@ -25,8 +25,9 @@ from ..errors import RecordError, StaleWriteError
 from ..schema.records import CaptionRecord, LabelRecord
 from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Edit, Label, Segment, utcnow
 from ..store.unit_of_work import SEEN_KEY, edit_time, session_edits
+from ..store.history_values import json_value
 from .annotate import _caption_text, start_work
-from .context import MAX_ID, json_value
+from .context import MAX_ID
 
 if TYPE_CHECKING:
     from .context import Context

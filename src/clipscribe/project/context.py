@@ -3,18 +3,18 @@ person acting, and the resolution of references (a clip by id or path, a person 
 
 from __future__ import annotations
 
-import datetime as dt
 import os
 from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import TYPE_CHECKING, Any, ContextManager, TypeVar
 
-from sqlalchemy import inspect, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import NotALeadError, ProjectError, RecordError
 from ..schema.settings import ProjectSettings
 from ..store.models import Annotator, Clip, Edit, Label, utcnow
+from ..store.history_values import json_value, row_dict  # noqa: F401 (used by the services)
 from ..store.unit_of_work import UnitOfWork, edit_time, session_edits
 from ..types import ClipRef
 
@@ -189,21 +189,6 @@ class Context:
 
 def _no_settings_writer(**_changes: Any) -> ProjectSettings:
     raise ProjectError("this project cannot change its settings")
-
-
-def row_dict(obj: Any) -> dict[str, Any]:
-    """Column values of an ORM row as JSON-safe data (for the edit history)."""
-    return {attr.key: json_value(getattr(obj, attr.key)) for attr in inspect(obj).mapper.column_attrs}
-
-
-def json_value(v: Any) -> Any:
-    """One column value as the edit history keeps it."""
-    if isinstance(v, dt.datetime):
-        # times are stored in UTC; SQLite hands them back without a zone, PostgreSQL with
-        # its own zone object: write one form so history rows compare equal
-        return (v.replace(tzinfo=dt.timezone.utc) if v.tzinfo is None
-                else v.astimezone(dt.timezone.utc)).isoformat()
-    return v
 
 
 def require(cond: bool, message: str) -> None:

@@ -15,6 +15,7 @@ if TYPE_CHECKING:
     from .analysis import Analysis
     from .annotate import Annotation
     from .catalog import Catalog
+    from .clip_facts import ClipFacts
     from .context import Context
     from .exporting import Exporting
     from .gold import Gold
@@ -26,7 +27,8 @@ if TYPE_CHECKING:
 
 #: service name -> (module in this package, class)
 SERVICES = {
-    "catalog": ("catalog", "Catalog"), "annotation": ("annotate", "Annotation"),
+    "catalog": ("catalog", "Catalog"), "clip_facts": ("clip_facts", "ClipFacts"),
+    "annotation": ("annotate", "Annotation"),
     "workbench": ("workbench", "Workbench"), "gold": ("gold", "Gold"),
     "history": ("history", "History"), "records": ("records", "Records"),
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
@@ -38,6 +40,7 @@ class Peers:
     """Every service of one open project, by name; each made once, when first asked for."""
 
     catalog: Catalog
+    clip_facts: ClipFacts
     annotation: Annotation
     workbench: Workbench
     gold: Gold
