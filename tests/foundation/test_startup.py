@@ -13,9 +13,9 @@ HEAVY = ("numpy", "cv2", "PySide6", "alembic", "clipscribe.agreement", "clipscri
          "clipscribe.media", "clipscribe.ui", "clipscribe.review_report", "clipscribe.schema.records")
 
 
-def test_stats_loads_nothing_it_does_not_need(sample_dir):
+def test_stats_loads_nothing_it_does_not_need(sample_master):
     code = ("import sys; from clipscribe.cli import main; "
-            f"rc = main(['stats', {str(sample_dir)!r}]); "
+            f"rc = main(['stats', {str(sample_master)!r}]); "
             f"print(rc, sorted({{m.split('.')[0] if not m.startswith('clipscribe') else m "
             f"for m in sys.modules if m.startswith({HEAVY!r})}}), file=sys.stderr)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
