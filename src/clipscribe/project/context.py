@@ -23,6 +23,8 @@ if TYPE_CHECKING:
 
 T = TypeVar("T")
 MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
+#: how every lead-only action is refused (see :meth:`Context.lead_only`)
+LEAD_ONLY = "only a lead may {what}; {who!r} is {role}"
 
 
 class Context:
@@ -153,6 +155,22 @@ class Context:
             shown = row.name if row is not None else name
             raise NotALeadError(refusal.format(who=shown, what=what, role=role))
         return row
+
+    def lead_only(self, s: Session, what: str) -> None:
+        """The role check of every lead-only action, whatever the door (API, CLI, GUI): the
+        person acting must be a lead, else :class:`NotALeadError` (``what`` names the action).
+        A project with no lead yet lets whoever sets it up act as one.
+
+        On SQLite this guards against mistakes; it is no security boundary (whoever can write
+        the project's file can change anything in it). On a server the database enforces the
+        same rights by login, whatever the program."""
+        if s.scalar(select(Annotator.id).where(Annotator.role == "lead").limit(1)) is None:
+            return
+        self.require_lead(s, what, refusal=LEAD_ONLY)
+
+    def check_lead(self, what: str) -> None:
+        """:meth:`lead_only` in a read of its own, before work that writes later (or elsewhere)."""
+        self.read(lambda s: self.lead_only(s, what))
 
     # ---- edit history -----------------------------------------------------------------
     def log(self, s: Session, action: str, entity: str, entity_id: int | None,

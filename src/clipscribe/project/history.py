@@ -13,6 +13,7 @@ from ..store.models import (
     Annotator,
     Assignment,
     Caption,
+    Clip,
     ClipLabel,
     Edit,
     GoldCaption,
@@ -23,7 +24,7 @@ from ..store.models import (
 from ..types import ClipRef, EditInfo  # noqa: F401 (re-exported)
 from .context import Service, require, row_dict
 
-ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
+ENTITIES = {"clip": Clip, "clip_label": ClipLabel, "segment": Segment, "caption": Caption,
             "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
             "gold_caption": GoldCaption}
 _UNDOABLE = set(ENTITIES)
@@ -55,7 +56,9 @@ class History(Service):
             out = []
             for eid in sorted(edit_ids, reverse=True):
                 e = s.get(Edit, eid)
-                require(e is not None and e.entity in _UNDOABLE, f"edit {eid}: cannot be undone")
+                require(e is not None and e.entity in _UNDOABLE
+                        and (e.entity != "clip" or e.action in ("facts", "undo")),
+                        f"edit {eid}: cannot be undone")
                 out.append(self._restore(s, e).id)
             return out
         return self.ctx.write(work)
@@ -98,6 +101,8 @@ class History(Service):
         model = ENTITIES[e.entity]
         row = s.get(model, e.entity_id)
         now = row_dict(row) if row is not None else None
+        if now is not None and e.after is not None:  # an edit of some columns compares those
+            now = {k: now[k] for k in e.after if k in now}
         if (now is None) != (e.after is None) or (now and e.after and _content(now) != _content(e.after)):
             raise StaleWriteError(f"edit {e.id}: the {e.entity.replace('_', ' ')} changed since; "
                                   "undo would overwrite newer work")
