@@ -63,7 +63,7 @@ def test_sample_project_is_built_in_a_new_folder_inside_the_chosen_one(qtbot, se
     qtbot.waitUntil(lambda: win.chosen is not None, timeout=60000)
     assert win.chosen == tmp_path / "clipscribe-sample-2"
     with Project.open(win.chosen) as p:
-        assert len(p.clips()) == 12
+        assert len(p.clips()) == 52  # the full sample: 12 core clips and 40 in later workcells
 
 
 def test_a_failed_build_is_reported_and_the_window_stays(qtbot, settings, tmp_path, monkeypatch):

@@ -93,7 +93,7 @@ def cmd_stats(args: argparse.Namespace) -> int:
 
 def cmd_sample(args: argparse.Namespace) -> int:
     from ..sample import build_sample
-    out = build_sample(args.project, seed=args.seed)
+    out = build_sample(args.project, seed=args.seed, later_workcells=not args.core_only)
     print(f"built the sample project in {out['folder']}: {out['clips']} clips, annotators "
           f"{', '.join(out['annotators'])}, lead {out['lead']!r} ({out['seconds']} s)")
     return 0
@@ -140,5 +140,7 @@ def register_records(add) -> None:
     sp.add_argument("--json", action="store_true", help="print JSON")
     sp = add("sample", cmd_sample, "build the invented sample project in DIR")
     sp.add_argument("--seed", type=int, default=7)
+    sp.add_argument("--core-only", action="store_true",
+                    help="only the first 12 clips in 4 workcells (too few for label suggestions)")
     sp = add("schema", cmd_schema, "write the JSON Schema of every record type", project=False)
     sp.add_argument("folder", nargs="?", default="docs/schema")

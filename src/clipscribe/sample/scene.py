@@ -28,7 +28,7 @@ class Cell:
     wall: tuple[int, int, int]
     arm: tuple[int, int, int]
     mirrored: bool = False          # camera on the other side of the bench
-    decor: str = "none"             # what hangs on the wall: none | window | shelves | board
+    decor: str = "none"             # on the wall: none | window | shelves | board | stripes | door
     zoom: float = 1.0               # camera zoom about the bench centre
     lift: int = 0                   # camera height: positive moves the scene down the picture
 
@@ -39,6 +39,11 @@ CELLS = (
     Cell("cell-south", (100, 120, 130), (200, 190, 170), (70, 80, 95), decor="shelves", zoom=1.35, lift=-10),
     Cell("cell-west", (80, 80, 100), (225, 220, 225), (110, 100, 130), mirrored=True, decor="board",
          zoom=1.15, lift=30),
+    # the later workcells: more clips so label suggestions have something to learn from
+    Cell("bay-1", (90, 100, 80), (190, 210, 200), (100, 100, 110), decor="stripes", zoom=1.1),
+    Cell("bay-2", (120, 110, 90), (215, 200, 205), (80, 95, 85), mirrored=True, decor="door", lift=15),
+    Cell("bay-3", (70, 95, 125), (200, 215, 190), (115, 105, 95), decor="window", zoom=1.25, lift=-5),
+    Cell("bay-4", (95, 85, 115), (195, 195, 215), (95, 110, 120), mirrored=True, decor="board"),
 )
 
 
@@ -166,6 +171,12 @@ def _decorate(img: np.ndarray, cell: Cell) -> None:
         for x in range(10, 110, 20):
             for y in range(10, 150, 20):
                 cv2.circle(img, (x, y), 2, cell.wall, -1)
+    elif cell.decor == "stripes":
+        for y in (10, 95):
+            cv2.rectangle(img, (0, y), (W, y + 40), dark, -1)
+    elif cell.decor == "door":
+        cv2.rectangle(img, (200, 20), (270, 200), dark, -1)
+        cv2.circle(img, (260, 115), 4, cell.wall, -1)
 
 
 def _block(img: np.ndarray, x: float, y: float, colour: tuple[int, int, int]) -> None:

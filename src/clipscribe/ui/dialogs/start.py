@@ -38,7 +38,7 @@ def _file_dialog(parent: QWidget) -> Pick:
 def _build_sample(folder: Path, *, cancel, progress) -> Path:  # worker thread
     from ...sample import build_sample
     progress(0, 0)
-    build_sample(folder)
+    build_sample(folder, later_workcells=True)
     return folder
 
 
@@ -165,7 +165,7 @@ class StartWindow(QDialog):
                            f"'{SAMPLE_NAME}' is made inside)", str(Path.home()))
         if not picked:
             return
-        self._run("Building the sample project (about 3 seconds)…", _build_sample,
+        self._run("Building the sample project (under half a minute)…", _build_sample,
                   free_folder(Path(picked), SAMPLE_NAME))
 
     # ---- plumbing -------------------------------------------------------------------------
