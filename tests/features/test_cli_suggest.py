@@ -33,3 +33,16 @@ def test_too_few_labels_is_one_line_and_status_1(tmp_path, capsys):
     assert main(["suggest", str(tmp_path / "p")]) == 1
     err = capsys.readouterr().err
     assert err.startswith("clipscribe: error: not enough labels yet: 0 of 10")
+
+
+def test_least_certain_lists_the_smallest_margin_first_and_shown_is_stored(labelled, capsys):  # noqa: F811
+    folder, _ = labelled
+    assert main(["suggest", str(folder), "--json", "--least-certain"]) == 0
+    rows = json.loads(capsys.readouterr().out)["clips"]
+    margins = [r["margin"] for r in rows if r["margin"] is not None]
+    assert len(margins) >= 20 and margins == sorted(margins)
+    assert main(["suggest", str(folder), "--shown", "on"]) == 0
+    assert "annotators see suggestions: on" in capsys.readouterr().out
+    from clipscribe import Project
+    with Project.open(folder) as p:
+        assert p.suggestion_visibility() == "on"

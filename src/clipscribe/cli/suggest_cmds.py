@@ -41,6 +41,10 @@ def _print_comparison(result) -> None:
 
 def cmd_suggest(args: argparse.Namespace) -> int:
     with open_project(args) as p:
+        if args.shown:
+            p.set_suggestion_visibility(args.shown)
+            print(f"annotators see suggestions: {args.shown}")
+            return 0
         bar = None if args.json else Bar("clip features")
         if args.compare:
             result = p.compare_streams(folds=args.folds, seed=args.seed, progress=bar)
@@ -51,10 +55,16 @@ def cmd_suggest(args: argparse.Namespace) -> int:
             return 0
         model = p.train_suggester(progress=bar, seed=args.seed)
         rows = []
-        for clip in p.clips():
+        clips = p.clips()
+        if args.least_certain:  # smallest margin between the two best labels first
+            rank = {c: k for k, (c, _) in enumerate(p.least_certain_first())}
+            clips = sorted(clips, key=lambda c: rank.get(c.id, len(rank)))
+        for clip in clips:
             ranked = p.suggest(clip.id)
             rows.append({"clip": clip.id, "path": clip.path,
                          "suggestions": [[lab, round(prob, 4)] for lab, prob in ranked[:3]],
+                         "margin": round(ranked[0][1] - (ranked[1][1] if len(ranked) > 1 else 0), 4)
+                         if ranked else None,
                          "reason": p.suggestion_reason(clip.id) if not ranked else ""})
         if args.json:
             print(json.dumps({"trained_on": model.trained_on, "labels": list(model.classes),
@@ -78,3 +88,9 @@ def register(add) -> None:
     sp.add_argument("--json", action="store_true", help="print JSON instead of text")
     sp.add_argument("--folds", type=int, default=5, help="folds of the comparison (default 5)")
     sp.add_argument("--seed", type=int, default=0, help="seed of the splits (default 0)")
+    sp.add_argument("--least-certain", action="store_true",
+                    help="list the clips the model is least sure of first (margin between the "
+                         "two most probable labels)")
+    sp.add_argument("--shown", choices=["off", "after-look", "on"],
+                    help="lead: decide whether annotators see suggestions in the workbench "
+                         "(after-look: once they have seen the clip's last frame or labelled it)")

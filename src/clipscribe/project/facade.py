@@ -786,6 +786,35 @@ class Project:
         return self._suggestions.compare_streams(folds, seed, progress=progress, cancel=cancel,
                                                  min_agreement=min_agreement, n_boot=n_boot)
 
+    def suggestion_visibility(self) -> str:
+        """Who sees suggestions in the workbench: "off", "after-look" (once the annotator has
+        seen the clip's last frame or labelled it) or "on"."""
+        return self._suggestions.suggestion_visibility()
+
+    def set_suggestion_visibility(self, mode: str) -> None:
+        """Decide whether annotators see suggestions ("off" / "after-look" / "on"); lead only.
+        Suggestions can anchor people: an annotator who sees one tends to accept it."""
+        return self._suggestions.set_suggestion_visibility(mode)
+
+    def accept_suggestion(self, clip: ClipRef, annotator: Any = None) -> str:
+        """Set the clip's label to its best suggestion, marked as accepted in the edit history;
+        returns the label (no suggestion: :class:`RecordError`)."""
+        return self._suggestions.accept_suggestion(clip, annotator)
+
+    def accepted_suggestions(self) -> set[tuple[int, str]]:
+        """(clip id, annotator) of the clip labels whose latest change accepted a suggestion."""
+        return self._suggestions.accepted_suggestions()
+
+    def least_certain_first(self, clips: list[int] | None = None) -> list[tuple[int, float]]:
+        """``[(clip id, margin), ...]``, smallest margin between the two most probable labels
+        first; empty without a model."""
+        return self._suggestions.least_certain_first(clips)
+
+    def agreement_with_and_without_suggestions(self) -> dict[str, Any]:
+        """Krippendorff's alpha of the annotators' labels with and without the labels set by
+        accepting a suggestion."""
+        return self._suggestions.agreement_with_and_without_suggestions()
+
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(
             self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000,

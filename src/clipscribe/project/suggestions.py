@@ -18,7 +18,7 @@ from typing import Any
 import numpy as np
 
 from .. import export
-from ..errors import NotEnoughLabels
+from ..errors import NotEnoughLabels, RecordError
 from ..features import STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, clip_features, features_for
 from ..types import ClipRef
 from .context import Service
@@ -27,6 +27,13 @@ Progress = Callable[[int, int], None] | None
 Cancel = threading.Event | Callable[[], bool] | None
 NO_MODEL = ("no suggestion model yet: train one (Project.train_suggester, or "
             "clipscribe suggest DIR)")
+#: who sees suggestions in the workbench: nobody, an annotator once they have had a first look
+#: at the clip (seen its last frame, or labelled it), or everyone at once
+VISIBILITY = ("off", "after-look", "on")
+VISIBILITY_KEY = "suggestions.shown"
+DEFAULT_VISIBILITY = "after-look"
+#: the edit-history action of a clip label set by accepting a suggestion
+ACCEPT_ACTION = "accept-suggestion"
 
 
 class Suggestions(Service):
@@ -139,6 +146,122 @@ class Suggestions(Service):
             if cid in self.skipped:
                 return f"the clip's media cannot be described: {self.skipped[cid]}"
         return ""
+
+
+    # ---- the workbench: who sees suggestions, accepting one, least certain first -----------
+    def suggestion_visibility(self) -> str:
+        """``"off"``, ``"after-look"`` or ``"on"`` (see :data:`VISIBILITY`)."""
+        from ..store.models import Setting
+        row = self.ctx.read(lambda s: s.get(Setting, VISIBILITY_KEY))
+        return str(row.value) if row is not None else DEFAULT_VISIBILITY
+
+    def set_suggestion_visibility(self, mode: str) -> None:
+        """Whether annotators see suggestions (lead only; recorded in the edit history)."""
+        from ..store.models import Setting
+        if mode not in VISIBILITY:
+            raise RecordError(f"suggestions shown {mode!r}: must be one of {', '.join(VISIBILITY)}")
+
+        def work(s) -> None:
+            self.ctx.lead_only(s, "decide who sees label suggestions")
+            before = s.get(Setting, VISIBILITY_KEY)
+            old = {"suggestions": before.value} if before is not None else None
+            s.merge(Setting(key=VISIBILITY_KEY, value=mode))
+            self.ctx.log(s, "set", "setting", None, None, old, {"suggestions": mode})
+        self.ctx.write(work)
+
+    def accept_suggestion(self, clip: ClipRef, annotator: Any = None) -> str:
+        """Set the clip's label to its best suggestion, marked in the edit history as accepted
+        (action :data:`ACCEPT_ACTION`); returns the label. No suggestion -> RecordError."""
+        ranked = self.suggest(clip)
+        if not ranked:
+            raise RecordError(f"clip {clip}: no suggestion to accept "
+                              f"({self.suggestion_reason(clip) or 'none'})")
+        label = ranked[0][0]
+
+        def work(s) -> None:
+            from ..store.models import Edit
+            from ..store.unit_of_work import session_edits
+            mark = len(session_edits(s))
+            self.peers.annotation._set_clip_label(s, clip, annotator, label)
+            for eid in session_edits(s)[mark:]:
+                e = s.get(Edit, eid)
+                if e is not None and e.entity == "clip_label" and e.action == "set":
+                    e.action = ACCEPT_ACTION
+        self.ctx.write(work)
+        return label
+
+    def accepted_suggestions(self) -> set[tuple[int, str]]:
+        """(clip id, annotator name) of the clip labels whose latest change accepted a
+        suggestion (undone acceptances and labels changed since do not count)."""
+        from sqlalchemy import select
+
+        from ..store.models import Annotator, ClipLabel, Edit
+
+        def q(s) -> set[tuple[int, str]]:
+            rows = s.execute(select(Edit.id, Edit.entity_id, Edit.action, Edit.reverts)
+                             .where(Edit.entity == "clip_label").order_by(Edit.id)).all()
+            # per label row, the provenance after each of its edits: an undo brings back the
+            # provenance from before the edit it reverts
+            after: dict[int, list[tuple[int, bool]]] = {}
+            for r in rows:
+                seen = after.setdefault(r.entity_id, [])
+                if r.action == "undo" and r.reverts is not None:
+                    earlier = [st for eid, st in seen if eid < r.reverts]
+                    seen.append((r.id, earlier[-1] if earlier else False))
+                else:
+                    seen.append((r.id, r.action == ACCEPT_ACTION))
+            latest = {k: v[-1][1] for k, v in after.items()}
+            ids = [i for i, yes in latest.items() if yes]
+            if not ids:
+                return set()
+            return {(c, n) for c, n in s.execute(
+                select(ClipLabel.clip_id, Annotator.name).join(Annotator, Annotator.id == ClipLabel.annotator_id)
+                .where(ClipLabel.id.in_(ids))).all()}
+        return self.ctx.read(q)
+
+    def least_certain_first(self, clips: list[int] | None = None) -> list[tuple[int, float]]:
+        """``[(clip id, margin), ...]`` ordered by the margin between the two most probable
+        labels, smallest first (uncertainty sampling by margin); clips the model cannot
+        describe, or every clip when there is no model, are left out."""
+        if self._model is None:
+            return []
+        wanted = [c.id for c in self.peers.catalog.clips()] if clips is None else clips
+        feats = {i: f for i, f in (self._features or {}).items() if i in set(wanted)}
+        missing = [i for i in wanted if i not in feats]
+        if missing:
+            feats.update(self.clip_features(clips=missing))
+        ids = sorted(feats)
+        if not ids:
+            return []
+        p = self._model.proba({s: np.array([feats[i].stream(s) for i in ids])
+                               for s in ("appearance", "motion")})
+        top = -np.sort(-p, axis=1)
+        margin = top[:, 0] - (top[:, 1] if p.shape[1] > 1 else 0.0)
+        order = np.argsort(margin, kind="stable")
+        return [(ids[k], float(margin[k])) for k in order]
+
+    def agreement_with_and_without_suggestions(self) -> dict[str, Any]:
+        """Krippendorff's alpha (nominal) of the annotators' clip labels with every label, and
+        without the labels set by accepting a suggestion (same votes as the agreement report:
+        no leads, no labels left on skipped clips)."""
+        from ..agreement import krippendorff_alpha
+        leads = {a.name for a in self.peers.catalog.annotators() if a.role == "lead"}
+        votes = self.peers.analysis._voting_labels(leads)
+        accepted = self.accepted_suggestions()
+        out: dict[str, Any] = {"accepted_labels": len([v for v in votes if v[:2] in accepted])}
+        for name, rows in (("with", votes), ("without", [v for v in votes if v[:2] not in accepted])):
+            people = sorted({a for _, a, _ in rows})
+            clips = sorted({c for c, _, _ in rows})
+            col, row = {c: j for j, c in enumerate(clips)}, {a: i for i, a in enumerate(people)}
+            data = [[None] * len(clips) for _ in people]
+            for c, a, lab in rows:
+                data[row[a]][col[c]] = lab
+            alpha = float(krippendorff_alpha(data)) if people and clips else float("nan")
+            out[name] = {"alpha": alpha, "labels": len(rows)}
+        out["recipe"] = ("Krippendorff's alpha, nominal, over annotators' clip labels (leads and "
+                         "skipped clips left out); 'without': labels whose latest change accepted "
+                         "a suggestion removed")
+        return out
 
 
 def _share(progress: Progress, start: int, span: int, whole: int) -> Progress:
