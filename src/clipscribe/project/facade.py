@@ -796,10 +796,12 @@ class Project:
         Suggestions can anchor people: an annotator who sees one tends to accept it."""
         return self._suggestions.set_suggestion_visibility(mode)
 
-    def accept_suggestion(self, clip: ClipRef, annotator: Any = None) -> str:
+    def accept_suggestion(self, clip: ClipRef, annotator: Any = None, *,
+                          expected: str | None = None) -> str:
         """Set the clip's label to its best suggestion, marked as accepted in the edit history;
-        returns the label (no suggestion: :class:`RecordError`)."""
-        return self._suggestions.accept_suggestion(clip, annotator)
+        returns the label (no suggestion, or a best one other than ``expected``:
+        :class:`RecordError`)."""
+        return self._suggestions.accept_suggestion(clip, annotator, expected=expected)
 
     def accepted_suggestions(self) -> set[tuple[int, str]]:
         """(clip id, annotator) of the clip labels whose latest change accepted a suggestion."""

@@ -93,6 +93,12 @@ class Suggestions(Service):
         :class:`~clipscribe.errors.NotEnoughLabels` (and :meth:`suggest` then explains why)."""
         from ..features import models
         labels = self.training_labels(min_agreement=min_agreement)
+        groups = {c.id: c.group or f"clip {c.id}" for c in self.peers.catalog.clips()}
+        try:  # too few labels: say so before any feature work
+            models.usable_classes(list(labels.values()), [groups[i] for i in labels])
+        except NotEnoughLabels as exc:
+            self._model, self._reason = None, str(exc)
+            raise
         feats = self.clip_features(progress=_share(progress, 0, 9, 10), cancel=cancel)
         ids, X, y, g = self._matrix(feats, labels)
         try:
@@ -169,14 +175,20 @@ class Suggestions(Service):
             self.ctx.log(s, "set", "setting", None, None, old, {"suggestions": mode})
         self.ctx.write(work)
 
-    def accept_suggestion(self, clip: ClipRef, annotator: Any = None) -> str:
+    def accept_suggestion(self, clip: ClipRef, annotator: Any = None, *,
+                          expected: str | None = None) -> str:
         """Set the clip's label to its best suggestion, marked in the edit history as accepted
-        (action :data:`ACCEPT_ACTION`); returns the label. No suggestion -> RecordError."""
+        (action :data:`ACCEPT_ACTION`); returns the label. No suggestion, or a best suggestion
+        other than ``expected`` (the one on screen, when the model was retrained since) ->
+        RecordError, and nothing changes."""
         ranked = self.suggest(clip)
         if not ranked:
             raise RecordError(f"clip {clip}: no suggestion to accept "
                               f"({self.suggestion_reason(clip) or 'none'})")
         label = ranked[0][0]
+        if expected is not None and expected != label:
+            raise RecordError(f"clip {clip}: the suggestion changed to {label!r} (the model was "
+                              "retrained); look at it again before accepting")
 
         def work(s) -> None:
             from ..store.models import Edit

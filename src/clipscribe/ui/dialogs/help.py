@@ -24,6 +24,11 @@ and talk to your lead if something stays with you.</p>
 <p><b>Bias in labels.</b> Label what happens, not who does it. Avoid guessing age, gender,
 ethnicity or intent from appearance. Where you are not sure, flag the clip as unsure rather
 than guess: unsure flags help the lead improve the guideline.</p>
+<p><b>Label suggestions.</b> When your lead turns them on, thin bars under the label buttons show
+what a model learned from this project's labels expects. A suggestion can anchor you: people who
+see one tend to take it. Look at the clip first and decide for yourself; the model repeats the
+mistakes and habits of the labels it learned from. Labels you accept with Ctrl+Space are marked
+as accepted, so the lead can compare agreement with and without them.</p>
 """
 
 

@@ -64,6 +64,9 @@ def build_actions(w) -> dict[str, QAction]:
         "next_clip": A("Next clip", "PgDown", lambda: w.step_clip(1), "Clip"),
         "prev_clip": A("Previous clip", "PgUp", lambda: w.step_clip(-1), "Clip"),
         "clear_label": A("Clear clip label", "Backspace", lambda: w.editor.set_label(None), "Clip"),
+        "accept_suggestion": A("Accept suggested label", "Ctrl+Space", w.accept_suggestion, "Clip",
+                               tip="Set the label the suggestion bars point at (marked as "
+                                   "accepted in the history)"),
         # playback
         "play": A("Play / pause", "Space", pl.toggle, "Playback"),
         "back_frame": A("Back one frame", "Left", lambda: pl.step(-1), "Playback"),

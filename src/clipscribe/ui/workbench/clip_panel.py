@@ -24,6 +24,33 @@ READ_STYLE = ("QLabel#leadComments { border: 1px solid #b8c1ca; border-radius: 3
               "padding: 4px; }")
 
 
+class LabelButton(QToolButton):
+    """A label button that can carry a suggestion: a thin bar along its bottom edge, as long as
+    the suggested probability (darker for the best one)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.probability: float | None = None
+        self.best = False
+
+    def set_probability(self, probability: float | None, best: bool = False) -> None:
+        self.probability, self.best = probability, best
+        self.update()
+
+    def paintEvent(self, event) -> None:  # noqa: N802
+        super().paintEvent(event)
+        if self.probability is None:
+            return
+        from PySide6.QtGui import QColor, QPainter
+        painter = QPainter(self)
+        r = self.rect().adjusted(10, 0, -3, -3)
+        width = max(2, round(r.width() * self.probability))
+        painter.fillRect(r.left(), r.bottom() - 2, r.width(), 3, QColor("#dde3e8"))
+        painter.fillRect(r.left(), r.bottom() - 2, width, 3,
+                         QColor("#1f5f66" if self.best else "#7a9ea3"))
+        painter.end()
+
+
 class ClipPanel(QWidget):
     skipConfirmed = Signal(str)   # reason
     commentsRead = Signal()       # the person acknowledged the comments on screen
@@ -42,6 +69,11 @@ class ClipPanel(QWidget):
         lay.addLayout(self._labels)
         self.current = QLabel("Your label: none")
         lay.addWidget(self.current)
+        self.suggestion = QLabel()
+        self.suggestion.setObjectName("suggestionNote")
+        self.suggestion.setWordWrap(True)
+        self.suggestion.hide()
+        lay.addWidget(self.suggestion)
         self.others = QLabel()
         self.others.setObjectName("othersLabels")
         self.others.setWordWrap(True)
@@ -70,7 +102,7 @@ class ClipPanel(QWidget):
         ok.clicked.connect(self._confirm_skip)
         self.skip_reason.returnPressed.connect(self._confirm_skip)
         cancel.clicked.connect(self.hide_skip_prompt)
-        self.label_buttons: dict[str, QToolButton] = {}
+        self.label_buttons: dict[str, LabelButton] = {}
         # the lead's comments to this person on this clip: hidden when there are none
         self.comment_box = QWidget()
         self.comment_box.setObjectName("commentBox")
@@ -94,7 +126,7 @@ class ClipPanel(QWidget):
 
     def set_label_actions(self, actions: list[QAction], colours: dict[str, str]) -> None:
         for i, action in enumerate(actions):
-            b = QToolButton()
+            b = LabelButton()
             b.setDefaultAction(action)
             b.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
             b.setCheckable(True)
@@ -128,6 +160,23 @@ class ClipPanel(QWidget):
         for name, b in self.label_buttons.items():
             b.setChecked(name == label)
         self.state.setText(f"Your state: {state}" + (f" ({reason})" if reason else ""))
+
+    def show_suggestion(self, ranked: list[tuple[str, float]], note: str, key: str = "") -> None:
+        """Bars on the label buttons for ``ranked`` ``(label, probability)`` (empty: none) and a
+        line naming the best one, or ``note`` (empty: the line hides)."""
+        best = ranked[0][0] if ranked else None
+        probs = dict(ranked)
+        for name, b in self.label_buttons.items():
+            b.set_probability(probs.get(name), name == best)
+        if ranked:
+            from .suggestions import ANCHORING
+            self.suggestion.setText(f"Suggested: {best} ({probs[best]:.0%})"
+                                    + (f" — {key} accepts it" if key else ""))
+            self.suggestion.setToolTip(ANCHORING)
+        else:
+            self.suggestion.setText(note)
+            self.suggestion.setToolTip("")
+        self.suggestion.setVisible(bool(ranked or note))
 
     def show_comments(self, notes: list) -> None:
         """Show the lead's comments to this person on this clip (``CommentNote`` objects),

@@ -5,7 +5,7 @@ The window has two views: the work view and the review view (the lead's review p
 from __future__ import annotations
 
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
-from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage
+from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage, QKeySequence
 from PySide6.QtWidgets import (
     QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QSizePolicy, QStackedWidget,
     QVBoxLayout, QWidget,
@@ -22,6 +22,7 @@ from ..viewer import FrameView
 from .actions import build_actions
 from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
+from .suggestions import SuggestionFeed
 from .jobs_view import ClipJobs
 from .menus import build_menus
 from .others_captions import OthersCaptions
@@ -49,6 +50,7 @@ class MainWindow(SegmentOps, QMainWindow):
         super().__init__()
         self.project = project
         self._shown_state: tuple[int, str] | None = None  # (clip, state) last shown, for reopens
+        self._shown_label: str | None = None
         self.settings = settings if settings is not None else QSettings()
         self.setWindowTitle(f"clipscribe — {project.settings.name} — {project.user}")
         self.setObjectName("workbench")
@@ -70,6 +72,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self._restore_layout()
         self._open_first()
         self._announce_comments()
+        self.suggestions.train()  # in the background; the clip on screen gets its bars after
         self.show_view(view)
         self._write_resume()  # remembered as the last project even before any clip is open
 
@@ -88,6 +91,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions = CaptionsPanel(self.editor, p.settings.caption_guideline)
         self.others_captions = OthersCaptions()
         self.jobs = ClipJobs(self)
+        self.suggestions = SuggestionFeed(self.project, self)
         self.save_state = QLabel("Nothing changed yet")
         self.save_state.setObjectName("saveState")
         self.statusBar().addPermanentWidget(self.save_state)
@@ -157,6 +161,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.clip_panel.skipConfirmed.connect(lambda r: self.editor.set_state("skipped", r))
         self.clip_panel.commentsRead.connect(self.mark_comments_read)
         self.editor.changed.connect(self.refresh)
+        self.suggestions.shown.connect(self._show_suggestion)
+        self.suggestions.trained.connect(lambda text: self.statusBar().showMessage(text, 6000))
         self.editor.saving.connect(lambda: self._show_saved("Saving…", None))
         self.editor.saved.connect(lambda t: self._show_saved(f"Saved {t}", True))
         self.editor.notSaved.connect(lambda why: self._show_saved(f"Not saved: {why}", False))
@@ -247,14 +253,36 @@ class MainWindow(SegmentOps, QMainWindow):
                                          "submit it again when done (Ctrl+Return)", 8000)
         self._shown_state = (cid, state)
         c = self.clip
+        mine = p.my_clip_label(cid, me)
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
-                                  f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
+                                  f"{c.width}×{c.height}", mine, state, reason)
+        if self.suggestions.clip != cid:
+            self.suggestions.show_clip(cid, mine is not None)
+        elif mine is not None and mine != self._shown_label:
+            self.suggestions.label_set()
+        self._shown_label = mine
         self.clip_panel.show_comments(p.my_comments(cid, me))
         others = p.others_work(cid, me)
         self.clip_panel.show_others(others.labels)
         self.others_captions.set_captions(others.captions)
         self.timeline.set_others(others.segments)
         self.queue_model.refresh_clip(cid)
+
+    def _show_suggestion(self, clip: int, ranked: list, note: str) -> None:
+        if self.clip is not None and clip == self.clip.id:
+            key = self.actions_["accept_suggestion"].shortcut().toString(
+                QKeySequence.SequenceFormat.NativeText)
+            self.clip_panel.show_suggestion(ranked, note, key)
+
+    @Slot()
+    def accept_suggestion(self) -> None:
+        """Set the suggested label (marked as accepted in the edit history); never automatic."""
+        best = self.suggestions.best()
+        if best is None or self.clip is None:
+            self.statusBar().showMessage("No suggestion to accept on this clip", 5000)
+            return
+        self.editor.apply(f"Accept suggestion “{best}”", lambda: self.project.accept_suggestion(
+            self.clip.id, self.project.user, expected=best))
 
     @Slot()
     def mark_comments_read(self) -> None:
@@ -483,7 +511,9 @@ class MainWindow(SegmentOps, QMainWindow):
 
     # ---- remembering -------------------------------------------------------------------
     @Slot(int)
-    def _moved(self, _frame: int) -> None:
+    def _moved(self, frame: int) -> None:
+        if self.clip is not None:
+            self.suggestions.frame_seen(frame, self.clip.frame_count)
         if not self._resume_timer.isActive():  # at most one write per RESUME_MS, even when playing
             self._resume_timer.start()
 
@@ -525,7 +555,9 @@ class MainWindow(SegmentOps, QMainWindow):
         self._save_layout()
         self.settings.sync()
         self.jobs.cancel()
+        self.suggestions.cancel()
         self.player.close()
         self.jobs.wait()
+        self.suggestions.wait()
         self.review_page.shutdown()
         super().closeEvent(event)
