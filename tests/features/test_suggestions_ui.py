@@ -63,3 +63,19 @@ def test_off_shows_nothing_and_trains_nothing(qtbot, open_window, labelled):  # 
     assert not w.clip_panel.suggestion.isVisible()
     qtbot.keyClick(w.viewer, Qt.Key.Key_Space, Qt.KeyboardModifier.ControlModifier)
     assert p.my_clip_label(ids["new"], "ann-2") is None
+
+
+def test_set_up_project_decides_who_sees_suggestions_lead_only(qtbot, tmp_path):
+    from clipscribe.ui.dialogs.setup import ProjectSetup
+    with Project.create(tmp_path / "p") as p:
+        p.add_annotator("ann-1")
+        d = ProjectSetup(p)
+        qtbot.addWidget(d)
+        assert d.shown.currentData() == "after-look"
+        d.shown.setCurrentIndex(d.shown.findData("off"))
+        assert d.save_suggestions_shown()
+        assert p.suggestion_visibility() == "off" and d.changed
+        p.user = "ann-1"  # not a lead (the project has one now: its creator)
+        d.shown.setCurrentIndex(d.shown.findData("on"))
+        assert not d.save_suggestions_shown()
+        assert "Not saved" in d.shown_note.text() and p.suggestion_visibility() == "off"

@@ -23,6 +23,8 @@ from .people import PeopleBox
 
 #: what submitting captions that miss the guideline does (``caption_guideline.at_submit``)
 AT_SUBMIT = (("no check", "off"), ("override", "warn"), ("refuse", "block"))
+#: who sees label suggestions in the workbench (the lead decides; see Project.set_suggestion_visibility)
+SHOWN = (("never", "off"), ("after their first look", "after-look"), ("at once", "on"))
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {
     "their folder (one folder per source video or person)": BY_FOLDER,
@@ -77,6 +79,7 @@ class ProjectSetup(QDialog):
         lay = QVBoxLayout(self)
         lay.addWidget(self._labels_box())
         lay.addWidget(self._captions_box())
+        lay.addWidget(self._suggestions_box())
         lay.addWidget(self._videos_box())
         self.people = PeopleBox(project)
         lay.addWidget(self.people)
@@ -227,6 +230,36 @@ class ProjectSetup(QDialog):
         self.rules_note.setText(f"Saved: {self.per_clip.value()} captions per clip, "
                                 f"{self.min_words.value()}–{self.max_words.value()} words each; "
                                 f"at submit: {self.at_submit.currentText()}.")
+        return True
+
+    # ---- label suggestions ----------------------------------------------------------------
+    def _suggestions_box(self) -> QGroupBox:
+        box = QGroupBox("Label suggestions")
+        row = QHBoxLayout(box)
+        self.shown = QComboBox()
+        self.shown.setObjectName("suggestionsShown")
+        for text, value in SHOWN:
+            self.shown.addItem(text, value)
+        self.shown.setCurrentIndex([v for _, v in SHOWN].index(self.project.suggestion_visibility()))
+        lab = QLabel("Annotators &see suggestions:")
+        lab.setBuddy(self.shown)
+        row.addWidget(lab)
+        row.addWidget(self.shown)
+        self.shown_note = QLabel("A suggestion can anchor people: those who see one tend to "
+                                 "take it. Never set automatically; accepted ones are marked.")
+        self.shown_note.setWordWrap(True)
+        row.addWidget(self.shown_note, 1)
+        self.shown.activated.connect(self.save_suggestions_shown)
+        return box
+
+    def save_suggestions_shown(self) -> bool:
+        try:
+            self.project.set_suggestion_visibility(self.shown.currentData())
+        except RecordError as exc:  # a refusal to a non-lead is one too
+            self.shown_note.setText(f"Not saved: {exc}")
+            return False
+        self._changed = True
+        self.shown_note.setText(f"Saved: annotators see suggestions {self.shown.currentText()}.")
         return True
 
     # ---- videos ---------------------------------------------------------------------------
