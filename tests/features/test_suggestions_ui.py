@@ -79,3 +79,19 @@ def test_set_up_project_decides_who_sees_suggestions_lead_only(qtbot, tmp_path):
         d.shown.setCurrentIndex(d.shown.findData("on"))
         assert not d.save_suggestions_shown()
         assert "Not saved" in d.shown_note.text() and p.suggestion_visibility() == "off"
+
+
+def test_queue_least_certain_first(qtbot, open_window, labelled):  # noqa: F811
+    folder, ids = labelled
+    _set(folder, "on")
+    w, p = _open(qtbot, open_window, folder, ids["new"])
+    qtbot.waitUntil(lambda: bool(w._least_certain), timeout=TRAINED)
+    box = w.queue.order
+    box.setCurrentIndex(box.findData("least-certain"))
+    model = w.queue_model
+    expected = [c for c, _ in p.least_certain_first()]
+    shown = [model.row(r).clip.id for r in range(model.rowCount())]
+    assert shown[:len(expected)] == expected and sorted(shown) == sorted(c.id for c in p.clips())
+    assert w.queue.select_clip(ids["new"])  # the clip on screen is found in the new order
+    box.setCurrentIndex(box.findData("id"))
+    assert [model.row(r).clip.id for r in range(model.rowCount())] == sorted(shown)

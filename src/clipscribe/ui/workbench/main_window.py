@@ -51,6 +51,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.project = project
         self._shown_state: tuple[int, str] | None = None  # (clip, state) last shown, for reopens
         self._shown_label: str | None = None
+        self._least_certain: list[int] = []
         self.settings = settings if settings is not None else QSettings()
         self.setWindowTitle(f"clipscribe — {project.settings.name} — {project.user}")
         self.setObjectName("workbench")
@@ -162,6 +163,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.clip_panel.commentsRead.connect(self.mark_comments_read)
         self.editor.changed.connect(self.refresh)
         self.suggestions.shown.connect(self._show_suggestion)
+        self.suggestions.ordered.connect(self._order_ready)
+        self.queue.orderChosen.connect(lambda _o: self._order_ready(self._least_certain))
         self.suggestions.trained.connect(lambda text: self.statusBar().showMessage(text, 6000))
         self.editor.saving.connect(lambda: self._show_saved("Saving…", None))
         self.editor.saved.connect(lambda t: self._show_saved(f"Saved {t}", True))
@@ -267,6 +270,21 @@ class MainWindow(SegmentOps, QMainWindow):
         self.others_captions.set_captions(others.captions)
         self.timeline.set_others(others.segments)
         self.queue_model.refresh_clip(cid)
+
+    def _order_ready(self, order: list) -> None:
+        """Keep the latest "least certain first" order; apply it when that order is chosen."""
+        self._least_certain = order
+        wanted = self.queue.order.currentData() == "least-certain"
+        if not wanted:
+            if self.queue_model.order is not None:
+                self.queue_model.set_order(None)
+        elif order or self.queue_model.order is not None:
+            self.queue_model.set_order(order)
+        if self.clip is not None:
+            self.queue.select_clip(self.clip.id)
+        if wanted and not order:
+            self.statusBar().showMessage("Least certain first needs label suggestions: "
+                                         + (self.project.suggestion_reason() or "learning…"), 6000)
 
     def _show_suggestion(self, clip: int, ranked: list, note: str) -> None:
         if self.clip is not None and clip == self.clip.id:

@@ -9,6 +9,7 @@ from PySide6.QtWidgets import (
 
 from .queue_model import ClipIdRole, ClipQueueModel
 
+ORDERS = [("clip number", "id"), ("least certain first", "least-certain")]
 STATES = [("any", None), ("not finished", "unfinished"), ("untouched", "open"),
           ("submitted", "submitted"), ("skipped", "skipped"), ("unsure", "unsure")]
 
@@ -18,6 +19,7 @@ QUEUE_MIN_WIDTH = 280
 
 class QueuePanel(QWidget):
     clipChosen = Signal(int)
+    orderChosen = Signal(str)   # "id" or "least-certain"
 
     def __init__(self, model: ClipQueueModel, *, labels: list[str], groups: list[str],
                  people: list[str], parent: QWidget | None = None) -> None:
@@ -37,6 +39,12 @@ class QueuePanel(QWidget):
         form.addRow("Your label", self.label)
         form.addRow("Group", self.group)
         form.addRow("Assigned to", self.assignee)
+        self.order = self._combo(ORDERS)
+        self.order.setObjectName("queueOrder")
+        self.order.setToolTip("Least certain first: the clips whose two most likely suggested "
+                              "labels are closest come first (needs label suggestions)")
+        form.addRow("Order", self.order)
+        self.order.currentIndexChanged.connect(lambda _i: self.orderChosen.emit(self.order.currentData()))
         for box in (self.state, self.label, self.group, self.assignee):
             box.currentIndexChanged.connect(self._filters_changed)
         lay.addLayout(form)

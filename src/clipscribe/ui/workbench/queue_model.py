@@ -26,6 +26,9 @@ class ClipQueueModel(QAbstractTableModel):
         super().__init__(parent)
         self.project = project
         self.filters: dict[str, Any] = {}
+        #: clip ids in "least certain first" order (None: clip number order); clips the order
+        #: does not name follow, in clip number order
+        self.order: list[int] | None = None
         self._pages: dict[int, list[QueueRow]] = {}  # page number -> its rows, once read
         self._count = 0   # rows the view has been given so far
         self._total = 0   # rows under the filters
@@ -36,10 +39,23 @@ class ClipQueueModel(QAbstractTableModel):
         self.filters = {k: v for k, v in filters.items() if v}
         self.reload()
 
+    def set_order(self, order: list[int] | None) -> None:
+        self.order = order
+        self.reload()
+
     def reload(self) -> None:
         self.beginResetModel()
-        self._total = self.project.queue_count(self.project.user, **self.filters)
         self._pages = {}
+        if self.order is not None:  # every row read once (one query), then put in that order
+            rank = {c: k for k, c in enumerate(self.order)}
+            rows = sorted(self.project.queue_rows(self.project.user, **self.filters),
+                          key=lambda r: (rank.get(r.clip.id, len(rank)), r.clip.id))
+            self._pages = {k: rows[k * PAGE:(k + 1) * PAGE] for k in range(len(rows) // PAGE + 1)}
+            self._total = len(rows)
+            self._count = min(self._total, PAGE)
+            self.endResetModel()
+            return
+        self._total = self.project.queue_count(self.project.user, **self.filters)
         self._count = min(self._total, PAGE)
         if self._count:
             self._page(0)
@@ -85,7 +101,11 @@ class ClipQueueModel(QAbstractTableModel):
     def row_of(self, clip_id: int) -> int | None:
         """Row of a clip under the current filters; rows up to it are added, but only the
         page holding it is read."""
-        pos = self.project.queue_index(clip_id, self.project.user, **self.filters)
+        if self.order is not None:
+            pos = next((k * PAGE + i for k, rows in self._pages.items()
+                        for i, r in enumerate(rows) if r.clip.id == clip_id), None)
+        else:
+            pos = self.project.queue_index(clip_id, self.project.user, **self.filters)
         if pos is None or pos >= self._total:
             return None
         if pos >= self._count:

@@ -32,6 +32,7 @@ class SuggestionFeed(QObject):
 
     shown = Signal(int, list, str)   # clip id, [(label, probability)] (empty: none), note
     trained = Signal(str)            # status text after a training run
+    ordered = Signal(list)           # clip ids, least certain first (after each training)
 
     def __init__(self, project, parent: QObject | None = None) -> None:
         super().__init__(parent)
@@ -68,6 +69,10 @@ class SuggestionFeed(QObject):
         else:
             self.has_model = True
             self.trained.emit(f"Label suggestions learned from {out.trained_on} labelled clips")
+            job = Job("least certain first", lambda cancel, progress: [
+                c for c, _ in self.project.least_certain_first()])
+            job.signals.finished.connect(self.ordered.emit)
+            self.runner.start(job)
         self.update()
 
     def label_set(self) -> None:
