@@ -46,3 +46,16 @@ def test_least_certain_lists_the_smallest_margin_first_and_shown_is_stored(label
     from clipscribe import Project
     with Project.open(folder) as p:
         assert p.suggestion_visibility() == "on"
+
+
+def test_hand_out_reserves_a_batch(labelled, capsys):  # noqa: F811
+    folder, _ = labelled
+    from clipscribe import Project
+    with Project.open(folder) as p:
+        p.add_annotator("ann-3")
+        p.assign(per_clip=3)
+    assert main(["suggest", str(folder), "--hand-out", "ann-3", "--batch", "3", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert len(out["clips"]) == 3
+    with Project.open(folder) as p:  # pulled in the order handed out
+        assert p.next_clip("ann-3") == out["clips"][0]

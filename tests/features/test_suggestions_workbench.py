@@ -76,3 +76,22 @@ def test_least_certain_first_orders_by_the_margin(labelled):  # noqa: F811
             (a, pa), (b, pb) = p.suggest(clip)[:2]
             assert m == pytest.approx(pa - pb)
         assert {c for c, _ in order} <= {c.id for c in p.clips()}
+
+
+def test_a_batch_is_handed_out_least_certain_first(labelled):  # noqa: F811
+    folder, ids = labelled
+    with Project.open(folder) as p:
+        p.add_annotator("ann-3")
+        p.assign(per_clip=3)  # every clip still wants a third person
+        p.train_suggester()
+        order = [c for c, _ in p.least_certain_first()]
+        batch = p.hand_out_least_certain("ann-3", 4)
+        assert batch == order[:4]
+        assert p.next_clip("ann-3") == order[0]
+        p.set_clip_label(order[0], "ann-3", "left")
+        p.set_clip_state(order[0], "ann-3", "submitted")
+        assert p.next_clip("ann-3") == order[1]
+        assert p.hand_out_least_certain("ann-3", 2) == order[4:6]  # never the same clip twice
+        p.user = "ann-3"
+        with pytest.raises(NotALeadError):
+            p.hand_out_least_certain("ann-3", 1)

@@ -46,6 +46,13 @@ def cmd_suggest(args: argparse.Namespace) -> int:
             print(f"annotators see suggestions: {args.shown}")
             return 0
         bar = None if args.json else Bar("clip features")
+        if args.hand_out:
+            p.train_suggester(progress=bar, seed=args.seed)
+            batch = p.hand_out_least_certain(args.hand_out, args.batch)
+            print(json.dumps({"annotator": args.hand_out, "clips": batch}) if args.json else
+                  f"handed out to {args.hand_out}, least certain first: "
+                  f"{', '.join(map(str, batch)) or 'nothing left to hand out'}")
+            return 0
         if args.compare:
             result = p.compare_streams(folds=args.folds, seed=args.seed, progress=bar)
             if args.json:
@@ -91,6 +98,9 @@ def register(add) -> None:
     sp.add_argument("--least-certain", action="store_true",
                     help="list the clips the model is least sure of first (margin between the "
                          "two most probable labels)")
+    sp.add_argument("--hand-out", metavar="NAME",
+                    help="lead: reserve the next --batch clips for NAME, least certain first")
+    sp.add_argument("--batch", type=int, default=20, help="clips per hand-out (default 20)")
     sp.add_argument("--shown", choices=["off", "after-look", "on"],
                     help="lead: decide whether annotators see suggestions in the workbench "
                          "(after-look: once they have seen the clip's last frame or labelled it)")

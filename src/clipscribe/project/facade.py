@@ -812,6 +812,11 @@ class Project:
         first; empty without a model."""
         return self._suggestions.least_certain_first(clips)
 
+    def hand_out_least_certain(self, annotator: Any, n: int) -> list[int]:
+        """Reserve the next ``n`` clips for ``annotator``, least certain first (lead only);
+        :meth:`next_clip` then gives them in that order. Returns the clip ids."""
+        return self._suggestions.hand_out_least_certain(annotator, n)
+
     def agreement_with_and_without_suggestions(self) -> dict[str, Any]:
         """Krippendorff's alpha of the annotators' labels with and without the labels set by
         accepting a suggestion."""

@@ -21,7 +21,7 @@ from .. import export
 from ..errors import NotEnoughLabels, RecordError
 from ..features import STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, clip_features, features_for
 from ..types import ClipRef
-from .context import Service
+from .context import Service, require
 
 Progress = Callable[[int, int], None] | None
 Cancel = threading.Event | Callable[[], bool] | None
@@ -251,6 +251,29 @@ class Suggestions(Service):
         margin = top[:, 0] - (top[:, 1] if p.shape[1] > 1 else 0.0)
         order = np.argsort(margin, kind="stable")
         return [(ids[k], float(margin[k])) for k in order]
+
+    def hand_out_least_certain(self, annotator: Any, n: int) -> list[int]:
+        """Reserve for ``annotator`` the next ``n`` clips that still need people, least certain
+        first (clips without a margin follow by number); they are pulled in that order, each
+        with the usual lease from when it is pulled. Lead only. Returns the clip ids."""
+        import datetime as dt
+
+        from ..store.models import utcnow
+        require(isinstance(n, int) and n >= 1, f"batch of {n!r} clips: must be >= 1")
+        self.ctx.check_lead("hand out clips")
+        rank = {c: k for k, (c, _) in enumerate(self.least_certain_first())}
+        team = self.peers.team
+
+        def work(s) -> list[int]:
+            self.ctx.lead_only(s, "hand out clips")
+            me = self.ctx.annotator(s, annotator)
+            free = list(s.scalars(team.wanting(me)))
+            chosen = sorted(free, key=lambda c: (rank.get(c.id, len(rank)), c.id))[:n]
+            now = utcnow()
+            for k, clip in enumerate(chosen):  # the pull order follows the time handed out
+                team.reserve(s, clip, me, now + dt.timedelta(microseconds=k), None)
+            return [c.id for c in chosen]
+        return self.ctx.write(work)
 
     def agreement_with_and_without_suggestions(self) -> dict[str, Any]:
         """Krippendorff's alpha (nominal) of the annotators' clip labels with every label, and

@@ -250,21 +250,31 @@ class Team(Service):
         if mine is not None:
             mine.expires_at = until
             return mine.clip_id
+        clip = s.scalar(self.wanting(me).order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
+        if clip is None:
+            return None
+        self.reserve(s, clip, me, now, until)
+        return clip.id
+
+    @staticmethod
+    def wanting(me: Annotator):
+        """The clips that still need people and that ``me`` has not had (a select of Clip)."""
         live = (select(func.count()).select_from(Assignment)
                 .where(Assignment.clip_id == Clip.id, Assignment.state.not_in(("expired", "skipped")))
                 .scalar_subquery())
         had = exists().where(Assignment.clip_id == Clip.id, Assignment.annotator_id == me.id)
-        clip = s.scalar(select(Clip).where(Clip.state != "settled", ~had,
-                                           live < func.coalesce(Clip.annotators_wanted, 1))
-                        .order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
-        if clip is None:
-            return None
+        return select(Clip).where(Clip.state != "settled", ~had,
+                                  live < func.coalesce(Clip.annotators_wanted, 1))
+
+    @staticmethod
+    def reserve(s: Session, clip: Clip, me: Annotator, now: dt.datetime,
+                until: dt.datetime | None) -> None:
+        """An open assignment of ``clip`` to ``me`` from ``now`` (lease until ``until``)."""
         s.add(Assignment(clip_id=clip.id, annotator_id=me.id, state="open", assigned_at=now,
                          expires_at=until, updated_at=now))
         if clip.state == "new":
             clip.state = "in_progress"
         s.flush()
-        return clip.id
 
     def _expire(self, s: Session, now: dt.datetime, lease: float) -> int:
         cutoff = now - dt.timedelta(seconds=lease)
