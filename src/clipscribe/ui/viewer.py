@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from PySide6.QtCore import QRectF, QSize, Qt, Slot
+from PySide6.QtCore import QPointF, QRectF, QSize, Qt, Slot
 from PySide6.QtGui import QColor, QImage, QPainter, QPalette
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
@@ -23,6 +23,9 @@ class FrameView(QWidget):
         self.frame_number: int | None = None
         self._note = "No clip open"
         self._scaled: tuple | None = None
+        #: the motion look: (mode "flow" | "blend", flow QImage, frame, px/frame at full
+        #: brightness, legend QImage), or None
+        self.overlay: tuple | None = None
         self.setAutoFillBackground(True)
         pal = self.palette()
         pal.setColor(QPalette.ColorRole.Window, QColor(theme.VIEWER_BG))
@@ -44,6 +47,13 @@ class FrameView(QWidget):
 
     def clear(self, note: str = "Loading…") -> None:
         self._image, self.frame_number, self._note = None, None, note
+        self.overlay = None
+        self.update()
+
+    def set_overlay(self, overlay: tuple | None) -> None:
+        """Show optical flow in place of (mode "flow") or over ("blend") the picture, with its
+        legend; None shows the picture alone. See :attr:`overlay`."""
+        self.overlay = overlay
         self.update()
 
     def target_rect(self) -> QRectF:
@@ -72,3 +82,28 @@ class FrameView(QWidget):
             img.setDevicePixelRatio(dpr)
             self._scaled = (self._image, want, img)
         p.drawImage(rect.topLeft(), self._scaled[2])
+        if self.overlay is not None:
+            self._paint_flow(p, rect)
+
+    def _paint_flow(self, p: QPainter, rect: QRectF) -> None:
+        mode, flow, frame, scale, legend = self.overlay
+        if mode == "flow":
+            p.fillRect(rect, QColor(0, 0, 0))
+            p.setOpacity(1.0)
+        else:
+            p.setOpacity(0.75)
+            p.setCompositionMode(QPainter.CompositionMode.CompositionMode_Plus)
+        p.drawImage(rect, flow)
+        p.setCompositionMode(QPainter.CompositionMode.CompositionMode_SourceOver)
+        p.setOpacity(1.0)
+        # the legend: the colour wheel and what full brightness means
+        text = (f"Optical flow, frame {max(0, frame - 1)}→{frame}\ncolour: direction\n"
+                f"brightness: speed,\nfull at {scale:.1f} px/frame")
+        size = p.fontMetrics().boundingRect(0, 0, 1000, 1000, 0, text).size()
+        box = QRectF(rect.left() + 8, rect.top() + 8, legend.width() + size.width() + 32,
+                     max(legend.height(), size.height()) + 16)
+        p.fillRect(box, QColor(20, 24, 28, 210))
+        p.drawImage(box.topLeft() + QPointF(8, 8), legend)
+        p.setPen(QColor("#f2f4f5"))
+        p.drawText(box.adjusted(legend.width() + 20, 8, -4, -4),
+                   Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop, text)

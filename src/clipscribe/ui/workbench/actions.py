@@ -79,6 +79,9 @@ def build_actions(w) -> dict[str, QAction]:
         "faster": A("Faster", "=", lambda: pl.change_speed(1), "Playback"),
         "loop": A("Loop segment", "L", w.toggle_loop, "Playback", checkable=True,
                   tip="Play the selected segment over and over"),
+        "flow": A("Show motion (optical flow)", "Ctrl+Shift+F", w.toggle_flow, "Playback",
+                  checkable=True, tip="The viewer shows the optical flow of the frame from the "
+                  "one before: in place of the picture, then over it, then off again"),
         # segments
         "mark_start": A("Mark start", "B", w.mark_start, "Segments",
                         tip="Start a segment at the playhead"),

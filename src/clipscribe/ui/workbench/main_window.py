@@ -22,6 +22,7 @@ from ..viewer import FrameView
 from .actions import build_actions
 from .captions import CaptionsPanel
 from .clip_panel import ClipPanel
+from .flow_view import MODE_WORDS, FlowLook
 from .suggestions import SuggestionFeed
 from .jobs_view import ClipJobs
 from .menus import build_menus
@@ -93,6 +94,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.others_captions = OthersCaptions()
         self.jobs = ClipJobs(self)
         self.suggestions = SuggestionFeed(self.project, self)
+        self.flow = FlowLook(self)
         self.save_state = QLabel("Nothing changed yet")
         self.save_state.setObjectName("saveState")
         self.statusBar().addPermanentWidget(self.save_state)
@@ -164,6 +166,8 @@ class MainWindow(SegmentOps, QMainWindow):
         self.editor.changed.connect(self.refresh)
         self.suggestions.shown.connect(self._show_suggestion)
         self.suggestions.ordered.connect(self._order_ready)
+        self.flow.ready.connect(self._flow_ready)
+        self.flow.failed.connect(lambda msg: self.statusBar().showMessage(msg, 6000))
         self.queue.orderChosen.connect(lambda _o: self._order_ready(self._least_certain))
         self.suggestions.trained.connect(lambda text: self.statusBar().showMessage(text, 6000))
         self.editor.saving.connect(lambda: self._show_saved("Saving…", None))
@@ -233,6 +237,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.scrub.reset(info.frame_count)
         self.timeline.reset(info.frame_count)
         self.player.open(path, info.frame_count, info.fps, frame)
+        self.flow.open(path)
         self.jobs.start(path)
         self.queue.select_clip(info.id)
         self.refresh()
@@ -270,6 +275,21 @@ class MainWindow(SegmentOps, QMainWindow):
         self.others_captions.set_captions(others.captions)
         self.timeline.set_others(others.segments)
         self.queue_model.refresh_clip(cid)
+
+    @Slot()
+    def toggle_flow(self) -> None:
+        """Picture -> optical flow in its place -> flow over the picture -> picture."""
+        mode = self.flow.next_mode()
+        self.actions_["flow"].setChecked(mode != "off")
+        if mode == "off":
+            self.viewer.set_overlay(None)
+        elif self.viewer.frame_number is not None:
+            self.flow.want(self.viewer.frame_number)
+        self.statusBar().showMessage(f"Viewer shows the {MODE_WORDS[mode]}", 4000)
+
+    def _flow_ready(self, frame: int, image, scale: float) -> None:
+        if self.flow.mode != "off" and frame == self.viewer.frame_number:
+            self.viewer.set_overlay((self.flow.mode, image, frame, scale, self.flow.legend))
 
     def _order_ready(self, order: list) -> None:
         """Keep the latest "least certain first" order; apply it when that order is chosen."""
@@ -392,6 +412,7 @@ class MainWindow(SegmentOps, QMainWindow):
     @Slot(int, QImage)
     def _frame_shown(self, frame: int, image: QImage) -> None:
         self.viewer.show_frame(frame, image)
+        self.flow.want(frame)
         self._part_ready("frame")
 
     def _part_ready(self, part: str) -> None:
@@ -574,6 +595,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.settings.sync()
         self.jobs.cancel()
         self.suggestions.cancel()
+        self.flow.close()
         self.player.close()
         self.jobs.wait()
         self.suggestions.wait()

@@ -60,6 +60,8 @@ class SuggestionFeed(QObject):
         job.signals.failed.connect(lambda msg: self._trained(f"suggestions: {msg}"))
         job.signals.cancelled.connect(lambda: setattr(self, "training", None))
         self.runner.start(job)
+        if not self.has_model:
+            self.update()  # "learning from the labels…"
 
     @Slot(object)
     def _trained(self, out) -> None:
@@ -114,9 +116,9 @@ class SuggestionFeed(QObject):
                                       "last frame (End) or labelled it")
             return
         if not self.has_model:
-            self.shown.emit(clip, [], "No suggestion yet: " + (
-                "learning from the labels…" if self.training is not None
-                else self.project.suggestion_reason(clip)))
+            reason = self.project.suggestion_reason(clip)
+            self.shown.emit(clip, [], "No suggestion yet: learning from the labels…"
+                            if self.training is not None else reason[:1].upper() + reason[1:])
             return
         job = Job(f"suggestion for clip {clip}",
                   lambda cancel, progress: self.project.suggest(clip))
