@@ -84,6 +84,12 @@ class Suggestions(Service):
         g = [groups.get(i) or f"clip {i}" for i in ids]  # no group: the clip is its own group
         return ids, X, y, g
 
+    def _enough(self, labels: dict[int, str]) -> None:
+        """Too few labels: :class:`NotEnoughLabels` before any feature work."""
+        from ..features import models
+        groups = {c.id: c.group or f"clip {c.id}" for c in self.peers.catalog.clips()}
+        models.usable_classes(list(labels.values()), [groups[i] for i in labels])
+
     # ---- use cases ------------------------------------------------------------------------
     def train_suggester(self, *, progress: Progress = None, cancel: Cancel = None,
                         min_agreement: float = 0.6, seed: int = 0):
@@ -91,14 +97,13 @@ class Suggestions(Service):
 
         Returns the trained suggester; too few labels raise
         :class:`~clipscribe.errors.NotEnoughLabels` (and :meth:`suggest` then explains why)."""
-        from ..features import models
         labels = self.training_labels(min_agreement=min_agreement)
-        groups = {c.id: c.group or f"clip {c.id}" for c in self.peers.catalog.clips()}
-        try:  # too few labels: say so before any feature work
-            models.usable_classes(list(labels.values()), [groups[i] for i in labels])
+        try:
+            self._enough(labels)
         except NotEnoughLabels as exc:
             self._model, self._reason = None, str(exc)
             raise
+        from ..features import models
         feats = self.clip_features(progress=_share(progress, 0, 9, 10), cancel=cancel)
         ids, X, y, g = self._matrix(feats, labels)
         try:
@@ -116,6 +121,7 @@ class Suggestions(Service):
         (see :class:`clipscribe.features.models.StreamComparison`)."""
         from ..features import models
         labels = self.training_labels(min_agreement=min_agreement)
+        self._enough(labels)
         feats = self.clip_features(clips=sorted(labels), progress=_share(progress, 0, 1, 2),
                                    cancel=cancel)
         ids, X, y, g = self._matrix(feats, labels)

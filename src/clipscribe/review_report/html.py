@@ -131,6 +131,7 @@ def render_html(data: dict) -> str:
         "flag keeps the label and asks the lead to look.</p>" if data.get("flags") else
         "<p>No annotator skipped a clip or flagged one unsure.</p>",
         _table(tables.skipped_unsure(data)) if data.get("flags") else "",
+        _cues_section(data),
         "<h2>How to read this</h2>",
         f"<p>Bands for kappa and alpha: {escape(bands)}; below 0 poor. Source: "
         f"{escape(m['bands_source'])}. The bands were offered as a convention.</p>",
@@ -148,26 +149,46 @@ def render_html(data: dict) -> str:
     return "\n".join(parts)
 
 
+def _cues_section(data: dict) -> str:
+    """"Which cues carry the labels", when the report was asked for it (``data["cues"]``)."""
+    if "cues" not in data:
+        return ""
+    from . import cues
+
+    def block(figs) -> str:
+        return '<div class="figs">' + "".join(f'<div class="fig">{to_svg(f)}</div>'
+                                              for f in figs) + "</div>"
+    return cues.cues_html(data["cues"], block, _table)
+
+
 def _least_certain(data: dict) -> tables.Table:
     header, rows = reliability.inferred_table(data)
     return header[:3], sorted((r[:3] for r in rows), key=lambda r: r[2])
 
 
 def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: int = 1000,
-                 progress: Callable[[str], None] | None = None) -> ReportFiles:
+                 progress: Callable[[str], None] | None = None,
+                 cues: dict | None = None) -> ReportFiles:
     """Write ``report.html`` and one CSV per table into ``folder`` (created if missing).
     Files are written to temporary names and renamed, so a reader never sees half a report.
-    Leads only (the project's check)."""
+    Leads only (the project's check). ``cues`` (:func:`~clipscribe.review_report.cues.cues_data`
+    output) adds the section "Which cues carry the labels" and its two CSV tables."""
     t0 = time.perf_counter()
     say = progress or (lambda _msg: None)
     say("computing agreement")
     data = board_data(project, seed=seed, n_boot=n_boot)
+    if cues is not None:
+        data["cues"] = cues
     out = Path(folder)
     out.mkdir(parents=True, exist_ok=True)
     say("writing tables")
     written: dict[str, Path] = {}
     for name, fn in tables.ALL.items():
         written[name] = _atomic(out / f"{name}.csv", tables.to_csv(fn(data)))
+    if cues is not None:
+        from . import cues as cue_tables
+        for name, fn in cue_tables.TABLES.items():
+            written[name] = _atomic(out / f"{name}.csv", tables.to_csv(fn(cues)))
     say("writing report.html")
     html = _atomic(out / "report.html", render_html(data))
     return ReportFiles(out, html, written, time.perf_counter() - t0)

@@ -14,6 +14,7 @@ from PySide6.QtWidgets import (
 )
 
 from ...review_report.board import board_data, board_figures, confusion_figure
+from ...review_report.figures import note_figure
 from ..workers import Job, JobRunner
 from .paint import FigureView
 
@@ -23,7 +24,11 @@ LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",
           (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",),
           # annotator reliability panel, and the other caption consensus measures
           (2, 0): ("reliability",), (2, 1): ("check_accuracy",),
-          (2, 2): ("caption_rouge_l", "caption_chrf")}
+          (2, 2): ("caption_rouge_l", "caption_chrf"),
+          # which cues carry the labels (grouped cross-validation of label suggestions)
+          (3, 0): ("cue_accuracy",), (3, 1): ("cue_f1",), (3, 2): ("cue_labels",)}
+#: the figures of the cues panel: computed by a job of their own, after the board's numbers
+CUE_FIGURES = ("cue_accuracy", "cue_f1", "cue_labels")
 
 
 class FocusFigure(FigureView):
@@ -40,6 +45,7 @@ class FocusFigure(FigureView):
 class AgreementBoard(QWidget):
     exportRequested = Signal()
     loaded = Signal()
+    cuesLoaded = Signal()
 
     def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000) -> None:
         super().__init__(parent)
@@ -47,6 +53,8 @@ class AgreementBoard(QWidget):
         self.project = project
         self.n_boot = n_boot
         self.data: dict | None = None
+        self.cues: dict | None = None
+        self.cues_job: Job | None = None
         self.runner = JobRunner(self)
         lay = QVBoxLayout(self)
         lay.setContentsMargins(8, 6, 8, 6)
@@ -132,7 +140,7 @@ class AgreementBoard(QWidget):
         self.refresh_button.setEnabled(True)
         figs = board_figures(data)
         for name, view in self.figs.items():
-            if name == "confusion":
+            if name == "confusion" or name in CUE_FIGURES:
                 continue
             view.set_figure(figs[name])
         lab = data["agreement"]["labels"]
@@ -167,6 +175,35 @@ class AgreementBoard(QWidget):
                + (f" — {f['reason']}" if f["reason"] else "") for f in flags[:30]]))
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
+        self.compare_cues()
+
+    @Slot()
+    def compare_cues(self) -> None:
+        """Which cues carry the labels: cross-validate the label suggestions' streams in the
+        background (clip features come from the cache, or are computed there)."""
+        if self.cues_job is not None:
+            return
+        from ...review_report.cues import TITLE, cues_data
+        for name in CUE_FIGURES:
+            self.figs[name].set_figure(note_figure(TITLE, "comparing the cues in the "
+                                                          "background…") if name == CUE_FIGURES[0]
+                                       else note_figure("", ""))
+        p, n = self.project, self.n_boot
+        job = self.cues_job = Job("which cues carry the labels", lambda cancel, progress: cues_data(
+            p, n_boot=n, cancel=cancel, progress=progress))
+        job.signals.finished.connect(self.show_cues)
+        job.signals.failed.connect(lambda msg: self.show_cues({"not_measured": msg}))
+        job.signals.cancelled.connect(lambda: setattr(self, "cues_job", None))
+        self.runner.start(job)
+
+    @Slot(object)
+    def show_cues(self, cues: dict) -> None:
+        from ...review_report.cues import cues_figures
+        self.cues_job, self.cues = None, cues
+        for name, fig in cues_figures(cues).items():
+            self.figs[name].set_figure(fig)
+        self.fit_figures()
+        self.cuesLoaded.emit()
 
     def _pair_changed(self, i: int) -> None:
         if self.data is not None:

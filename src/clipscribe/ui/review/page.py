@@ -40,6 +40,7 @@ class ReviewPage(QTabWidget):
     def shutdown(self) -> None:
         self.desk.close_media()
         self.runner.wait()
+        self.board.runner.cancel_all()  # the cues comparison may run long: stop it
         self.board.runner.wait()
 
     def _tab(self, i: int) -> None:
@@ -86,7 +87,8 @@ class ReviewPage(QTabWidget):
         from ...review_report import write_report
         p, say = self.project, self.desk.status.emit
         say("Writing the agreement report…")
-        job = Job("agreement report", lambda cancel, progress: write_report(p, folder))
+        cues = self.board.cues  # "Which cues carry the labels", once the board has it
+        job = Job("agreement report", lambda cancel, progress: write_report(p, folder, cues=cues))
         job.signals.finished.connect(lambda files: say(
             f"Report written to {files.html} with {len(files.csv)} CSV tables "
             f"({files.seconds:.1f} s)"))
