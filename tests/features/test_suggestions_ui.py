@@ -78,7 +78,7 @@ def test_set_up_project_decides_who_sees_suggestions_lead_only(qtbot, tmp_path):
         p.user = "ann-1"  # not a lead (the project has one now: its creator)
         d.shown.setCurrentIndex(d.shown.findData("on"))
         assert not d.save_suggestions_shown()
-        assert "Not saved" in d.shown_note.text() and p.suggestion_visibility() == "off"
+        assert "Not saved" in d.label_note.text() and p.suggestion_visibility() == "off"
 
 
 def test_queue_least_certain_first(qtbot, open_window, labelled):  # noqa: F811

@@ -25,6 +25,8 @@ from .people import PeopleBox
 AT_SUBMIT = (("no check", "off"), ("override", "warn"), ("refuse", "block"))
 #: who sees label suggestions in the workbench (the lead decides; see Project.set_suggestion_visibility)
 SHOWN = (("never", "off"), ("after their first look", "after-look"), ("at once", "on"))
+ANCHORING_NOTE = ("A suggestion can anchor people: those who see one tend to take it. It is "
+                  "never set automatically, and accepted ones are marked in the history.")
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {
     "their folder (one folder per source video or person)": BY_FOLDER,
@@ -79,7 +81,6 @@ class ProjectSetup(QDialog):
         lay = QVBoxLayout(self)
         lay.addWidget(self._labels_box())
         lay.addWidget(self._captions_box())
-        lay.addWidget(self._suggestions_box())
         lay.addWidget(self._videos_box())
         self.people = PeopleBox(project)
         lay.addWidget(self.people)
@@ -120,6 +121,7 @@ class ProjectSetup(QDialog):
         self.ordinal = QCheckBox("The labels are &ordered (weighted kappa applies)")
         self.ordinal.setChecked(self.project.labels_ordinal())
         row.addWidget(self.ordinal, 1)
+        self._suggestions_control(row)
         self.save_labels_button = QPushButton("&Save labels")
         self.save_labels_button.clicked.connect(self.save_labels)
         row.addWidget(self.save_labels_button)
@@ -233,33 +235,30 @@ class ProjectSetup(QDialog):
         return True
 
     # ---- label suggestions ----------------------------------------------------------------
-    def _suggestions_box(self) -> QGroupBox:
-        box = QGroupBox("Label suggestions")
-        row = QHBoxLayout(box)
+    def _suggestions_control(self, row: QHBoxLayout) -> None:
+        """Who sees label suggestions (saved at once; the note under the labels answers)."""
         self.shown = QComboBox()
         self.shown.setObjectName("suggestionsShown")
         for text, value in SHOWN:
             self.shown.addItem(text, value)
         self.shown.setCurrentIndex([v for _, v in SHOWN].index(self.project.suggestion_visibility()))
-        lab = QLabel("Annotators &see suggestions:")
+        self.shown.setToolTip(ANCHORING_NOTE)
+        lab = QLabel("Annotators see suggestions:")
         lab.setBuddy(self.shown)
+        lab.setToolTip(ANCHORING_NOTE)
         row.addWidget(lab)
         row.addWidget(self.shown)
-        self.shown_note = QLabel("A suggestion can anchor people: those who see one tend to "
-                                 "take it. Never set automatically; accepted ones are marked.")
-        self.shown_note.setWordWrap(True)
-        row.addWidget(self.shown_note, 1)
         self.shown.activated.connect(self.save_suggestions_shown)
-        return box
 
     def save_suggestions_shown(self) -> bool:
         try:
             self.project.set_suggestion_visibility(self.shown.currentData())
         except RecordError as exc:  # a refusal to a non-lead is one too
-            self.shown_note.setText(f"Not saved: {exc}")
+            self.label_note.setText(f"Not saved: {exc}")
             return False
         self._changed = True
-        self.shown_note.setText(f"Saved: annotators see suggestions {self.shown.currentText()}.")
+        self.label_note.setText(f"Saved: annotators see label suggestions "
+                                f"{self.shown.currentText()}. {ANCHORING_NOTE}")
         return True
 
     # ---- videos ---------------------------------------------------------------------------
