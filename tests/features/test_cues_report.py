@@ -42,7 +42,7 @@ def test_too_few_labels_is_said_everywhere(tmp_path):
         cues = cues_data(p)
         assert "not enough labels yet" in cues["not_measured"]
         assert streams_table(cues)[1] == [] and labels_table(cues)[1] == []
-        assert set(cues_figures(cues)) == {"cue_accuracy", "cue_f1", "cue_labels"}
+        assert set(cues_figures(cues)) == {"cue_accuracy", "cue_f1", "cue_labels", "cue_accepted"}
         files = write_report(p, tmp_path / "rep", n_boot=50, cues=cues)
         assert "not enough labels yet" in files.html.read_text(encoding="utf-8")
 
@@ -71,3 +71,18 @@ def test_report_command_adds_the_cues_when_asked(labelled, tmp_path):  # noqa: F
     assert not (tmp_path / "plain" / "cues_streams.csv").exists()
     assert main(["report", str(folder), str(tmp_path / "out"), "--boot", "50", "--cues"]) == 0
     assert (tmp_path / "out" / "cues_streams.csv").is_file()
+
+
+def test_agreement_with_and_without_accepted_suggestions_is_in_the_section(labelled, tmp_path):  # noqa: F811
+    folder, ids = labelled
+    with Project.open(folder) as p:
+        p.train_suggester()
+        p.set_clip_label(ids["new"], "ann-1", "right")
+        p.accept_suggestion(ids["new"], "ann-2")
+        cues = cues_data(p, n_boot=100)
+        acc = cues["accepted_suggestions"]
+        assert acc == p.agreement_with_and_without_suggestions()
+        fig = cues_figures(cues)["cue_accepted"]
+        assert "1 accepted" in fig.title
+        html = write_report(p, tmp_path / "rep", n_boot=100, cues=cues).html.read_text("utf-8")
+        assert "Agreement with and without accepted suggestions" in html

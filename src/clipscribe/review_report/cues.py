@@ -34,12 +34,13 @@ def cues_data(project, *, folds: int = 5, seed: int = 0, n_boot: int = 1000,
     """``compare_streams(folds, seed)`` as plain data, or ``{"not_measured": reason}`` when the
     project has too few labels."""
     from ..errors import NotEnoughLabels
+    accepted = clean(project.agreement_with_and_without_suggestions())
     try:
         result = project.compare_streams(folds, seed, progress=progress, cancel=cancel,
                                          n_boot=n_boot)
     except NotEnoughLabels as exc:
-        return {"not_measured": str(exc)}
-    return clean(result.to_dict())
+        return {"not_measured": str(exc), "accepted_suggestions": accepted}
+    return {**clean(result.to_dict()), "accepted_suggestions": accepted}
 
 
 def _iv(cues: dict, metric: str, stream: str) -> tuple[float | None, float | None]:
@@ -47,13 +48,26 @@ def _iv(cues: dict, metric: str, stream: str) -> tuple[float | None, float | Non
     return iv.get("low"), iv.get("high")
 
 
+def accepted_figure(cues: dict) -> Figure:
+    """Krippendorff's alpha of the annotators' labels with and without accepted suggestions."""
+    acc = cues.get("accepted_suggestions")
+    title = "Agreement with and without accepted suggestions"
+    if not acc or not acc["accepted_labels"]:
+        return note_figure(title, "No label was set by accepting a suggestion.")
+    rows = [(f"all labels ({acc['with']['labels']})", acc["with"]["alpha"], acc["recipe"]),
+            (f"without accepted ({acc['without']['labels']})", acc["without"]["alpha"],
+             acc["recipe"])]
+    return bar_chart(f"{title} (alpha; {acc['accepted_labels']} accepted)", rows, fmt="{:.3f}")
+
+
 def cues_figures(cues: dict) -> dict[str, Figure]:
-    """Accuracy and macro-F1 per stream with 95 % intervals, and the per-label share right of
-    appearance vs motion."""
+    """Accuracy and macro-F1 per stream with 95 % intervals, the per-label share right of
+    appearance vs motion, and agreement with and without accepted suggestions."""
     if "not_measured" in cues:
         note = note_figure(TITLE, cues["not_measured"])
         return {"cue_accuracy": note, "cue_f1": note_figure("Macro-F1 per cue", ""),
-                "cue_labels": note_figure("Per label: appearance vs motion", "")}
+                "cue_labels": note_figure("Per label: appearance vs motion", ""),
+                "cue_accepted": accepted_figure(cues)}
     w = cues["fusion_weight"]
     tip = cues["recipe"]
     out = {}
@@ -79,6 +93,7 @@ def cues_figures(cues: dict) -> dict[str, Figure]:
                                                                    if matters else "")))
     out["cue_labels"] = bar_chart("Per label: appearance vs motion (share right)", rows,
                                   fmt="{:.2f}")
+    out["cue_accepted"] = accepted_figure(cues)
     return out
 
 
@@ -122,7 +137,8 @@ def cues_html(cues: dict, block, table) -> str:
     """The report section; ``block(figures)`` and ``table(Table)`` render as the report does."""
     head = f"<h2>{escape(TITLE)}</h2>"
     if "not_measured" in cues:
-        return head + f'<p class="why">{escape(cues["not_measured"])}</p>'
+        return (head + f'<p class="why">{escape(cues["not_measured"])}</p>'
+                + block([accepted_figure(cues)]))
     figs = cues_figures(cues)
     w = cues["fusion_weight"]
     return "".join([

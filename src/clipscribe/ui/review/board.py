@@ -26,9 +26,9 @@ LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",
           (2, 0): ("reliability",), (2, 1): ("check_accuracy",),
           (2, 2): ("caption_rouge_l", "caption_chrf"),
           # which cues carry the labels (grouped cross-validation of label suggestions)
-          (3, 0): ("cue_accuracy",), (3, 1): ("cue_f1",), (3, 2): ("cue_labels",)}
+          (3, 0): ("cue_accuracy", "cue_accepted"), (3, 1): ("cue_f1",), (3, 2): ("cue_labels",)}
 #: the figures of the cues panel: computed by a job of their own, after the board's numbers
-CUE_FIGURES = ("cue_accuracy", "cue_f1", "cue_labels")
+CUE_FIGURES = ("cue_accuracy", "cue_f1", "cue_labels", "cue_accepted")
 
 
 class FocusFigure(FigureView):
