@@ -118,6 +118,30 @@ class IngestReport:
         return [duplicate_warning(new, old) for new, old in self.duplicates]
 
 
+@dataclass
+class ComputeReport:
+    """What a run of :meth:`Project.compute` did.
+
+    ``computed``: clips whose missing work all succeeded, by kind the number of clips that
+    kind was computed for; ``already_done``: clips that needed nothing; ``failed``: (media
+    path, reason) per clip with a kind that failed. ``seconds`` is the whole run and
+    ``write_seconds`` the part spent writing to the project database."""
+
+    what: tuple[str, ...]
+    ran_on: str = ""
+    clips: int = 0
+    computed: int = 0
+    already_done: int = 0
+    by_kind: dict[str, int] = field(default_factory=dict)
+    failed: list[tuple[str, str]] = field(default_factory=list)
+    seconds: float = 0.0
+    write_seconds: float = 0.0
+
+    @property
+    def ok(self) -> bool:
+        return not self.failed
+
+
 def duplicate_warning(new: str, old: str) -> str:
     return f"{new}: same content (SHA-256) as {old}, already in the project"
 

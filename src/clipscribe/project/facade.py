@@ -33,6 +33,7 @@ from ..types import (
     ClipInfo,
     ClipRef,
     CommentNote,
+    ComputeReport,
     DisputedClip,
     EditInfo,
     GoldCaptionInfo,
@@ -87,6 +88,7 @@ class Project:
     _exporting = property(lambda self: self._peers.exporting)
     _team = property(lambda self: self._peers.team)
     _suggestions = property(lambda self: self._peers.suggestions)
+    _compute = property(lambda self: self._peers.compute)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -398,15 +400,19 @@ class Project:
         return self._catalog.add_clip(media_path, group, source=source, licence=licence, consent=consent)
 
     def add_media(
-            self, folder: str | os.PathLike, *, group_pattern: str | None = None, group_csv: str | os.PathLike | None = None, progress: Progress | None = None, source: str | None = None, licence: str | None = None, consent: bool | None = None) -> IngestReport:
+            self, folder: str | os.PathLike, *, group_pattern: str | None = None, group_csv: str | os.PathLike | None = None, progress: Progress | None = None, source: str | None = None, licence: str | None = None, consent: bool | None = None,
+            workers: int | None = None, scheduler: str | None = None, path_map: Any = None) -> IngestReport:
         """Add every video below ``folder`` (recursive). Unreadable files are skipped with the
         reason. The group key comes from ``group_pattern`` (a regular expression with a named
         group ``group``, searched in the path relative to the media root; :data:`BY_FOLDER`
         groups by folder, as the CLI and the setup dialog do by default) or from ``group_csv``
         (columns ``path,group``); with neither, every clip is its own group. A file with the same
         SHA-256 as a clip already present (or added earlier in the same call) is added and
-        listed in ``duplicates``."""
-        return self._catalog.add_media(folder, group_pattern=group_pattern, group_csv=group_csv, progress=progress, source=source, licence=licence, consent=consent)
+        listed in ``duplicates``. With ``workers`` or ``scheduler`` (as for :meth:`compute`)
+        the files are read (header, SHA-256, frame index) by worker processes and the clips
+        written in batches; without them, in this process, one clip per transaction."""
+        return self._catalog.add_media(folder, group_pattern=group_pattern, group_csv=group_csv, progress=progress, source=source, licence=licence, consent=consent,
+                                       workers=workers, scheduler=scheduler, path_map=path_map)
 
     def copy_media_in(
             self, source: str | os.PathLike, *, cancel: Any = None, progress: Progress | None = None) -> Path:
@@ -785,6 +791,27 @@ class Project:
         :class:`clipscribe.features.models.StreamComparison`)."""
         return self._suggestions.compare_streams(folds, seed, progress=progress, cancel=cancel,
                                                  min_agreement=min_agreement, n_boot=n_boot)
+
+    # ---- precompute (Compute) -----------------------------------------------------
+    def compute(
+            self, what: str | Sequence[str] | None = None, *, clips: Sequence[ClipRef] | None = None,
+            group: str | None = None, workers: int | None = None, scheduler: str | None = None,
+            path_map: Any = None, cache_dir: str | os.PathLike | None = None,
+            progress: Progress = None,
+            cancel: threading.Event | Callable[[], bool] | None = None) -> ComputeReport:
+        """Compute what is missing for every clip (or ``clips``, or a ``group``): ``what`` is
+        any of "index", "thumbs", "motion", "fingerprint", "features" (a list, or one string
+        "index,thumbs"; default all). A clip already done is skipped, so a run killed half-way
+        is resumed by running it again. The work runs on a local cluster of ``workers`` worker
+        processes (default cores − 1; 0 computes in this process, without Dask), or on the
+        Dask ``scheduler`` given ("tcp://host:8786"). ``path_map`` ({client prefix: worker
+        prefix}) names where workers find the media root and ``cache_dir`` (default: the
+        per-user cache) when they mount shared storage elsewhere. A missing or broken file is
+        listed in ``.failed`` with the reason; nothing else stops. Fingerprints are written by
+        a lead. Needs ``clipscribe[cluster]`` (Dask) unless ``workers=0``; see docs/cluster.md."""
+        return self._compute.compute(what, clips=clips, group=group, workers=workers,
+                                     scheduler=scheduler, path_map=path_map, cache_dir=cache_dir,
+                                     progress=progress, cancel=cancel)
 
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(

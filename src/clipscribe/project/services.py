@@ -16,6 +16,7 @@ if TYPE_CHECKING:
     from .annotate import Annotation
     from .catalog import Catalog
     from .clip_facts import ClipFacts
+    from .compute import Compute
     from .context import Context
     from .exporting import Exporting
     from .gold import Gold
@@ -34,7 +35,7 @@ SERVICES = {
     "history": ("history", "History"), "records": ("records", "Records"),
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
-    "suggestions": ("suggestions", "Suggestions"),
+    "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
 }
 
 
@@ -53,6 +54,7 @@ class Peers:
     exporting: Exporting
     team: Team
     suggestions: Suggestions
+    compute: Compute
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx
