@@ -164,3 +164,13 @@ def test_unknown_kinds_are_refused_before_any_work(clips_copy):
     with Project.open(clips_copy) as p, pytest.raises(RecordError, match="no kind of work 'thumb'"):
         p.compute("thumb", workers=0)
     assert main(["compute", str(clips_copy), "--workers", "-1"]) == 2
+
+
+def test_only_the_clips_or_the_group_asked_for_are_computed(clips_copy, tmp_path):
+    with Project.open(clips_copy) as p:
+        one = p.compute("fingerprint", clips=["g0/c0.mp4"], workers=0, cache_dir=tmp_path / "c")
+        group = p.compute("fingerprint", group="g1", workers=0, cache_dir=tmp_path / "c")
+        rest = p.compute("fingerprint", workers=0, cache_dir=tmp_path / "c")
+    assert (one.clips, one.computed) == (1, 1)
+    assert (group.clips, group.computed) == (2, 2)  # c1 and c3
+    assert (rest.clips, rest.already_done, rest.computed) == (5, 3, 2)

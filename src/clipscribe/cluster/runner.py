@@ -86,11 +86,23 @@ def run_tasks(fn: Callable[[T], Any], tasks: Iterable[T], on_result: OnResult, *
         with Client(scheduler, timeout="30s") as client:
             _drive(client, fn, tasks, on_result, retries, cancel)
         return f"the Dask scheduler at {scheduler}"
+    import dask
     n = workers or default_workers()
-    with LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=":0",
-                      silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
+    with dask.config.set(worker_config(dask.config.get("distributed.nanny.pre-spawn-environ", {}))), \
+            LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=":0",
+                         silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
         _drive(client, fn, tasks, on_result, retries, cancel)
     return f"a local cluster of {n} worker process{'es' if n > 1 else ''}"
+
+
+def worker_config(environ: dict[str, Any]) -> dict[str, Any]:
+    """Dask settings for worker processes that decode video: one OpenCV thread each (the
+    processes are the parallelism), no statistical profiler sampling the running task, and no
+    ``MALLOC_TRIM_THRESHOLD_`` (the nanny's default of 64 KiB made the kernel return and fault
+    in the frame buffers again and again: twice the system time here)."""
+    env = {k: v for k, v in environ.items() if k != "MALLOC_TRIM_THRESHOLD_"}
+    return {"distributed.nanny.pre-spawn-environ": {**env, "OPENCV_FOR_THREADS_NUM": 1},
+            "distributed.worker.profile.enabled": False}
 
 
 def _drive(client: Any, fn: Callable[[T], Any], tasks: Iterable[T], on_result: OnResult,

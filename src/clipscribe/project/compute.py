@@ -150,6 +150,8 @@ class Compute(Service):
                 flush()
             if progress is not None:
                 progress(seen[0], len(tasks))
+        if not tasks:  # no cluster started for nothing
+            return ""
         try:
             return run_tasks(probe_file, tasks, arrived, workers=workers, scheduler=scheduler)
         finally:
