@@ -158,6 +158,8 @@ class DisputedClip:
     gold_label: str | None
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    inferred_label: str | None = None   # the most probable true label (Dawid-Skene), if inferred
+    certainty: float = float("nan")     # its posterior probability (NaN when not inferred)
 
     @property
     def settled(self) -> bool:
@@ -188,6 +190,7 @@ class ClipComparison:
     scores: dict[str, float] = field(default_factory=dict)
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    posterior: dict[str, float] = field(default_factory=dict)  # label -> inferred probability
 
 
 @dataclass(frozen=True, slots=True)

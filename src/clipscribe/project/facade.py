@@ -711,17 +711,21 @@ class Project:
         return self._review.unsure_flags(clip)
 
     def review_queue(
-            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
+            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False,
+            rank_by: str = "disputed") -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
+
+        ``rank_by="least-certain"``: lowest posterior probability of the inferred label
+        (Dawid-Skene) first. Every row carries ``inferred_label`` and ``certainty``.
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
         clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
         it. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""

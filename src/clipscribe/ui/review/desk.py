@@ -93,6 +93,12 @@ class ReviewDesk(QWidget):
                 box.addItem(it, it)
             box.setAccessibleName(name)
             ll.addWidget(box)
+        self.rank_by = QComboBox()
+        self.rank_by.setObjectName("rankBy")
+        self.rank_by.addItem("most disputed first", "disputed")
+        self.rank_by.addItem("least certain inferred label first", "least-certain")
+        self.rank_by.setAccessibleName("Order of the disputed clips")
+        ll.addWidget(self.rank_by)
         self.by_flag = QComboBox()
         self.by_flag.setObjectName("flagFilter")
         self.by_flag.addItem("all clips", False)
@@ -213,7 +219,7 @@ class ReviewDesk(QWidget):
         pl.failed.connect(self.status)
         self.tracks.seekRequested.connect(pl.seek)
         self.tracks.goldEdited.connect(self.drag_gold)
-        for box in (self.by_label, self.by_person, self.by_group, self.by_flag):
+        for box in (self.by_label, self.by_person, self.by_group, self.by_flag, self.rank_by):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
             lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
@@ -236,7 +242,8 @@ class ReviewDesk(QWidget):
         if self.ranking is not None:
             self.ranking.cancel()
         flt = dict(label=self.by_label.currentData(), annotator=self.by_person.currentData(),
-                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()))
+                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()),
+                   rank_by=self.rank_by.currentData())
 
         def rank(cancel, progress):
             report = p.agreement_report(n_boot=QUEUE_BOOT)
@@ -263,8 +270,10 @@ class ReviewDesk(QWidget):
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
         missing = self.report.not_measured
-        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label disagreement, "
-                             "then segment F1, then caption BLEU (worst first)."
+        order = ("Ranked by label disagreement, then segment F1, then caption BLEU (worst first)."
+                 if self.rank_by.currentData() == "disputed" else
+                 "Ranked by the inferred label's posterior probability (least certain first).")
+        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. {order}"
                              + "".join(f" {part.capitalize()} not measured: {why}."
                                        for part, why in missing.items()))
         self.queue_note.setText(self._ranked_note)
@@ -366,7 +375,7 @@ class ReviewDesk(QWidget):
         self.caption_model.load(cmp, bleu=bleu, flags=flags)
         self.segment_model.load(cmp.gold_segments, self.labels)
         self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
-                              cmp.skipped, cmp.unsure)
+                              cmp.skipped, cmp.unsure, cmp.posterior)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)

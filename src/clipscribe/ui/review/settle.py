@@ -101,13 +101,16 @@ class SettlePanel(QWidget):
         self.history.setTextFormat(Qt.TextFormat.PlainText)
         lay.addWidget(self.history)
         self._vote_buttons: list[QPushButton] = []
+        self._vote_odds: list[QLabel] = []   # the posterior beside each vote button
 
     def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
                   comments: list, skipped: dict[str, str] | None = None,
-                  unsure: dict[str, str] | None = None) -> None:
+                  unsure: dict[str, str] | None = None,
+                  posterior: dict[str, float] | None = None) -> None:
         """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote);
-        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts)."""
-        skipped, unsure = skipped or {}, unsure or {}
+        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts);
+        ``posterior``: label -> inferred probability, shown beside each annotator's answer."""
+        skipped, unsure, posterior = skipped or {}, unsure or {}, posterior or {}
         self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
         # the list shows this clip's gold, or nothing chosen: never a label left from another
         # clip or decision, which Settle would then write over the gold
@@ -115,9 +118,9 @@ class SettlePanel(QWidget):
         # Alt+1…9 puts the focus on the vote button it clicks; that button is replaced here,
         # and the focus must stay in the desk (its keys, such as Alt+Down, work from there)
         focused = next((i for i, b in enumerate(self._vote_buttons) if b.hasFocus()), None)
-        for b in self._vote_buttons:
+        for b in self._vote_buttons + self._vote_odds:
             b.deleteLater()
-        self._vote_buttons = []
+        self._vote_buttons, self._vote_odds = [], []
         for i, name in enumerate(annotators):
             lab = labels.get(name)
             said = f"skipped ({skipped[name]})" if name in skipped else lab or '—'
@@ -133,6 +136,13 @@ class SettlePanel(QWidget):
             b.clicked.connect(lambda _=False, l=lab: self.labelChosen.emit(l))
             self.votes.addWidget(b, i, 0)
             self._vote_buttons.append(b)
+            odds = QLabel(f"{posterior[lab]:.2f}" if lab in posterior else "")
+            odds.setObjectName("votePosterior")
+            odds.setToolTip(f"inferred probability that the true label is “{lab}” "
+                            "(Dawid-Skene, from every annotator's estimated confusion)"
+                            if lab in posterior else "")
+            self.votes.addWidget(odds, i, 1)
+            self._vote_odds.append(odds)
         if focused is not None:
             live = [b for b in self._vote_buttons if b.isEnabled()]
             target = (self._vote_buttons[focused] if focused < len(self._vote_buttons)
