@@ -38,6 +38,9 @@ class ClipInput:
     :mod:`clipscribe.export.segment_choice`). ``fingerprint`` is
     the clip's 64-bit perceptual hash as a plain int; ``sha256`` the hex digest of the media file.
     ``source_path`` is where the writer reads the media from when it copies or links them.
+    ``posterior`` is the inferred probability of each true label, ``(label, probability)``
+    pairs (the caller's truth inference over every clip's annotator labels; empty when not
+    inferred); the ``"inferred"`` label rule decides by it.
     """
 
     clip_id: str
@@ -58,6 +61,7 @@ class ClipInput:
     consent: bool | None = None
     licence: str | None = None
     source_path: str | None = None
+    posterior: tuple[tuple[str, float], ...] = ()
     extra: dict = field(default_factory=dict, compare=False)
 
     @property

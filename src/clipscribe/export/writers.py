@@ -87,7 +87,7 @@ def _record(clip: ClipInput, plan: ExportPlan, media: str) -> ExportRecord:
         clip=clip.clip_id, split=plan.assignment[clip.clip_id], media=media,
         sha256=clip.sha256.lower() if clip.sha256 else None,
         group=None if clip.group is None else str(clip.group), label=d.label,
-        label_source=d.source, agreement=d.agreement, annotators=d.annotators,
+        label_source=d.source, label_posterior=d.posterior, agreement=d.agreement, annotators=d.annotators,
         skipped=d.skipped, fps=fps, segment_source=seg_choice.source,
         frame_count=clip.frame_count, segments=segments, captions=captions)
 
@@ -197,6 +197,10 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
                                       require_label=plan.policy.require_label,
                                       captions=plan.policy.captions,
                                       segments=plan.policy.segments,
+                                      labels=plan.policy.labels,
+                                      min_posterior=plan.policy.min_posterior
+                                      if plan.policy.labels == "inferred" else None,
+                                      inference=plan.policy.inference,
                                       rule=plan.policy.describe()),
         seed=plan.seed, ratios=plan.split.ratios, counts=counts,
         duplicates_dropped=plan.duplicates_dropped,

@@ -816,7 +816,7 @@ class Project:
         return self._exporting.export_inputs()
 
     def plan_export(
-            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> export.ExportPlan:
+            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -827,9 +827,12 @@ class Project:
         plan's ``warnings``. ``segments`` is the segment rule: ``"gold+best"`` (gold segments,
         else those of the agreeing annotator who agrees best with the others, else none) or
         ``"gold"`` (gold segments, else none); the manifest records both rules and how many
-        repeated reference captions were dropped.
+        repeated reference captions were dropped. ``labels`` is the label rule without gold:
+        ``"majority"`` (``min_agreement``) or ``"inferred"`` (the label Dawid-Skene infers,
+        when its posterior is at least ``min_posterior``; recorded with the inference's
+        recipe). Gold wins under either rule.
         """
-        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
+        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
 
     def write_export(
             self, out_dir: str | os.PathLike, plan: export.ExportPlan, *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, overwrite: bool = False, progress: Progress = None, cancel: threading.Event | None = None):
@@ -838,10 +841,10 @@ class Project:
         return self._exporting.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt, override_reason=override_reason, overwrite=overwrite, progress=progress, cancel=cancel)
 
     def plan_folds(
-            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> list[export.ExportPlan]:
+            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
-        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
+        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
 
     def write_folds(
             self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, progress: Progress = None, cancel: threading.Event | None = None) -> list:
