@@ -87,6 +87,7 @@ class Project:
     _exporting = property(lambda self: self._peers.exporting)
     _team = property(lambda self: self._peers.team)
     _suggestions = property(lambda self: self._peers.suggestions)
+    _checks = property(lambda self: self._peers.checks)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -885,11 +886,35 @@ class Project:
         return self._team.lease_seconds()
 
     def assign(
-            self, *, per_clip: int = 1, overlap: float = 0.0, overlap_count: int = 3, seed: int = 0) -> AssignmentPlan:
+            self, *, per_clip: int = 1, overlap: float = 0.0, overlap_count: int = 3, seed: int = 0,
+            check_rate: float | None = None) -> AssignmentPlan:
         """Set how many people annotate each clip: a fraction ``overlap`` of the clips (chosen
         by ``seed``, see :func:`overlap_selection`) gets ``overlap_count``, the rest
-        ``per_clip``. Settled clips are left out. Lead only."""
-        return self._team.assign(per_clip=per_clip, overlap=overlap, overlap_count=overlap_count, seed=seed)
+        ``per_clip``. Settled clips are left out. ``check_rate`` (0..1; None keeps the
+        current one) is the share of each annotator's clips that are check clips, which the
+        queue mixes in (see :meth:`mark_check_clip`). Lead only."""
+        return self._team.assign(per_clip=per_clip, overlap=overlap, overlap_count=overlap_count, seed=seed,
+                                 check_rate=check_rate)
+
+    def check_rate(self) -> float:
+        """Share of each annotator's clips that are check clips (0: none handed out)."""
+        return self._team.check_rate()
+
+    def mark_check_clip(self, clip: ClipRef, answer: str | None = None) -> str:
+        """Make ``clip`` a check clip: its answer is known in advance (``answer``, default the
+        clip's gold label), and each annotator's labels of it are scored against that answer
+        (accuracy with a Wilson interval and kappa, in the agreement report). Annotators are
+        not told which clips are check clips (on a team server the database hides them); the
+        queue mixes them in at the check rate of :meth:`assign`. Returns the answer. Lead only."""
+        return self._checks.mark_check_clip(clip, answer)
+
+    def unmark_check_clip(self, clip: ClipRef) -> bool:
+        """Make a check clip an ordinary clip again; False when it was none. Lead only."""
+        return self._checks.unmark_check_clip(clip)
+
+    def check_clips(self) -> dict[int, str]:
+        """{clip id: known answer} of every check clip. Lead only."""
+        return self._checks.check_clips()
 
     def assignment_plan(self) -> dict[int, int]:
         """clip id -> number of people wanted (clips never planned count as one)."""

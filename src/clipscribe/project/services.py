@@ -15,6 +15,7 @@ if TYPE_CHECKING:
     from .analysis import Analysis
     from .annotate import Annotation
     from .catalog import Catalog
+    from .checks import Checks
     from .clip_facts import ClipFacts
     from .context import Context
     from .exporting import Exporting
@@ -34,7 +35,7 @@ SERVICES = {
     "history": ("history", "History"), "records": ("records", "Records"),
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
-    "suggestions": ("suggestions", "Suggestions"),
+    "suggestions": ("suggestions", "Suggestions"), "checks": ("checks", "Checks"),
 }
 
 
@@ -53,6 +54,7 @@ class Peers:
     exporting: Exporting
     team: Team
     suggestions: Suggestions
+    checks: Checks
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx

@@ -134,14 +134,24 @@ class StateRecord(_Record):
         return self
 
 
+class CheckRecord(_Record):
+    """A check clip: a clip whose answer a lead knows in advance (only in a lead's dump)."""
+
+    type: Literal["check"] = "check"
+    clip: ClipRef
+    annotator: Name = Field(description="the lead who marked it")
+    label: Name = Field(description="the known answer")
+
+
 Record = Annotated[
     Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord,
-          StateRecord],
+          StateRecord, CheckRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
     "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord, "state": StateRecord,
+    "check": CheckRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 

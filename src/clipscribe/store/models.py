@@ -226,6 +226,20 @@ class GoldCaption(Base):
     decided_at: Mapped[when]
 
 
+class CheckClip(Base):
+    """A clip whose answer is known in advance, mixed into annotators' work to measure them.
+    Only leads may see these rows (on a server the database refuses every other login)."""
+
+    __tablename__ = "check_clips"
+    __table_args__ = (UniqueConstraint("clip_id"), NO_ID_REUSE)
+    id: Mapped[intpk]
+    clip_id: Mapped[clip_fk]
+    label_id: Mapped[label_fk]
+    lead_id: Mapped[int] = mapped_column(ForeignKey("annotators.id", ondelete="RESTRICT"))
+    marked_at: Mapped[when]
+    label: Mapped[Label] = relationship(lazy="joined")
+
+
 class ReviewComment(Base):
     __tablename__ = "review_comments"
     __table_args__ = NO_ID_REUSE
