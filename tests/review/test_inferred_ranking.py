@@ -57,3 +57,19 @@ def test_desk_ranks_least_certain_first_and_shows_posteriors_beside_answers(qtbo
     assert answered and all(odds[a] == f"{post[lab]:.2f}" for a, lab in answered.items())
     w.resize(1366, 768)
     desk.grab().save(str(tmp_path / "least_certain.png"))
+
+
+def test_desk_marks_a_settled_clip_as_check_clip(qtbot, window):
+    w, p = window()
+    desk = w.review_desk.desk
+    box = desk.settle.check_box
+    clip = desk.cmp.clip.id
+    if desk.cmp.gold_label is None:
+        assert not box.isEnabled()       # nothing to take as the known answer yet
+        desk.editor.settle_label(desk.labels[0])
+    assert box.isEnabled() and not box.isChecked()
+    gold = p.gold_labels()[clip]
+    qtbot.mouseClick(box, Qt.MouseButton.LeftButton)
+    assert p.check_clips() == {clip: gold} and box.isChecked() and gold in box.text()
+    qtbot.mouseClick(box, Qt.MouseButton.LeftButton)
+    assert p.check_clips() == {} and not box.isChecked()

@@ -229,6 +229,7 @@ class ReviewDesk(QWidget):
         s.addSegment.connect(self.add_segment)
         s.removeSegment.connect(self.segment_model.remove)
         s.commentSent.connect(self._comment)
+        s.checkClip.connect(self.set_check_clip)
         self.editor.changed.connect(self.refresh)
         self.editor.notSaved.connect(lambda why: self.status.emit(f"Not saved: {why}"))
         self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
@@ -376,9 +377,27 @@ class ReviewDesk(QWidget):
         self.segment_model.load(cmp.gold_segments, self.labels)
         self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
                               cmp.skipped, cmp.unsure, cmp.posterior)
+        self.settle.show_check(self.project.check_clips().get(c.id), cmp.gold_label)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)
+
+    def set_check_clip(self, on: bool) -> None:
+        """Make the clip under review a check clip with its gold label as the answer, or an
+        ordinary clip again."""
+        if self.cmp is None:
+            return
+        clip = self.cmp.clip.id
+        try:
+            if on:
+                answer = self.project.mark_check_clip(clip)
+                self.status.emit(f"Clip {clip} is a check clip, known answer “{answer}”")
+            else:
+                self.project.unmark_check_clip(clip)
+                self.status.emit(f"Clip {clip} is no longer a check clip")
+        except Exception as exc:  # noqa: BLE001 - a refusal is shown, never raised in a slot
+            self.status.emit(f"Not saved: {exc}")
+        self.refresh()
 
     def copy_track(self, annotator: str) -> None:
         if self.cmp is None:

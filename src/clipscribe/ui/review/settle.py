@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
-    QAbstractItemView, QComboBox, QGridLayout, QHBoxLayout, QHeaderView, QLabel, QPlainTextEdit,
+    QAbstractItemView, QCheckBox, QComboBox, QGridLayout, QHBoxLayout, QHeaderView, QLabel, QPlainTextEdit,
     QPushButton, QTableView, QVBoxLayout, QWidget,
 )
 
@@ -24,6 +24,7 @@ class SettlePanel(QWidget):
     addSegment = Signal()
     removeSegment = Signal(int)         # row of the gold segment table
     commentSent = Signal(str, object)   # text, addressee or None
+    checkClip = Signal(bool)            # make the clip a check clip (True) or an ordinary one
 
     def __init__(self, labels: list[str], segments: GoldSegmentModel, parent=None) -> None:
         super().__init__(parent)
@@ -52,6 +53,14 @@ class SettlePanel(QWidget):
         row.addWidget(settle)
         row.addWidget(clear)
         lay.addLayout(row)
+        self.check_box = QCheckBox("Check clip: its gold label is the known answer")
+        self.check_box.setObjectName("checkClip")
+        self.check_box.setToolTip(
+            "Check clips are mixed into every annotator's queue at the check rate and score "
+            "each person against the known answer (accuracy and kappa on the board). "
+            "Annotators are not told which clips they are.")
+        self.check_box.clicked.connect(self.checkClip)
+        lay.addWidget(self.check_box)
 
         lay.addWidget(heading("Gold segments"))
         row = QHBoxLayout()
@@ -158,6 +167,14 @@ class SettlePanel(QWidget):
             self.to.addItem(f"To {name}", name)
         self.history.setText("\n".join(f"{lead} → {to or 'everyone'}: {text}"
                                        for _, to, lead, text in comments[-4:]))
+
+    def show_check(self, answer: str | None, gold: str | None) -> None:
+        """Whether the clip is a check clip (``answer``: its known answer) and whether it can
+        become one (it needs a gold label)."""
+        self.check_box.setChecked(answer is not None)
+        self.check_box.setEnabled(answer is not None or gold is not None)
+        self.check_box.setText(f"Check clip, known answer “{answer}”" if answer is not None
+                               else "Check clip: its gold label is the known answer")
 
     def _send(self) -> None:
         text = self.text.toPlainText().strip()
