@@ -1,6 +1,7 @@
 """On a real PostgreSQL server an annotator's login cannot find out which clips are check
-clips: the table refuses it outright (no grant; a lead-only policy should a grant come back),
-its sequence too, and the queue still hands the check clips out through the pull."""
+clips: like the gold tables, no row passes the lead-only policy (not even a count), no write
+right (and the policy refuses should one come back), and the queue still hands the check
+clips out through the pull."""
 
 from __future__ import annotations
 
@@ -27,19 +28,19 @@ def checked(server_project, uid):
 def test_annotator_login_cannot_read_check_clips(checked, pg):
     p, ann, clips = checked
     with connect_as(p, ann, "pw-ann") as conn:
-        for sql in ("SELECT clip_id FROM public.check_clips",
-                    "SELECT count(*) FROM public.check_clips",
-                    "SELECT last_value FROM public.check_clips_id_seq"):
-            with pytest.raises(psycopg.errors.InsufficientPrivilege):
-                conn.execute(sql)
+        # like the gold tables: readable, but no row passes the lead-only policy
+        assert conn.execute("SELECT clip_id FROM public.check_clips").fetchall() == []
+        assert conn.execute("SELECT count(*) FROM public.check_clips").fetchone() == (0,)
         with pytest.raises(psycopg.errors.InsufficientPrivilege):
             conn.execute("INSERT INTO public.check_clips (clip_id, label_id, lead_id, marked_at) "
                          "VALUES (%s, 1, 1, now())", (clips[1],))
-    # should the read right come back, the policy still lets no row through
-    pg.sql("GRANT SELECT ON public.check_clips TO clipscribe_annotator",
+    # should a write right come back, the policy still lets no row in
+    pg.sql("GRANT INSERT ON public.check_clips TO clipscribe_annotator",
            dbname=p.engine.url.database)
     with connect_as(p, ann, "pw-ann") as conn:
-        assert conn.execute("SELECT count(*) FROM public.check_clips").fetchone() == (0,)
+        with pytest.raises(psycopg.errors.InsufficientPrivilege, match="row-level security"):
+            conn.execute("INSERT INTO public.check_clips (clip_id, label_id, lead_id, marked_at) "
+                         "VALUES (%s, 1, 1, now())", (clips[1],))
     with Project.open(p.folder, user=ann, password="pw-ann") as a:
         assert a._peers.analysis.known_answers() == {}
     assert p.check_clips() == {clips[0]: "stack"}   # the lead sees them

@@ -49,7 +49,7 @@ class Checks(Service):
         else:
             row.label_id, row.lead_id = lab.id, lead.id
         s.flush()
-        self.ctx.log(s, "set", "check_clip", row.id, c.id, before, row_dict(row))
+        self.ctx.log(s, "set", "check_clip", c.id, c.id, before, row_dict(row))
         return True
 
     def import_check(self, s: Session, clip: ClipRef, label: str, lead: str) -> int:
@@ -69,7 +69,7 @@ class Checks(Service):
             before = row_dict(row)
             s.delete(row)
             s.flush()
-            self.ctx.log(s, "clear", "check_clip", before["id"], c.id, before, None)
+            self.ctx.log(s, "clear", "check_clip", c.id, c.id, before, None)
             return True
         return self.ctx.write(work)
 

@@ -231,9 +231,8 @@ class CheckClip(Base):
     Only leads may see these rows (on a server the database refuses every other login)."""
 
     __tablename__ = "check_clips"
-    __table_args__ = (UniqueConstraint("clip_id"), NO_ID_REUSE)
-    id: Mapped[intpk]
-    clip_id: Mapped[clip_fk]
+    clip_id: Mapped[int] = mapped_column(ForeignKey("clips.id", ondelete="CASCADE"),
+                                         primary_key=True, autoincrement=False)
     label_id: Mapped[label_fk]
     lead_id: Mapped[int] = mapped_column(ForeignKey("annotators.id", ondelete="RESTRICT"))
     marked_at: Mapped[when]

@@ -469,21 +469,21 @@ DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_clip_state(integer);
 
 
 def protect_check_clips(conn: Any) -> None:
-    """Make ``check_clips`` lead-only: row-level security (forced, so the owner passes the
-    same policy as a lead), a lead policy, lead grants and none for annotators. Annotators
-    learn nothing about check clips: not the rows, not the count, not the sequence."""
+    """Make ``check_clips`` lead-only, like the gold tables: row-level security (forced, so
+    the owner passes the same policy as a lead) with a lead policy only, so an annotator's
+    SELECT finds no row; no write right for annotators (the table is keyed by clip id: no
+    sequence to read). Annotators learn nothing about check clips, not even how many."""
     a, l = ANNOTATOR_GROUP, LEAD_GROUP
     out = []
     for t in LEAD_TABLES:
         out += [
             f"REVOKE ALL ON {_q(t)} FROM PUBLIC, {a};",
+            f"GRANT SELECT ON {_q(t)} TO {a};",  # readable, but no row passes a policy
             f"ALTER TABLE {_q(t)} ENABLE ROW LEVEL SECURITY;",
             f"ALTER TABLE {_q(t)} FORCE ROW LEVEL SECURITY;",
             f"GRANT SELECT, INSERT, UPDATE, DELETE ON {_q(t)} TO {l};",
             f"DROP POLICY IF EXISTS lead_rows ON {_q(t)};",
             f"CREATE POLICY lead_rows ON {_q(t)} USING {_LEAD} WITH CHECK {_LEAD};",
-            f"DO $$ BEGIN EXECUTE format('GRANT USAGE, SELECT ON SEQUENCE %s TO {l}', "
-            f"pg_catalog.pg_get_serial_sequence('{_q(t)}', 'id')); END $$;",
         ]
     _driver(conn).execute("\n".join(out))
 
