@@ -12,18 +12,7 @@ from clipscribe.errors import NotALeadError
 
 from .conftest import add_clips
 
-BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
-
-
-@pytest.fixture(params=BACKENDS)
-def project(request, tmp_path):
-    if request.param == "postgres":
-        yield request.getfixturevalue("server_project")
-        return
-    p = Project.create(tmp_path / "solo", user="boss")
-    p.define_labels(["pick up", "put down", "stack"])
-    yield p
-    p.close()
+from .test_assignment import project  # noqa: F401 (the fixture: SQLite and PostgreSQL)
 
 
 def _open_as(p: Project, name: str) -> Project:

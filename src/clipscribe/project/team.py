@@ -265,22 +265,7 @@ class Team(Service):
         if mine is not None:
             mine.expires_at = until
             return mine.clip_id
-        check = self._next_check_clip(s, me)
-        if check is not None:
-            s.add(Assignment(clip_id=check.id, annotator_id=me.id, state="open", assigned_at=now,
-                             expires_at=until, updated_at=now))
-            if check.state == "new":
-                check.state = "in_progress"
-            s.flush()
-            return check.id
-        live = (select(func.count()).select_from(Assignment)
-                .where(Assignment.clip_id == Clip.id, Assignment.state.not_in(("expired", "skipped")))
-                .scalar_subquery())
-        had = exists().where(Assignment.clip_id == Clip.id, Assignment.annotator_id == me.id)
-        is_check = exists().where(CheckClip.clip_id == Clip.id)
-        clip = s.scalar(select(Clip).where(Clip.state != "settled", ~had, ~is_check,
-                                           live < func.coalesce(Clip.annotators_wanted, 1))
-                        .order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
+        clip = self._next_check_clip(s, me) or self._next_free_clip(s, me)
         if clip is None:
             return None
         s.add(Assignment(clip_id=clip.id, annotator_id=me.id, state="open", assigned_at=now,
@@ -289,6 +274,18 @@ class Team(Service):
             clip.state = "in_progress"
         s.flush()
         return clip.id
+
+    @staticmethod
+    def _next_free_clip(s: Session, me: Annotator) -> Clip | None:
+        """The lowest clip (not a check clip, not settled) with a free place ``me`` never had."""
+        live = (select(func.count()).select_from(Assignment)
+                .where(Assignment.clip_id == Clip.id, Assignment.state.not_in(("expired", "skipped")))
+                .scalar_subquery())
+        had = exists().where(Assignment.clip_id == Clip.id, Assignment.annotator_id == me.id)
+        is_check = exists().where(CheckClip.clip_id == Clip.id)
+        return s.scalar(select(Clip).where(Clip.state != "settled", ~had, ~is_check,
+                                           live < func.coalesce(Clip.annotators_wanted, 1))
+                        .order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
 
     def _next_check_clip(self, s: Session, me: Annotator) -> Clip | None:
         """The check clip due for ``me`` at the check rate, if any (as ``clipscribe_pull``

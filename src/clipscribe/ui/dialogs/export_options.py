@@ -21,6 +21,17 @@ SEGMENT_RULES = (("Gold, else the best-agreeing annotator's", "gold+best"),
                  ("Gold only (else none)", "gold"))
 
 
+def _share_box(value: float, tip: str) -> QDoubleSpinBox:
+    """A spin box for a share or probability (0..1, two decimals, steps of 0.05)."""
+    box = QDoubleSpinBox()
+    box.setRange(0.0, 1.0)
+    box.setSingleStep(0.05)
+    box.setDecimals(2)
+    box.setValue(value)
+    box.setToolTip(tip)
+    return box
+
+
 class ExportOptions:
     """Mixin of :class:`~.export_dialog.ExportDialog`: builds the option boxes and reads them."""
 
@@ -68,14 +79,9 @@ class ExportOptions:
         self.seed.setToolTip("Seed for placing groups into splits; the same seed and project give "
                              "the same splits")
         form.addRow("See&d", self.seed)
-        self.min_agreement = QDoubleSpinBox()
-        self.min_agreement.setRange(0.0, 1.0)
-        self.min_agreement.setSingleStep(0.05)
-        self.min_agreement.setDecimals(2)
-        self.min_agreement.setValue(0.6)
-        self.min_agreement.setToolTip("Without gold, the majority label must be given by at least "
-                                      "this share of the clip's annotators; otherwise the clip is "
-                                      "left out")
+        self.min_agreement = _share_box(0.6, "Without gold, the majority label must be given "
+                                        "by at least this share of the clip's annotators; "
+                                        "otherwise the clip is left out")
         self.label_rule = QComboBox()
         self.label_rule.setObjectName("labelRule")
         for text, value in LABEL_RULES:
@@ -87,14 +93,9 @@ class ExportOptions:
             "the minimum posterior. Gold wins either way; recorded in the manifest.")
         form.addRow("Label without gold", self.label_rule)
         form.addRow("Minimum a&greement", self.min_agreement)
-        self.min_posterior = QDoubleSpinBox()
+        self.min_posterior = _share_box(0.9, "With the inferred label: the probability it "
+                                        "needs; otherwise the clip is left out")
         self.min_posterior.setObjectName("minPosterior")
-        self.min_posterior.setRange(0.0, 1.0)
-        self.min_posterior.setSingleStep(0.05)
-        self.min_posterior.setDecimals(2)
-        self.min_posterior.setValue(0.9)
-        self.min_posterior.setToolTip("With the inferred label: the probability it needs; "
-                                      "otherwise the clip is left out")
         form.addRow("Minimum posterior", self.min_posterior)
         self.caption_policy = QComboBox()
         self.caption_policy.setObjectName("captionPolicy")
