@@ -133,3 +133,13 @@ def test_migration_makes_the_label_optional_and_going_back_refuses_unlabelled(pr
 def _columns(p: Project) -> list[dict]:
     from sqlalchemy import inspect
     return inspect(p.engine).get_columns("segments")
+
+
+def test_the_agreement_report_takes_unlabelled_segments_and_counts_them(sample_copy):
+    with Project.open(sample_copy) as p:
+        clip = p.clips()[0].id
+        p.add_segment(clip, "annotator-3", None, 0, 10)
+        seg = p.agreement_report(n_boot=20, captions=False).segments
+        with3 = [m for m in seg.pairs if "annotator-3" in (m.annotator_a, m.annotator_b)]
+        assert with3 and all(m.recipe.option("unlabelled") == "1" for m in with3)
+        assert seg.frame_alpha.recipe.option("unlabelled_frames") == "10"

@@ -36,5 +36,11 @@ def paint_segment(p: QPainter, r: QRectF, label: str | None, colours: dict[str, 
         p.fillRect(r, fill)
     if text:
         base = theme.UNLABELLED_FILL if label is None else colours.get(label, NO_COLOUR)
+        room = r.adjusted(4, 0, -2, 0)
+        if label is None:  # a plain strip behind the words, so the hatching does not cross them
+            fm = p.fontMetrics()
+            width = min(room.width(), fm.horizontalAdvance(text) + 4)
+            p.fillRect(QRectF(room.left() - 2, r.center().y() - fm.height() / 2, width,
+                              fm.height()), QColor(theme.UNLABELLED_FILL))
         p.setPen(QColor(theme.text_colour_on(QColor(base).name())))
-        p.drawText(r.adjusted(4, 0, -2, 0), Qt.AlignmentFlag.AlignVCenter, text)
+        p.drawText(room, Qt.AlignmentFlag.AlignVCenter, text)
