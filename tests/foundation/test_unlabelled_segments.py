@@ -67,10 +67,13 @@ def test_dump_writes_no_label_and_import_reads_it_back(project, tmp_path):
     clip = project.clips()[0]
     project.add_segment(clip.id, "ann-a", None, 1, 4)
     project.add_segment(clip.id, "ann-a", "push", 5, 9)
+    project.set_clip_label(clip.id, "ann-b", "pick up")
+    project.add_segment(clip.id, "ann-b", None, 2, 3)         # by script, after the clip label
     out = tmp_path / "all.jsonl"
     project.export_records(out)
     rows = [json.loads(l) for l in out.read_text().splitlines()]
-    segs = sorted((r for r in rows if r["type"] == "segment"), key=lambda r: r["start"])
+    segs = sorted((r for r in rows if r["type"] == "segment" and r["annotator"] == "ann-a"),
+                  key=lambda r: r["start"])
     assert "label" not in segs[0] and segs[1]["label"] == "push"
     assert parse_record(segs[0]).label is None
     assert parse_record({**segs[0], "label": None}).label is None  # null reads the same
@@ -83,9 +86,10 @@ def test_dump_writes_no_label_and_import_reads_it_back(project, tmp_path):
         for f in (project.media_root / "g1").iterdir():
             (q.media_root / "g1" / f.name).write_bytes(f.read_bytes())
         counts = q.import_records(out)
-        assert counts["segment"] == 2
+        assert counts["segment"] == 3
         cid = next(c.id for c in q.clips() if c.path == clip.path)
         assert _labels(q, cid, "ann-a") == [(None, 1, 4), ("push", 5, 9)]
+        assert _labels(q, cid, "ann-b") == [(None, 2, 3)]     # an import fills nothing
         assert q.import_records(out)["segment"] == 0              # the same file again: nothing new
 
 
