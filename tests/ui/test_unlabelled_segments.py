@@ -9,16 +9,18 @@ from clipscribe.ui import theme
 from clipscribe.ui.workbench.timeline import OTHER_ALPHA, OTHER_H, SCALE_H, TRACK_H
 
 from .test_editing import ready
+from .test_keys import _one_segment
 
 ME = "annotator-3"   # has no label on the sample's first clip
 CTRL = Qt.KeyboardModifier.ControlModifier
 
 
-def _mark(qtbot, w, a, b):
-    w.player.seek(a)
-    qtbot.keyClick(w.viewer, Qt.Key.Key_B)
-    w.player.seek(b)
-    qtbot.keyClick(w.viewer, Qt.Key.Key_E)
+def _mark(qtbot, w, p, a, b):
+    """Mark frames a..b by B and E; the one new segment stored."""
+    old = {g.id for g in p.segments(clip=w.clip.id, annotator=ME)}
+    _one_segment(qtbot, w, a, b)
+    [seg] = [g for g in p.segments(clip=w.clip.id, annotator=ME) if g.id not in old]
+    return seg
 
 
 def _colour_at(w, frame) -> str:
@@ -34,9 +36,7 @@ def test_marked_before_the_clip_label_it_is_unlabelled_then_the_label_fills_it(q
     ready(qtbot, w)
     clip = w.clip.id
     assert p.my_clip_label(clip) is None
-    old = {g.id for g in p.segments(clip=clip, annotator=ME)}
-    _mark(qtbot, w, 5, 20)
-    [seg] = [g for g in p.segments(clip=clip, annotator=ME) if g.id not in old]
+    seg = _mark(qtbot, w, p, 5, 20)
     assert (seg.label, seg.start, seg.end) == (None, 5, 21)          # stored at once, no label
     assert "unlabelled" in w.statusBar().currentMessage()
     row = w.segment_model.index([g.id for g in w.segment_model.segments()].index(seg.id))
@@ -60,9 +60,7 @@ def test_an_unlabelled_segment_gets_its_own_label_by_shift_key(qtbot, sample, op
     w, p = open_window(sample, ME)
     ready(qtbot, w)
     clip = w.clip.id
-    old = {g.id for g in p.segments(clip=clip, annotator=ME)}
-    _mark(qtbot, w, 30, 40)
-    [seg] = [g for g in p.segments(clip=clip, annotator=ME) if g.id not in old]
+    seg = _mark(qtbot, w, p, 30, 40)
     w.timeline.set_selected(seg.id)
     qtbot.keyClick(w.viewer, Qt.Key.Key_I, Qt.KeyboardModifier.ShiftModifier)   # "idle"
     assert next(g for g in p.segments(clip=clip, annotator=ME) if g.id == seg.id).label == "idle"
