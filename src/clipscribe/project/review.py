@@ -8,13 +8,13 @@ import datetime as dt
 import math
 from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import Annotator, Assignment, GoldCaption
+from ..store.models import Annotator, Assignment, Edit, GoldCaption
 from ..types import (  # noqa: F401 (re-exported)
     IDLE_SECONDS,
     ClipComparison,
@@ -239,14 +239,19 @@ class Review(Service):
         row changed (an import by the lead counts for the annotator it was for)."""
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
         workers = self._workers()
+        # four plain columns of the history, not whole history rows with their JSON: a big
+        # project has hundreds of thousands of them
+        owner = func.coalesce(Edit.after["annotator_id"].as_integer(),
+                              Edit.before["annotator_id"].as_integer())
+        stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
+                .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
+                .order_by(Edit.id))
         out = []
-        for e in self.peers.history.history():
-            if e.entity not in WORK_ENTITIES or e.clip is None:
-                continue
-            row = e.after or e.before or {}
-            name = ids.get(row.get("annotator_id"), e.who)
+        for at, row_owner, who, clip in self.ctx.read(lambda s: s.execute(stmt).all()):
+            name = ids.get(row_owner) if row_owner is not None else None
+            name = name if name is not None else ids.get(who)
             if name in workers:
-                out.append((e.at, name, e.clip))
+                out.append((at, name, clip))
         return out
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
