@@ -191,6 +191,7 @@ BEGIN
       -- then count its places again. Only when no clip has a free place is there no work.
       SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
        WHERE c.state <> 'settled'
+         AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.check_clips k WHERE k.clip_id = c.id)
          AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
                          AND a.annotator_id = p_annotator)
          AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id

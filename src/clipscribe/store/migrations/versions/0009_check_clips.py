@@ -1,7 +1,7 @@
 """check clips: clips whose answer a lead knows in advance
 
-Revision ID: 0007_reliab2
-Revises: 0006_assign
+Revision ID: 0009_check_clips
+Revises: 0008_pull_waits
 Create Date: 2026-12-04
 
 One table, ``check_clips`` (clip as its key, known answer, the lead who marked it). On a team server only
@@ -14,8 +14,8 @@ import sqlalchemy as sa
 from alembic import op
 
 
-revision = '0007_reliab2'
-down_revision = '0006_assign'
+revision = '0009_check_clips'
+down_revision = '0008_pull_waits'
 branch_labels = None
 depends_on = None
 
