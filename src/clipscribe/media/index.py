@@ -373,7 +373,7 @@ def decode_index(path: Path, *, cancel: Cancel = None, progress: Progress = None
 def build_frame_index(path: str | os.PathLike, *, cancel: Cancel = None,
                       progress: Progress = None, method: str = "auto",
                       scan: PacketScan | None = None,
-                      on_trusted: Callable[[PacketScan], None] | None = None) -> FrameIndex:
+                      on_trusted: Callable[[PacketScan | None], None] | None = None) -> FrameIndex:
     """Build the frame index of a file: from its packets where that is exact, else by decoding.
 
     Parameters
@@ -391,7 +391,7 @@ def build_frame_index(path: str | os.PathLike, *, cancel: Cancel = None,
         Filled while the packet pass runs, so another thread can use the frames read so far.
     on_trusted : callable, optional
         Called with ``scan`` once the checks that can be made before the pass (edit list,
-        decoded first frames) have passed.
+        decoded first frames) have passed, or with None when the decode pass is chosen first.
 
     Returns
     -------
@@ -405,6 +405,8 @@ def build_frame_index(path: str | os.PathLike, *, cancel: Cancel = None,
         return decode_index(p, cancel=cancel, progress=progress, note="asked for")
     problem = edit_list_problem(p)
     if problem is not None:
+        if on_trusted is not None:
+            on_trusted(None)
         return decode_index(p, cancel=cancel, progress=progress, note=problem)
     head = decoded_head(p)
     if not head:

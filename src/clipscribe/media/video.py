@@ -26,6 +26,7 @@ from __future__ import annotations
 import operator
 import os
 import threading
+import time
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -39,6 +40,9 @@ from .index import FrameIndex, PacketScan, load_or_build_index
 
 #: Targets at most this many frames ahead of the decoder are reached by decoding forward.
 FORWARD_LIMIT = 64
+#: How long after opening a far request waits for the packet pass to start (its checks take a
+#: fraction of a second) before it decodes forward from the start instead.
+EARLY_WAIT_S = 1.0
 _AT_END = 1 << 62  # decoder position after it ran off the end: any request needs a seek
 
 
@@ -81,6 +85,8 @@ class Video:
         self._index_done = threading.Event()
         self._stop = threading.Event()
         self._scan: PacketScan | None = None  # the packet pass, once its checks passed
+        self._scan_decided = threading.Event()  # set once it is known whether there is one
+        self._opened_at = time.monotonic()
         self._provisional: FrameIndex | None = None
         self._index_dir = Path(index_cache_dir) if index_cache_dir is not None else None
         self._index_thread = threading.Thread(target=self._index_worker, daemon=True,
@@ -143,12 +149,14 @@ class Video:
                 f"{self.path}: frame index failed: {exc}")
         finally:
             self._index_done.set()
+            self._scan_decided.set()
             scan = self._scan
             if scan is not None:
                 scan.publish()
 
-    def _use_scan(self, scan: PacketScan) -> None:
+    def _use_scan(self, scan: PacketScan | None) -> None:
         self._scan = scan
+        self._scan_decided.set()
 
     def _early_index(self, i: int) -> FrameIndex | None:
         """Before the index is ready: an index of the frames the packet pass has settled, once
@@ -159,7 +167,11 @@ class Video:
                 return self._index
             scan = self._scan
             if scan is None:
-                return None
+                left = EARLY_WAIT_S - (time.monotonic() - self._opened_at)
+                if self._scan_decided.is_set() or left <= 0:
+                    return None
+                self._scan_decided.wait(min(left, 0.05))
+                continue
             with scan.changed:
                 ts, keys = scan.settled()
                 if scan.problem is not None or (scan.done and not scan.usable(ts)):
