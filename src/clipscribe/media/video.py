@@ -46,8 +46,9 @@ EARLY_WAIT_S = 1.0
 _AT_END = 1 << 62  # decoder position after it ran off the end: any request needs a seek
 
 
-def _open_capture(path: Path) -> cv2.VideoCapture:
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
+def _open_capture(path: Path, threads: int | None = None) -> cv2.VideoCapture:
+    params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, int(threads)]
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, params)
     if not cap.isOpened():
         cap.release()
         raise MediaError(f"{path}: not a video OpenCV can open (unknown container or codec, "
@@ -64,10 +65,12 @@ class Video:
     """
 
     def __init__(self, path: str | os.PathLike, *, cache_bytes: int | None = None,
-                 index_cache_dir: str | os.PathLike | None = None) -> None:
+                 index_cache_dir: str | os.PathLike | None = None,
+                 decoder_threads: int | None = None) -> None:
         self.path = check_media_path(path)
         self._lock = threading.RLock()
-        self._cap = _open_capture(self.path)
+        self._threads = decoder_threads
+        self._cap = _open_capture(self.path, decoder_threads)
         ok, first = self._cap.read()
         if not ok or first is None:
             self._cap.release()
@@ -314,7 +317,7 @@ class Video:
     def _reopen(self) -> None:
         self.stats["reopens"] += 1
         self._cap.release()
-        self._cap = _open_capture(self.path)
+        self._cap = _open_capture(self.path, self._threads)
         self._pos = 0
 
     def _seek(self, i: int, idx: FrameIndex) -> np.ndarray:
@@ -372,7 +375,8 @@ class Video:
 
 
 def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
-               index_cache_dir: str | os.PathLike | None = None) -> Video:
+               index_cache_dir: str | os.PathLike | None = None,
+               decoder_threads: int | None = None) -> Video:
     """Open a video for frame-exact access.
 
     Parameters
@@ -384,6 +388,9 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     index_cache_dir : path-like, optional
         Folder for cached frame indexes, keyed by the file's SHA-256 (default
         ``platformdirs.user_cache_dir("clipscribe")/frame-index``).
+    decoder_threads : int, optional
+        Threads of the FFmpeg decoder (default: FFmpeg's choice, one per core); background
+        work uses 1 so that it leaves the other cores to the viewer.
 
     Returns
     -------
@@ -395,4 +402,5 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     MediaError
         Missing, empty, truncated, non-video or undecodable file; the message names the file.
     """
-    return Video(path, cache_bytes=cache_bytes, index_cache_dir=index_cache_dir)
+    return Video(path, cache_bytes=cache_bytes, index_cache_dir=index_cache_dir,
+                 decoder_threads=decoder_threads)
