@@ -16,7 +16,7 @@ from pathlib import Path
 
 import cv2
 
-from bench_media import _peak_rss, digest, ms_stats
+from bench_media import _peak_rss, digest, ms_stats, sequential_digests
 from clipscribe.media import open_video
 from clipscribe.media.index import build_frame_index, decode_index
 
@@ -46,14 +46,7 @@ def reference(path: Path) -> list[str]:
         data = json.loads(target.read_text())
         if data.get("size") == stamp:
             return data["digests"]
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
-    out = []
-    while True:
-        ok, f = cap.read()
-        if not ok:
-            break
-        out.append(digest(f))
-    cap.release()
+    out = sequential_digests(path)
     target.write_text(json.dumps({"size": stamp, "digests": out}))
     return out
 

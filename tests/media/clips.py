@@ -81,17 +81,21 @@ def write_ffmpeg(path: Path, n: int, w: int, h: int, codec_args: list[str], *, f
     return path
 
 
+def _read_loop(path: Path):
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
+    try:
+        while True:
+            ok, f = cap.read()
+            if not ok:
+                return
+            yield f
+    finally:
+        cap.release()
+
+
 def sequential_frames(path: Path) -> list[np.ndarray]:
     """Reference decode: a plain ``read()`` loop on a fresh capture."""
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
-    out = []
-    while True:
-        ok, f = cap.read()
-        if not ok:
-            break
-        out.append(f)
-    cap.release()
-    return out
+    return list(_read_loop(path))
 
 
 def write_ffmpeg_streamed(path: Path, n: int, w: int, h: int, codec_args: list[str], *,
@@ -117,15 +121,7 @@ def write_ffmpeg_streamed(path: Path, n: int, w: int, h: int, codec_args: list[s
 
 def frame_digests(path: Path) -> list[bytes]:
     """Reference decode of a long clip, kept small: a digest per frame of a ``read()`` loop."""
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
-    out = []
-    while True:
-        ok, f = cap.read()
-        if not ok:
-            break
-        out.append(digest(f))
-    cap.release()
-    return out
+    return [digest(f) for f in _read_loop(path)]
 
 
 def digest(frame: np.ndarray) -> bytes:
