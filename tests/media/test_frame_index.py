@@ -168,3 +168,26 @@ def test_settled_frames_grow_with_the_pass():
     assert ts.tolist() == list(range(len(ts)))  # no frame missing below the settled bound
     scan.done = True
     assert len(scan.settled()[0]) == len(order)
+
+
+def test_end_of_a_never_seen_file_is_known_from_the_packets(long_clip, tmp_path, monkeypatch):
+    """Asking beyond the last frame before the index is stored answers at once from the
+    packets (no decoding to the end)."""
+    path, ref = long_clip
+    release = threading.Event()
+    real_from_scan = index_module.index_from_scan
+
+    def held(scan):  # the packet pass is over; the index is not made yet
+        release.wait(30)
+        return real_from_scan(scan)
+
+    monkeypatch.setattr(index_module, "index_from_scan", held)
+    try:
+        with open_video(path, index_cache_dir=tmp_path) as v:
+            with pytest.raises(IndexError):
+                v.frame(LONG_FRAMES + 10)
+            assert not v.index_ready and v.stats["grabs"] < 100
+            assert digest(v.frame(LONG_FRAMES - 1)) == ref[-1]
+            release.set()
+    finally:
+        release.set()

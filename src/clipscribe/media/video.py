@@ -256,12 +256,9 @@ class Video:
         idx = self._index
         if idx is None and not self._pos <= i <= self._pos + FORWARD_LIMIT:
             idx = self._early_index(i)
-            if idx is not None and idx is not self._index:
-                if i >= idx.frame_count:  # the pass ended early: a damaged file, or out of range
-                    idx = None
-                else:
-                    self.stats["early_seeks"] += 1
-        if idx is not None and i >= idx.frame_count and idx is self._index:
+            if idx is not None and idx is not self._index and i < idx.frame_count:
+                self.stats["early_seeks"] += 1
+        if idx is not None and i >= idx.frame_count:  # the packet pass has read every packet
             raise IndexError(f"frame {i} out of range: {self.path} has {idx.frame_count} frames")
         if idx is None or not idx.seekable:
             if self._pos > i:
