@@ -297,7 +297,9 @@ class Video:
         if not cap.grab():
             self._ran_off_end(i)
         self._pos += 1
-        ok, arr = cap.retrieve()
+        w, h = self._size
+        spare = self.cache.spare((h, w, 3))
+        ok, arr = cap.retrieve() if spare is None else cap.retrieve(spare)
         if not ok or arr is None:
             raise MediaError(f"{self.path}: frame {i} could not be decoded")
         return arr
