@@ -263,7 +263,7 @@ def main() -> None:
             "exact_100pct": r["exact_fraction"] == 1.0 and s["exact_fraction"] == 1.0,
             "cold_p50_not_slower_than_naive": r["cold"]["p50_ms"] <= result["naive_seek"]["p50_ms"],
             "cached_under_1ms": r["cached"]["p95_ms"] < 1.0,
-            "stepping_ge_0.8x_raw": s["ratio"] >= 0.8,
+            "stepping_ge_0.9x_raw": s["ratio"] >= 0.9,
             "first_frame_under_0.3s": result["first_frame"]["seconds_max"] < 0.3,
             "memory_bounded_by_budget": m["tracemalloc_peak_bytes"]
             <= m["budget_bytes"] + 4 * m["frame_bytes"],
