@@ -191,3 +191,42 @@ def test_end_of_a_never_seen_file_is_known_from_the_packets(long_clip, tmp_path,
             release.set()
     finally:
         release.set()
+
+
+def test_frames_served_early_are_dropped_when_the_packets_fail_late(long_clip, tmp_path,
+                                                                    monkeypatch):
+    """A problem found only at the end of the packet pass sends the file to the decode pass;
+    frames numbered from the packets meanwhile leave the cache, and access stays exact."""
+    path, ref = long_clip
+    release, reached = threading.Event(), threading.Event()
+    real_scan = index_module.scan_packets
+
+    def late_problem(p, *, scan=None, **kw):
+        scan = scan if scan is not None else PacketScan()
+        real_add = scan.add
+
+        def add(pts, key):
+            if len(scan.pts) == 2000:
+                reached.set()
+                release.wait(30)
+            real_add(pts, key)
+
+        scan.add = add
+        real_scan(p, scan=scan, **kw)
+        if reached.is_set():  # only the viewer's pass, not the decode pass's key scan
+            scan.problem = "a problem seen at the end (made up for the test)"
+        return scan
+
+    monkeypatch.setattr(index_module, "scan_packets", late_problem)
+    try:
+        with open_video(path, index_cache_dir=tmp_path) as v:
+            assert reached.wait(30)
+            assert digest(v.frame(1500)) == ref[1500] and v.stats["early_seeks"] == 1
+            assert 1500 in v.cache
+            release.set()
+            assert v.wait_index(120) and v.index.method == "decode"
+            assert "made up" in v.index.note and 1500 not in v.cache
+            for i in (1500, 1499, 10, 2999):
+                assert digest(v.frame(i)) == ref[i]
+    finally:
+        release.set()

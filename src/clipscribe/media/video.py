@@ -144,6 +144,7 @@ class Video:
             if index.method != "packets" and self._scan is not None:
                 with self._lock:  # frames numbered from packets that proved untrustworthy
                     self.cache.clear()
+                    self._pos = _AT_END  # and the decoder's count: the next request seeks
             self._index = index
         except JobCancelled:
             pass
