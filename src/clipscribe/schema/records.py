@@ -66,12 +66,14 @@ class LabelRecord(_Record):
 
 
 class SegmentRecord(_Record):
-    """A temporal segment in frames; ``end`` is exclusive."""
+    """A temporal segment in frames; ``end`` is exclusive. Without ``label`` (or with null) the
+    segment is unlabelled: marked before its annotator chose a label."""
 
     type: Literal["segment"] = "segment"
     clip: ClipRef
     annotator: Name
-    label: Name
+    label: Name | None = Field(default=None, description="the segment's label; absent or null: "
+                               "unlabelled (marked before its annotator chose one)")
     start: int = Field(strict=True, ge=0, le=MAX_FRAME, description="first frame of the segment (0-based)")
     end: int = Field(strict=True, gt=0, le=MAX_FRAME, description="frame after the last frame of the segment")
 
@@ -116,13 +118,32 @@ class CommentRecord(_Record):
     _not_blank = field_validator("text")(classmethod(_refuse_blank))
 
 
+class StateRecord(_Record):
+    """One annotator's state of their work on a clip: submitted, skipped (with the reason),
+    unsure (flagged for the lead, optionally with a note) or open."""
+
+    type: Literal["state"] = "state"
+    clip: ClipRef
+    annotator: Name
+    state: Literal["open", "submitted", "skipped", "unsure"]
+    reason: str | None = Field(default=None, max_length=5000,
+                               description="why the clip was skipped (required then) or flagged")
+
+    @model_validator(mode="after")
+    def _skip_has_reason(self) -> "StateRecord":
+        if self.state == "skipped" and not (self.reason and self.reason.strip()):
+            raise ValueError("skipping a clip needs a reason")
+        return self
+
+
 Record = Annotated[
-    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord],
+    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord,
+          StateRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
-    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord,
+    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord, "state": StateRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 
