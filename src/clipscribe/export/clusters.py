@@ -13,8 +13,8 @@ square of the clips). The method:
 1. *Cover.* Items are taken in a fixed pseudo-random order, in batches. Each item not yet
    covered asks the index for all its near items (exact), is linked to them, and those become
    *covered*: they are never asked themselves. A clique of k look-alikes costs one query of k
-   candidates, not k queries. The batch size follows the work the previous batch cost, so
-   a batch of queries into large look-alike sets stays small.
+   candidates, not k queries. The batch size follows the work the previous batch cost (and at
+   most doubles), so a batch of queries into large look-alike sets stays small.
 2. *Stars.* An edge can only be missing between two covered items ``y`` and ``z``. Each covered
    item keeps the queried item (its *leader*) that covered it, within the threshold. When the
    distance is a metric (Hamming distance; Jaccard distance ``1 - J``), ``d(y, z) <= e`` gives
@@ -147,7 +147,9 @@ def cover_components(n: int, neighbours: Neighbours, wide_pairs: WidePairs, clos
         leader[other[fresh]] = qi[fresh]  # several leaders may claim one item: any will do
         parent = union(parent, qi, other, d, links)
         queries, work = queries + len(q), work + cost
-        batch = int(np.clip(_BATCH_WORK * len(q) // max(cost, 1), _FIRST_BATCH, _MAX_BATCH))
+        # at most double: a batch of still uncovered items may hold many of one clique
+        batch = int(np.clip(_BATCH_WORK * len(q) // max(cost, 1), _FIRST_BATCH,
+                            min(2 * len(q), _MAX_BATCH)))
     parent = _join_stars(parent, leader, asked, wide_pairs, close, links)
     if links:
         la, lb, ld = (np.concatenate(x) for x in zip(*links))

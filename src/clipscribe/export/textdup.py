@@ -65,7 +65,7 @@ def _dense_ids(values: np.ndarray) -> np.ndarray:
 
 def _distinct_sorted(values: np.ndarray) -> np.ndarray:
     sv = np.sort(values)
-    return sv[np.r_[True, sv[1:] != sv[:-1]]]
+    return sv[np.r_[True, sv[1:] != sv[:-1]]] if len(sv) else sv
 
 
 def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
