@@ -46,6 +46,7 @@ Close = Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]
 _FIRST_BATCH = 32
 _MAX_BATCH = 1 << 14
 _BATCH_WORK = 1 << 21  # candidates examined per batch of queries (memory and redundancy)
+_STAR_WORK = 1 << 20  # pairs of covered items compared at once when joining stars
 
 
 @dataclass(frozen=True)
@@ -186,20 +187,40 @@ def _join_stars(parent: np.ndarray, leader: np.ndarray, asked: np.ndarray,
         return x
 
     found: list[tuple[int, int, float]] = []
-    for x, y in zip(a.tolist(), b.tolist()):
-        rx, ry = root(int(parent[x])), root(int(parent[y]))
-        if rx == ry:
+    size = {k: e - s for k, (s, e) in bounds.items()}
+    todo, at = list(zip(a.tolist(), b.tolist())), 0
+    while at < len(todo):
+        # leader pairs in chunks of at most _STAR_WORK compared items (or one pair); pairs
+        # already joined by this step are left out
+        chunk: list[tuple[int, int]] = []
+        work = 0
+        while at < len(todo) and (not chunk or work + size[todo[at][0]] * size[todo[at][1]]
+                                  <= _STAR_WORK):
+            x, y = todo[at]
+            at += 1
+            if root(int(parent[x])) != root(int(parent[y])):
+                chunk.append((x, y))
+                work += size[x] * size[y]
+        if not chunk:
             continue
-        sx, ex = bounds[x]
-        sy, ey = bounds[y]
-        ix, iy = covered[sx:ex], covered[sy:ey]
-        pa, pb = np.repeat(ix, len(iy)), np.tile(iy, len(ix))
+        sx = np.array([size[x] for x, _ in chunk])
+        sy = np.array([size[y] for _, y in chunk])
+        n_pairs = sx * sy
+        which = np.repeat(np.arange(len(chunk)), n_pairs)
+        k = np.arange(int(n_pairs.sum())) - np.repeat(np.cumsum(n_pairs) - n_pairs, n_pairs)
+        start_x = np.array([bounds[x][0] for x, _ in chunk])
+        start_y = np.array([bounds[y][0] for _, y in chunk])
+        pa = covered[start_x[which] + k // sy[which]]
+        pb = covered[start_y[which] + k % sy[which]]
         near, dist = close(pa, pb)
         hit = np.flatnonzero(near)
-        if len(hit):
-            k = int(hit[0])
-            found.append((int(pa[k]), int(pb[k]), float(dist[k])))
-            joined[max(rx, ry)] = min(rx, ry)
+        _, first = np.unique(which[hit], return_index=True)
+        for h in hit[first].tolist():
+            x, y = chunk[int(which[h])]
+            rx, ry = root(int(parent[x])), root(int(parent[y]))
+            if rx != ry:
+                found.append((int(pa[h]), int(pb[h]), float(dist[h])))
+                joined[max(rx, ry)] = min(rx, ry)
     if found:
         fa, fb, fd = (np.array(v) for v in zip(*found))
         parent = union(parent, fa.astype(np.int64), fb.astype(np.int64), fd, links)

@@ -187,10 +187,10 @@ class PrefixIndex:
         rank = np.arange(len(text)) - self.first[text]
         self.prefix = self.size - np.ceil(threshold * self.size - 1e-9).astype(np.int64) + 1
         keep = rank < self.prefix[text]
-        by = np.sort(self.sid[keep] * self.n + text[keep])
-        self.post_text, post_sid = by % self.n, by // self.n
+        by = np.lexsort((text[keep], self.sid[keep]))  # postings: by shingle, then text
+        self.post_text, self.post_rank = text[keep][by], rank[keep][by]
         n_sid = int(self.sid.max()) + 1
-        self.post_count = np.bincount(post_sid, minlength=n_sid)
+        self.post_count = np.bincount(self.sid[keep], minlength=n_sid)
         self.post_start = np.cumsum(self.post_count) - self.post_count
 
     def similarity(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -209,11 +209,17 @@ class PrefixIndex:
         owner, at = _runs(self.post_start[s], c)
         a, b = q[qq][owner], self.post_text[at]
         work = len(a)
-        pair = _distinct_sorted(a[a != b] * self.n + b[a != b])
+        # positional filter: a shingle at rank i of a and j of b leaves room for at most
+        # 1 + min(|a| - i - 1, |b| - j - 1) shared shingles from there on; a pair is kept when
+        # some shared prefix shingle allows the overlap J >= t needs, t (|a| + |b|) / (1 + t)
+        # (exact: the first shared shingle lies in both prefixes and bounds the overlap)
+        i = (pos - self.first[q[qq]])[owner]
+        room = 1 + np.minimum(self.size[a] - i - 1, self.size[b] - self.post_rank[at] - 1)
+        need = np.ceil(self.threshold * (self.size[a] + self.size[b]) / (1 + self.threshold)
+                       - 1e-9)
+        ok = (a != b) & (room >= need)
+        pair = _distinct_sorted(a[ok] * self.n + b[ok])
         a, b = pair // self.n, pair % self.n
-        small, big = np.minimum(self.size[a], self.size[b]), np.maximum(self.size[a], self.size[b])
-        ok = small + 1e-9 >= self.threshold * big
-        a, b = a[ok], b[ok]
         sim = self.similarity(a, b)
         hit = sim + 1e-12 >= self.threshold
         return a[hit], b[hit], 1.0 - sim[hit], work
