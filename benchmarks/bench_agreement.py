@@ -4,8 +4,11 @@ Prints one JSON object. Run: PYTHONPATH=src .venv/bin/python benchmarks/bench_ag
 Options: --quick (smaller sizes for a smoke run), --sacrebleu-clips N (LOO reference subset).
 Timings are the best of several runs (one run for leave-one-out BLEU); the machine is shared,
 so ratios from the same run are the numbers to read.
-Goals (DESIGN.md): equal to 1e-9, never slower than the reference, leave-one-out BLEU >= 5x
-faster than sacrebleu, the label part of the report on 100k clips x 5 annotators < 1 s.
+Goals (docs/architecture.md, "Budgets"): equal to 1e-9, never slower than the reference,
+leave-one-out BLEU >= 5x faster than sacrebleu, the label part of the report on 100k clips x 5
+annotators < 1 s, Dawid-Skene on 50k clips x 5 annotators <= 0.5 x crowd-kit (same start, same
+stopping rule, so the same number of rounds), leave-one-out ROUGE-L and chrF beside rouge-score
+and sacrebleu doing the same caption by caption.
 """
 
 from __future__ import annotations
@@ -119,6 +122,83 @@ def bench_loo(n_clips: int, sacre_clips: int) -> dict:
             "overall_bleu": res.overall.score}
 
 
+def bench_dawid_skene(n_items: int, repeat: int) -> dict:
+    import pandas as pd
+    from crowdkit.aggregation import DawidSkene, OneCoinDawidSkene
+
+    from clipscribe.agreement import dawid_skene
+
+    rng = np.random.default_rng(5)
+    k, m = 6, 5
+    labels = np.array(["pick up", "put down", "stack", "pour", "wipe", "open"])
+    truth = rng.integers(0, k, n_items)
+    acc = np.array([0.9, 0.8, 0.7, 0.6, 0.75])
+    right = rng.random((m, n_items)) < acc[:, None]
+    codes = np.where(right, truth, rng.integers(0, k, (m, n_items)))
+    items = np.array([f"clip-{i}" for i in range(n_items)], dtype=object)
+    names = [f"annotator-{a + 1}" for a in range(m)]
+    rows = [(items[i], names[a], labels[codes[a, i]]) for a in range(m) for i in range(n_items)]
+    frame = pd.DataFrame(rows, columns=["task", "worker", "label"])
+    out = {"items": n_items, "annotators": m, "labels": k}
+    for model, cls in (("full", DawidSkene), ("one-coin", OneCoinDawidSkene)):
+        t_ours, ours = best_of(lambda: dawid_skene(rows, model=model), repeat)
+        t_ref, ref = best_of(lambda: cls(n_iter=100, tol=1e-5).fit(frame), repeat)
+        probas = ref.probas_.loc[ours.items, ours.label_order].to_numpy()
+        out[model] = {"ours_s": t_ours, "crowdkit_s": t_ref, "speedup": t_ref / t_ours,
+                      "goal_speedup": 2.0, "meets_goal": t_ref / t_ours >= 2.0,
+                      "rounds_ours": ours.iterations, "rounds_crowdkit": len(ref.loss_history_),
+                      "max_abs_diff_posterior": float(np.abs(probas - ours.posterior_matrix).max())}
+    return out
+
+
+def bench_overlap(n_clips: int, ref_clips: int) -> dict:
+    import sacrebleu
+    from rouge_score import rouge_scorer
+
+    from clipscribe.agreement import leave_one_out_chrf, leave_one_out_rouge_l
+
+    data = make_captions(n_clips, 5)
+    sub = dict(itertools.islice(data.items(), ref_clips))
+    scorer = rouge_scorer.RougeScorer(["rougeL"])
+
+    def by_annotator(d):
+        hyps, refs = {}, {}
+        for caps in d.values():
+            for a, t in caps:
+                others = [u for b, u in caps if b != a]
+                if others:
+                    hyps.setdefault(a, []).append(t)
+                    refs.setdefault(a, []).append(others)
+        return hyps, refs
+
+    def rouge_ref():
+        hyps, refs = by_annotator(sub)
+        return {a: float(np.mean([scorer.score_multi(r, h)["rougeL"].fmeasure
+                                  for h, r in zip(hyps[a], refs[a])])) for a in hyps}
+
+    def chrf_ref():
+        hyps, refs = by_annotator(sub)
+        out = {}
+        for a in hyps:
+            width = max(map(len, refs[a]))
+            streams = [[r[j] if j < len(r) else None for r in refs[a]] for j in range(width)]
+            out[a] = sacrebleu.metrics.CHRF().corpus_score(hyps[a], streams).score
+        return out
+
+    result = {"clips": n_clips, "captions_per_clip": 5, "reference_clips_timed": ref_clips,
+              "reference_extrapolated": ref_clips < n_clips}
+    for name, ours_fn, ref_fn, lib in (("rouge_l", leave_one_out_rouge_l, rouge_ref, "rouge_score"),
+                                       ("chrf", leave_one_out_chrf, chrf_ref, "sacrebleu")):
+        t_ours, _ = best_of(lambda: ours_fn(data), 1)
+        t_ref, ref = best_of(ref_fn, 1)
+        ours_sub = ours_fn(sub)
+        diff = max(abs(ours_sub.per_annotator[a] - v) for a, v in ref.items())
+        t_full = t_ref * n_clips / ref_clips
+        result[name] = {"ours_s": t_ours, f"{lib}_s": t_ref, f"{lib}_full_s": t_full,
+                        "speedup": t_full / t_ours, "abs_diff_per_annotator": diff}
+    return result
+
+
 def bench_report(n_clips: int, n_boot: int) -> dict:
     import krippendorff
     from sklearn.metrics import cohen_kappa_score
@@ -132,7 +212,8 @@ def bench_report(n_clips: int, n_boot: int) -> dict:
     codes = np.where(rng.random((5, n_clips)) < 0.7, truth, rng.integers(0, len(labels), (5, n_clips)))
     names = [f"annotator-{k}" for k in range(5)]
     rows = [(c, names[a], labels[codes[a, c]]) for a in range(5) for c in range(n_clips)]
-    t_ours, rep = best_of(lambda: agreement_report(rows, n_boot=n_boot), 3)
+    t_ours, rep = best_of(lambda: agreement_report(rows, n_boot=n_boot, reliability=False), 3)
+    t_rel, _ = best_of(lambda: agreement_report(rows, n_boot=n_boot), 1)
 
     def reference():
         alpha = krippendorff.alpha(reliability_data=codes.astype(float),
@@ -170,13 +251,15 @@ def bench_report(n_clips: int, n_boot: int) -> dict:
     t_point, _ = best_of(lambda: reference_same_work(0), 1)
     t_ten, _ = best_of(lambda: reference_same_work(10), 1)
     t_same = t_point + (t_ten - t_point) * n_boot / 10
-    t_one, _ = best_of(lambda: agreement_report(rows, n_boot=1), 3)
+    t_one, _ = best_of(lambda: agreement_report(rows, n_boot=1, reliability=False), 3)
     lab = rep.labels
     diff = max(abs(float(lab.alpha) - alpha), abs(float(lab.fleiss) - fleiss),
                *(abs(float(p.kappa) - k) for p, k in zip(lab.pairs, kappas)))
     t_text, _ = best_of(lambda: (rep.to_dict(), rep.to_text()), 1)
     return {"clips": n_clips, "annotators": 5, "n_boot": n_boot,
             "ours_label_part_s": t_ours,
+            "ours_with_reliability_s": t_rel,
+            "reliability_includes": "Dawid-Skene inferred labels and confusion (full model)",
             "ours_includes": "parse rows, alpha + 95% CI, per-label alpha + CI, Fleiss, "
                              "10 Cohen pairs + confusion, per-clip disagreement",
             "reference_s": t_ref,
@@ -201,15 +284,21 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--sacrebleu-clips", type=int, default=None)
+    ap.add_argument("--only", default=None, help="comma-separated parts to run, e.g. dawid_skene")
     args = ap.parse_args()
     q = args.quick
     n_loo = 2000 if q else 20_000
-    result = {
-        "fleiss": bench_fleiss(100_000 if q else 1_000_000, 7),
-        "krippendorff_alpha": bench_alpha(10_000 if q else 100_000, 7),
-        "leave_one_out_bleu": bench_loo(n_loo, args.sacrebleu_clips or n_loo),
-        "report_labels": bench_report(10_000 if q else 100_000, 1000),
+    parts = {
+        "fleiss": lambda: bench_fleiss(100_000 if q else 1_000_000, 7),
+        "krippendorff_alpha": lambda: bench_alpha(10_000 if q else 100_000, 7),
+        "leave_one_out_bleu": lambda: bench_loo(n_loo, args.sacrebleu_clips or n_loo),
+        "report_labels": lambda: bench_report(10_000 if q else 100_000, 1000),
+        "dawid_skene": lambda: bench_dawid_skene(5_000 if q else 50_000, 3),
+        "leave_one_out_rouge_chrf": lambda: bench_overlap(500 if q else 5_000,
+                                                          500 if q else 1_000),
     }
+    wanted = args.only.split(",") if args.only else list(parts)
+    result = {name: parts[name]() for name in wanted}
     print(json.dumps(result, indent=2))
 
 

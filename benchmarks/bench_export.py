@@ -1,6 +1,6 @@
 """Benchmark: split + every leakage check on 100k clips, against brute-force all-pairs search.
 
-Budget (DESIGN.md): split + all leakage checks on 100k clips < 10 s, fingerprints precomputed.
+Budget (docs/architecture.md, "Budgets"): split + all leakage checks on 100k clips < 10 s, fingerprints precomputed.
 Prints one JSON object. Invented data: 100k clips in 3,000 groups with 50 labels, random 64-bit
 fingerprints with planted near-duplicates, random sha256 with planted copies, two captions per
 clip with planted identical and near-identical ones.

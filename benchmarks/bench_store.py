@@ -1,7 +1,7 @@
 """Save one edit on SQLite: p50/p95 through the Project façade (own transaction, edit history,
 optimistic version) beside a bare sqlite3 INSERT + COMMIT on the same kind of file. Prints JSON.
 
-Budget (DESIGN.md): p95 < 10 ms per edit on SQLite.
+Budget (docs/architecture.md, "Budgets"): p95 < 10 ms per edit on SQLite.
 """
 
 from __future__ import annotations

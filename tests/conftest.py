@@ -1,37 +1,26 @@
-"""Suite-wide setup: Qt offscreen, caches and Qt settings in a throwaway home, never the
-user's; the sample project built once per run."""
+"""The one shared fixture module: Qt offscreen, caches and Qt settings in a throwaway home
+(never the user's), generated videos, the sample project (built once per run, copied per test)
+and workbench windows. Directory conftest files only add what their tests alone need."""
 
 import os
+import shutil
 import tempfile
-from pathlib import Path
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")  # before Qt is imported anywhere
 _HOME = tempfile.mkdtemp(prefix="clipscribe-tests-")
 os.environ["XDG_CACHE_HOME"] = os.path.join(_HOME, "cache")    # frame indexes, job results
 os.environ["XDG_CONFIG_HOME"] = os.path.join(_HOME, "config")  # QSettings of subprocesses
 
-import cv2  # noqa: E402
-import numpy as np  # noqa: E402
 import pytest  # noqa: E402
 from PySide6.QtCore import QSettings  # noqa: E402
+from videos import write_video  # noqa: E402
 
+from clipscribe import Project  # noqa: E402
 from clipscribe.sample import build_sample  # noqa: E402
 
 QSettings.setDefaultFormat(QSettings.Format.IniFormat)
 QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope,
                   os.path.join(_HOME, "config"))
-
-
-def write_video(path: Path, n: int = 12, size: tuple[int, int] = (64, 48), seed: int = 0) -> Path:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    out = cv2.VideoWriter(str(path), cv2.VideoWriter_fourcc(*"mp4v"), 10.0, size)
-    rng = np.random.default_rng(seed)
-    for i in range(n):
-        img = np.full((size[1], size[0], 3), (i * 20) % 255, np.uint8)
-        img[:8, :8] = rng.integers(0, 255, 3)
-        out.write(img)
-    out.release()
-    return path
 
 
 @pytest.fixture
@@ -45,6 +34,65 @@ def sample_build(tmp_path_factory):
     """(folder, build summary) of the sample project, built once; copy it before changing it."""
     folder = tmp_path_factory.mktemp("sample") / "project"
     return folder, build_sample(folder)
+
+
+@pytest.fixture(scope="session")
+def sample_master(sample_build):
+    """The sample project folder built for this run: copy it (``sample_copy``) to change it."""
+    return sample_build[0]
+
+
+@pytest.fixture(scope="session")
+def sample_lead(sample_build) -> str:
+    """The name of the sample project's lead (its local user)."""
+    return sample_build[1]["lead"]
+
+
+@pytest.fixture
+def sample_copy(sample_master, tmp_path):
+    """A fresh copy of the sample project folder for one test."""
+    dst = tmp_path / "project"
+    shutil.copytree(sample_master, dst)
+    return dst
+
+
+@pytest.fixture
+def settings(tmp_path):
+    """Window settings in a file of this test (never the user's)."""
+    s = QSettings(str(tmp_path / "workbench.ini"), QSettings.Format.IniFormat)
+    yield s
+    s.sync()
+
+
+@pytest.fixture
+def open_window(qtbot, settings):
+    """``open_window(folder, user, view="work", settings=…, opener=…)``: the workbench on a
+    project folder as ``user``, shown; every window and project is closed afterwards.
+    ``opener(folder, user)`` opens the project (default ``Project.open``); when it gives None
+    (a login was cancelled) so does ``open_window``: ``(None, None)``."""
+    from clipscribe.ui.app import application
+    from clipscribe.ui.workbench.main_window import MainWindow
+    made = []
+
+    def make(folder, user, *, opener=None, **kw):
+        application()
+        p = (opener or (lambda f, u: Project.open(f, user=u)))(folder, user)
+        if p is None:
+            return None, None
+        w = MainWindow(p, settings=kw.pop("settings", settings), **kw)
+        qtbot.addWidget(w)
+        w.show()
+        made.append((w, p))
+        return w, p
+
+    yield make
+    for w, p in made:
+        if w.isVisible():
+            # a test that failed with a caption conflict still open must not wait for an
+            # answer to the "settle conflicts" box at teardown: the run would hang, not fail
+            w.settle_conflicts = lambda: True
+            w.close()
+        p.close()
 
 
 @pytest.fixture(autouse=True)

@@ -42,6 +42,20 @@ class StaleWriteError(RecordError):
         self.current_value = current_value
 
 
+class GuidelineNotMet(RecordError):
+    """A clip submitted while its captions miss the caption guideline, without an override
+    (or with one where the lead made the guideline a block). Nothing was written.
+
+    ``missing`` lists what is missing, one plain-English line each; ``blocking`` is True when the
+    project refuses overrides (the lead's choice), False when an override is allowed.
+    """
+
+    def __init__(self, message: str, *, missing: tuple[str, ...] = (), blocking: bool = False) -> None:
+        super().__init__(message)
+        self.missing = tuple(missing)
+        self.blocking = blocking
+
+
 class ServerBusyError(ProjectError):
     """The database server gave up waiting: a lock held by another session, or a time limit."""
 
@@ -73,3 +87,12 @@ class NotALeadError(PermissionRefused):
 
 class DuplicateMediaWarning(UserWarning):
     """A clip was added whose file has the same SHA-256 as a clip already in the project."""
+
+
+class NotEnoughLabels(RecordError):
+    """Too few labelled clips to learn label suggestions from. ``have`` of ``need`` counts the
+    labelled clips toward the minimum; ``reason`` says what is missing, in words."""
+
+    def __init__(self, have: int, need: int, reason: str) -> None:
+        super().__init__(f"not enough labels yet: {have} of {need} ({reason})")
+        self.have, self.need, self.reason = have, need, reason

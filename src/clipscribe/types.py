@@ -10,9 +10,10 @@ from __future__ import annotations
 import datetime as dt
 import enum
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from .agreement._recipe import Recipe
+if TYPE_CHECKING:  # the agreement package (numpy) loads only where a recipe is made
+    from .agreement._recipe import Recipe
 
 #: how a clip reference may be given wherever the API takes a clip: its id, ``str(id)``, or the
 #: media path relative to the media root
@@ -156,6 +157,7 @@ class DisputedClip:
     labels: dict[str, str]
     gold_label: str | None
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+    unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
 
     @property
     def settled(self) -> bool:
@@ -185,6 +187,7 @@ class ClipComparison:
     comments: list[tuple[int, str | None, str, str]]
     scores: dict[str, float] = field(default_factory=dict)
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
+    unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
 
 
 @dataclass(frozen=True, slots=True)

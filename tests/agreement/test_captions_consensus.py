@@ -1,7 +1,9 @@
 """CIDEr-D and caption retrieval: hand-worked values and degenerate input."""
 
 import math
+from collections import Counter
 
+import numpy as np
 import pytest
 
 from clipscribe.agreement import caption_retrieval, cider_d
@@ -34,6 +36,49 @@ def test_cider_d_degenerate():
     alone = cider_d({"A": [("ann", "a b")], "B": ["c d e f", "c d e f"]})
     assert math.isnan(dict(((c, a), s) for c, a, s in alone.captions)[("A", "ann")])
     assert alone.per_annotator == {"#0": 10.0, "#1": 10.0}
+
+
+def _cider_by_the_formula(data, max_order):
+    """CIDEr-D written straight from the formula in cider_d's docstring (Vedantam et al. 2015,
+    with idf over all clips), one caption pair at a time: the oracle for the vectorised code."""
+    caps = [(c, a, t.split()) for c, items in data.items() for a, t in items]
+    grams = [Counter(tuple(w[i:i + n]) for n in range(1, max_order + 1)
+                     for i in range(len(w) - n + 1)) for _, _, w in caps]
+    df = Counter(g for c in data for g in set().union(*[grams[i] for i, x in enumerate(caps) if x[0] == c]))
+    idf = {g: math.log(len(data)) - math.log(max(1, d)) for g, d in df.items()}
+    vec = [{g: k * idf[g] for g, k in cnt.items()} for cnt in grams]
+
+    def norm(v, n):
+        return math.sqrt(sum(x * x for g, x in v.items() if len(g) == n))
+
+    out = []
+    for i, (c, a, w) in enumerate(caps):
+        refs = [j for j, (c2, a2, _) in enumerate(caps) if c2 == c and a2 != a]
+        sims = []
+        for j in refs:
+            pen = math.exp(-((len(w) - len(caps[j][2])) ** 2) / 72.0)
+            sim = 0.0
+            for n in range(1, max_order + 1):
+                nh, nr = norm(vec[i], n), norm(vec[j], n)
+                if nh and nr:
+                    dot = sum(min(x, vec[j][g]) * vec[j][g] for g, x in vec[i].items()
+                              if len(g) == n and g in vec[j])
+                    sim += dot / (nh * nr) * pen
+            sims.append(sim / max_order)
+        out.append(10 * sum(sims) / len(sims) if sims else math.nan)
+    return out
+
+
+@pytest.mark.parametrize("max_order", [1, 4])
+def test_cider_d_equals_the_formula_pair_by_pair(max_order):
+    rng = np.random.default_rng(max_order)
+    words = "a b c d the arm lifts red block".split()
+    for _ in range(60):
+        data = {f"c{c}": [(f"ann{rng.integers(0, 3)}", " ".join(rng.choice(words, rng.integers(0, 8))))
+                          for _ in range(rng.integers(0, 5))] for c in range(rng.integers(1, 5))}
+        got = [s for *_, s in cider_d(data, max_order=max_order, tokenize="none").captions]
+        assert np.allclose(got, _cider_by_the_formula(data, max_order), rtol=1e-12, atol=1e-12,
+                           equal_nan=True), data
 
 
 def test_retrieval_specific_captions_rank_first():

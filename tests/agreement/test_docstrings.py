@@ -5,7 +5,8 @@ import importlib
 
 import pytest
 
-MODULES = ["alpha", "bleu", "captions", "interpret", "labels"]
+MODULES = ["alpha", "bleu", "captions", "chrf", "interpret", "labels", "proportion", "rouge",
+           "truth"]
 
 
 @pytest.mark.parametrize("name", MODULES)

@@ -1,6 +1,5 @@
 from __future__ import annotations
 
-import shutil
 from pathlib import Path
 
 import pytest
@@ -20,15 +19,3 @@ def project(tmp_path: Path, make_video):
         rep = p.add_media(p.media_root, group_pattern=r"^(?P<group>[^/]+)/")
         assert len(rep.added) == 3
         yield p
-
-
-@pytest.fixture(scope="session")
-def sample_dir(sample_build) -> Path:
-    return sample_build[0]
-
-
-@pytest.fixture
-def sample_copy(sample_dir: Path, tmp_path: Path) -> Path:
-    d = tmp_path / "sample"
-    shutil.copytree(sample_dir, d)
-    return d

@@ -1,4 +1,4 @@
-"""The scripting API exactly as documented in DESIGN.md 'Contracts'."""
+"""The scripting API exactly as documented (README, "Scripting"; docs/architecture.md)."""
 
 from __future__ import annotations
 
@@ -107,6 +107,19 @@ def test_undo_redo_from_history(project):
     assert project.captions(clip=1) == [(1, "ann-a", "The arm pushes a block.")]
     actions = [(e.action, e.entity) for e in project.history(clip=1)]
     assert ("undo", "caption") in actions and ("delete", "caption") in actions
+
+
+@pytest.mark.parametrize("text", ["2024-05-01T10:00:00", "2024-05-01T10:00:00+00:00"])
+def test_undo_keeps_text_that_looks_like_a_time(project, text):
+    """Regression: undo decoded every ISO-looking string as a time, so a caption whose text was
+    a timestamp came back as ``2024-05-01 10:00:00``; values now decode by column type."""
+    cap = project.add_caption(1, "ann-a", text)
+    project.update_caption(cap, text="Edited.")
+    project.revert(project.last_edit_ids)
+    assert project.captions(clip=1) == [(1, "ann-a", text)]
+    project.delete_caption(cap)
+    project.revert(project.last_edit_ids)  # the row comes back from its history copy
+    assert project.captions(clip=1) == [(1, "ann-a", text)]
 
 
 def test_split_and_merge(project):

@@ -47,7 +47,7 @@ def test_errors_are_one_line_and_nonzero(run, tmp_path):
     assert run("frobnicate")[0] == 2
 
 
-def test_new_labels_import_dump_stats(run, tmp_path, sample_dir):
+def test_new_labels_import_dump_stats(run, tmp_path, sample_master):
     d = tmp_path / "p"
     assert run("new", d, "--name", "demo")[0] == 0
     assert run("labels", d, "pick up", "push")[0] == 0
@@ -56,10 +56,10 @@ def test_new_labels_import_dump_stats(run, tmp_path, sample_dir):
     bad.write_text('{"type": "label", "clip": "1", "annotator": "ann-a", "label": "push"}\n')
     rc, _, err = run("import", d, bad)
     assert rc == 1 and "no such clip" in err and "Traceback" not in err
-    rc, out, _ = run("stats", sample_dir, "--json")
+    rc, out, _ = run("stats", sample_master, "--json")
     assert rc == 0 and json.loads(out)["clips"] == 12
     out = tmp_path / "all.jsonl"
-    assert run("dump", sample_dir, out)[0] == 0 and out.stat().st_size > 0
+    assert run("dump", sample_master, out)[0] == 0 and out.stat().st_size > 0
     rc, out, _ = run("add-media", d)
     assert rc == 0 and "added 0 clip(s)" in out
 
@@ -142,14 +142,14 @@ def test_the_command_line_loads_nothing_heavy_before_a_command_needs_it():
     assert out.stdout.strip() == "[]"
 
 
-def test_the_installed_command_is_the_cli_main(sample_dir):
+def test_the_installed_command_is_the_cli_main(sample_master):
     (script,) = entry_points(group="console_scripts", name="clipscribe")
     assert script.value == "clipscribe.cli:main"
     exe = Path(sys.executable).with_name("clipscribe")
     if not exe.is_file():
         pytest.skip("the clipscribe command is not installed beside this interpreter")
     env = {k: v for k, v in os.environ.items() if k != "CLIPSCRIBE_DEBUG"}
-    r = subprocess.run([str(exe), "stats", str(sample_dir), "--json"], capture_output=True,
+    r = subprocess.run([str(exe), "stats", str(sample_master), "--json"], capture_output=True,
                        text=True, timeout=120, env=env)
     assert r.returncode == 0, r.stderr
     assert json.loads(r.stdout)["clips"] == 12

@@ -14,14 +14,13 @@ def _records(folder):
             [c.sha256 for c in p.clips()]
 
 
-def test_sample_is_deterministic_and_fast(sample_dir, tmp_path):
-    out = build_sample(tmp_path / "again")
-    assert out["seconds"] < 30
-    assert _records(sample_dir)[:3] == _records(tmp_path / "again")[:3]
+def test_sample_is_deterministic(sample_master, tmp_path):
+    build_sample(tmp_path / "again")
+    assert _records(sample_master)[:3] == _records(tmp_path / "again")[:3]
 
 
-def test_sample_shape(sample_dir):
-    with Project.open(sample_dir) as p:
+def test_sample_shape(sample_master):
+    with Project.open(sample_master) as p:
         clips = p.clips()
         assert len(clips) == 12 and len({c.group for c in clips}) == 4
         assert all(c.consent and c.licence for c in clips)

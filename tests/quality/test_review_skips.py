@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import shutil
-
 import pytest
 from PySide6.QtCore import QSettings, Qt
 
@@ -11,10 +9,9 @@ from clipscribe import Project
 
 
 @pytest.fixture
-def skipped(sample_build, tmp_path):
+def skipped(sample_copy):
     """A copy of the sample where annotator-2 clicked "put down" on clip 3, then skipped it."""
-    folder = tmp_path / "project"
-    shutil.copytree(sample_build[0], folder)
+    folder = sample_copy
     with Project.open(folder) as p:
         assert ("put down" == dict((a, lab) for _, a, lab in p.clip_labels(clip=3))["annotator-2"])
         p.set_clip_state(3, "annotator-2", "skipped", "hands hidden behind the shelf")

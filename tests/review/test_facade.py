@@ -56,23 +56,35 @@ def test_clip_comparison_has_everyone_and_no_lead(sample):
         assert cmp.gold_label is None and cmp.gold_segments == [] and cmp.gold_captions == []
 
 
-def test_throughput_matches_a_hand_count_of_the_history(sample):
-    folder, lead = sample
-    with Project.open(folder, user=lead) as p:
+def test_throughput_of_a_history_with_known_times(tmp_path, make_video):
+    """Edits at chosen times, worked out by hand from the documented rule (pauses longer than
+    IDLE_SECONDS = 300 s count as 300 s): ann-a edits clip 1 at 0 s and 40 s, clip 2 at 100 s
+    and clip 3 an hour later, so 3 clips in 40 + 60 + 300 = 400 s, 27 clips per hour; ann-b
+    edits clip 1 at 0 s and clip 2 at 30 s: 2 clips in 30 s, 240 per hour; ann-c did nothing."""
+    import datetime as dt
+    start = dt.datetime(2026, 3, 2, 9, 0, tzinfo=dt.timezone.utc)
+    with Project.create(tmp_path / "p", user="lead") as p:
+        p.define_labels(["stack", "sort"])
+        for name in ("ann-a", "ann-b", "ann-c"):
+            p.add_annotator(name)
+        for i in range(3):
+            make_video(p.media_root / f"c{i}.mp4", seed=i)
+        p.add_media(p.media_root)
+        steps = [(0, lambda: p.set_clip_label(1, "ann-a", "stack")),
+                 (40, lambda: p.add_caption(1, "ann-a", "Two blocks are stacked.")),
+                 (100, lambda: p.set_clip_label(2, "ann-a", "sort")),
+                 (3700, lambda: p.set_clip_label(3, "ann-a", "sort")),
+                 (0, lambda: p.set_clip_label(1, "ann-b", "stack")),
+                 (30, lambda: p.set_clip_label(2, "ann-b", "stack"))]
+        for seconds, step in steps:
+            with Project.simulated_clock(lambda s=seconds: start + dt.timedelta(seconds=s)):
+                step()
         got = p.throughput()
-        ids = {a.id: a.name for a in p.annotators()}
-        # recomputed here from the raw history with the documented rule
-        for name, t in got.items():
-            ev = sorted((e.at, e.clip) for e in p.history()
-                        if e.clip is not None and e.entity in ("clip_label", "segment", "caption",
-                                                               "assignment")
-                        and ids.get((e.after or e.before or {}).get("annotator_id")) == name)
-            active = sum(min((b[0] - a[0]).total_seconds(), IDLE_SECONDS)
-                         for a, b in zip(ev, ev[1:]))
-            assert t.clips == len({c for _, c in ev}) > 0
-            assert t.active_seconds == pytest.approx(active)
-            assert t.clips_per_hour == pytest.approx(3600 * t.clips / active)
-            assert t.recipe.metric == "throughput"
+    assert IDLE_SECONDS == 300
+    assert (got["ann-a"].clips, got["ann-a"].active_seconds, got["ann-a"].clips_per_hour) == (3, 400, 27)
+    assert (got["ann-b"].clips, got["ann-b"].active_seconds, got["ann-b"].clips_per_hour) == (2, 30, 240)
+    assert got["ann-c"].clips == 0 and math.isnan(got["ann-c"].clips_per_hour)
+    assert got["ann-a"].recipe.metric == "throughput"
 
 
 def test_trend_windows_agree_with_the_krippendorff_package(sample):

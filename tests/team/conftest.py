@@ -7,9 +7,8 @@ import os
 import uuid
 from pathlib import Path
 
-import cv2
-import numpy as np
 import pytest
+from videos import write_video
 
 from clipscribe import Project
 
@@ -20,13 +19,7 @@ HERE = Path(__file__).parent
 
 def write_clip(path: Path, seed: int, frames: int = 12) -> Path:
     """A small MJPEG clip whose pixels depend on ``seed`` (so every file differs)."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    w = cv2.VideoWriter(str(path), cv2.VideoWriter_fourcc(*"MJPG"), 10.0, (32, 24))
-    rng = np.random.default_rng(seed)
-    for _ in range(frames):
-        w.write(rng.integers(0, 255, (24, 32, 3), dtype=np.uint8))
-    w.release()
-    return path
+    return write_video(path, frames, (32, 24), seed, codec="MJPG", noise=True)
 
 
 def connect_as(p: Project, login: str, password: str):

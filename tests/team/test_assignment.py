@@ -122,7 +122,9 @@ def _pull_in_processes(folder: Path, people: list[tuple[str, str]]) -> dict[int,
              for u, pw in people}
     got = collections.defaultdict(list)
     for u, proc in procs.items():
-        out, err = proc.communicate(timeout=120)
+        # a guard against a hang, not a speed goal: four processes share two cores with the
+        # rest of the suite, so allow far more than the few seconds a pull loop takes
+        out, err = proc.communicate(timeout=600)
         assert proc.returncode == 0, err[-2000:]
         for line in out.split():
             got[int(line)].append(u)

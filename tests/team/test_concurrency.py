@@ -66,6 +66,7 @@ def _check_nothing_lost(p: Project, acks: dict[str, list[str]], n: int) -> None:
 
 
 @pytest.mark.postgres
+@pytest.mark.slow  # ~3 minutes; `make test` (and so CI) still runs it
 def test_eight_logins_five_hundred_edits_each(server_project, pg, uid):
     p = server_project
     add_clips(p, 10)

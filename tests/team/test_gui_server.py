@@ -19,31 +19,16 @@ TEXT = "a hand lifts the cup off the table"
 
 
 @pytest.fixture
-def gui(qtbot, tmp_path, monkeypatch):
+def gui(open_window, tmp_path, monkeypatch):
     """Open the workbench as someone, logging in through ``ask``; closes it afterwards."""
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "cache"))  # thumbnails, motion curves
     monkeypatch.delenv("CLIPSCRIBE_PASSWORD", raising=False)
-    from clipscribe.ui.app import application
     from clipscribe.ui.dialogs.login import open_project
-    from clipscribe.ui.workbench.main_window import MainWindow
-    made = []
 
     def make(folder, user, ask):
-        application()
-        p = open_project(folder, user=user, ask=ask)
-        if p is None:
-            return None, None
-        w = MainWindow(p, settings=QSettings(str(tmp_path / f"{user}.ini"),
-                                             QSettings.Format.IniFormat))
-        qtbot.addWidget(w)
-        w.show()
-        made.append((w, p))
-        return w, p
-
-    yield make
-    for w, p in made:
-        w.close()
-        p.close()
+        return open_window(folder, user, opener=lambda f, u: open_project(f, user=u, ask=ask),
+                           settings=QSettings(str(tmp_path / f"{user}.ini"), QSettings.Format.IniFormat))
+    return make
 
 
 @pytest.fixture

@@ -20,7 +20,7 @@ def _theirs(folder, clip, who="annotator-2"):
 def test_blind_off_shows_others_read_only(qtbot, sample, open_window, tmp_path):
     label, texts, segs = _theirs(sample, CLIP)
     assert label and texts and segs  # the sample gives annotator-2 work on this clip
-    with Project.open(sample, user="annotator-1") as p:
+    with Project.open(sample) as p:  # the sample's lead: settings are a lead's to change
         p.update_settings(blind=False)
     w, p = open_window(sample, "annotator-1")
     assert not p.blind_mode()

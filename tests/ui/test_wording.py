@@ -4,6 +4,7 @@ import shutil
 
 from PySide6.QtCore import Qt
 
+from clipscribe import Project
 from clipscribe.cli import main
 
 from .test_editing import ready
@@ -15,7 +16,8 @@ def test_stats_and_the_workbench_both_call_an_untouched_clip_open(qtbot, sample,
     copy = sample / "media" / "fresh" / "take-99.mp4"
     copy.parent.mkdir()
     shutil.copyfile(sample / "media" / p.clip(1).path, copy)
-    p.add_clip(copy, group="fresh")                           # nobody has started it
+    with Project.open(sample) as lead:                        # adding clips is a lead's job
+        lead.add_clip(copy, group="fresh")                    # nobody has started it
     w.queue_model.reload()
     by_state = p.stats()["clips_by_state"]
     assert "new" not in by_state and by_state["open"] == 1

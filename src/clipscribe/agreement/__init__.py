@@ -15,14 +15,20 @@ from .alpha import bootstrap_alpha, krippendorff_alpha, per_label_alpha
 from .bleu import BleuScore, corpus_bleu, sentence_bleu
 from .bootstrap import Interval, bootstrap_intervals
 from .captions import tokenize_13a
+from .chrf import ChrfScore, corpus_chrf
 from .cider import CiderResult, cider_d
 from .interpret import band as interpret
 from .labels import (cohen_kappa, confusion_matrix, fleiss_kappa, observed_agreement,
                      pairwise_kappa)
 from .loo import LooBleu, leave_one_out_bleu
+from .loo_overlap import LooOverlap, leave_one_out_chrf, leave_one_out_rouge_l
+from .reliability import CheckResult, ReliabilitySummary, reliability_summary
+from .proportion import Proportion, proportion, wilson_interval
 from .report import AgreementReport, agreement_report
 from .retrieval import RetrievalResult, caption_retrieval
+from .rouge import RougeScore, rouge_l
 from .segments import frame_agreement, match_segments, segment_matching, temporal_iou
+from .truth import InferredLabels, dawid_skene
 
 __all__ = [
     "AgreementReport", "BleuScore", "bootstrap_alpha", "pairwise_kappa", "per_label_alpha", "CiderResult", "Interval", "LooBleu", "Recipe",
@@ -30,4 +36,7 @@ __all__ = [
     "cider_d", "cohen_kappa", "confusion_matrix", "corpus_bleu", "fleiss_kappa",
     "frame_agreement", "interpret", "krippendorff_alpha", "leave_one_out_bleu", "match_segments",
     "observed_agreement", "segment_matching", "sentence_bleu", "temporal_iou", "tokenize_13a",
+    "ChrfScore", "InferredLabels", "LooOverlap", "Proportion", "RougeScore", "corpus_chrf",
+    "dawid_skene", "leave_one_out_chrf", "leave_one_out_rouge_l", "proportion", "rouge_l",
+    "wilson_interval", "CheckResult", "ReliabilitySummary", "reliability_summary",
 ]

@@ -11,9 +11,16 @@ def _n(x, digits: int = 3) -> str:
     return "-" if x is None or (isinstance(x, float) and math.isnan(x)) else f"{x:.{digits}f}"
 
 
+def _not_measured(report, part: str, title: str) -> list[str]:
+    """The heading of a part that was not measured, and why (in its place)."""
+    why = report.not_measured.get(part)
+    return ["", title, f"  not measured: {why}"] if why else []
+
+
 def render(report, *, top: int = 10) -> str:
     out = [f"Agreement report  ({report.recipe.text()})", ""]
     lab = report.labels
+    out += _not_measured(report, "labels", "Labels")[1:]
     if lab is not None:
         a = lab.alpha
         out.append(f"Labels: {len(lab.clips)} clips, {len(lab.annotators)} annotators, "
@@ -35,6 +42,7 @@ def render(report, *, top: int = 10) -> str:
         for k, (s, ci) in lab.per_label.items():
             out.append(f"  {str(k):<24.24}{_n(s):>8}{'[' + _n(ci.low) + ', ' + _n(ci.high) + ']':>20}")
     seg = report.segments
+    out += _not_measured(report, "segments", "Segments")
     if seg is not None:
         out += ["", "Segments"]
         if seg.frame_alpha is not None:
@@ -48,6 +56,7 @@ def render(report, *, top: int = 10) -> str:
                        f"{_n(p.boundary_offset_frames, 1):>10}"
                        f"{_n(p.boundary_offset_seconds, 2):>10}")
     cap = report.captions
+    out += _not_measured(report, "captions", "Captions")
     if cap is not None:
         b = cap.bleu.overall
         out += ["", "Captions",
@@ -61,10 +70,18 @@ def render(report, *, top: int = 10) -> str:
             out.append(f"  {name:<20.20} BLEU-1..4 "
                        f"{' '.join(f'{_n(x, 2):>6}' for x in s.cumulative)}  CIDEr-D "
                        f"{_n(cap.cider.per_annotator.get(name, float('nan'))):>6}")
+        for m, name in ((cap.rouge_l, "ROUGE-L F (0-1)"), (cap.chrf, "chrF (0-100)")):
+            if m is not None:
+                per = "  ".join(f"{a} {_n(v, 3 if m.metric == 'rouge-l' else 1)}"
+                                for a, v in m.per_annotator.items())
+                out.append(f"  leave-one-out {name}: "
+                           f"{_n(m.overall, 3 if m.metric == 'rouge-l' else 1)}  ({per})")
+                out.append(f"    recipe: {m.recipe.text()}")
         flagged = cap.bleu.flagged
         out.append(f"  flagged for review: {len(flagged)}")
         for c in flagged[:top]:
             out.append(f"    {str(c.clip):<12.12} {c.annotator:<14.14} {c.reason}")
+    out += _reliability(report.reliability)
     queue = report.review_queue(top)
     if queue:
         out += ["", f"Review queue (worst {len(queue)})",
@@ -74,3 +91,33 @@ def render(report, *, top: int = 10) -> str:
                        f"{_n(c.segment_f1, 2):>8}{_n(c.caption_bleu, 1):>10}")
     out += ["", f"Bands: {CITATION}"]
     return "\n".join(out)
+
+
+def _reliability(rel) -> list[str]:
+    if rel is None:
+        return []
+    out = ["", "Annotator reliability"]
+    inf = rel.inferred
+    if inf is None:
+        out.append(f"  inferred labels: not computed ({rel.inferred_reason})")
+    else:
+        cats = [str(c) for c in inf.label_order]
+        out.append(f"  inferred labels (Dawid-Skene, {inf.recipe.option('model')}): "
+                   f"{len(inf.items)} clips, {inf.iterations} rounds"
+                   f"{'' if inf.converged else ', not converged'}; recipe {inf.recipe.text()}")
+        for a, acc in inf.accuracy.items():
+            worst = max(((t, g, p) for t, row in inf.confusion[a].items()
+                         for g, p in row.items() if g != t), key=lambda x: x[2], default=None)
+            note = (f"; most often calls “{worst[0]}” “{worst[1]}” ({worst[2]:.0%})"
+                    if worst and worst[2] >= 0.2 else "")
+            out.append(f"    {a:<20.20} estimated accuracy {_n(acc)}{note}")
+        out.append(f"    confusion rows: true label; columns: {', '.join(cats)}")
+    if rel.checks:
+        out.append(f"  check clips ({rel.n_check_clips} with a known answer):")
+        for c in rel.checks:
+            acc = c.accuracy
+            out.append(f"    {c.annotator:<20.20} accuracy {_n(acc.value)} "
+                       f"[{_n(acc.low)}, {_n(acc.high)}] on {acc.trials}  kappa {_n(c.kappa)}")
+    else:
+        out.append(f"  check clips: {rel.checks_reason}")
+    return out

@@ -18,9 +18,6 @@ from .captions import ngram_counts, tokenizer
 _LOG_ZERO = -9999999999.0  # log of a zero precision: drives the geometric mean to 0
 SMOOTH_DEFAULT = {"floor": 0.1, "add-k": 1.0}
 
-PAPINENI_2002 = ("Papineni, K., Roukos, S., Ward, T. & Zhu, W.-J. (2002). BLEU: a method for "
-                 "automatic evaluation of machine translation. ACL 2002, 311-318. "
-                 "doi:10.3115/1073083.1073135")
 
 
 @dataclass(frozen=True)

@@ -9,6 +9,8 @@ tests check it token for token against sacrebleu's. ``"none"`` splits on whitesp
 
 from __future__ import annotations
 
+import functools
+
 import re
 from collections import Counter
 from dataclasses import dataclass
@@ -121,3 +123,12 @@ def ngram_index(token_lists: Sequence[Sequence[str]], max_order: int) -> NgramIn
         pair, cnt = np.unique(doc[valid] * n_keys + dense, return_counts=True)
         orders.append(NgramOrder(pair // n_keys, pair % n_keys, cnt.astype(np.int64), n_keys))
     return NgramIndex(lengths, tuple(orders), vocab)
+
+
+@functools.lru_cache(maxsize=1)
+def corpus_index(texts: tuple[str, ...], tokenize: str, max_order: int) -> NgramIndex:
+    """The :class:`NgramIndex` of ``texts`` tokenized by ``tokenize``. The last corpus is
+    kept, so the caption metrics of one report (leave-one-out BLEU, CIDEr-D) tokenize and count
+    each caption once between them; the texts themselves are the key, so it is never stale."""
+    tok = tokenizer(tokenize)
+    return ngram_index([tok(t) for t in texts], max_order)

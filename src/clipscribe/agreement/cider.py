@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-from collections import Counter
 from dataclasses import dataclass, field
 from typing import Any, Mapping, Sequence
 
@@ -11,7 +10,7 @@ import numpy as np
 
 from . import _checks
 from ._recipe import Recipe
-from .captions import ngram_counts, tokenizer
+from .captions import NgramIndex, corpus_index, tokenizer
 from .loo import _flatten
 
 
@@ -30,14 +29,6 @@ class CiderResult:
         return {"overall": f(self.overall),
                 "per_annotator": {k: f(v) for k, v in self.per_annotator.items()},
                 "recipe": self.recipe.to_dict()}
-
-
-def _vectors(counts: Counter, idf: Mapping, max_order: int):
-    vec = [dict() for _ in range(max_order)]
-    for g, c in counts.items():
-        vec[len(g) - 1][g] = c * idf[g]
-    norms = [math.sqrt(sum(v * v for v in d.values())) for d in vec]
-    return vec, norms
 
 
 def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4,
@@ -72,26 +63,12 @@ def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4
     max_order = _checks.positive_int("max_order", max_order)
     sigma = _checks.finite_number("sigma", sigma, minimum=1e-9)
     scale = _checks.finite_number("scale", scale)
-    tok = tokenizer(tokenize)
+    tokenizer(tokenize)  # checks the name
     clip, authors, texts, clip_keys = _flatten(captions_by_clip)
-    tokens = [tok(t) for t in texts]
-    counts = [ngram_counts(t, max_order) for t in tokens]
-    df: Counter = Counter()
-    members: dict[int, list[int]] = {}
-    for i, c in enumerate(clip.tolist()):
-        members.setdefault(c, []).append(i)
-    for idx in members.values():
-        df.update(set().union(*(counts[i].keys() for i in idx)))
-    log_n = math.log(max(len(clip_keys), 1))
-    idf = {g: log_n - math.log(max(1.0, d)) for g, d in df.items()}
-    vecs = [_vectors(c, idf, max_order) for c in counts]
-    scores = np.full(len(texts), np.nan)
-    for idx in members.values():
-        for i in idx:
-            refs = [j for j in idx if authors[j] != authors[i]]
-            if refs:
-                scores[i] = scale * np.mean([_sim(vecs[i], vecs[j], len(tokens[i]),
-                                                  len(tokens[j]), sigma) for j in refs])
+    index = corpus_index(tuple(texts), tokenize, max_order)
+    names = {a: i for i, a in enumerate(sorted(set(authors)))}
+    author = np.fromiter((names[a] for a in authors), dtype=np.int64, count=len(authors))
+    scores = _scores(index, clip, author, len(clip_keys), max_order, sigma, scale)
     by_ann: dict[str, list[float]] = {}
     by_clip: dict[Any, list[float]] = {}
     for i, s in enumerate(scores):
@@ -109,13 +86,46 @@ def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4
                         for i in range(len(texts))], recipe)
 
 
-def _sim(h, r, len_h: int, len_r: int, sigma: float) -> float:
-    (vh, nh), (vr, nr) = h, r
-    penalty = math.exp(-((len_h - len_r) ** 2) / (2.0 * sigma * sigma))
-    total = 0.0
-    for n in range(len(vh)):
-        if nh[n] == 0.0 or nr[n] == 0.0:
+def _scores(index: NgramIndex, clip: np.ndarray, author: np.ndarray, n_clips: int,
+            max_order: int, sigma: float, scale: float) -> np.ndarray:
+    """Per caption CIDEr-D (NaN without a reference), from the n-gram index.
+
+    Vectorised with numpy rather than dictionaries per caption: for each order, the TF-IDF
+    entries of captions of one clip that share an n-gram are paired by a sort on
+    (clip, n-gram), so the work grows with the captions per clip squared, never with the
+    number of clips squared."""
+    n_docs = len(clip)
+    log_n = math.log(max(n_clips, 1))
+    # references of each caption: the captions of its clip by another annotator
+    _, which, own = np.unique(clip * (author.max(initial=0) + 1) + author, return_inverse=True,
+                              return_counts=True)
+    refs = np.bincount(clip, minlength=n_clips)[clip] - own[which]
+    length = index.lengths
+    total = np.zeros(n_docs)
+    for order in index.orders:
+        if not len(order.doc):
             continue
-        dot = sum(min(v, vr[n][g]) * vr[n][g] for g, v in vh[n].items() if g in vr[n])
-        total += dot / (nh[n] * nr[n]) * penalty
-    return total / len(vh)
+        # entries of one clip sharing an n-gram, side by side: sort by (clip, n-gram)
+        group = clip[order.doc] * order.n_keys + order.key
+        sort = np.argsort(group, kind="stable")
+        g, doc = group[sort], order.doc[sort]
+        starts = np.flatnonzero(np.r_[True, g[1:] != g[:-1]])
+        sizes = np.diff(np.r_[starts, len(g)])
+        # document frequency: the clips whose captions hold the n-gram (one group each)
+        df = np.bincount(g[starts] % order.n_keys, minlength=order.n_keys)
+        idf = log_n - np.log(np.maximum(df, 1.0))
+        value = order.count[sort] * idf[g % order.n_keys]
+        norm = np.sqrt(np.bincount(doc, weights=value * value, minlength=n_docs))
+        # every ordered pair of entries within a group
+        size_of = np.repeat(sizes, sizes)
+        left = np.repeat(np.arange(len(g)), size_of)
+        offset = np.arange(len(left)) - np.repeat(np.cumsum(size_of) - size_of, size_of)
+        right = np.repeat(np.repeat(starts, sizes), size_of) + offset
+        a, b = doc[left], doc[right]
+        keep = (author[a] != author[b]) & (norm[a] > 0) & (norm[b] > 0)
+        a, b, left, right = a[keep], b[keep], left[keep], right[keep]
+        penalty = np.exp(-((length[a] - length[b]) ** 2) / (2.0 * sigma * sigma))
+        term = np.minimum(value[left], value[right]) * value[right] / (norm[a] * norm[b])
+        total += np.bincount(a, weights=penalty * term / max_order, minlength=n_docs)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(refs > 0, scale * total / np.maximum(refs, 1), np.nan)

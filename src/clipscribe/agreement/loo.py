@@ -17,7 +17,7 @@ import numpy as np
 from . import _checks
 from ._recipe import Recipe
 from .bleu import BleuScore, _score_from_sums, bleu_from_stats
-from .captions import ngram_index, tokenizer
+from .captions import NgramIndex, corpus_index, tokenizer
 
 FLAG_RULE = ("a caption is flagged when its leave-one-out sentence BLEU is more than `margin` "
              "points below the median of its clip's captions (clips with >= 3 scored captions), "
@@ -79,10 +79,9 @@ def _flatten(captions_by_clip: Mapping[Any, Sequence[Any]]):
     return np.asarray(clips, dtype=np.int64), authors, texts, clip_keys
 
 
-def loo_stats(clip: np.ndarray, author: np.ndarray, token_lists, max_order: int):
+def loo_stats(clip: np.ndarray, author: np.ndarray, index: NgramIndex, max_order: int):
     """Per caption: hyp_len, ref_len, matches (n, N), totals (n, N), has_refs (n,)."""
-    n_docs = len(token_lists)
-    index = ngram_index(token_lists, max_order)
+    n_docs = len(index.lengths)
     lengths = index.lengths
     correct = np.zeros((n_docs, max_order), dtype=np.int64)
     for n, o in enumerate(index.orders):
@@ -177,13 +176,13 @@ def leave_one_out_bleu(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_ord
     margin = _checks.finite_number("margin", margin, minimum=0.0)
     _checks.choice("smooth", smooth, _checks.SMOOTHING)
     _checks.choice("sentence_smooth", sentence_smooth, _checks.SMOOTHING)
-    tok = tokenizer(tokenize)
+    tokenizer(tokenize)  # checks the name
     clip, authors, texts, clip_keys = _flatten(captions_by_clip)
     names = sorted(set(authors))
     aid = {a: i for i, a in enumerate(names)}
     author = np.fromiter((aid[a] for a in authors), dtype=np.int64, count=len(authors))
-    tokens = [tok(t) for t in texts]
-    hl, rl, correct, total, has = loo_stats(clip, author, tokens, max_order)
+    index = corpus_index(tuple(texts), tokenize, max_order)
+    hl, rl, correct, total, has = loo_stats(clip, author, index, max_order)
     if not has.any():
         raise ValueError("no caption has a caption by another annotator on its clip: "
                          "leave-one-out BLEU is undefined")
@@ -205,7 +204,7 @@ def leave_one_out_bleu(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_ord
         if sel.any():
             per[name] = _score_from_sums(stats[sel].sum(axis=0), max_order, smooth, None, False,
                                          recipe("leave-one-out", int(sel.sum()), [name]))
-    caps = _flag(clip, clip_keys, authors, texts, tokens, sent, margin)
+    caps = _flag(clip, clip_keys, authors, texts, index.lengths, sent, margin)
     rec = recipe("leave-one-out", len(texts), names).replace(
         options={"order": max_order, "tok": tokenize, "smooth": smooth or "none",
                  "sentence_smooth": sentence_smooth or "none", "margin": margin})
@@ -230,14 +229,14 @@ def _clip_medians(clip: np.ndarray, sent: np.ndarray) -> tuple[np.ndarray, np.nd
     return out_med, out_k
 
 
-def _flag(clip, clip_keys, authors, texts, tokens, sent, margin) -> list[CaptionScore]:
+def _flag(clip, clip_keys, authors, texts, lengths, sent, margin) -> list[CaptionScore]:
     median, scored = _clip_medians(clip, sent)
     low = (scored >= 3) & (sent < median - margin)
     out = []
     for i, (c, a, t, s, med) in enumerate(zip(clip.tolist(), authors, texts, sent.tolist(),
                                               median.tolist())):
         reason = None
-        if not tokens[i]:
+        if lengths[i] == 0:
             reason = "empty caption"
         elif low[i]:
             reason = f"BLEU {s:.1f} < clip median {med:.1f} - {margin:g}"

@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
@@ -14,6 +15,8 @@ from .cider import CiderResult, cider_d
 from .interpret import CITATION
 from .label_summary import LabelSummary, collect, summarize
 from .loo import FLAG_RULE, LooBleu, leave_one_out_bleu
+from .loo_overlap import LooOverlap, leave_one_out_chrf, leave_one_out_rouge_l
+from .reliability import ReliabilitySummary, reliability_summary
 from .retrieval import RetrievalResult, caption_retrieval
 from .segments import PairMatch, check_segments, frame_agreement, segment_matching
 
@@ -36,10 +39,14 @@ class CaptionSummary:
     bleu: LooBleu
     cider: CiderResult
     retrieval: RetrievalResult
+    rouge_l: LooOverlap | None = None
+    chrf: LooOverlap | None = None
 
     def to_dict(self) -> dict:
         b = self.bleu
-        return {"bleu": {"overall": b.overall.to_dict(),
+        return {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
+                "chrf": None if self.chrf is None else self.chrf.to_dict(),
+                "bleu": {"overall": b.overall.to_dict(),
                          "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
                          "recipe": b.recipe.to_dict()},
                 "flag_rule": FLAG_RULE,
@@ -92,6 +99,15 @@ class ClipTable:
                            key(self.label_disagreement, -1)))
 
 
+#: why a part of the report is not measured (the part is None then), in plain words
+NO_LABELS = "no annotator has labelled a clip yet"
+NO_SEGMENTS = "no annotator has marked a segment yet"
+NO_CAPTIONS = "no annotator has written a caption yet"
+ONE_CAPTIONER = ("no clip has captions from two annotators yet; caption consensus "
+                 "(leave-one-out BLEU, CIDEr-D) compares each person with the others")
+LEFT_OUT = "left out of this report"
+
+
 @dataclass(frozen=True)
 class AgreementReport:
     labels: LabelSummary | None
@@ -99,6 +115,10 @@ class AgreementReport:
     captions: CaptionSummary | None
     clips: ClipTable
     recipe: Recipe
+    reliability: ReliabilitySummary | None = None
+    #: part ("labels", "segments", "captions") -> why it is not measured; each part stands
+    #: alone, so a project with labels only still gets its label agreement
+    not_measured: dict[str, str] = field(default_factory=dict)
 
     def review_queue(self, top: int | None = None) -> list[ClipScore]:
         """Clips worst first (see :meth:`ClipTable.worst_first`), the first ``top`` or all."""
@@ -111,12 +131,18 @@ class AgreementReport:
                 "labels": None if self.labels is None else self.labels.to_dict(),
                 "segments": None if self.segments is None else self.segments.to_dict(),
                 "captions": None if self.captions is None else self.captions.to_dict(),
-                "clips": [c.to_dict() for c in self.clips]}
+                "not_measured": dict(self.not_measured),
+                "clips": [c.to_dict() for c in self.clips],
+                "reliability": None if self.reliability is None else self.reliability.to_dict()}
 
     def to_text(self, *, top: int = 10) -> str:
         from ._report_text import render
 
         return render(self, top=top)
+
+
+#: clips that leave-one-out ROUGE-L and chrF are estimated on, at most (see _clip_sample)
+OVERLAP_CLIPS = 2000
 
 
 def agreement_report(labels: Iterable[Sequence[Any]],
@@ -125,8 +151,10 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                      label_order: Sequence[Any] | None = None, ordinal: bool = False,
                      fps: Mapping[Any, float] | float | None = None,
                      frame_count: Mapping[Any, int] | None = None, seed: int = 0,
-                     n_boot: int = 1000, label_set_version: str | None = None
-                     ) -> AgreementReport:
+                     n_boot: int = 1000, label_set_version: str | None = None,
+                     reliability: bool = True, truth_model: str = "full",
+                     known_answers: Mapping[Any, Any] | None = None,
+                     overlap_clips: int | None = OVERLAP_CLIPS) -> AgreementReport:
     """Agreement of a whole project: labels, and optionally segments and captions.
 
     Parameters
@@ -142,11 +170,19 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     frame_count : mapping clip -> number of frames, for frame-level alpha.
     seed, n_boot : bootstrap over clips for the confidence intervals (95 %, percentile).
     label_set_version : written into every recipe.
+    reliability : (default True) also infer true labels and each annotator's confusion (Dawid-Skene,
+        ``truth_model`` "full" or "one-coin") and, with ``known_answers`` {clip: label}, score
+        each annotator on those check clips (accuracy with Wilson interval, kappa).
+    overlap_clips : leave-one-out ROUGE-L and chrF are computed on at most this many clips
+        captioned by two or more people (a seeded random sample above it, said in their
+        recipes' note; default 2,000); None computes them on every clip.
 
     Returns
     -------
     AgreementReport
-        ``.labels`` (Krippendorff alpha with CI, Fleiss when every clip has the same number of
+        Each part is measured on its own: a part with nothing to measure (no labels, no
+        segments, no clip captioned by two people) is None and ``.not_measured`` says why, and
+        the other parts are still computed. ``.labels`` (Krippendorff alpha with CI, Fleiss when every clip has the same number of
         labels, pairwise Cohen kappa and confusion matrices, one-vs-rest alpha per label with
         CI), ``.segments``, ``.captions``, ``.clips`` (per clip scores), ``.review_queue()``,
         ``.to_dict()``, ``.to_text()``. Formulas and sources are in the functions used:
@@ -157,6 +193,7 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     """
     n_boot = _checks.positive_int("n_boot", n_boot)
     seed = _checks.positive_int("seed", seed, minimum=0)
+    labels = labels if isinstance(labels, list) else list(labels)
     codes, clip_list, annotators, label_list = collect(labels, label_order)
     summary = None
     if codes.size:
@@ -164,30 +201,35 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                             n_boot=n_boot, label_set_version=label_set_version)
     worked: dict[Any, set] = {}
     seg_summary, seg_f1 = None, {}
-    if segments is not None:
+    rows = check_segments(segments) if segments is not None else []
+    if rows:  # with no segment at all, every pair would "agree" on nothing: not measured
         for a, row in zip(annotators, codes):
             for c in np.flatnonzero(row >= 0).tolist():
                 worked.setdefault(clip_list[c], set()).add(a)
-        rows = check_segments(segments)
         for clip, ann, *_ in rows:
             worked.setdefault(clip, set()).add(ann)
         pairs, seg_f1 = segment_matching(rows, fps=fps, annotated=worked)
         fa = frame_agreement(rows, frame_count, annotated=worked) if frame_count else None
         seg_summary = SegmentSummary(fa, pairs)
     cap_summary, cap_bleu, cap_cider = None, {}, {}
+    by_clip: dict[Any, list] = {}
     if captions is not None:
-        by_clip: dict[Any, list] = {}
         for n, row in enumerate(captions):
             try:
                 clip, ann, text = row
             except (TypeError, ValueError):
                 raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
             by_clip.setdefault(clip, []).append((str(ann), text))
-    if captions is not None and any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
+    if any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
         # caption consensus needs a clip captioned by two people; with none it is not measured
         loo = leave_one_out_bleu(by_clip)
         cider = cider_d(by_clip)
-        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed))
+        sample, note = _clip_sample(by_clip, overlap_clips, seed)
+        rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
+        if note:
+            rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
+                           for m in (rouge, chrf))
+        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
         acc: dict[Any, list] = {}
         for one in loo.captions:
             if not math.isnan(one.bleu):
@@ -195,11 +237,38 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         cap_bleu = {k: float(np.mean(v)) for k, v in acc.items()}
         cap_cider = cider.per_clip
     clips = _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider)
-    everyone = sorted(set(annotators) | {a for s in worked.values() for a in s})
+    everyone = sorted(set(annotators) | {a for s in worked.values() for a in s}
+                      | {a for v in by_clip.values() for a, _ in v})
     recipe = Recipe.make("report", "agreement", ordinal=ordinal, seed=seed, n_boot=n_boot,
                          n_raters=len(everyone), n_items=len(clips), annotators=everyone,
                          label_set_version=label_set_version)
-    return AgreementReport(summary, seg_summary, cap_summary, clips, recipe)
+    rel = None
+    if reliability:
+        rel = reliability_summary(labels, known=known_answers, label_order=label_order,
+                                  model=truth_model, label_set_version=label_set_version)
+    why = {"labels": None if summary is not None else NO_LABELS,
+           "segments": None if seg_summary is not None else
+           LEFT_OUT if segments is None else NO_SEGMENTS,
+           "captions": None if cap_summary is not None else
+           LEFT_OUT if captions is None else ONE_CAPTIONER if by_clip else NO_CAPTIONS}
+    return AgreementReport(summary, seg_summary, cap_summary, clips, recipe, rel,
+                           {k: v for k, v in why.items() if v is not None})
+
+
+def _clip_sample(by_clip: dict[Any, list], limit: int | None, seed: int
+                 ) -> tuple[dict[Any, list], str | None]:
+    """The clips ROUGE-L and chrF are computed on: all clips captioned by two or more people,
+    or, above ``limit`` of them, a random sample of ``limit`` (seeded), with the note that
+    says so. Both metrics compare every caption with every other caption of its clip, character
+    n-grams for chrF, so on a big project they cost far more than BLEU and CIDEr-D, which
+    share one n-gram index and stay on every clip; a sample of a few thousand clips pins down
+    a project-wide mean well (the per-clip scores of the review queue do not use them)."""
+    shared = [c for c, v in by_clip.items() if len({a for a, _ in v}) > 1]
+    if limit is None or len(shared) <= limit:
+        return by_clip, None
+    pick = np.sort(np.random.default_rng(seed).choice(len(shared), limit, replace=False))
+    return ({shared[i]: by_clip[shared[i]] for i in pick.tolist()},
+            f"estimated on {limit} of {len(shared)} clips, sampled with seed {seed}")
 
 
 def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> ClipTable:

@@ -55,11 +55,9 @@ def open_project(args: argparse.Namespace):
 def _known_problem(exc: Exception, project: str | None) -> str | None:
     """One plain line for faults of the machine rather than of clipscribe: a database that is
     read-only, full, damaged or busy; a full disk or a refused file elsewhere."""
-    from sqlalchemy.exc import DBAPIError
-
-    from ..store.sqlite_check import explain
-    if isinstance(exc, DBAPIError):
-        return explain(exc, project)
+    from ..project.opening import explain_fault
+    if (line := explain_fault(exc, project)) is not None:
+        return line
     if isinstance(exc, OSError) and exc.strerror:
         if exc.filename is not None:
             return f"{exc.filename}: {exc.strerror}"

@@ -73,7 +73,8 @@ def cmd_export(args: argparse.Namespace) -> int:
             return _export_folds(p, args)
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
                              frozen=args.frozen, hamming_radius=args.radius,
-                             progress=Bar("fingerprints"), captions=args.captions)
+                             progress=Bar("fingerprints"), captions=args.captions,
+                             segments=args.segments)
         print("splits: " + _split_counts(plan))
         print_warnings(plan)
         _print_left_out(plan.left_out, media=plan.left_out_media)
@@ -91,7 +92,8 @@ def cmd_export(args: argparse.Namespace) -> int:
 def _export_folds(p, args: argparse.Namespace) -> int:
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
-                         progress=Bar("fingerprints"), captions=args.captions)
+                         progress=Bar("fingerprints"), captions=args.captions,
+                             segments=args.segments)
     for i, plan in enumerate(plans, start=1):
         print(f"split {i}: " + _split_counts(plan))
         print_warnings(plan, f" (split {i})")
@@ -119,6 +121,10 @@ def register(add) -> None:
                     help="reference captions: gold (the lead's ticked captions when settled, else "
                          "every annotator caption; default) or gold+agreeing (those plus the "
                          "captions of annotators whose label equals the exported label)")
+    sp.add_argument("--segments", choices=("gold+best", "gold"), default="gold+best",
+                    help="segments: gold+best (the lead's gold segments, else those of the agreeing "
+                         "annotator who agrees best with the others, else none; default) or gold "
+                         "(gold segments only); recorded in the manifest")
     sp.add_argument("--frozen", metavar="MANIFEST",
                     help="keep the splits of this earlier export (default: the project's last export)")
     sp.add_argument("--radius", type=int, default=8, help="Hamming radius for near-duplicate media (default 8)")

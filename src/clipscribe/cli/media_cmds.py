@@ -1,5 +1,6 @@
 """``clipscribe add-media``: add the videos below a folder of the media root (optionally
-copied in from outside first), grouped by folder, pattern or CSV."""
+copied in from outside first), grouped by folder, pattern or CSV; ``clipscribe clip-facts``:
+show or change the group, consent, licence and source of clips already added."""
 
 from __future__ import annotations
 
@@ -34,6 +35,27 @@ def cmd_add_media(args: argparse.Namespace) -> int:
     return 0
 
 
+CONSENT = {"yes": True, "no": False, "unknown": None}
+
+
+def cmd_clip_facts(args: argparse.Namespace) -> int:
+    changes = {k: (v or None) for k, v in (("group", args.group), ("licence", args.licence),
+                                           ("source", args.source)) if v is not None}
+    if args.consent is not None:
+        changes["consent"] = CONSENT[args.consent]
+    with open_project(args) as p:
+        for ref in args.clips:
+            changed = False
+            if changes:
+                changed = p.set_clip_facts(ref, **changes)
+            c = p.clip(ref)
+            consent = {True: "yes", False: "no", None: "unknown"}[c.consent]
+            print(f"clip {c.id} {c.path}: group {c.group or '(own)'}, consent {consent}, "
+                  f"licence {c.licence or '(unknown)'}, source {c.source or '(unknown)'}"
+                  + ((" — changed" if changed else " — already so") if changes else ""))
+    return 0
+
+
 def register(add) -> None:
     sp = add("add-media", cmd_add_media, "add every video below a folder inside the media root", user=True)
     sp.add_argument("folder", nargs="?", help="folder to scan (default: the whole media root)")
@@ -47,3 +69,10 @@ def register(add) -> None:
     grp.add_argument("--group-by", choices=("folder", "none"), default="folder",
                      help="without a pattern or CSV: group clips by their folder (default, as the "
                           "setup dialog does), or none (every clip its own group)")
+    sp = add("clip-facts", cmd_clip_facts, "show or change the group, consent, licence and source "
+             "of clips already added (lead only; each change is an edit in the history)", user=True)
+    sp.add_argument("clips", nargs="+", metavar="CLIP", help="clip number or media path")
+    sp.add_argument("--group", help="group key (clips of a group share a split); '' for none")
+    sp.add_argument("--consent", choices=tuple(CONSENT), help="consent of the people filmed")
+    sp.add_argument("--licence", help="licence of the footage; '' for unknown")
+    sp.add_argument("--source", help="where the footage came from; '' for unknown")

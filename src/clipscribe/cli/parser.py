@@ -7,8 +7,8 @@ import argparse
 from collections.abc import Callable
 
 from .._version import __version__
-from . import (agreement_cmds, export_cmds, media_cmds, project_cmds, review_cmds, team_cmds,
-               window_cmds)
+from . import (agreement_cmds, export_cmds, media_cmds, project_cmds, review_cmds, suggest_cmds,
+               team_cmds, window_cmds)
 
 Command = Callable[[argparse.Namespace], int]
 
@@ -38,4 +38,5 @@ def build_parser() -> argparse.ArgumentParser:
     export_cmds.register(add)
     team_cmds.register(add)
     review_cmds.register(add)
+    suggest_cmds.register(add)
     return ap

@@ -14,10 +14,12 @@ from .team_cmds import new_password
 
 def cmd_new(args: argparse.Namespace) -> int:
     from ..project import Project
-    from ..store.urls import secret_warning
+    from ..project.opening import secret_warning
     if warning := secret_warning(args.database_url, "--database-url"):
         print(f"clipscribe: {warning}", file=sys.stderr)
-    with Project.create(args.project, database_url=args.database_url, name=args.name) as p:
+    # a project a person makes checks the caption guideline at submit (warn, with override)
+    with Project.create(args.project, database_url=args.database_url, name=args.name,
+                        caption_guideline={"at_submit": "warn"}) as p:
         print(f"created project {p.settings.name!r} in {args.project} (you are lead {p.user!r})")
         print(f"put media under {p.media_root}")
     return 0
@@ -33,13 +35,19 @@ def cmd_labels(args: argparse.Namespace) -> int:
     return 0
 
 
+AT_SUBMIT_WORDS = {"off": "not checked",
+                   "warn": "captions that miss the guideline need an override with a reason",
+                   "block": "captions that miss the guideline cannot be submitted"}
+
+
 def cmd_caption_rules(args: argparse.Namespace) -> int:
     with open_project(args) as p:
-        if (args.per_clip, args.min_words, args.max_words) != (None, None, None):
+        if (args.per_clip, args.min_words, args.max_words, args.at_submit) != (None,) * 4:
             p.set_caption_rules(captions_per_clip=args.per_clip, min_words=args.min_words,
-                                max_words=args.max_words)
+                                max_words=args.max_words, at_submit=args.at_submit)
         g = p.settings.caption_guideline
         print(f"{g.captions_per_clip} captions per clip, {g.min_words}–{g.max_words} words each")
+        print(f"at submit: {AT_SUBMIT_WORDS[g.at_submit]}")
     return 0
 
 
@@ -114,6 +122,9 @@ def register_setup(add) -> None:
     sp.add_argument("--per-clip", type=int, metavar="N", help="reference captions per clip")
     sp.add_argument("--min-words", type=int, metavar="N", help="fewest words in a caption")
     sp.add_argument("--max-words", type=int, metavar="N", help="most words in a caption")
+    sp.add_argument("--at-submit", choices=tuple(AT_SUBMIT_WORDS),
+                    help="submitting captions that miss the guideline: off, warn (the annotator may "
+                         "override with a reason, recorded) or block")
     sp = add("add-person", cmd_person, "add an annotator or a lead", user=True)
     sp.add_argument("name")
     sp.add_argument("--role", choices=("annotator", "lead"), default="annotator")

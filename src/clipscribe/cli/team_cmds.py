@@ -18,10 +18,9 @@ def cmd_move(args: argparse.Namespace) -> int:
     from ..project.team_move import write_report
     url = args.url
     pw = os.environ.get("CLIPSCRIBE_PASSWORD")
+    from ..project.opening import secret_warning, with_password
     if pw:
-        from sqlalchemy.engine import make_url
-        url = make_url(url).set(password=pw).render_as_string(hide_password=False)
-    from ..store.urls import secret_warning
+        url = with_password(url, pw)
     if warning := secret_warning(url, "the URL"):
         print(f"clipscribe: {warning}", file=sys.stderr)
     report = Project.move_to_server(args.project, url, lead=args.lead)

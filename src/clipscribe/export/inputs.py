@@ -32,7 +32,10 @@ class ClipInput:
     same as ``(annotator, label)`` pairs, when known: the caption policy needs them to tell
     agreeing annotators); ``skipped`` lists ``(annotator, reason)`` of those who skipped the
     clip (they gave no label; a skip is never counted as one); ``gold_label`` and
-    ``gold_captions`` are the lead's settled answers (None when not settled). ``fingerprint`` is
+    ``gold_captions`` are the lead's settled answers (None when not settled); ``segments`` are
+    the lead's gold segments and ``annotator_segments`` each annotator's own, as
+    ``(annotator, segments)`` pairs (the segment rule of the export chooses between them, see
+    :mod:`clipscribe.export.segment_choice`). ``fingerprint`` is
     the clip's 64-bit perceptual hash as a plain int; ``sha256`` the hex digest of the media file.
     ``source_path`` is where the writer reads the media from when it copies or links them.
     """
@@ -51,6 +54,7 @@ class ClipInput:
     captions: tuple[CaptionInput, ...] = ()
     gold_captions: tuple[str, ...] | None = None
     segments: tuple[SegmentInput, ...] = ()
+    annotator_segments: tuple[tuple[str, tuple[SegmentInput, ...]], ...] = ()
     consent: bool | None = None
     licence: str | None = None
     source_path: str | None = None

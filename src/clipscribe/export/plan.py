@@ -9,7 +9,10 @@ from ..errors import ClipscribeError
 from .checks import PlanWarning, few_references, split_balance
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
-from .policy import CaptionChoice, LabelDecision, LabelPolicy, apply_policy, choose_captions
+from .policy import (
+    CaptionChoice, LabelDecision, LabelPolicy, agreeing_annotators, apply_policy, choose_captions,
+)
+from .segment_choice import SegmentChoice, choose_segments
 from .splits import SplitResult, split_clips
 
 
@@ -50,8 +53,9 @@ class ExportPlan:
 
     ``clips`` are the exported clips (left-out ones are in ``left_out``); ``frozen`` is the
     assignment passed in, carried forward in the manifest together with the new one;
-    ``captions`` the reference captions chosen per exported clip; ``warnings`` the quality
-    warnings (:mod:`clipscribe.export.checks`) that do not stop the export.
+    ``captions`` the reference captions chosen per exported clip; ``segments`` the segments
+    chosen per exported clip by the policy's segment rule; ``warnings`` the quality warnings
+    (:mod:`clipscribe.export.checks`) that do not stop the export.
     """
 
     project: str
@@ -65,6 +69,20 @@ class ExportPlan:
     captions: dict[str, CaptionChoice] = field(default_factory=dict)
     warnings: tuple[PlanWarning, ...] = ()
     left_out_media: dict[str, str] = field(default_factory=dict)
+    segments: dict[str, SegmentChoice] = field(default_factory=dict)
+
+    def segments_of(self, clip: ClipInput) -> SegmentChoice:
+        """The segments ``clip`` is exported with (chosen now when the plan has none)."""
+        got = self.segments.get(clip.clip_id)
+        if got is not None:
+            return got
+        label = self.decisions[clip.clip_id].label if clip.clip_id in self.decisions else None
+        return choose_segments(clip, agreeing_annotators(clip, label), self.policy.segments)
+
+    @property
+    def duplicates_dropped(self) -> int:
+        """Reference captions left out of the export as repeats of one already taken."""
+        return sum(c.dropped for c in self.captions.values())
 
     @property
     def assignment(self) -> dict[str, str]:
@@ -81,12 +99,13 @@ def _validate(clips: list[ClipInput]) -> None:
         if c.clip_id in seen:
             raise ValueError(f"clip {c.clip_id!r} is given twice")
         seen.add(c.clip_id)
-        if (c.segments or any(cap.segment for cap in c.captions)) and not c.fps:
+        own = [g for _, segs in c.annotator_segments for g in segs]
+        if (c.segments or own or any(cap.segment for cap in c.captions)) and not c.fps:
             raise ValueError(f"clip {c.clip_id!r} has segments but no fps; frames cannot be "
                              f"turned into seconds")
         if c.fps is not None and c.fps <= 0:
             raise ValueError(f"clip {c.clip_id!r}: fps must be positive, got {c.fps!r}")
-        for s in c.segments:
+        for s in (*c.segments, *own):
             if not 0 <= s.start < s.end:
                 raise ValueError(f"clip {c.clip_id!r}: segment {s.label!r} needs "
                                  f"0 <= start < end, got {s.start}..{s.end}")
@@ -144,6 +163,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
         split = replace(split, assignment={k: v for k, v in split.assignment.items()
                                            if k in by_id})
     chosen = {c.clip_id: choose_captions(c, by_id[c.clip_id].label, policy) for c in kept}
+    segments = {c.clip_id: choose_segments(c, agreeing_annotators(c, by_id[c.clip_id].label),
+                                           policy.segments) for c in kept}
     report = check_leakage(kept, split.assignment, require_consent=require_consent,
                            require_licence=require_licence, hamming_radius=hamming_radius,
                            caption_threshold=caption_threshold,
@@ -155,4 +176,5 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     return ExportPlan(project, tuple(kept), by_id,
                       tuple(d for d in decisions if not d.included), split, report, policy,
                       frozen, chosen, tuple(warnings),
-                      {c.clip_id: c.media_path for c, d in zip(clips, decisions) if not d.included})
+                      {c.clip_id: c.media_path for c, d in zip(clips, decisions) if not d.included},
+                      segments)

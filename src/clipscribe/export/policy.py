@@ -7,6 +7,7 @@ from dataclasses import dataclass, replace
 from typing import Iterable, Literal, Sequence
 
 from .inputs import CaptionInput, ClipInput
+from .segment_choice import SEGMENT_POLICIES, describe_segment_rule
 from .textdup import normalise_caption
 
 # Shares are ratios of small integers; compare with a little slack so 3/5 >= 0.6 holds.
@@ -32,12 +33,18 @@ class LabelPolicy:
         annotator caption. ``"gold+agreeing"``: the gold set (if any) followed by the accepted
         captions of the *agreeing* annotators, dropping any caption whose normalised text
         (:func:`clipscribe.export.textdup.normalise_caption`) is already in the list. See
-        :func:`decide_captions` for who is agreeing.
+        :func:`decide_captions` for who is agreeing. Under either policy a reference equal
+        to one already taken (same text, same segment) is dropped and counted.
+    segments : "gold+best" or "gold"
+        ``"gold"``: the lead's gold segments, else none. ``"gold+best"``: the gold segments,
+        else those of the agreeing annotator whose segments agree best with the others', else
+        none (see :func:`clipscribe.export.segment_choice.choose_segments`).
     """
 
     min_agreement: float = 0.6
     require_label: bool = True
     captions: Literal["gold", "gold+agreeing"] = "gold"
+    segments: Literal["gold+best", "gold"] = "gold+best"
 
     def __post_init__(self) -> None:
         if not 0.0 <= self.min_agreement <= 1.0:
@@ -45,6 +52,9 @@ class LabelPolicy:
         if self.captions not in CAPTION_POLICIES:
             raise ValueError(f"captions must be one of {', '.join(CAPTION_POLICIES)}, "
                              f"got {self.captions!r}")
+        if self.segments not in SEGMENT_POLICIES:
+            raise ValueError(f"segments must be one of {', '.join(SEGMENT_POLICIES)}, "
+                             f"got {self.segments!r}")
 
     def describe(self) -> str:
         """The rule in words, for the manifest."""
@@ -57,7 +67,9 @@ class LabelPolicy:
         return (f"gold label when the lead settled one; else the majority label when its share "
                 f"of annotator labels is >= {self.min_agreement:.2f} and no other label has as "
                 f"many votes; else the clip is left out. Annotators who skipped the clip give no "
-                f"label and are not counted. Captions ({self.captions}): {caps}.")
+                f"label and are not counted. Captions ({self.captions}): {caps}; a reference "
+                f"equal to one already taken (same text, same segment) is dropped. Segments "
+                f"({self.segments}): {describe_segment_rule(self.segments)}.")
 
 
 @dataclass(frozen=True)
@@ -141,11 +153,13 @@ class CaptionChoice:
     """Captions exported for a clip: ``(text, segment or None)`` pairs and where they came from.
 
     ``source`` is ``"gold"`` when the list starts with the gold set, else ``"accepted"``;
-    ``sources`` gives the source of each caption (``"gold"`` or ``"accepted"``)."""
+    ``sources`` gives the source of each caption (``"gold"`` or ``"accepted"``); ``dropped``
+    counts the references left out because an equal one was already taken."""
 
     captions: tuple[tuple[str, tuple[int, int] | None], ...]
     source: Literal["gold", "accepted"]
     sources: tuple[Literal["gold", "accepted"], ...] = ()
+    dropped: int = 0
 
     def source_of(self, i: int) -> Literal["gold", "accepted"]:
         return self.sources[i] if self.sources else self.source
@@ -159,6 +173,8 @@ def decide_captions(captions: Sequence[CaptionInput], gold: Sequence[str] | None
     ``policy="gold"``: the gold set when present, else the accepted annotator captions.
     ``policy="gold+agreeing"``: the gold set (if any), then the accepted captions of the
     annotators named in ``agreeing``, leaving out any whose normalised text is already taken.
+    Exact repeats (same text, same segment) are dropped under either policy; ``dropped``
+    counts every reference left out as a repeat.
     *Agreeing* is decided by the caller (:func:`agreeing_annotators`): an annotator whose own
     label of the clip equals the exported label.
 
@@ -179,20 +195,32 @@ def decide_captions(captions: Sequence[CaptionInput], gold: Sequence[str] | None
     """
     if policy == "gold":
         if gold:
-            return CaptionChoice(tuple((t, None) for t in gold), "gold")
-        return CaptionChoice(tuple((c.text, c.segment) for c in captions if c.accepted),
-                             "accepted")
+            return _without_repeats([(t, None) for t in gold], "gold")
+        return _without_repeats([(c.text, c.segment) for c in captions if c.accepted], "accepted")
     who = set(agreeing or ())
     out: list[tuple[str, tuple[int, int] | None]] = [(t, None) for t in gold or ()]
+    first = _without_repeats(out, "gold")
+    out, dropped = list(first.captions), first.dropped
     sources: list[Literal["gold", "accepted"]] = ["gold"] * len(out)
     seen = {normalise_caption(t) for t, _ in out}
     for c in captions:
+        if not (c.accepted and c.annotator in who):
+            continue
         norm = normalise_caption(c.text)
-        if c.accepted and c.annotator in who and norm not in seen:
-            seen.add(norm)
-            out.append((c.text, c.segment))
-            sources.append("accepted")
-    return CaptionChoice(tuple(out), "gold" if gold else "accepted", tuple(sources))
+        if norm in seen:
+            dropped += 1
+            continue
+        seen.add(norm)
+        out.append((c.text, c.segment))
+        sources.append("accepted")
+    return CaptionChoice(tuple(out), "gold" if gold else "accepted", tuple(sources), dropped)
+
+
+def _without_repeats(refs: Sequence[tuple[str, tuple[int, int] | None]],
+                     source: Literal["gold", "accepted"]) -> CaptionChoice:
+    """``refs`` in order with exact repeats (same text, same segment) dropped and counted."""
+    kept = list(dict.fromkeys(refs))
+    return CaptionChoice(tuple(kept), source, dropped=len(refs) - len(kept))
 
 
 def agreeing_annotators(clip: ClipInput, label: str | None) -> set[str]:

@@ -40,6 +40,7 @@ from .inputs import ClipInput
 from .plan import ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override
 from .checks import SPLIT_TOLERANCE
 from .policy import choose_captions
+from .segment_choice import describe_segment_rule
 from .vtt import render
 
 NO_LABEL = "(no label)"
@@ -71,8 +72,9 @@ def _file_names(ids: list[str]) -> dict[str, str]:
 def _record(clip: ClipInput, plan: ExportPlan, media: str) -> ExportRecord:
     d = plan.decisions[clip.clip_id]
     fps = clip.fps
+    seg_choice = plan.segments_of(clip)
     segments = [ExportSegment(label=s.label, start=s.start, end=s.end, start_s=s.start / fps,
-                              end_s=s.end / fps) for s in clip.segments]
+                              end_s=s.end / fps) for s in seg_choice.segments]
     choice = plan.captions.get(clip.clip_id) or choose_captions(clip, d.label, plan.policy)
     captions = []
     for i, (text, seg) in enumerate(choice.captions):
@@ -86,7 +88,7 @@ def _record(clip: ClipInput, plan: ExportPlan, media: str) -> ExportRecord:
         sha256=clip.sha256.lower() if clip.sha256 else None,
         group=None if clip.group is None else str(clip.group), label=d.label,
         label_source=d.source, agreement=d.agreement, annotators=d.annotators,
-        skipped=d.skipped, fps=fps,
+        skipped=d.skipped, fps=fps, segment_source=seg_choice.source,
         frame_count=clip.frame_count, segments=segments, captions=captions)
 
 
@@ -178,7 +180,13 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
         "splits": f"group-exclusive greedy placement, largest group first, minimising squared "
                   f"deviation from the target clip fraction plus mean squared per-label "
                   f"deviation; seed {plan.seed}; frozen clips kept ({len(plan.frozen)} given)",
-        "segments": "start_s = start / fps, end_s = end / fps; frames 0-based, end exclusive",
+        "segments": f"segment rule {plan.policy.segments!r}: "
+                    f"{describe_segment_rule(plan.policy.segments)}; per record `segment_source` "
+                    f"says where they came from; start_s = start / fps, end_s = end / fps; frames "
+                    f"0-based, end exclusive",
+        "duplicates_dropped": "reference captions left out because an equal one (same text, "
+                              "same segment; under gold+agreeing also equal after "
+                              "normalisation) was already among the clip's references",
         "files": "sha256 of every written file except manifest.json, byte size",
         "leakage": "see leakage.recipe; counts are findings per kind",
         "assignment": "clip -> split of this export plus earlier frozen clips not exported now",
@@ -188,8 +196,10 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
         label_policy=LabelPolicyModel(min_agreement=plan.policy.min_agreement,
                                       require_label=plan.policy.require_label,
                                       captions=plan.policy.captions,
+                                      segments=plan.policy.segments,
                                       rule=plan.policy.describe()),
         seed=plan.seed, ratios=plan.split.ratios, counts=counts,
+        duplicates_dropped=plan.duplicates_dropped,
         totals={s: sum(c.values()) for s, c in counts.items()},
         left_out=[LeftOut(clip=d.clip_id, reason=d.reason or "",
                           media=plan.left_out_media.get(d.clip_id)) for d in plan.left_out],

@@ -10,7 +10,7 @@ from .context import Service
 
 class Analysis(Service):
     def agreement_report(self, *, captions: bool = True, segments: bool = True, seed: int = 0,
-                         n_boot: int = 1000) -> AgreementReport:
+                         n_boot: int = 1000, truth_model: str = "full") -> AgreementReport:
         """Labels, segments and captions agreement over every annotator's work (leads' gold
         decisions excluded), with bootstrap confidence intervals resampling clips."""
         self.peers.team.require_full_view("the agreement report")
@@ -24,7 +24,12 @@ class Analysis(Service):
             labels, segs, caps, label_order=[l.name for l in self.peers.catalog.labels()],
             ordinal=self.peers.catalog.labels_ordinal(), fps={c.id: c.fps for c in clips},
             frame_count={c.id: c.frame_count for c in clips}, seed=seed, n_boot=n_boot,
-            label_set_version=f"v{self.peers.catalog.label_set_version()}")
+            label_set_version=f"v{self.peers.catalog.label_set_version()}",
+            reliability=True, truth_model=truth_model, known_answers=self.known_answers())
+
+    def known_answers(self) -> dict:
+        """{clip: answer} of the check clips (empty where there are none)."""
+        return {}
 
     def _voting_labels(self, leads: set[str]) -> list[tuple[int, str, str]]:
         """Annotator labels that count as votes: not a lead's, and not left on a clip its

@@ -10,7 +10,8 @@ from sqlalchemy import text as sql_text
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.attributes import set_committed_value
 
-from ..errors import RecordError, StaleWriteError
+from ..errors import GuidelineNotMet, RecordError, StaleWriteError
+from ..schema.caption_rules import missing_at_submit
 from ..schema.records import MAX_CAPTION_CHARS
 from ..store.models import (
     Annotator,
@@ -42,6 +43,7 @@ class Annotation(Service):
                 s.delete(row)
                 s.flush()
                 self.ctx.log(s, "clear", "clip_label", before["id"], c.id, before, None)
+                self._reopen(s, c.id, a.id)
             return None
         lab = self.ctx.label(s, label)
         before = row_dict(row) if row is not None else None
@@ -55,6 +57,7 @@ class Annotation(Service):
         s.flush()
         self._touch(s, c, a)
         self.ctx.log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
+        self._reopen(s, c.id, a.id)
         return row.id
 
     def _owned_by(self, s: Session, stmt, model, clip: Any, annotator: Any):
@@ -89,6 +92,7 @@ class Annotation(Service):
         s.flush()
         self._touch(s, c, a)
         self.ctx.log(s, "add", "segment", row.id, c.id, None, row_dict(row))
+        self._reopen(s, c.id, a.id)
         return row.id
 
     def update_segment(self, segment_id: int, *, start: int | None = None, end: int | None = None,
@@ -107,6 +111,7 @@ class Annotation(Service):
             row.updated_at = utcnow()
             s.flush()
             self.ctx.log(s, "change", "segment", row.id, row.clip_id, before, row_dict(row))
+            self._reopen(s, row.clip_id, row.annotator_id)
         self.ctx.write(work)
 
     def delete_segment(self, segment_id: int) -> None:
@@ -122,6 +127,7 @@ class Annotation(Service):
             s.delete(row)
             s.flush()
             self.ctx.log(s, "delete", "segment", before["id"], before["clip_id"], before, None)
+            self._reopen(s, before["clip_id"], before["annotator_id"])
         self.ctx.write(work)
 
     def split_segment(self, segment_id: int, at: int) -> int:
@@ -140,6 +146,7 @@ class Annotation(Service):
             s.add(right)
             s.flush()
             self.ctx.log(s, "add", "segment", right.id, right.clip_id, None, row_dict(right))
+            self._reopen(s, right.clip_id, right.annotator_id)
             return right.id
         return self.ctx.write(work)
 
@@ -163,6 +170,7 @@ class Annotation(Service):
             a.updated_at = utcnow()
             s.flush()
             self.ctx.log(s, "change", "segment", a.id, a.clip_id, before_a, row_dict(a))
+            self._reopen(s, a.clip_id, a.annotator_id)
         self.ctx.write(work)
 
     def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
@@ -210,6 +218,7 @@ class Annotation(Service):
         s.flush()
         self._touch(s, c, a)
         self.ctx.log(s, "add", "caption", row.id, c.id, None, row_dict(row))
+        self._reopen(s, c.id, a.id)
         return row.id
 
     def update_caption(self, caption_id: int, text: str | None = None, *,
@@ -233,6 +242,7 @@ class Annotation(Service):
             row.updated_at = utcnow()
             s.flush()
             self.ctx.log(s, "change", "caption", row.id, row.clip_id, before, row_dict(row))
+            self._reopen(s, row.clip_id, row.annotator_id)
             return row.version
         try:
             return self.ctx.write(work)
@@ -250,6 +260,7 @@ class Annotation(Service):
             s.delete(row)
             s.flush()
             self.ctx.log(s, "delete", "caption", before["id"], before["clip_id"], before, None)
+            self._reopen(s, before["clip_id"], before["annotator_id"])
         try:
             self.ctx.write(work)
         except StaleWriteError as exc:
@@ -271,7 +282,14 @@ class Annotation(Service):
 
     def captions(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, text)`` for every caption, ordered by clip, person, position."""
-        return [(c.clip, c.annotator, c.text) for c in self.caption_rows(clip=clip, annotator=annotator)]
+        def q(s: Session) -> list[tuple[int, str, str]]:
+            # plain columns, not caption objects: a report reads every caption of the project
+            stmt = (select(Caption.clip_id, Annotator.name, Caption.text)
+                    .join(Annotator, Annotator.id == Caption.annotator_id)
+                    .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
+            stmt = self._owned_by(s, stmt, Caption, clip, annotator)
+            return [tuple(r) for r in s.execute(stmt)]
+        return self.ctx.read(q)
 
     def caption_rows(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[CaptionInfo]:
         def q(s: Session) -> list[CaptionInfo]:
@@ -283,20 +301,71 @@ class Annotation(Service):
         return self.ctx.read(q)
 
     # ---- clip states per annotator ----------------------------------------------------
-    def set_clip_state(self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None) -> None:
-        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
+    def set_clip_state(self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None,
+                       *, override: str | None = None) -> None:
+        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or
+        ``open``. Submitting checks the caption guideline when the project asks for it
+        (``caption_guideline.at_submit``): captions that miss it raise :class:`GuidelineNotMet`
+        naming what is missing, unless ``override`` gives a reason ("warn"; the override and
+        what it let through are recorded in the edit history) — a "block" refuses even then."""
         require(state in ("open", "submitted", "skipped", "unsure"),
                 f"state {state!r}: use open, submitted, skipped or unsure")
         require(state != "skipped" or bool(reason and reason.strip()), "skipping a clip needs a reason")
-        def work(s: Session) -> None:
-            c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
-            row = self._touch(s, c, a)
-            before = row_dict(row)
-            row.state, row.reason, row.updated_at = state, reason, utcnow()
-            s.flush()
-            self._refresh_clip_state(s, c)
-            self.ctx.log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
-        self.ctx.write(work)
+        require(override is None or bool(override.strip()), "an override needs a reason")
+        self.ctx.write(lambda s: self._set_clip_state(s, clip, annotator, state, reason, override))
+
+    def _set_clip_state(self, s: Session, clip: Any, annotator: Any, state: str,
+                        reason: str | None, override: str | None = None, *,
+                        check: bool = True) -> None:
+        """Write one state; ``check``: check the guideline at submit."""
+        c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
+        missing = self._guideline_missing(s, c, a) if check and state == "submitted" else []
+        if missing:
+            self._refuse_submit(c, missing, override)
+        row = self._touch(s, c, a)
+        before = row_dict(row)
+        row.state, row.reason, row.updated_at = state, reason, utcnow()
+        s.flush()
+        self._refresh_clip_state(s, c)
+        self.ctx.log(s, "state", "assignment", row.id, c.id, before, row_dict(row))
+        if missing:
+            self.ctx.log(s, "override", "guideline", row.id, c.id, None,
+                         {"missing": missing, "reason": override})
+
+    def _guideline_missing(self, s: Session, c: Clip, a: Annotator) -> list[str]:
+        g = self.ctx.settings.caption_guideline
+        if g.at_submit == "off":
+            return []
+        texts = list(s.scalars(select(Caption.text).where(
+            Caption.clip_id == c.id, Caption.annotator_id == a.id)
+            .order_by(Caption.position, Caption.id)))
+        return missing_at_submit(texts, captions_per_clip=g.captions_per_clip,
+                                 min_words=g.min_words, max_words=g.max_words,
+                                 banned_openings=g.banned_openings)
+
+    def _refuse_submit(self, c: Clip, missing: list[str], override: str | None) -> None:
+        """GuidelineNotMet unless an override is given and the project allows one."""
+        blocking = self.ctx.settings.caption_guideline.at_submit == "block"
+        if override is not None and not blocking:
+            return
+        what = "; ".join(missing)
+        tail = (" — the lead made the guideline a block, so fix the captions first"
+                if blocking else " — fix the captions, or submit with an override giving a reason")
+        raise GuidelineNotMet(f"clip {c.id} misses the caption guideline: {what}{tail}",
+                              missing=tuple(missing), blocking=blocking)
+
+    def _reopen(self, s: Session, clip_id: int, annotator_id: int) -> None:
+        """An edit of one's own submitted clip reopens it (recorded, undone with the edit):
+        a submitted clip never changes silently."""
+        row = s.scalar(select(Assignment).where(Assignment.clip_id == clip_id,
+                                                Assignment.annotator_id == annotator_id))
+        if row is None or row.state != "submitted":
+            return
+        before = row_dict(row)
+        row.state, row.updated_at = "open", utcnow()
+        s.flush()
+        self._refresh_clip_state(s, s.get(Clip, clip_id))
+        self.ctx.log(s, "reopen", "assignment", row.id, clip_id, before, row_dict(row))
 
     def clip_state(self, clip: ClipRef, annotator: Any = None) -> tuple[str, str | None]:
         def q(s: Session) -> tuple[str, str | None]:
@@ -312,8 +381,12 @@ class Annotation(Service):
         server_starts = self.ctx.is_server and c.state == "new"
         if server_starts:
             set_committed_value(c, "state", "in_progress")  # written by the database below
-        row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id))
-        if row is None:
+        mine = select(Assignment).where(Assignment.clip_id == c.id, Assignment.annotator_id == a.id)
+        row = s.scalar(mine)
+        if row is None and self.ctx.is_server:
+            start_work(s, [(c.id, a.id)])
+            row = s.scalar(mine)
+        elif row is None:
             row = Assignment(clip_id=c.id, annotator_id=a.id, state="open")
             s.add(row)
             s.flush()
@@ -344,6 +417,17 @@ class Annotation(Service):
             c.state = "in_progress"
         else:
             c.state = "new"
+
+
+def start_work(s: Any, pairs: list[tuple[int, int]]) -> None:
+    """On a server, make the assignments of ``(clip id, person id)`` pairs that have none,
+    through the database's checked function (an annotator's login may not insert them
+    itself; a refusal becomes a PermissionRefused like any other). ``s``: a session or a
+    connection; a session is flushed first, so the work that justifies the row is there."""
+    if isinstance(s, Session):
+        s.flush()
+    s.execute(sql_text("SELECT clipscribe_start(CAST(:c AS INTEGER[]), CAST(:a AS INTEGER[]))"),
+              {"c": [c for c, _ in pairs], "a": [a for _, a in pairs]})
 
 
 def _caption_to_write(s: Session, caption_id: int, expected_version: int | None,

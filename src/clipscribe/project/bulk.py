@@ -25,8 +25,9 @@ from ..errors import RecordError, StaleWriteError
 from ..schema.records import CaptionRecord, LabelRecord
 from ..store.models import Annotator, Assignment, Caption, Clip, ClipLabel, Edit, Label, Segment, utcnow
 from ..store.unit_of_work import SEEN_KEY, edit_time, session_edits
-from .annotate import _caption_text
-from .context import MAX_ID, json_value
+from ..store.history_values import json_value
+from .annotate import _caption_text, start_work
+from .context import MAX_ID
 
 if TYPE_CHECKING:
     from .context import Context
@@ -347,7 +348,9 @@ class BulkImport:
         if self.ctx.is_server:  # read before the new assignments: clips nobody had started
             for ids in _chunks(clips):
                 fresh += conn.execute(select(Clip.id).where(Clip.id.in_(ids), Clip.state == "new")).scalars()
-        if missing:
+        if missing and self.ctx.is_server:  # the database's checked function makes them
+            start_work(conn, missing)
+        elif missing:
             _insert(conn, Assignment, [
                 {"clip_id": c, "annotator_id": a, "state": "open", "reason": None, "assigned_at": now,
                  "expires_at": None, "updated_at": now, "version": 1, "comments_read": None}

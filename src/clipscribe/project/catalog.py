@@ -8,18 +8,13 @@ import re
 import warnings
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from pydantic import ValidationError
 from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
-from .. import media
 from ..errors import DuplicateMediaWarning, RecordError
-from ..export.csvsafe import read_cell
-from ..media._common import shown
-from ..media.copy_in import copy_target, copy_videos
-from ..media.scan import find_videos
 from ..schema.settings import LabelSpec, check_name_text
 from ..store.models import (
     ROLES,
@@ -43,6 +38,9 @@ from ..types import (  # noqa: F401 (re-exported)
     duplicate_warning,
 )
 from .context import Service, row_dict
+
+if TYPE_CHECKING:  # the video code loads only where media is read (not for counts or lists)
+    from .. import media
 
 # Our own palette: evenly spread hues, readable on dark and light backgrounds.
 PALETTE = ("#e4572e", "#29a0b1", "#f3a712", "#6a4c93", "#43aa8b", "#d64d8a", "#8fbc3a",
@@ -99,6 +97,7 @@ class Catalog(Service):
         specs = [s if s.key else s.model_copy(update={"key": next(free, None)}) for s in specs]
 
         def work(s: Session) -> list[LabelInfo]:
+            self.ctx.lead_only(s, "change the label set")
             existing = {l.name: l for l in s.scalars(select(Label))}
             now = [(l.name, l.key, l.colour or PALETTE[pos % len(PALETTE)], l.guideline or "")
                    for pos, l in enumerate(sorted((l for l in existing.values() if not l.retired),
@@ -170,6 +169,7 @@ class Catalog(Service):
                 if exist_ok:
                     return row.id
                 raise RecordError(f"annotator {name!r}: already exists")
+            self.ctx.lead_only(s, "add people")
             row = Annotator(name=name, role=role)
             s.add(row)
             s.flush()
@@ -196,6 +196,8 @@ class Catalog(Service):
                  source: str | None = None, licence: str | None = None,
                  consent: bool | None = None) -> int:
         """Register one media file that lies inside the media root; returns the clip id."""
+        from .. import media
+        self.ctx.check_lead("add clips")
         rel = self.ctx.relative_media_path(media_path)
         try:
             info, digest = probe_media(self.ctx.media_root / rel)
@@ -211,6 +213,7 @@ class Catalog(Service):
     def _insert_clip(self, s: Session, rel: str, digest: str, info: media.ProbeInfo,
                      group: str | None, source: str | None, licence: str | None,
                      consent: bool | None) -> int:
+        self.ctx.lead_only(s, "add clips")  # every door: add_clip, add_media, clip records
         if s.scalar(select(Clip.id).where(Clip.path == rel)) is not None:
             raise RecordError(f"{rel}: already in the project")
         clip = Clip(path=rel, sha256=digest, fps=info.fps, frame_count=info.frame_count,
@@ -232,6 +235,9 @@ class Catalog(Service):
         (columns ``path,group``); with neither, every clip is its own group. A file with the same
         SHA-256 as a clip already present (or added earlier in the same call) is added and
         listed in ``duplicates``."""
+        from .. import media
+        from ..media.scan import find_videos
+        self.ctx.check_lead("add clips")
         base = Path(folder)
         if not base.is_dir():
             raise RecordError(f"{folder}: not a folder")
@@ -286,6 +292,9 @@ class Catalog(Service):
         and identical are kept), so a retry after a kill makes no second copy. Returns the
         folder; :meth:`add_media` on it adds the clips (those present already are not added
         twice)."""
+        from .. import media
+        from ..media.copy_in import copy_target, copy_videos
+        self.ctx.check_lead("copy media into the project")
         src = Path(os.path.realpath(source))
         root = Path(os.path.realpath(self.ctx.media_root))
         if src == root or root in src.parents:
@@ -342,6 +351,7 @@ class Catalog(Service):
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         signed = value - (1 << 64) if value >= (1 << 63) else value
         def work(s: Session) -> None:
+            self.ctx.lead_only(s, "record clip fingerprints")
             self.ctx.clip(s, clip).fingerprint = signed
         self.ctx.write(work)
 
@@ -370,6 +380,7 @@ class Catalog(Service):
 def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
     """Header facts, SHA-256 and the true frame count (from the frame index, which is cached
     by content hash so the viewer does not index the file again)."""
+    from .. import media
     from ..media.index import load_or_build_index
     header = media.probe(path)
     digest = media.file_sha256(path)
@@ -381,6 +392,7 @@ def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
 
 def _shown_below(root: Path, path: Path) -> str:
     """``path`` relative to the media root where it lies below it, as printable text."""
+    from ..media._common import shown
     try:
         path = path.relative_to(root)
     except ValueError:
@@ -395,6 +407,7 @@ def _media_problem(path: Path, exc: Exception) -> str:
 
 
 def _read_group_csv(path: str | os.PathLike) -> dict[str, str]:
+    from ..export.csvsafe import read_cell
     out: dict[str, str] = {}
     try:
         with open(path, newline="", encoding="utf-8") as f:

@@ -3,18 +3,18 @@ person acting, and the resolution of references (a clip by id or path, a person 
 
 from __future__ import annotations
 
-import datetime as dt
 import os
 from collections.abc import Callable
 from pathlib import Path, PurePosixPath
 from typing import TYPE_CHECKING, Any, ContextManager, TypeVar
 
-from sqlalchemy import inspect, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import NotALeadError, ProjectError, RecordError
 from ..schema.settings import ProjectSettings
 from ..store.models import Annotator, Clip, Edit, Label, utcnow
+from ..store.history_values import json_value, row_dict  # noqa: F401 (used by the services)
 from ..store.unit_of_work import UnitOfWork, edit_time, session_edits
 from ..types import ClipRef
 
@@ -23,6 +23,8 @@ if TYPE_CHECKING:
 
 T = TypeVar("T")
 MAX_ID = 2**63 - 1  # the largest row id a database holds; bigger numbers name no row
+#: how every lead-only action is refused (see :meth:`Context.lead_only`)
+LEAD_ONLY = "only a lead may {what}; {who!r} is {role}"
 
 
 class Context:
@@ -154,6 +156,22 @@ class Context:
             raise NotALeadError(refusal.format(who=shown, what=what, role=role))
         return row
 
+    def lead_only(self, s: Session, what: str) -> None:
+        """The role check of every lead-only action, whatever the door (API, CLI, GUI): the
+        person acting must be a lead, else :class:`NotALeadError` (``what`` names the action).
+        A project with no lead yet lets whoever sets it up act as one.
+
+        On SQLite this guards against mistakes; it is no security boundary (whoever can write
+        the project's file can change anything in it). On a server the database enforces the
+        same rights by login, whatever the program."""
+        if s.scalar(select(Annotator.id).where(Annotator.role == "lead").limit(1)) is None:
+            return
+        self.require_lead(s, what, refusal=LEAD_ONLY)
+
+    def check_lead(self, what: str) -> None:
+        """:meth:`lead_only` in a read of its own, before work that writes later (or elsewhere)."""
+        self.read(lambda s: self.lead_only(s, what))
+
     # ---- edit history -----------------------------------------------------------------
     def log(self, s: Session, action: str, entity: str, entity_id: int | None,
             clip_id: int | None, before: dict | None, after: dict | None, *,
@@ -171,21 +189,6 @@ class Context:
 
 def _no_settings_writer(**_changes: Any) -> ProjectSettings:
     raise ProjectError("this project cannot change its settings")
-
-
-def row_dict(obj: Any) -> dict[str, Any]:
-    """Column values of an ORM row as JSON-safe data (for the edit history)."""
-    return {attr.key: json_value(getattr(obj, attr.key)) for attr in inspect(obj).mapper.column_attrs}
-
-
-def json_value(v: Any) -> Any:
-    """One column value as the edit history keeps it."""
-    if isinstance(v, dt.datetime):
-        # times are stored in UTC; SQLite hands them back without a zone, PostgreSQL with
-        # its own zone object: write one form so history rows compare equal
-        return (v.replace(tzinfo=dt.timezone.utc) if v.tzinfo is None
-                else v.astimezone(dt.timezone.utc)).isoformat()
-    return v
 
 
 def require(cond: bool, message: str) -> None:

@@ -1,8 +1,9 @@
 """Dataset export from a project: gathers plain inputs for the Qt-free export engine.
 
-Label policy: gold first, else majority vote (``min_agreement``). Segments: gold segments, else
-those of the first annotator (by name) whose label equals the exported label. Captions: by the
-caption policy (gold only, or gold plus agreeing annotators). Skips are not labels. Splits stay stable across exports: the
+Label policy: gold first, else majority vote (``min_agreement``). Segments: by the segment
+rule, which the export engine applies (gold only, or gold else the agreeing annotator who agrees
+best). Captions: by the caption policy (gold only, or gold plus agreeing annotators). Skips are
+not labels. Splits stay stable across exports: the
 assignment of the last export is kept in the project and passed in as ``frozen``.
 """
 
@@ -32,6 +33,7 @@ class Exporting(Service):
     def compute_fingerprints(self, *, progress: Progress = None,
                              cancel: threading.Event | None = None) -> int:
         """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
+        self.ctx.check_lead("record clip fingerprints")
         todo = [c for c in self.peers.catalog.clips() if c.fingerprint is None]
         for i, c in enumerate(todo):
             if progress:
@@ -59,12 +61,13 @@ class Exporting(Service):
         for clip, who, reason in self.peers.review.skips():
             if who not in leads:
                 skips[clip].append((who, reason))
-        segs: dict[tuple[int, str], list] = defaultdict(list)
-        for g in self.peers.annotation.segments():
-            segs[(g.clip, g.annotator)].append(g)
+        segs: dict[int, dict[str, list]] = defaultdict(lambda: defaultdict(list))
+        for g in self.peers.annotation.segments():  # ordered by clip, then name
+            if g.annotator not in leads:
+                segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
-        seg_by_id = {g.id: g for v in segs.values() for g in v}
+        seg_by_id = {g.id: g for g in self.peers.annotation.segments()}
         for cap in self.peers.annotation.caption_rows():
             if cap.annotator in leads:
                 continue
@@ -80,15 +83,7 @@ class Exporting(Service):
         out = []
         for c in self.peers.catalog.clips():
             votes = labels.get(c.id, [])
-            # the majority label does not depend on the minimum agreement (that only decides
-            # whether the clip is kept), so it is safe to pick segments with it here
-            decided = gold_labels.get(c.id) or export.decide_label(
-                [v for _, v in votes], min_agreement=0.0, require_label=False).label
-            if c.id in gold_segs:
-                chosen = gold_segs[c.id]
-            else:
-                who = sorted(w for w, v in votes if v == decided)
-                chosen = [export.SegmentInput(g.label, g.start, g.end) for g in segs.get((c.id, who[0]), [])] if who else []
+            own = tuple((who, tuple(v)) for who, v in segs.get(c.id, {}).items())
             fp = c.fingerprint
             out.append(export.ClipInput(
                 clip_id=str(c.id), media_path=c.path, group=c.group, sha256=c.sha256,
@@ -97,14 +92,16 @@ class Exporting(Service):
                 annotator_labels=tuple(votes), skipped=tuple(skips.get(c.id, ())),
                 gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
                 gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
-                segments=tuple(chosen), consent=c.consent, licence=c.licence,
+                segments=tuple(gold_segs.get(c.id, ())), annotator_segments=own,
+                consent=c.consent, licence=c.licence,
                 source_path=str(self.ctx.media_root / c.path)))
         return out
 
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
                     hamming_radius: int = 8, caption_threshold: float = 0.9,
-                    progress: Progress = None, captions: str = "gold") -> export.ExportPlan:
+                    progress: Progress = None, captions: str = "gold",
+                    segments: str = "gold+best") -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -112,7 +109,8 @@ class Exporting(Service):
         is the caption policy, ``"gold"`` or ``"gold+agreeing"`` (see
         :class:`clipscribe.export.LabelPolicy`); clips with fewer references than the caption
         guideline's captions per clip, and splits empty or far from their ratios, are in the
-        plan's ``warnings``.
+        plan's ``warnings``. ``segments`` is the segment rule, ``"gold+best"`` or ``"gold"``
+        (see :mod:`clipscribe.export.segment_choice`); both are recorded in the manifest.
         """
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
@@ -125,7 +123,8 @@ class Exporting(Service):
             return export.build_plan(
                 self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
                 project=self.ctx.settings.name, seed=seed, frozen=frozen,
-                **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold))
+                **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold,
+                                     segments))
         except ValueError as exc:
             raise RecordError(f"export: {exc}") from None
 
@@ -155,7 +154,7 @@ class Exporting(Service):
     def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
                    min_agreement: float = 0.6, hamming_radius: int = 8,
                    caption_threshold: float = 0.9, progress: Progress = None,
-                   captions: str = "gold") -> list[export.ExportPlan]:
+                   captions: str = "gold", segments: str = "gold+best") -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
         self._require_lead("export")
@@ -164,7 +163,7 @@ class Exporting(Service):
         try:
             opts = dict(project=self.ctx.settings.name, seed=seed,
                         **self._plan_options(min_agreement, captions, hamming_radius,
-                                             caption_threshold))
+                                             caption_threshold, segments))
             base = export.build_plan(inputs, {"all": 1.0}, **opts)
             items = [(c.clip_id, c.group, base.decisions[c.clip_id].label) for c in base.clips]
             folds = export.assign_folds(items, k, seed=seed, val_fraction=val_fraction)
@@ -213,18 +212,17 @@ class Exporting(Service):
         return manifests
 
     def _plan_options(self, min_agreement: float, captions: str, hamming_radius: int,
-                      caption_threshold: float) -> dict[str, Any]:
+                      caption_threshold: float, segments: str) -> dict[str, Any]:
         """Options of :func:`clipscribe.export.build_plan` that come from the project."""
-        return dict(policy=export.LabelPolicy(min_agreement=min_agreement, captions=captions),
+        policy = export.LabelPolicy(min_agreement=min_agreement, captions=captions,
+                                    segments=segments)
+        return dict(policy=policy,
                     require_consent=self.ctx.settings.require_consent, hamming_radius=hamming_radius,
                     caption_threshold=caption_threshold,
                     captions_wanted=self.ctx.settings.caption_guideline.captions_per_clip)
 
     def _require_lead(self, what: str) -> None:
-        self.ctx.read(lambda s: self.ctx.require_lead(
-            s, what, refusal="only a lead may {what}; {who!r} is not a lead"))
-        if self.ctx.is_server:
-            self.peers.team.require_export_right()  # the server decides by the login, not by self.ctx.user
+        self.peers.team.require_export_right()  # on a server the database decides by the login too
 
 
 def _recorded_or_removed(record: Callable[[], Any], out: Path) -> None:

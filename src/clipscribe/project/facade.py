@@ -46,8 +46,6 @@ from ..types import (
     TrendPoint,
 )
 from . import opening
-from .analysis import AgreementReport
-from .catalog import LabelSpec, Progress
 from .context import Context
 from .services import Peers
 
@@ -55,6 +53,9 @@ if TYPE_CHECKING:
     import threading
 
     from .. import export
+    from ..schema.settings import LabelSpec
+    from .analysis import AgreementReport
+    from .catalog import Progress
 
 T = TypeVar("T")
 DB_FILE = "project.sqlite"
@@ -72,12 +73,20 @@ class Project:
         self._uow = UnitOfWork(engine, folder)
         self._ctx = Context(folder, settings, self._uow)
         self._ctx.update_settings = self.update_settings
-        peers = Peers(self._ctx)
-        self._peers = peers
-        self._catalog, self._annotation, self._workbench = peers.catalog, peers.annotation, peers.workbench
-        self._gold, self._history, self._records = peers.gold, peers.history, peers.records
-        self._review, self._analysis, self._exporting = peers.review, peers.analysis, peers.exporting
-        self._team = peers.team
+        self._peers = Peers(self._ctx)
+
+    # the services, each made (and its module imported) on first use
+    _catalog = property(lambda self: self._peers.catalog)
+    _annotation = property(lambda self: self._peers.annotation)
+    _workbench = property(lambda self: self._peers.workbench)
+    _gold = property(lambda self: self._peers.gold)
+    _history = property(lambda self: self._peers.history)
+    _records = property(lambda self: self._peers.records)
+    _review = property(lambda self: self._peers.review)
+    _analysis = property(lambda self: self._peers.analysis)
+    _exporting = property(lambda self: self._peers.exporting)
+    _team = property(lambda self: self._peers.team)
+    _suggestions = property(lambda self: self._peers.suggestions)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -310,7 +319,9 @@ class Project:
 
         ``together_with`` (a database write) runs after the new file is fully written under a
         temporary name and before it is renamed into place: when either fails, neither the
-        database nor the settings file changes (a full disk fails the file write first)."""
+        database nor the settings file changes (a full disk fails the file write first).
+        Lead only."""
+        self._ctx.check_lead("change the project settings")
         try:
             cfg = ProjectSettings.model_validate({**self.settings.model_dump(), **changes})
         except ValidationError as exc:
@@ -327,12 +338,16 @@ class Project:
         return cfg
 
     def set_caption_rules(self, *, captions_per_clip: int | None = None,
-                          min_words: int | None = None, max_words: int | None = None) -> ProjectSettings:
+                          min_words: int | None = None, max_words: int | None = None,
+                          at_submit: str | None = None) -> ProjectSettings:
         """Change the caption guideline's numbers (those given); the fewest words may not
-        exceed the most. RecordError names the setting at fault."""
+        exceed the most. ``at_submit`` is what submitting captions that miss the guideline
+        does: "off", "warn" (an override with a reason lets it through, recorded) or "block".
+        RecordError names the setting at fault."""
         g = self.settings.caption_guideline.model_dump()
         g.update({k: v for k, v in (("captions_per_clip", captions_per_clip),
-                                    ("min_words", min_words), ("max_words", max_words)) if v is not None})
+                                    ("min_words", min_words), ("max_words", max_words),
+                                    ("at_submit", at_submit)) if v is not None})
         if g["min_words"] > g["max_words"]:
             raise RecordError(f"caption rules: min_words {g['min_words']} is more than "
                               f"max_words {g['max_words']}")
@@ -417,6 +432,15 @@ class Project:
     def groups(self) -> list[str]:
         return self._catalog.groups()
 
+    def set_clip_facts(self, clip: ClipRef, *, group: Any = ..., consent: Any = ...,
+                       licence: Any = ..., source: Any = ...) -> bool:
+        """Change facts of a clip already added: its ``group`` (the unit kept on one side of a
+        split), ``consent``, ``licence`` and ``source``. Only the facts given change; None makes
+        a fact unknown (a clip without a group is its own group). Lead only. One edit in the
+        history, undone by :meth:`revert` like other edits; returns False when nothing changed."""
+        return self._peers.clip_facts.set_clip_facts(clip, group=group, consent=consent,
+                                                      licence=licence, source=source)
+
     def set_fingerprint(self, clip: ClipRef, value: int) -> None:
         """Store a clip's 64-bit perceptual fingerprint (kept as a signed 64-bit integer)."""
         return self._catalog.set_fingerprint(clip, value)
@@ -483,9 +507,17 @@ class Project:
         return self._annotation.caption_rows(clip=clip, annotator=annotator)
 
     def set_clip_state(
-            self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None) -> None:
-        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``."""
-        return self._annotation.set_clip_state(clip, annotator, state, reason)
+            self, clip: ClipRef, annotator: Any, state: str, reason: str | None = None, *,
+            override: str | None = None) -> None:
+        """Mark one's work on a clip: ``submitted``, ``skipped`` (needs a reason), ``unsure`` or ``open``.
+
+        When the project checks the caption guideline at submit (``caption_guideline.at_submit``
+        "warn" or "block", see :meth:`set_caption_rules`), submitting captions that miss it
+        raises :class:`~clipscribe.errors.GuidelineNotMet` listing what is missing. With "warn",
+        ``override`` (a reason) submits anyway and the edit history records the override and
+        what it let through; "block" refuses overrides. Any later edit of one's own submitted
+        clip (label, segment, caption) reopens it, recorded in the history and undone with it."""
+        return self._annotation.set_clip_state(clip, annotator, state, reason, override=override)
 
     def clip_state(self, clip: ClipRef, annotator: Any = None) -> tuple[str, str | None]:
         return self._annotation.clip_state(clip, annotator)
@@ -643,9 +675,9 @@ class Project:
         return self._records.import_labels_csv(path, progress=progress, cancel=cancel)
 
     def iter_records(self):
-        """Every clip, label, segment, caption, gold decision and lead comment as interchange
-        records (comments: those this login may read; on a server an annotator reads only the
-        ones addressed to them).
+        """Every clip, label, segment, caption, gold decision, lead comment and clip state
+        (submitted, skipped with its reason, unsure) as interchange records (comments: those
+        this login may read; on a server an annotator reads only the ones addressed to them).
 
         Built from stored rows without validating them again, so a row stored before a limit
         existed is still written out (an import then names it)."""
@@ -673,17 +705,23 @@ class Project:
         name. A skip is not a label: agreement and exports leave the skipper's label out."""
         return self._review.skips(clip)
 
+    def unsure_flags(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator, note)`` of every clip flagged unsure (or of one clip), by clip
+        and name; note "" when none was given. Unlike a skip, the flagger's label counts."""
+        return self._review.unsure_flags(clip)
+
     def review_queue(
-            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200) -> list[DisputedClip]:
+            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
-        person labelled, segmented or captioned; ``group`` keeps one group. Pass a ready
-        ``report`` to skip recomputing it. Leads only.
+        person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
+        clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
+        it. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -719,12 +757,45 @@ class Project:
         ch. 11)."""
         return self._review.agreement_trend(window=window, by=by)
 
+    # ---- label suggestions (Suggestions) --------------------------------------------
+    def train_suggester(self, *, progress: Progress = None,
+                        cancel: threading.Event | Callable[[], bool] | None = None,
+                        min_agreement: float = 0.6, seed: int = 0) -> Any:
+        """Compute missing clip features, then train the suggester on the labelled clips
+        (labels by the export label policy). Too few labels raise
+        :class:`~clipscribe.errors.NotEnoughLabels` ("not enough labels yet: N of M")."""
+        return self._suggestions.train_suggester(progress=progress, cancel=cancel,
+                                                 min_agreement=min_agreement, seed=seed)
+
+    def suggest(self, clip: ClipRef) -> list[tuple[str, float]]:
+        """``[(label, probability), ...]`` best first; ``[]`` when there is no model yet (see
+        :meth:`suggestion_reason`). Never sets a label."""
+        return self._suggestions.suggest(clip)
+
+    def suggestion_reason(self, clip: ClipRef | None = None) -> str:
+        """Why :meth:`suggest` gives nothing ("" when it gives suggestions)."""
+        return self._suggestions.suggestion_reason(clip)
+
+    def compare_streams(self, folds: int = 5, seed: int = 0, *, progress: Progress = None,
+                        cancel: threading.Event | Callable[[], bool] | None = None,
+                        min_agreement: float = 0.6, n_boot: int = 1000) -> Any:
+        """Grouped cross-validation of the "single-frame", "appearance", "motion" and "fused"
+        streams: ``.accuracy``, ``.macro_f1``, ``.predictions`` (out-of-fold label per clip id),
+        ``.confusion``, ``.intervals``, ``.weight`` and ``.recipe`` (see
+        :class:`clipscribe.features.models.StreamComparison`)."""
+        return self._suggestions.compare_streams(folds, seed, progress=progress, cancel=cancel,
+                                                 min_agreement=min_agreement, n_boot=n_boot)
+
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(
-            self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000) -> AgreementReport:
+            self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000,
+            truth_model: str = "full") -> AgreementReport:
         """Labels, segments and captions agreement over every annotator's work (leads' gold
-        decisions excluded), with bootstrap confidence intervals resampling clips."""
-        return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot)
+        decisions excluded), with bootstrap confidence intervals resampling clips, and the
+        annotator reliability section (``.reliability``: inferred labels by Dawid-Skene with
+        ``truth_model`` "full" or "one-coin", and check-clip accuracy)."""
+        return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot,
+                                               truth_model=truth_model)
 
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""
@@ -741,7 +812,7 @@ class Project:
         return self._exporting.export_inputs()
 
     def plan_export(
-            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold") -> export.ExportPlan:
+            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -749,9 +820,12 @@ class Project:
         is the caption policy, ``"gold"`` or ``"gold+agreeing"`` (see
         :class:`clipscribe.export.LabelPolicy`); clips with fewer references than the caption
         guideline's captions per clip, and splits empty or far from their ratios, are in the
-        plan's ``warnings``.
+        plan's ``warnings``. ``segments`` is the segment rule: ``"gold+best"`` (gold segments,
+        else those of the agreeing annotator who agrees best with the others, else none) or
+        ``"gold"`` (gold segments, else none); the manifest records both rules and how many
+        repeated reference captions were dropped.
         """
-        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions)
+        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
 
     def write_export(
             self, out_dir: str | os.PathLike, plan: export.ExportPlan, *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, overwrite: bool = False, progress: Progress = None, cancel: threading.Event | None = None):
@@ -760,10 +834,10 @@ class Project:
         return self._exporting.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt, override_reason=override_reason, overwrite=overwrite, progress=progress, cancel=cancel)
 
     def plan_folds(
-            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold") -> list[export.ExportPlan]:
+            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
-        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions)
+        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
 
     def write_folds(
             self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, progress: Progress = None, cancel: threading.Event | None = None) -> list:

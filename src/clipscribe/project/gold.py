@@ -27,6 +27,9 @@ from .context import Service, require, row_dict
 
 class Gold(Service):
     def _lead(self, s: Session, lead: Any) -> Annotator:
+        """The lead a decision is recorded under (default: the person acting), who must be a
+        lead; so must the person acting, when they name someone else."""
+        self.ctx.lead_only(s, "settle gold or comment")
         return self.ctx.require_lead(s, "settle gold", lead)
 
     def gold_label_version(self, clip: ClipRef) -> int:

@@ -2,17 +2,18 @@
 
 from __future__ import annotations
 
-import datetime as dt
 from typing import Any
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ..errors import StaleWriteError
+from ..store.history_values import row_values
 from ..store.models import (
     Annotator,
     Assignment,
     Caption,
+    Clip,
     ClipLabel,
     Edit,
     GoldCaption,
@@ -23,13 +24,11 @@ from ..store.models import (
 from ..types import ClipRef, EditInfo  # noqa: F401 (re-exported)
 from .context import Service, require, row_dict
 
-ENTITIES = {"clip_label": ClipLabel, "segment": Segment, "caption": Caption,
+ENTITIES = {"clip": Clip, "clip_label": ClipLabel, "segment": Segment, "caption": Caption,
             "assignment": Assignment, "gold_label": GoldLabel, "gold_segment": GoldSegment,
             "gold_caption": GoldCaption}
 _UNDOABLE = set(ENTITIES)
 _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own work on a clip
-
-
 
 
 class History(Service):
@@ -57,7 +56,9 @@ class History(Service):
             out = []
             for eid in sorted(edit_ids, reverse=True):
                 e = s.get(Edit, eid)
-                require(e is not None and e.entity in _UNDOABLE, f"edit {eid}: cannot be undone")
+                require(e is not None and e.entity in _UNDOABLE
+                        and (e.entity != "clip" or e.action in ("facts", "undo")),
+                        f"edit {eid}: cannot be undone")
                 out.append(self._restore(s, e).id)
             return out
         return self.ctx.write(work)
@@ -100,13 +101,15 @@ class History(Service):
         model = ENTITIES[e.entity]
         row = s.get(model, e.entity_id)
         now = row_dict(row) if row is not None else None
+        if now is not None and e.after is not None:  # an edit of some columns compares those
+            now = {k: now[k] for k in e.after if k in now}
         if (now is None) != (e.after is None) or (now and e.after and _content(now) != _content(e.after)):
             raise StaleWriteError(f"edit {e.id}: the {e.entity.replace('_', ' ')} changed since; "
                                   "undo would overwrite newer work")
         if e.before is None:
             s.delete(row)
         else:
-            values = {k: _from_json(v) for k, v in e.before.items() if k != "version"}
+            values = row_values(model, {k: v for k, v in e.before.items() if k != "version"})
             if row is None:
                 row = model(**values)
                 s.add(row)
@@ -117,7 +120,6 @@ class History(Service):
         s.flush()
         return self.ctx.log(s, "undo", e.entity, e.entity_id, e.clip_id, now,
                          row_dict(row) if e.before is not None else None, reverts=e.id)
-
 
 
 def _step_words(rows: list[EditInfo]) -> str:
@@ -137,11 +139,3 @@ def _content(row: dict) -> dict:
     """A row's values without the bookkeeping columns (version, timestamps)."""
     return {k: v for k, v in row.items() if k not in ("version", "updated_at")}
 
-
-def _from_json(v: Any) -> Any:
-    if isinstance(v, str) and len(v) >= 19 and v[4] == "-" and v[10] == "T":
-        try:
-            return dt.datetime.fromisoformat(v)
-        except ValueError:
-            return v
-    return v

@@ -87,6 +87,27 @@ def with_login(url: str, user: str | None, password: str | None) -> str:
     return u.render_as_string(hide_password=False)
 
 
+def with_password(url: str, password: str) -> str:
+    """A server URL with ``password`` put in (for this connection only)."""
+    from sqlalchemy.engine import make_url
+    return make_url(url).set(password=password).render_as_string(hide_password=False)
+
+
+def secret_warning(url: str | None, where: str) -> str | None:
+    """The warning to print when ``url`` (given as ``where``) carries a secret, else None."""
+    from ..store.urls import secret_warning as warning
+    return warning(url, where)
+
+
+def explain_fault(exc: BaseException, where: Path | str | None) -> str | None:
+    """One plain line for a database fault a user can meet (read-only file, full disk,
+    damaged file, busy database), or None when ``exc`` is no database fault."""
+    from sqlalchemy.exc import DBAPIError
+
+    from ..store.sqlite_check import explain
+    return explain(exc, where) if isinstance(exc, DBAPIError) else None
+
+
 def without_password(url: str | None) -> str | None:
     """The URL to keep in the settings file: never a password, in user-info or query
     (libpq's ~/.pgpass has it)."""

@@ -15,7 +15,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from .. import media
-from ..errors import RecordError
+from ..errors import PermissionRefused, RecordError
 from ..export import csvsafe, jsonl
 from ..schema.records import (
     RECORD_TYPES,
@@ -25,9 +25,10 @@ from ..schema.records import (
     GoldRecord,
     LabelRecord,
     SegmentRecord,
+    StateRecord,
     parse_record,
 )
-from ..store.models import Annotator, Clip, ReviewComment, Segment
+from ..store.models import Annotator, Assignment, Clip, ReviewComment, Segment
 from .bulk import TICK_EVERY, BulkImport, Lookup
 from .catalog import Progress, probe_media
 from .context import Service
@@ -133,7 +134,22 @@ class Records(Service):
             return 1
         if isinstance(rec, CommentRecord):
             return self._import_comment(s, rec)
+        if isinstance(rec, StateRecord):
+            return self._import_state(s, rec)
         raise AssertionError(rec)
+
+    def _import_state(self, s: Session, rec: StateRecord) -> int:
+        """One person's state of a clip, as it was (a record of work done, so the guideline
+        is not checked again); the same state again changes nothing."""
+        c, a = self.ctx.clip(s, rec.clip), self.ctx.annotator(s, rec.annotator)
+        row = s.scalar(select(Assignment).where(Assignment.clip_id == c.id,
+                                                Assignment.annotator_id == a.id))
+        if row is not None and (row.state, row.reason) == (rec.state, rec.reason):
+            return 0
+        if row is None and rec.state == "open" and rec.reason is None:
+            return 0
+        self.peers.annotation._set_clip_state(s, c, a, rec.state, rec.reason, check=False)
+        return 1
 
     def _import_comment(self, s: Session, rec: CommentRecord) -> int:
         c, who = self.ctx.clip(s, rec.clip), self.peers.gold._lead(s, rec.annotator)
@@ -200,9 +216,9 @@ class Records(Service):
 
     # ---- export -----------------------------------------------------------------------
     def iter_records(self) -> list[Any]:
-        """Every clip, label, segment, caption, gold decision and lead comment as interchange
-        records (comments: those this login may read; on a server an annotator reads only the
-        ones addressed to them).
+        """Every clip, label, segment, caption, gold decision, lead comment and clip state
+        (submitted, skipped with its reason, unsure) as interchange records (comments: those
+        this login may read; on a server an annotator reads only the ones addressed to them).
 
         Built from stored rows without validating them again, so a row stored before a limit
         existed is still written out (an import then names it)."""
@@ -237,6 +253,9 @@ class Records(Service):
             out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], captions=caps))
         for clip, to, lead, text in self.peers.gold.comments():
             out.append(CommentRecord.model_construct(clip=paths[clip], annotator=lead, to=to, text=text))
+        for clip, who, state, reason in self.ctx.read(_states):  # last: edits above would reopen
+            out.append(StateRecord.model_construct(clip=paths[clip], annotator=who, state=state,
+                                                   reason=reason))
         return out
 
     @staticmethod
@@ -276,6 +295,17 @@ class Records(Service):
                 w.writerow([paths[clip], who, label])
         _write_atomically(Path(path), write, newline="")
         return len(rows)
+
+
+def _states(s: Session) -> list[tuple[int, str, str, str | None]]:
+    """``(clip id, annotator, state, reason)`` of every state worth keeping: submitted,
+    skipped, unsure, or open with a note (leases that expired are the pool's, not work)."""
+    stmt = (select(Assignment.clip_id, Annotator.name, Assignment.state, Assignment.reason)
+            .join(Annotator, Annotator.id == Assignment.annotator_id)
+            .where(Assignment.state.in_(("submitted", "skipped", "unsure"))
+                   | ((Assignment.state == "open") & Assignment.reason.is_not(None)))
+            .order_by(Assignment.clip_id, Annotator.name))
+    return [tuple(r) for r in s.execute(stmt)]
 
 
 def _write_atomically(dst: Path, write, *, newline: str) -> None:
@@ -370,6 +400,8 @@ def _in_file(src: Path, line: int, exc: RecordError) -> RecordError:
     """A refusal of one record as the import names it: file, line and field."""
     if str(exc).startswith(f"{src}:"):
         return exc
+    if isinstance(exc, PermissionRefused):  # about the person acting, not a field: same kind
+        return type(exc)(f"{src}:{line}: {exc}")
     field = "annotator" if "annotator" in str(exc) else "label" if "label " in str(exc) else "clip"
     return RecordError(f"{src}:{line}: field '{field}': {exc}")
 

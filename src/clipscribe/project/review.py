@@ -7,13 +7,13 @@ import datetime as dt
 import math
 from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import Annotator, Assignment, GoldCaption
+from ..store.models import Annotator, Assignment, Edit, GoldCaption
 from ..types import (  # noqa: F401 (re-exported)
     IDLE_SECONDS,
     ClipComparison,
@@ -63,10 +63,18 @@ class Review(Service):
     def skips(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator, reason)`` of every skipped clip (or of one clip), by clip and
         name. A skip is not a label: agreement and exports leave the skipper's label out."""
+        return self._in_state("skipped", clip)
+
+    def unsure_flags(self, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
+        """``(clip id, annotator, note)`` of every clip flagged unsure (note "" when none
+        was given), by clip and name. An unsure flag is not a skip: the label still counts."""
+        return self._in_state("unsure", clip)
+
+    def _in_state(self, state: str, clip: ClipRef | None) -> list[tuple[int, str, str]]:
         def q(s: Session) -> list[tuple[int, str, str]]:
             stmt = (select(Assignment.clip_id, Annotator.name, Assignment.reason)
                     .join(Annotator, Annotator.id == Assignment.annotator_id)
-                    .where(Assignment.state == "skipped")
+                    .where(Assignment.state == state)
                     .order_by(Assignment.clip_id, Annotator.name))
             if clip is not None:
                 stmt = stmt.where(Assignment.clip_id == self.ctx.clip(s, clip).id)
@@ -76,14 +84,15 @@ class Review(Service):
     # ---- the queue ----------------------------------------------------------------------
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
                      group: str | None = None, report: Any = None, seed: int = 0,
-                     n_boot: int = 200) -> list[DisputedClip]:
+                     n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
-        person labelled, segmented or captioned; ``group`` keeps one group. Pass a ready
-        ``report`` to skip recomputing it. Leads only.
+        person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
+        clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
+        it. Leads only.
         """
         self.check_reviewer()
         rep = report if report is not None else self.peers.analysis.agreement_report(seed=seed, n_boot=n_boot)
@@ -93,6 +102,10 @@ class Review(Service):
         skips: dict[int, dict[str, str]] = {}
         for c, a, why in self.skips():
             skips.setdefault(c, {})[a] = why
+        unsure: dict[int, dict[str, str]] = {}
+        for c, a, note in self.unsure_flags():
+            if a in workers:
+                unsure.setdefault(c, {})[a] = note
         for c, a, lab in self.peers.annotation.clip_labels():
             if a in workers and a not in skips.get(c, {}):  # a skip is no vote
                 by_clip.setdefault(c, {})[a] = lab
@@ -108,24 +121,25 @@ class Review(Service):
             cid = int(row.clip)
             seen.add(cid)
             out.append(self._disputed(len(out) + 1, clips.get(cid), row, by_clip.get(cid, {}),
-                                      gold.get(cid), skips.get(cid, {})))
+                                      gold.get(cid), skips.get(cid, {}), unsure.get(cid, {})))
         nan = float("nan")
         for cid in clips:  # clips nobody worked on come last
             if cid not in seen:
                 out.append(DisputedClip(len(out) + 1, cid, clips[cid].path, clips[cid].group,
                                         nan, nan, nan, nan, {}, gold.get(cid),
-                                        skips.get(cid, {})))
+                                        skips.get(cid, {}), unsure.get(cid, {})))
         keep = [r for r in out if r.path is not None
                 and (label is None or label in r.labels.values())
                 and (annotator is None or annotator in worked.get(r.clip, ()))
-                and (group is None or r.group == group)]
+                and (group is None or r.group == group)
+                and (not flagged or bool(r.skipped or r.unsure))]
         return keep
 
     @staticmethod
-    def _disputed(rank, info, row, labels, gold, skipped) -> DisputedClip:
+    def _disputed(rank, info, row, labels, gold, skipped, unsure) -> DisputedClip:
         return DisputedClip(rank, int(row.clip), info.path if info else None,
                             info.group if info else None, row.label_disagreement, row.segment_f1,
-                            row.caption_bleu, row.caption_cider, labels, gold, skipped)
+                            row.caption_bleu, row.caption_cider, labels, gold, skipped, unsure)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -141,6 +155,7 @@ class Review(Service):
         info = self.peers.catalog.clip(clip)
         workers = self._workers()
         skipped = {a: why for _, a, why in self.skips(info.id) if a in workers}
+        unsure = {a: note for _, a, note in self.unsure_flags(info.id) if a in workers}
         labels = {a: lab for c, a, lab in self.peers.annotation.clip_labels(clip=info.id)
                   if a in workers and a not in skipped}
         segs: dict[str, list[SegmentInfo]] = {}
@@ -151,7 +166,7 @@ class Review(Service):
         for c in self.peers.annotation.caption_rows(clip=info.id):
             if c.annotator in workers:
                 caps.setdefault(c.annotator, []).append(c)
-        names = sorted(set(labels) | set(segs) | set(caps) | set(skipped))
+        names = sorted(set(labels) | set(segs) | set(caps) | set(skipped) | set(unsure))
         scores = {}
         if report is not None:
             row = next((r for r in report.clips if int(r.clip) == info.id), None)
@@ -161,7 +176,8 @@ class Review(Service):
             info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
             caps, self.peers.gold.gold_labels().get(info.id),
             [(lab, s, e) for _, lab, s, e in self.peers.gold.gold_segments(info.id)],
-            self.gold_caption_rows(info.id), self.peers.gold.comments(info.id), scores, skipped)
+            self.gold_caption_rows(info.id), self.peers.gold.comments(info.id), scores, skipped,
+            unsure)
 
     def gold_caption_rows(self, clip: ClipRef) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""
@@ -179,14 +195,19 @@ class Review(Service):
         row changed (an import by the lead counts for the annotator it was for)."""
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
         workers = self._workers()
+        # four plain columns of the history, not whole history rows with their JSON: a big
+        # project has hundreds of thousands of them
+        owner = func.coalesce(Edit.after["annotator_id"].as_integer(),
+                              Edit.before["annotator_id"].as_integer())
+        stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
+                .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
+                .order_by(Edit.id))
         out = []
-        for e in self.peers.history.history():
-            if e.entity not in WORK_ENTITIES or e.clip is None:
-                continue
-            row = e.after or e.before or {}
-            name = ids.get(row.get("annotator_id"), e.who)
+        for at, row_owner, who, clip in self.ctx.read(lambda s: s.execute(stmt).all()):
+            name = ids.get(row_owner) if row_owner is not None else None
+            name = name if name is not None else ids.get(who)
             if name in workers:
-                out.append((e.at, name, e.clip))
+                out.append((at, name, clip))
         return out
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:

@@ -105,6 +105,8 @@ class Team(Service):
         require(self.ctx.is_server, "logins exist only in server projects")
         def work(s: Session) -> str:
             row = self.ctx.annotator(s, name)
+            if row.name != self.ctx.user:  # one's own password: anyone; another's: leads
+                self.ctx.lead_only(s, "set another person's password")
             if row.db_login and team.role_exists(s.connection(), row.db_login):
                 try:
                     team.set_password(s.connection(), row.db_login, password)
@@ -290,10 +292,9 @@ class Team(Service):
 
     # ---- export -----------------------------------------------------------------------
     def require_export_right(self) -> None:
-        """Only leads export. On a server the database decides (``clipscribe_is_lead()``)."""
-        if self.ctx.is_server:
-            ok = self.ctx.read(lambda s: bool(s.scalar(text("SELECT clipscribe_is_lead()"))))
-        else:
-            ok = self.ctx.user is None or self.peers.catalog.role(self.ctx.user) in (None, "lead")
-        if not ok:
+        """Only leads export: the one lead check (:meth:`Context.lead_only`); on a server the
+        database decides too (``clipscribe_is_lead()``, by the login)."""
+        self.ctx.check_lead("export")
+        if self.ctx.is_server and not self.ctx.read(
+                lambda s: bool(s.scalar(text("SELECT clipscribe_is_lead()")))):
             raise NotALeadError(f"{self.ctx.user!r} is not a lead: only leads export")

@@ -10,7 +10,7 @@ from typing import Any
 from .._version import __version__
 from ..agreement.interpret import BANDS, CITATION
 from . import colours as C
-from .figures import Figure, bar_chart, heat_map, interval_chart, line_chart
+from .figures import Figure, bar_chart, heat_map, interval_chart, line_chart, note_figure
 
 QUEUE_TOP = 20
 
@@ -32,6 +32,10 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
     rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
     queue = project.review_queue(report=rep)
     clips = project.clips()
+    paths = {c.id: c.path for c in clips}
+    workers = {a.name for a in project.annotators() if a.role != "lead"}
+    flags = sorted([(c, a, "skipped", why) for c, a, why in project.skips()]
+                   + [(c, a, "unsure", note) for c, a, note in project.unsure_flags()])
     return {
         "meta": {"project": project.settings.name, "tool": "clipscribe", "version": __version__,
                  "made": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
@@ -52,8 +56,17 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
                    "label_disagreement": _clean(r.label_disagreement),
                    "segment_f1": _clean(r.segment_f1), "caption_bleu": _clean(r.caption_bleu),
                    "caption_cider": _clean(r.caption_cider), "labels": r.labels,
-                   "gold_label": r.gold_label} for r in queue[:QUEUE_TOP]],
+                   "gold_label": r.gold_label, "skipped": r.skipped, "unsure": r.unsure}
+                  for r in queue[:QUEUE_TOP]],
+        "flags": [{"clip": c, "path": paths.get(c), "annotator": a, "state": st, "reason": why}
+                  for c, a, st, why in flags if a in workers],
     }
+
+
+def not_measured(data: dict, part: str) -> str | None:
+    """Why ``part`` ("labels", "segments", "captions") of the report was not measured, or None."""
+    why = data["agreement"].get("not_measured", {}).get(part)
+    return f"Not measured: {why}." if why else None
 
 
 def _tip(head: str, recipe: dict | None) -> str:
@@ -68,6 +81,9 @@ def _ci(ci: dict | None) -> str:
 
 
 def label_alpha_figure(data: dict) -> Figure:
+    title = "Label agreement: Krippendorff alpha with 95% interval"
+    if why := not_measured(data, "labels"):
+        return note_figure(title, why)
     lab = data["agreement"]["labels"]
     rows = []
     if lab:
@@ -80,7 +96,7 @@ def label_alpha_figure(data: dict) -> Figure:
             rows.append((name, s["value"], s["ci"].get("low"), s["ci"].get("high"),
                          _tip(f"alpha for “{name}” vs the rest = {_v(s['value'])} "
                               f"({s['band']}){_ci(s['ci'])}", s["recipe"])))
-    return interval_chart("Label agreement: Krippendorff alpha with 95% interval", rows,
+    return interval_chart(title, rows,
                           bands=[(b, n) for b, n in data["meta"]["bands"]])
 
 
@@ -89,6 +105,8 @@ def _v(x) -> str:
 
 
 def pairwise_figure(data: dict) -> Figure:
+    if why := not_measured(data, "labels"):
+        return note_figure("Pairwise Cohen kappa", why, width=300)
     lab = data["agreement"]["labels"] or {"annotators": [], "pairs": []}
     names = lab["annotators"]
     ix = {n: i for i, n in enumerate(names)}
@@ -107,6 +125,8 @@ def pairwise_figure(data: dict) -> Figure:
 
 def confusion_figure(data: dict, pair: int = 0) -> Figure:
     lab = data["agreement"]["labels"]
+    if why := not_measured(data, "labels"):
+        return note_figure("Confusion matrix", why, width=300)
     if not lab or not lab["pairs"]:
         return Figure("Confusion matrix: no pair of annotators", 300, 40)
     p = lab["pairs"][pair]
@@ -123,6 +143,10 @@ def confusion_figure(data: dict, pair: int = 0) -> Figure:
 
 
 def consensus_figures(data: dict) -> tuple[Figure, Figure]:
+    bleu_title, cider_title = ("Caption consensus: leave-one-out BLEU",
+                               "Caption consensus: CIDEr-D")
+    if why := not_measured(data, "captions"):
+        return note_figure(bleu_title, why), note_figure(cider_title, why)
     caps = data["agreement"]["captions"]
     rows_b, rows_c = [], []
     if caps:
@@ -133,8 +157,7 @@ def consensus_figures(data: dict) -> tuple[Figure, Figure]:
         for name, v in caps["cider"]["per_annotator"].items():
             rows_c.append((name, v, _tip(f"{name}: mean CIDEr-D {_v(v)}",
                                          caps["cider"]["recipe"])))
-    return (bar_chart("Caption consensus: leave-one-out BLEU", rows_b, fmt="{:.1f}"),
-            bar_chart("Caption consensus: CIDEr-D", rows_c, fmt="{:.2f}"))
+    return (bar_chart(bleu_title, rows_b, fmt="{:.1f}"), bar_chart(cider_title, rows_c, fmt="{:.2f}"))
 
 
 def throughput_figure(data: dict) -> Figure:
@@ -145,6 +168,8 @@ def throughput_figure(data: dict) -> Figure:
 
 
 def trend_figure(data: dict) -> Figure:
+    if not data["trend"] and (why := not_measured(data, "labels")):
+        return note_figure("Label agreement over time", why)
     weekly = any(t.get("period") for t in data["trend"])
     pts = [(f"{t['period'] or '#' + str(t['window'])} ({len(t['clips'])} clips)", t["alpha"], _tip(
         f"{'week ' + t['period'] if t.get('period') else 'window ' + str(t['window'])}: clips "
@@ -164,4 +189,15 @@ def board_figures(data: dict) -> dict[str, Figure]:
         figs[f"confusion_{k}"] = confusion_figure(data, k)
     figs.update({"caption_bleu": bleu, "caption_cider": cider,
                  "throughput": throughput_figure(data), "trend": trend_figure(data)})
+    figs.update(reliability_figures(data))
     return figs
+
+
+def reliability_figures(data: dict) -> dict[str, Figure]:
+    """The annotator reliability panel and the leave-one-out ROUGE-L and chrF bars."""
+    from .reliability import check_accuracy_figure, confusion_grid_figure, overlap_figure
+
+    return {"reliability": confusion_grid_figure(data),
+            "check_accuracy": check_accuracy_figure(data),
+            "caption_rouge_l": overlap_figure(data, "rouge_l"),
+            "caption_chrf": overlap_figure(data, "chrf")}

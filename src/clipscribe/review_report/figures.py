@@ -80,6 +80,23 @@ def _num(v: float | None, fmt: str = "{:.2f}") -> str:
     return "–" if v is None or (isinstance(v, float) and math.isnan(v)) else fmt.format(v)
 
 
+def note_figure(title: str, note: str, *, width: float = 420) -> Figure:
+    """A figure with nothing to draw: its title and, below it, why (wrapped to ``width``)."""
+    width = max(width, text_width(title, 13) + 12)
+    per_line = max(20, int(width / (11 * CHAR_W)))
+    lines: list[str] = []
+    for word in note.split():
+        if lines and len(lines[-1]) + 1 + len(word) <= per_line:
+            lines[-1] += " " + word
+        else:
+            lines.append(word)
+    fig = Figure(title, width, 30 + 16 * len(lines) + 8)
+    fig.add(Text(0, 16, title, 13, bold=True))
+    for i, line in enumerate(lines):
+        fig.add(Text(0, 38 + 16 * i, line, 11, "start", C.MUTED))
+    return fig
+
+
 def heat_map(title: str, rows: Sequence[str], cols: Sequence[str],
              values: Sequence[Sequence[float | None]], *, colour: Callable[[float | None], str],
              cell_text: Callable[[float | None], str], tips: Sequence[Sequence[str]],

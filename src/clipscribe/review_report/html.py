@@ -11,8 +11,8 @@ from html import escape
 from pathlib import Path
 from typing import Callable
 
-from . import tables
-from .board import board_data, board_figures
+from . import reliability, tables
+from .board import board_data, board_figures, not_measured
 from .svg import to_svg
 
 CAUTIONS = (
@@ -38,7 +38,8 @@ table { border-collapse: collapse; font-size: 13px; margin: 8px 0; }
 td code { word-break: break-all; }
 th, td { border: 1px solid #d5dce3; padding: 3px 8px; text-align: left; vertical-align: top; }
 th { background: #eef2f6; } td.n { text-align: right; font-variant-numeric: tabular-nums; }
-code { font-size: 12px; color: #3a424d; } .note { background: #f7f3ee; padding: 8px 12px; }
+code { font-size: 12px; color: #3a424d; } .why { color: #5f6b78; font-style: italic; }
+.note { background: #f7f3ee; padding: 8px 12px; }
 """
 
 
@@ -59,20 +60,20 @@ def _fmt(v) -> str:
 
 
 def _td(head: str, v) -> str:
-    if head == "recipe" or head.endswith("_recipe"):
+    if v is not None and (head == "recipe" or head.endswith("_recipe")):
         return f"<td><code>{escape(str(v))}</code></td>"
     if isinstance(v, (int, float)) and not isinstance(v, bool):
         return f'<td class="n">{_fmt(v)}</td>'
     return f"<td>{_fmt(v)}</td>"
 
 
-def _table(table: tables.Table, limit: int | None = None) -> str:
+def _table(table: tables.Table, limit: int | None = None, *, empty: str = "nothing to show") -> str:
     header, rows = table
     head = "".join(f"<th>{escape(h)}</th>" for h in header)
     body = ["<tr>" + "".join(_td(h, v) for h, v in zip(header, r)) + "</tr>"
             for r in rows[:limit]]
     if not rows:
-        body.append(f'<tr><td colspan="{len(header)}">nothing to show</td></tr>')
+        body.append(f'<tr><td colspan="{len(header)}">{escape(empty)}</td></tr>')
     # a table wider than the page scrolls inside its own box instead of running off the page
     return f'<div class="wide"><table><tr>{head}</tr>{"".join(body)}</table></div>'
 
@@ -87,6 +88,14 @@ def render_html(data: dict) -> str:
         return '<div class="figs">' + "".join(
             f'<div class="fig">{to_svg(figs[k])}</div>' for k in keys) + "</div>"
 
+    def why(part: str) -> str:
+        """In place of a part that was not measured: the reason, on its own line."""
+        text = not_measured(data, part)
+        return f'<p class="why">{escape(text)}</p>' if text else ""
+
+    def table(fn, part: str) -> str:
+        return _table(fn(data), empty=not_measured(data, part) or "nothing to show")
+
     bands = ", ".join(f"≤ {b:g} {n}" for b, n in m["bands"])
     parts = [
         "<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
@@ -99,16 +108,29 @@ def render_html(data: dict) -> str:
         f'bootstrap {m["n_boot"]} resamples, seed {m["seed"]}. Hover a mark to see its value '
         "and recipe.</p>",
         "<h2>Summary</h2>", _table(tables.summary(data)),
-        "<h2>Labels</h2>", block(["label_alpha", "pairwise"]),
+        "<h2>Labels</h2>", why("labels"), block(["label_alpha", "pairwise"]),
         "<h3>Confusion between annotators</h3>", block(conf),
-        _table(tables.pairwise(data)),
-        "<h2>Segments</h2>", _table(tables.segment_pairs(data)),
-        "<h2>Captions</h2>", block(["caption_bleu", "caption_cider"]),
-        _table(tables.caption_annotators(data)),
-        "<h3>Flagged captions</h3>", _table(tables.flagged(data)),
+        table(tables.pairwise, "labels"),
+        "<h2>Segments</h2>", why("segments"), table(tables.segment_pairs, "segments"),
+        "<h2>Captions</h2>", why("captions"), block(["caption_bleu", "caption_cider",
+                                                      "caption_rouge_l", "caption_chrf"]),
+        table(tables.caption_annotators, "captions"),
+        "<h3>Flagged captions</h3>", table(tables.flagged, "captions"),
+        "<h2>Annotator reliability</h2>",
+        "<p>Inferred labels and each annotator's estimated confusion come from the EM method of "
+        "Dawid &amp; Skene (1979), Applied Statistics 28(1):20–28; check-clip intervals are "
+        "Wilson (1927) score intervals. Estimates from few clips are rough.</p>",
+        block(["reliability", "check_accuracy"]),
+        _table(reliability.checks_table(data)),
+        "<h3>Least certain inferred labels</h3>", _table(_least_certain(data), limit=20),
         "<h2>Throughput and trend</h2>", block(["throughput", "trend"]),
         _table(tables.throughput(data)), _table(tables.trend(data)),
         "<h2>Most disputed clips</h2>", _table(tables.disputed(data)),
+        "<h2>Skipped and unsure clips</h2>",
+        "<p>A skip is not a label (the skipper is left out of agreement and exports); an unsure "
+        "flag keeps the label and asks the lead to look.</p>" if data.get("flags") else
+        "<p>No annotator skipped a clip or flagged one unsure.</p>",
+        _table(tables.skipped_unsure(data)) if data.get("flags") else "",
         "<h2>How to read this</h2>",
         f"<p>Bands for kappa and alpha: {escape(bands)}; below 0 poor. Source: "
         f"{escape(m['bands_source'])}. The bands were offered as a convention.</p>",
@@ -124,6 +146,11 @@ def render_html(data: dict) -> str:
         "</body></html>",
     ]
     return "\n".join(parts)
+
+
+def _least_certain(data: dict) -> tables.Table:
+    header, rows = reliability.inferred_table(data)
+    return header[:3], sorted((r[:3] for r in rows), key=lambda r: r[2])
 
 
 def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: int = 1000,

@@ -8,6 +8,7 @@ import io
 from typing import Any
 
 from ..export import csvsafe
+from . import reliability
 
 Table = tuple[list[str], list[list[Any]]]
 
@@ -48,7 +49,12 @@ def summary(data: dict) -> Table:
         for key in ("r_at_1", "r_at_5", "r_at_10", "median_rank"):
             rows.append(["captions", "all", f"retrieval {key}", r[key], None, None, None,
                          r["recipe"]["text"]])
-    return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe"], rows)
+    rows += reliability.summary_rows(data)
+    rows = [r + [None] for r in rows]
+    for part, why in a.get("not_measured", {}).items():  # each part stands alone
+        rows.append([part, "all", "not measured", None, None, None, None, None, why])
+    return (["part", "scope", "metric", "value", "ci_low", "ci_high", "band", "recipe", "note"],
+            rows)
 
 
 def pairwise(data: dict) -> Table:
@@ -107,6 +113,12 @@ def disputed(data: dict) -> Table:
         "; ".join(f"{a}={l}" for a, l in q["labels"].items())] for q in data["queue"]])
 
 
+def skipped_unsure(data: dict) -> Table:
+    """Every clip an annotator skipped (with the reason) or flagged unsure (with the note)."""
+    keys = ["clip", "path", "annotator", "state", "reason"]
+    return (keys, [[f[k] for k in keys] for f in data.get("flags", [])])
+
+
 def throughput(data: dict) -> Table:
     keys = ["annotator", "clips", "edits", "active_seconds", "clips_per_hour"]
     return (keys + ["recipe"], [[t[k] for k in keys] + [t["recipe"]["text"]]
@@ -122,7 +134,8 @@ def trend(data: dict) -> Table:
 ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
        "segment_pairs": segment_pairs, "caption_annotators": caption_annotators,
        "flagged_captions": flagged, "clips": clips, "disputed_clips": disputed,
-       "throughput": throughput, "trend": trend}
+       "skipped_unsure": skipped_unsure,
+       "throughput": throughput, "trend": trend, **reliability.TABLES}
 
 
 def _cell(v: Any) -> Any:

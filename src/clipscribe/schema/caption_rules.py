@@ -97,3 +97,29 @@ def check_caption(text: str, *, min_words: int, max_words: int,
     if problems:
         out.append(Finding("whitespace", f"stray whitespace ({', '.join(problems)} spaces)"))
     return out
+
+
+#: findings that make a clip's captions miss the guideline at submit (stray spaces do not)
+SUBMIT_FINDINGS = ("too_short", "too_long", "too_many_characters", "banned_opening", "duplicate")
+
+
+def missing_at_submit(texts: Sequence[str], *, captions_per_clip: int, min_words: int,
+                      max_words: int, banned_openings: Iterable[str] = ()) -> list[str]:
+    """What one annotator's captions of a clip (``texts``, in order) miss in the guideline,
+    one plain-English line each; an empty list means the clip may be submitted.
+
+    ``missing_at_submit(["There is a thing"], captions_per_clip=5, min_words=4, max_words=40,
+    banned_openings=["there is"])`` names the four missing captions and the banned opening.
+    """
+    written = [t for t in texts if t.strip()]
+    out = []
+    if len(written) < captions_per_clip:
+        out.append(f"{len(written)} of the {captions_per_clip} captions the guideline asks for")
+    banned = list(banned_openings)
+    for i, text in enumerate(written):
+        others = written[:i]
+        for f in check_caption(text, min_words=min_words, max_words=max_words,
+                               banned_openings=banned, others=others):
+            if f.code in SUBMIT_FINDINGS:
+                out.append(f"caption {i + 1}: {f.message}")
+    return out

@@ -68,6 +68,9 @@ class ExportRecord(_Model):
     fps: float | None = Field(default=None, gt=0)
     frame_count: int | None = Field(default=None, ge=0)
     segments: list[ExportSegment] = Field(default_factory=list)
+    segment_source: Literal["gold", "annotator"] | None = Field(
+        default=None, description="where `segments` came from: the lead's gold segments, one "
+                                  "annotator's (the segment rule in the manifest), or none")
     captions: list[ExportCaption] = Field(default_factory=list)
 
 
@@ -80,6 +83,10 @@ class LabelPolicyModel(_Model):
         default="gold", description="gold: the gold references when present, else every accepted "
                                     "annotator caption; gold+agreeing: the gold references plus "
                                     "the captions of annotators whose label equals the exported one")
+    segments: Literal["gold+best", "gold"] = Field(
+        default="gold+best", description="gold: the gold segments, else none; gold+best: the gold "
+                                         "segments, else those of the agreeing annotator who "
+                                         "agrees best with the others, else none")
     rule: str = Field(description="the rule in words")
 
 
@@ -154,6 +161,9 @@ class ExportManifest(_Model):
     counts: dict[str, dict[str, int]] = Field(description="clips per split x label")
     totals: dict[str, int] = Field(description="clips per split")
     left_out: list[LeftOut] = Field(default_factory=list)
+    duplicates_dropped: int = Field(
+        default=0, ge=0, description="reference captions left out as repeats of one already "
+                                     "taken (see recipes.duplicates_dropped)")
     warnings: list[QualityWarning] = Field(
         default_factory=list, description="splits empty or far from their ratios, clips short of "
                                           "reference captions; see recipes.warnings")

@@ -116,13 +116,32 @@ class CommentRecord(_Record):
     _not_blank = field_validator("text")(classmethod(_refuse_blank))
 
 
+class StateRecord(_Record):
+    """One annotator's state of their work on a clip: submitted, skipped (with the reason),
+    unsure (flagged for the lead, optionally with a note) or open."""
+
+    type: Literal["state"] = "state"
+    clip: ClipRef
+    annotator: Name
+    state: Literal["open", "submitted", "skipped", "unsure"]
+    reason: str | None = Field(default=None, max_length=5000,
+                               description="why the clip was skipped (required then) or flagged")
+
+    @model_validator(mode="after")
+    def _skip_has_reason(self) -> "StateRecord":
+        if self.state == "skipped" and not (self.reason and self.reason.strip()):
+            raise ValueError("skipping a clip needs a reason")
+        return self
+
+
 Record = Annotated[
-    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord],
+    Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord,
+          StateRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
-    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord,
+    "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord, "state": StateRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 

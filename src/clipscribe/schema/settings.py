@@ -93,6 +93,11 @@ class CaptionGuideline(BaseModel):
     max_words: int = Field(default=40, ge=1)
     banned_openings: list[str] = Field(
         default_factory=lambda: ["there is", "there are", "this is", "a video of", "in this video"])
+    at_submit: Literal["off", "warn", "block"] = Field(
+        default="off", description="submitting a clip whose captions miss the guideline: off (not "
+                                   "checked), warn (refused unless the annotator overrides, "
+                                   "recorded) or block (refused); new projects made by "
+                                   "`clipscribe new` or the start window use warn")
 
     @model_validator(mode="after")
     def _words_in_order(self) -> "CaptionGuideline":

@@ -8,22 +8,22 @@ PostgreSQL: psycopg 3 (team mode).
 from __future__ import annotations
 
 import os
+import re
 import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import TypeVar
+from typing import TYPE_CHECKING, TypeVar
 from urllib.parse import quote
 
-from alembic import command
-from alembic.config import Config
-from alembic.runtime.migration import MigrationContext
-from alembic.script import ScriptDirectory
 from sqlalchemy import Engine, create_engine, event
 from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session
 
 from ..errors import ProjectError
+
+if TYPE_CHECKING:
+    from alembic.config import Config
 
 MIGRATIONS = Path(__file__).with_name("migrations")
 SQLITE_BUSY_MS = 15_000
@@ -128,26 +128,67 @@ def transaction(engine: Engine) -> Iterator[Session]:
 # ---- migrations ---------------------------------------------------------------------------
 
 def alembic_config(engine: Engine) -> Config:
+    from alembic.config import Config
     cfg = Config()
     cfg.set_main_option("script_location", str(MIGRATIONS))
     cfg.attributes["engine"] = engine
     return cfg
 
 
+_REVISION = re.compile(r"^(revision|down_revision)\s*=\s*(?:'([^']*)'|\"([^\"]*)\"|None)\s*$", re.M)
+
+
+def _head_from_files() -> str | None:
+    """The head revision read from the revision files' ``revision``/``down_revision`` lines,
+    without loading alembic (a few milliseconds on every open); None when the files do not
+    make one plain chain this reading is sure of."""
+    revs: dict[str, str | None] = {}
+    for path in (MIGRATIONS / "versions").glob("*.py"):
+        found = {m.group(1): m.group(2) or m.group(3) for m in _REVISION.finditer(
+            path.read_text(encoding="utf-8"))}
+        if "revision" not in found or "down_revision" not in found:
+            return None
+        revs[str(found["revision"])] = found["down_revision"]
+    heads = set(revs) - set(revs.values())
+    return heads.pop() if len(heads) == 1 else None
+
+
 def head_revision() -> str:
-    script = ScriptDirectory(str(MIGRATIONS))
-    heads = script.get_heads()
+    quick = _head_from_files()
+    if quick is not None:
+        return quick
+    from alembic.script import ScriptDirectory
+    heads = ScriptDirectory(str(MIGRATIONS)).get_heads()
     assert len(heads) == 1, heads
     return heads[0]
 
 
 def current_revision(engine: Engine) -> str | None:
+    from alembic.runtime.migration import MigrationContext
     with engine.connect() as conn:
         return MigrationContext.configure(conn).get_current_revision()
 
 
+def _at_head(engine: Engine) -> bool:
+    """True when the database's schema revision is this version's head, found with one query
+    and without alembic; any doubt (no table, an error) answers False."""
+    head = _head_from_files()
+    if head is None:
+        return False
+    try:
+        with engine.connect() as conn:
+            rows = conn.exec_driver_sql("SELECT version_num FROM alembic_version").all()
+    except DBAPIError:
+        return False
+    return [r[0] for r in rows] == [head]
+
+
 def migrate(engine: Engine) -> None:
     """Bring the schema to this version's head; refuse a database from a newer clipscribe."""
+    if _at_head(engine):
+        return  # the common case: nothing to do, and alembic stays unloaded
+    from alembic import command
+    from alembic.script import ScriptDirectory
     script = ScriptDirectory(str(MIGRATIONS))
     current = current_revision(engine)
     if current is not None:

@@ -8,6 +8,9 @@ Who may see and change what is decided by the database, not by the program:
   assignments (policies compare ``annotator_id`` with the annotator whose ``db_login`` is
   ``current_user``); with blind mode off (settings row ``team.blind``) it may also *read* the
   others' labels, segments and captions;
+* assignments are made only by two checked functions, ``clipscribe_pull`` (the queue: a clip
+  with a lease) and ``clipscribe_start`` (first work on a clip: no lease), or by a lead; an
+  annotator's login may not INSERT into ``assignments`` at all;
 * the edit history is append-only for everyone (no UPDATE/DELETE grants); an annotator inserts
   and reads only their own rows;
 * leads (and the database owner, the admin login that ran the migrations) read everything and
@@ -15,8 +18,8 @@ Who may see and change what is decided by the database, not by the program:
 
 Tables holding per-person data use FORCE ROW LEVEL SECURITY so the owner passes through the
 same policies (it is let through as a lead), which keeps a definer-rights function or view from
-becoming a way round them. The one definer-rights function, ``clipscribe_pull``, returns only a
-clip id. Names are never formatted into SQL by Python: identifiers go through
+becoming a way round them. The definer-rights functions check the caller themselves and
+return no more than a clip id, a clip state word or a count. Names are never formatted into SQL by Python: identifiers go through
 :class:`psycopg.sql.Identifier`, passwords are hashed on the client (SCRAM) and sent as literals.
 """
 
@@ -202,6 +205,61 @@ $$;
 REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(integer) FROM PUBLIC;
 """
 
+# The one way an annotator's login makes an assignment besides the pull: the row it makes is
+# always open, without a lease, stamped with the server's clock, for the caller's own person
+# (a lead or the owner: for anyone), and only on a clip where that person has work (a label,
+# segment or caption), a lead's comment addressed to them, or a free place in the plan. A row
+# already there is left as it is. Returns how many rows it made. The row-level policy and the
+# grants refuse every other INSERT into assignments by an annotator's login.
+_START = f"""
+CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_start(p_clips integer[], p_annotators integer[])
+RETURNS integer LANGUAGE plpgsql SECURITY DEFINER {_PATH} AS $$
+DECLARE
+  v_now timestamptz := pg_catalog.clock_timestamp();
+  v_me integer;
+  v_bad integer;
+  v_made integer;
+BEGIN
+  IF pg_catalog.cardinality(p_clips) IS DISTINCT FROM pg_catalog.cardinality(p_annotators) THEN
+    RAISE EXCEPTION 'clipscribe_start: % clips but % people', pg_catalog.cardinality(p_clips),
+      pg_catalog.cardinality(p_annotators) USING ERRCODE = '22023';
+  END IF;
+  IF NOT {_CALLER_IS_LEAD} THEN
+    SELECT n.id INTO v_me FROM {SCHEMA}.annotators n WHERE n.db_login = session_user;
+    IF v_me IS NULL OR EXISTS (SELECT 1 FROM pg_catalog.unnest(p_annotators) AS w(a)
+                                WHERE w.a IS DISTINCT FROM v_me) THEN
+      RAISE EXCEPTION 'login % may start work on a clip only for itself', session_user
+        USING ERRCODE = '42501';
+    END IF;
+    SELECT w.c INTO v_bad FROM pg_catalog.unnest(p_clips) AS w(c)
+     WHERE NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a
+                        WHERE a.clip_id = w.c AND a.annotator_id = v_me)
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.clips c WHERE c.id = w.c AND (
+             EXISTS (SELECT 1 FROM {SCHEMA}.clip_labels x WHERE x.clip_id = c.id AND x.annotator_id = v_me)
+          OR EXISTS (SELECT 1 FROM {SCHEMA}.segments x WHERE x.clip_id = c.id AND x.annotator_id = v_me)
+          OR EXISTS (SELECT 1 FROM {SCHEMA}.captions x WHERE x.clip_id = c.id AND x.annotator_id = v_me)
+          OR EXISTS (SELECT 1 FROM {SCHEMA}.review_comments x WHERE x.clip_id = c.id AND x.annotator_id = v_me)
+          OR (c.state <> 'settled'
+              AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id AND {_HOLDS})
+                  < coalesce(c.annotators_wanted, 1))))
+     LIMIT 1;
+    IF v_bad IS NOT NULL THEN
+      RAISE EXCEPTION 'login % has no work on clip % and the clip has no free place: take the next clip from the queue instead',
+        session_user, v_bad USING ERRCODE = '42501';
+    END IF;
+  END IF;
+  INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
+                                    updated_at, version)
+  SELECT DISTINCT w.c, w.a, 'open', v_now, NULL::timestamptz, v_now, 1
+    FROM ROWS FROM (pg_catalog.unnest(p_clips), pg_catalog.unnest(p_annotators)) AS w(c, a)
+  ON CONFLICT (clip_id, annotator_id) DO NOTHING;
+  GET DIAGNOSTICS v_made = ROW_COUNT;
+  RETURN v_made;
+END
+$$;
+REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_start(integer[], integer[]) FROM PUBLIC;
+"""
+
 # A foreign key is checked with the table owner's rights, past row-level security, so a
 # caption pointing at a segment the caller cannot see would tell them whether that segment
 # exists (and tie their caption to someone else's segment). This check runs first, with the
@@ -225,8 +283,9 @@ CREATE TRIGGER clipscribe_caption_segment BEFORE INSERT OR UPDATE OF segment_id
 
 _ME = f"(SELECT {SCHEMA}.clipscribe_me())"
 _LEAD = f"((SELECT {SCHEMA}.clipscribe_is_lead()))"
-#: the tables an annotator's login adds rows to (their id sequences need USAGE for nextval)
-ANNOTATOR_INSERTS = (*PERSON_TABLES, "assignments", "edits")
+#: the tables an annotator's login adds rows to (their id sequences need USAGE for nextval);
+#: not assignments: those only the pull and ``clipscribe_start`` make
+ANNOTATOR_INSERTS = (*PERSON_TABLES, "edits")
 #: the columns of an assignment an annotator's login may change (no table-wide UPDATE, no
 #: DELETE: either would also let it LOCK the table in a mode that stops everyone; no lease:
 #: only the pull gives one)
@@ -253,7 +312,7 @@ def _policies() -> str:
         out.append(f"GRANT INSERT, UPDATE, DELETE ON {_q(t)} TO {l};")
     out.append(f"GRANT SELECT ON {_q('alembic_version')} TO {a}, {l};")
     for t in (*PERSON_TABLES, "assignments"):
-        grant = ("SELECT, INSERT" if t == "assignments" else "SELECT, INSERT, UPDATE, DELETE")
+        grant = "SELECT" if t == "assignments" else "SELECT, INSERT, UPDATE, DELETE"
         out += [
             f"ALTER TABLE {_q(t)} ENABLE ROW LEVEL SECURITY;",
             f"ALTER TABLE {_q(t)} FORCE ROW LEVEL SECURITY;",
@@ -309,13 +368,15 @@ def _grants(assignment_columns: tuple[str, ...] = ASSIGNMENT_COLUMNS) -> str:
         # clips.state changes only through clipscribe_refresh_clip_state; without any UPDATE
         # right on clips an annotator can neither LOCK it nor SELECT … FOR UPDATE its rows
         f"REVOKE UPDATE, DELETE, INSERT, TRUNCATE ON {_q('clips')} FROM {a};",
-        f"REVOKE UPDATE, DELETE, TRUNCATE ON {_q('assignments')} FROM {a};",
+        # assignments are made by clipscribe_pull (with a lease) and clipscribe_start (checked,
+        # no lease) only, never by an annotator's own INSERT: no grant, and a policy that lets
+        # no row through should the grant come back
+        f"REVOKE INSERT, UPDATE, DELETE, TRUNCATE ON {_q('assignments')} FROM {a};",
         f"GRANT UPDATE ({cols}) ON {_q('assignments')} TO {a};",
-        # an annotator's own new assignment carries no lease (a lease holds a place in the
-        # plan until it runs out; only clipscribe_pull hands one out)
         f"DROP POLICY IF EXISTS no_own_lease ON {_q('assignments')};",
-        f"CREATE POLICY no_own_lease ON {_q('assignments')} AS RESTRICTIVE FOR INSERT TO {a} "
-        "WITH CHECK (expires_at IS NULL);",
+        f"DROP POLICY IF EXISTS no_own_insert ON {_q('assignments')};",
+        f"CREATE POLICY no_own_insert ON {_q('assignments')} AS RESTRICTIVE FOR INSERT TO {a} "
+        "WITH CHECK (false);",
         # sequences: no SELECT (last_value) for annotators, USAGE (nextval) only where they
         # insert; leads see every row anyway
         f"REVOKE ALL ON ALL SEQUENCES IN SCHEMA {SCHEMA} FROM {a};",
@@ -326,6 +387,7 @@ def _grants(assignment_columns: tuple[str, ...] = ASSIGNMENT_COLUMNS) -> str:
                    f"pg_catalog.pg_get_serial_sequence('{_q(t)}', 'id')); END $$;")
     out += [
         f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_pull(integer, double precision) TO {a}, {l};",
+        f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_start(integer[], integer[]) TO {a}, {l};",
         f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_clip_state(integer) TO {a}, {l};",
         f"GRANT EXECUTE ON FUNCTION {SCHEMA}.clipscribe_refresh_clip_state(integer) TO {a}, {l};",
         # no temporary tables (they could stand in for ours in an unqualified name) and no
@@ -366,6 +428,7 @@ _UNINSTALL = f"""
 DROP TRIGGER IF EXISTS clipscribe_caption_segment ON {SCHEMA}.captions;
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_check_caption_segment();
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_pull(integer, double precision);
+DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_start(integer[], integer[]);
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_refresh_clip_state(integer);
 DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_clip_state(integer);
 """
@@ -385,7 +448,7 @@ def install(conn: Any) -> None:
     database owner, who needs CREATEROLE). Everything runs in the migration's transaction.
     """
     raw = _driver(conn)
-    for block in (_GROUPS_SQL, _FUNCTIONS, _PULL, _policies()):
+    for block in (_GROUPS_SQL, _FUNCTIONS, _PULL, _START, _policies()):
         raw.execute(block)
     harden(conn)
 
@@ -401,7 +464,7 @@ def harden(conn: Any) -> None:
         "SELECT column_name FROM information_schema.columns "
         f"WHERE table_schema = '{SCHEMA}' AND table_name = 'assignments'").fetchall()}
     columns = tuple(c for c in ASSIGNMENT_COLUMNS if c in present)
-    for block in (_FUNCTIONS, _PULL, _TRIGGERS, _grants(columns)):
+    for block in (_FUNCTIONS, _PULL, _START, _TRIGGERS, _grants(columns)):
         raw.execute(block)
     for login, role in raw.execute(
             f"SELECT a.db_login, a.role FROM {_q('annotators')} a JOIN pg_catalog.pg_roles r "

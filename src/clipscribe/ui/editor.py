@@ -90,11 +90,12 @@ class ClipEditor(QObject):
         what = f"Label clip “{label}”" if label else "Clear clip label"
         return self.apply(what, lambda: self.project.set_clip_label(self.clip, self.me, label))
 
-    def set_state(self, state: str, reason: str | None = None) -> Any:
+    def set_state(self, state: str, reason: str | None = None, *,
+                  override: str | None = None) -> Any:
         words = {"submitted": "Submit clip", "skipped": "Skip clip", "unsure": "Flag unsure",
                  "open": "Reopen clip"}
         return self.apply(words[state], lambda: self.project.set_clip_state(
-            self.clip, self.me, state, reason))
+            self.clip, self.me, state, reason, override=override))
 
     # ---- segments -----------------------------------------------------------------------
     def add_segment(self, label: str, start: int, end: int) -> Any:

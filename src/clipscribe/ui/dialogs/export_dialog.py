@@ -134,6 +134,7 @@ class ExportDialog(ExportOptions, QDialog):
         self.folds.toggled.connect(self._refresh)
         self.min_agreement.valueChanged.connect(self._refresh)
         self.caption_policy.currentIndexChanged.connect(self._refresh)
+        self.segment_rule.currentIndexChanged.connect(self._refresh)
         self.keep_splits.toggled.connect(self._refresh)
         self.folder.textChanged.connect(self._refresh)
         self.override.toggled.connect(self._refresh)
@@ -261,7 +262,7 @@ class ExportDialog(ExportOptions, QDialog):
             return
         p, key = self.project, self._key()
         ratios, seed, agree, radius = self.ratios(), self.seed.value(), self.min_agreement.value(), self.radius.value()
-        captions = self.caption_policy.currentData()
+        captions, segments = self.caption_policy.currentData(), self.segment_rule.currentData()
         frozen = None if self.keep_splits.isChecked() else {}
         k, val = (self.k.value(), self.val_share.value() / 100) if self.fold_mode else (0, 0.0)
 
@@ -272,9 +273,10 @@ class ExportDialog(ExportOptions, QDialog):
                 raise JobCancelled("check cancelled")
             if k:
                 return p.plan_folds(k, seed=seed, val_fraction=val, min_agreement=agree,
-                                    hamming_radius=radius, captions=captions)
+                                    hamming_radius=radius, captions=captions, segments=segments)
             return [p.plan_export(ratios, seed=seed, min_agreement=agree, frozen=frozen,
-                                  hamming_radius=radius, captions=captions)]
+                                  hamming_radius=radius, captions=captions,
+                                  segments=segments)]
 
         self.plans, self._plan_key = None, None
         self.results.show_plans(None)

@@ -15,6 +15,8 @@ MEDIA_MODES = (("Leave media where they are", None), ("Copy media into the expor
                ("Hard-link media (same disk only)", "hardlink"))
 CAPTION_POLICIES = (("Gold only (else every annotator's)", "gold"),
                     ("Gold and agreeing annotators'", "gold+agreeing"))
+SEGMENT_RULES = (("Gold, else the best-agreeing annotator's", "gold+best"),
+                 ("Gold only (else none)", "gold"))
 
 
 class ExportOptions:
@@ -83,6 +85,16 @@ class ExportOptions:
             "the captions of annotators whose own label equals the exported label, without "
             "repeating a text.")
         form.addRow("Captions to e&xport", self.caption_policy)
+        self.segment_rule = QComboBox()
+        self.segment_rule.setObjectName("segmentRule")
+        for text, value in SEGMENT_RULES:
+            self.segment_rule.addItem(text, value)
+        self.segment_rule.setToolTip(
+            "Which segments a clip is exported with. Gold, else the best-agreeing annotator's: "
+            "the lead's gold segments; without them, the segments of the annotator (among those "
+            "whose label equals the exported one) whose segments overlap the others' most; else "
+            "none. Gold only: clips without gold segments export none. Recorded in the manifest.")
+        form.addRow("Segment &basis", self.segment_rule)
         self.radius = QSpinBox()
         self.radius.setRange(0, 64)
         self.radius.setValue(8)
@@ -138,7 +150,7 @@ class ExportOptions:
     def _key(self) -> tuple:
         """The settings a check depends on; a check is current while this stays the same."""
         common = (self.seed.value(), round(self.min_agreement.value(), 4), self.radius.value(),
-                  self.caption_policy.currentData())
+                  self.caption_policy.currentData(), self.segment_rule.currentData())
         if self.fold_mode:
             return ("folds", self.k.value(), self.val_share.value(), *common)
         return ("one", tuple(sorted(self.ratios().items())), *common, self.keep_splits.isChecked())
@@ -149,7 +161,8 @@ class ExportOptions:
         return [(self.one_split, True), (self.folds, True),
                 *((s, not folds) for s in self.ratio_spins.values()),
                 (self.k, folds), (self.val_share, folds), (self.seed, True),
-                (self.min_agreement, True), (self.caption_policy, True), (self.radius, True),
+                (self.min_agreement, True), (self.caption_policy, True), (self.segment_rule, True),
+                (self.radius, True),
                 (self.keep_splits, not folds),
                 (self.folder, True), (self.browse, True), (self.media, True), (self.webvtt, True),
                 (self.overwrite, not folds)]  # folds go only into a new or empty folder

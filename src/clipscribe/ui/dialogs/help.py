@@ -30,21 +30,33 @@ than guess: unsure flags help the lead improve the guideline.</p>
 class ShortcutSheet(QDialog):
     """Every action with a shortcut, read from the actions themselves."""
 
-    def __init__(self, actions: list[QAction], parent: QWidget | None = None) -> None:
+    def __init__(self, actions: list[QAction], parent: QWidget | None = None, *,
+                 extra_rows: list[tuple[str, str, str]] = (), title: str = "Keyboard shortcuts"
+                 ) -> None:
+        """``extra_rows``: (keys, command, group) of keys that are no action (such as the
+        Alt+digit of a row of buttons), listed first."""
         super().__init__(parent)
-        self.setWindowTitle("Keyboard shortcuts")
-        self.resize(560, 620)
-        rows = shortcut_rows(actions)
+        self.setWindowTitle(title)
+        rows = list(extra_rows) + shortcut_rows(actions)
         table = QTableWidget(len(rows), 3, self)
         table.setObjectName("shortcutTable")
-        table.setHorizontalHeaderLabels(["Key", "Command", "Menu"])
+        table.setHorizontalHeaderLabels(["Key", "Command", "Where"])
         for r, (keys, name, menu) in enumerate(rows):
             for c, text in enumerate((keys, name, menu)):
                 table.setItem(r, c, QTableWidgetItem(text))
         table.verticalHeader().hide()
         table.verticalHeader().setDefaultSectionSize(table.fontMetrics().height() + 8)
-        table.horizontalHeader().setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)
+        head = table.horizontalHeader()
+        for col, mode in enumerate((QHeaderView.ResizeMode.ResizeToContents,  # keys never cut
+                                    QHeaderView.ResizeMode.Stretch,
+                                    QHeaderView.ResizeMode.ResizeToContents)):
+            head.setSectionResizeMode(col, mode)
         table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
+        table.resizeColumnsToContents()
+        wanted = sum(table.columnWidth(c) for c in range(3)) + 60
+        avail = (parent.screen() or self.screen()).availableGeometry() if parent else None
+        self.resize(min(max(560, wanted), avail.width() - 40) if avail else max(560, wanted),
+                    min(620, avail.height() - 60) if avail else 620)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
         buttons.rejected.connect(self.reject)
         lay = QVBoxLayout(self)

@@ -21,6 +21,8 @@ from ...types import BY_FOLDER
 from ..workers import Job, JobRunner
 from .people import PeopleBox
 
+#: what submitting captions that miss the guideline does (``caption_guideline.at_submit``)
+AT_SUBMIT = (("no check", "off"), ("override", "warn"), ("refuse", "block"))
 #: how clips get their group (the unit kept on one side of a split): label -> add_media pattern
 GROUPINGS = {
     "their folder (one folder per source video or person)": BY_FOLDER,
@@ -65,7 +67,7 @@ class ProjectSetup(QDialog):
         super().__init__(parent)
         self.setObjectName("projectSetup")
         self.setWindowTitle("Set up the project")
-        self.setMinimumWidth(660)
+        self.setMinimumWidth(820)
         self.project = project
         self._changed = False
         self.pick = pick or (lambda caption: QFileDialog.getExistingDirectory(self, caption))
@@ -182,6 +184,18 @@ class ProjectSetup(QDialog):
             lab.setBuddy(spin)
             row.addWidget(lab)
             row.addWidget(spin)
+        self.at_submit = QComboBox()
+        self.at_submit.setObjectName("atSubmit")
+        for text, value in AT_SUBMIT:
+            self.at_submit.addItem(text, value)
+        self.at_submit.setCurrentIndex([v for _, v in AT_SUBMIT].index(g.at_submit))
+        self.at_submit.setToolTip("What submitting a clip whose captions miss these rules does: "
+                                  "no check; override: ask for a reason to submit anyway (kept "
+                                  "in the edit history); refuse")
+        lab = QLabel("At s&ubmit:")
+        lab.setBuddy(self.at_submit)
+        row.addWidget(lab)
+        row.addWidget(self.at_submit)
         row.addStretch(1)
         self.save_rules_button = QPushButton("Save &rules")
         self.save_rules_button.clicked.connect(self.save_caption_rules)
@@ -193,8 +207,9 @@ class ProjectSetup(QDialog):
     @property
     def rules_unsaved(self) -> bool:
         g = self.project.settings.caption_guideline
-        return (self.per_clip.value(), self.min_words.value(), self.max_words.value()) != (
-            g.captions_per_clip, g.min_words, g.max_words)
+        return (self.per_clip.value(), self.min_words.value(), self.max_words.value(),
+                self.at_submit.currentData()) != (
+            g.captions_per_clip, g.min_words, g.max_words, g.at_submit)
 
     def save_caption_rules(self) -> bool:
         if not self.rules_unsaved:
@@ -203,13 +218,15 @@ class ProjectSetup(QDialog):
         try:
             self.project.set_caption_rules(captions_per_clip=self.per_clip.value(),
                                            min_words=self.min_words.value(),
-                                           max_words=self.max_words.value())
+                                           max_words=self.max_words.value(),
+                                           at_submit=self.at_submit.currentData())
         except RecordError as exc:
             self.rules_note.setText(f"Not saved: {exc}")
             return False
         self._changed = True
         self.rules_note.setText(f"Saved: {self.per_clip.value()} captions per clip, "
-                                f"{self.min_words.value()}–{self.max_words.value()} words each.")
+                                f"{self.min_words.value()}–{self.max_words.value()} words each; "
+                                f"at submit: {self.at_submit.currentText()}.")
         return True
 
     # ---- videos ---------------------------------------------------------------------------
@@ -234,8 +251,12 @@ class ProjectSetup(QDialog):
         self.copy_button.setToolTip("The videos are copied into a new folder of the media folder, "
                                     "then added; the originals are not touched")
         self.copy_button.clicked.connect(self.copy_in)
+        self.facts_button = QPushButton("C&hange clip facts…")
+        self.facts_button.setToolTip("Group, consent, licence and source of clips already added")
+        self.facts_button.clicked.connect(self.change_facts)
         row.addWidget(self.scan_button)
         row.addWidget(self.copy_button)
+        row.addWidget(self.facts_button)
         lay.addLayout(row)
         bar = QHBoxLayout()
         self.progress = QProgressBar()
@@ -255,6 +276,10 @@ class ProjectSetup(QDialog):
         n = self.project.clip_count()
         self.video_count.setText(f"{n} clip{'s' if n != 1 else ''} in this project. Its media "
                                  f"folder is <b>{self.project.media_root}</b>.")
+
+    def change_facts(self) -> None:
+        from .clip_facts import ClipFactsDialog
+        ClipFactsDialog(self.project, self).exec()
 
     def copy_in(self) -> None:
         picked = self.pick("Choose a folder of videos to copy into the project")
@@ -303,7 +328,8 @@ class ProjectSetup(QDialog):
         self.progress.setVisible(busy)
         self.progress.setRange(0, 0)
         self.cancel_button.setVisible(busy)
-        for w in (self.scan_button, self.copy_button, self.save_labels_button, self.grouping):
+        for w in (self.scan_button, self.copy_button, self.save_labels_button, self.grouping,
+                  self.facts_button):
             w.setEnabled(not busy)
 
     def cancel(self) -> None:

@@ -45,7 +45,8 @@ def _build_sample(folder: Path, *, cancel, progress) -> Path:  # worker thread
 def _create_empty(folder: Path, *, cancel, progress) -> Path:  # worker thread
     from ... import Project
     progress(0, 0)
-    with Project.create(folder):
+    # a project a person makes checks the caption guideline at submit (warn, with override)
+    with Project.create(folder, caption_guideline={"at_submit": "warn"}):
         pass
     return folder
 

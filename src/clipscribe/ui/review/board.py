@@ -20,7 +20,10 @@ from .paint import FigureView
 #: grid cell -> figures stacked in it
 MIN_SCALE = 0.7  # figures are never drawn smaller than this; the board scrolls instead
 LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",),
-          (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",)}
+          (1, 0): ("trend",), (1, 1): ("caption_bleu", "caption_cider"), (1, 2): ("throughput",),
+          # annotator reliability panel, and the other caption consensus measures
+          (2, 0): ("reliability",), (2, 1): ("check_accuracy",),
+          (2, 2): ("caption_rouge_l", "caption_chrf")}
 
 
 class FocusFigure(FigureView):
@@ -81,7 +84,7 @@ class AgreementBoard(QWidget):
                 cell.addWidget(v, 0, Qt.AlignmentFlag.AlignLeft)
             cell.addStretch(1)
             grid.addLayout(cell, r, c)
-        grid.setRowStretch(2, 1)
+        grid.setRowStretch(max(r for r, _ in LAYOUT) + 1, 1)
         grid.setColumnStretch(3, 1)
         scroll = self.scroll = QScrollArea()
         scroll.setWidget(inner)
@@ -138,6 +141,7 @@ class AgreementBoard(QWidget):
         for p in (lab["pairs"] if lab else []):
             self.pair.addItem(f"{p['annotator_a']} vs {p['annotator_b']}")
         self.pair.blockSignals(False)
+        self.pair.setEnabled(self.pair.count() > 0)
         self._pair_changed(0)
         m = data["meta"]
         if lab:
@@ -146,11 +150,21 @@ class AgreementBoard(QWidget):
             alpha = (f"Krippendorff alpha {a['value']:.3f} ({a['band']}), 95% interval "
                      f"[{ci['low']:.3f}, {ci['high']:.3f}]" if a["value"] is not None
                      and ci["low"] is not None else "alpha not measurable")
-        else:
-            alpha = "no labels yet"
-        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha} · "
+        missing = data["agreement"].get("not_measured", {})
+        if not lab:
+            alpha = f"labels not measured: {missing.get('labels', 'no labels yet')}"
+        others = "".join(f" · {part} not measured: {why}" for part, why in missing.items()
+                         if part != "labels")
+        flags = data.get("flags", [])
+        n_skip = sum(f["state"] == "skipped" for f in flags)
+        marks = (f" · {n_skip} skipped, {len(flags) - n_skip} unsure (hover for who and why)"
+                 if flags else "")
+        self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · {alpha}{others}{marks} · "
                              f"computed {time.strftime('%H:%M:%S')} with clipscribe {m['version']}")
-        self.summary.setToolTip(lab["alpha"]["recipe"]["text"] if lab else "")
+        self.summary.setToolTip("\n".join(
+            ([lab["alpha"]["recipe"]["text"]] if lab else [])
+            + [f"clip {f['clip']} {f['path']}: {f['annotator']} {f['state']}"
+               + (f" — {f['reason']}" if f["reason"] else "") for f in flags[:30]]))
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
 

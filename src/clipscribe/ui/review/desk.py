@@ -28,8 +28,13 @@ from .tracks import GOLD, TrackStack
 QUEUE_BOOT = 1  # the queue's order needs no intervals; the board computes those
 
 
+#: the group the review desk's commands are listed under in the shortcut sheet
+DESK_GROUP = "Review desk"
+
+
 def desk_action(parent: QWidget, text: str, keys, slot, *, context=None) -> QAction:
     a = QAction(text, parent)
+    a.setProperty("group", DESK_GROUP)
     if keys:
         a.setShortcuts([QKeySequence(k) for k in (keys if isinstance(keys, list) else [keys])])
         a.setToolTip(f"{text}  ({a.shortcut().toString(QKeySequence.SequenceFormat.NativeText)})")
@@ -88,6 +93,12 @@ class ReviewDesk(QWidget):
                 box.addItem(it, it)
             box.setAccessibleName(name)
             ll.addWidget(box)
+        self.by_flag = QComboBox()
+        self.by_flag.setObjectName("flagFilter")
+        self.by_flag.addItem("all clips", False)
+        self.by_flag.addItem("skipped/unsure", True)
+        self.by_flag.setAccessibleName("Filter: clips someone skipped or flagged unsure")
+        ll.addWidget(self.by_flag)
         self.queue_view = QTableView()
         self.queue_view.setObjectName("disputedClips")
         self.queue_view.setModel(self.queue_model)
@@ -188,6 +199,13 @@ class ReviewDesk(QWidget):
                                       lambda: self.copy_track(self.settle.track_of.currentText())),
         })
 
+    def key_actions(self) -> list[QAction]:
+        """Every command of the desk that has a key (for the shortcut sheet)."""
+        for a in (self.undo_action, self.redo_action):
+            a.setProperty("group", DESK_GROUP)
+        return [*self.acts.values(), *self.caption_view.actions(), self.undo_action,
+                self.redo_action]
+
     def _wire(self) -> None:
         pl = self.player
         pl.frameShown.connect(self._frame)
@@ -195,7 +213,7 @@ class ReviewDesk(QWidget):
         pl.failed.connect(self.status)
         self.tracks.seekRequested.connect(pl.seek)
         self.tracks.goldEdited.connect(self.drag_gold)
-        for box in (self.by_label, self.by_person, self.by_group):
+        for box in (self.by_label, self.by_person, self.by_group, self.by_flag):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
             lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
@@ -218,7 +236,7 @@ class ReviewDesk(QWidget):
         if self.ranking is not None:
             self.ranking.cancel()
         flt = dict(label=self.by_label.currentData(), annotator=self.by_person.currentData(),
-                   group=self.by_group.currentData())
+                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()))
 
         def rank(cancel, progress):
             report = p.agreement_report(n_boot=QUEUE_BOOT)
@@ -244,8 +262,11 @@ class ReviewDesk(QWidget):
         current = self.cmp.clip.id if self.cmp else None
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
+        missing = self.report.not_measured
         self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label disagreement, "
-                             "then segment F1, then caption BLEU (worst first).")
+                             "then segment F1, then caption BLEU (worst first)."
+                             + "".join(f" {part.capitalize()} not measured: {why}."
+                                       for part, why in missing.items()))
         self.queue_note.setText(self._ranked_note)
         target = current if keep and current in self.queue_model.clips() else (
             rows[0].clip if rows else None)
@@ -319,10 +340,15 @@ class ReviewDesk(QWidget):
         self.caption_view.setEnabled(True)
         c = cmp.clip
         sc = cmp.scores
-        nums = "  ·  ".join(f"{k}: {_fmt(sc.get(key), f)}" for k, key, f in (
-            ("label disagreement", "label_disagreement", "{:.2f}"), ("segment F1", "segment_f1", "{:.2f}"),
-            ("caption BLEU", "caption_bleu", "{:.1f}")))
-        skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items())
+        missing = self.report.not_measured if self.report is not None else {}
+        nums = "  ·  ".join(
+            f"{k}: {'not measured' if part in missing else _fmt(sc.get(key), f)}"
+            for k, key, f, part in (
+                ("label disagreement", "label_disagreement", "{:.2f}", "labels"),
+                ("segment F1", "segment_f1", "{:.2f}", "segments"),
+                ("caption BLEU", "caption_bleu", "{:.1f}", "captions")))
+        skips = "".join(f"  ·  skipped by {a}: {why}" for a, why in cmp.skipped.items()) + "".join(
+            f"  ·  unsure: {a}" + (f" ({note})" if note else "") for a, note in cmp.unsure.items())
         self.title.setText(f"Clip {c.id}: {c.path} ({c.group or 'no group'}), {c.frame_count} "
                            f"frames at {c.fps:g} fps — {nums}{skips}")
         tracks = [(a, [(g.label, g.start, g.end) for g in cmp.segments.get(a, [])])
@@ -340,7 +366,7 @@ class ReviewDesk(QWidget):
         self.caption_model.load(cmp, bleu=bleu, flags=flags)
         self.segment_model.load(cmp.gold_segments, self.labels)
         self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
-                              cmp.skipped)
+                              cmp.skipped, cmp.unsure)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)
@@ -358,6 +384,10 @@ class ReviewDesk(QWidget):
         start = min(self.player.frame, c.frame_count - 1)
         end = min(c.frame_count, start + max(1, round(c.fps)))
         label = self.cmp.gold_label or self.settle.any_label.currentText()
+        if not label:  # never a label picked for the lead
+            self.status.emit("Settle the clip label, or choose one in the list, before adding "
+                             "a gold segment")
+            return
         self.segment_model.add((label, start, end))
 
     def _comment(self, text: str, to) -> None:

@@ -46,6 +46,13 @@ class ReviewPage(QTabWidget):
         if self.widget(i) is self.board and not self._board_started:
             self._board_started = True
             self.board.refresh()
+        self.focus_current()
+
+    def focus_current(self) -> None:
+        """The keyboard focus into the tab on show (the desk: its viewer), so the desk's keys
+        (Alt+Down, the arrows) work without a click first."""
+        if self.currentWidget() is self.desk:
+            self.desk.viewer.setFocus(Qt.FocusReason.OtherFocusReason)
 
     def show_board(self) -> None:
         self.setCurrentWidget(self.board)
@@ -55,6 +62,19 @@ class ReviewPage(QTabWidget):
         d = self.desk
         return [d.undo_action, d.redo_action, d.acts["next"], d.acts["prev"], d.acts["copy_track"],
                 self.export_action]
+
+    def key_actions(self) -> list[QAction]:
+        """The commands with a key on this page (the shortcut sheet of the review view)."""
+        return [*self.desk.key_actions(), self.export_action]
+
+    @staticmethod
+    def key_rows() -> list[tuple[str, str, str]]:
+        """Keys of the page that are no action: the vote buttons' and the tabs' Alt keys."""
+        from .desk import DESK_GROUP
+        return [("Alt+1 … Alt+9", "Settle the label of annotator 1 … 9 (the numbered buttons)",
+                 DESK_GROUP),
+                ("Alt+R", "Show the review desk", "Review view"),
+                ("Alt+B", "Show the agreement board", "Review view")]
 
     def ask_export(self) -> None:
         folder = QFileDialog.getExistingDirectory(self, "Folder for report.html and the CSV tables")

@@ -73,7 +73,8 @@ class DisputedClipsModel(QAbstractTableModel):
             return {
                 "Clip #": str(r.clip), "File": r.path,
                 "Labels": (", ".join(sorted(set(r.labels.values()))) or "–")
-                + (f" · {len(r.skipped)} skipped" if r.skipped else ""),
+                + (f" · {len(r.skipped)} skipped" if r.skipped else "")
+                + (f" · {len(r.unsure)} unsure" if r.unsure else ""),
                 "Disagree": _num(r.label_disagreement, "{:.2f}"),
                 "Seg F1": _num(r.segment_f1, "{:.2f}"),
                 "BLEU": _num(r.caption_bleu, "{:.1f}"),
@@ -81,7 +82,9 @@ class DisputedClipsModel(QAbstractTableModel):
             }[col]
         if role == Qt.ItemDataRole.ToolTipRole:
             who = "\n".join([f"{a}: {lab}" for a, lab in sorted(r.labels.items())]
-                            + [f"{a}: skipped ({why})" for a, why in sorted(r.skipped.items())])
+                            + [f"{a}: skipped ({why})" for a, why in sorted(r.skipped.items())]
+                            + [f"{a}: unsure" + (f" ({note})" if note else "")
+                               for a, note in sorted(r.unsure.items())])
             return f"clip {r.clip} ({r.group or 'no group'})\n{who or 'no labels'}"
         if role == Qt.ItemDataRole.TextAlignmentRole and col in ("Clip #", "Disagree", "Seg F1",
                                                                  "BLEU"):

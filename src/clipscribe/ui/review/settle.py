@@ -40,9 +40,12 @@ class SettlePanel(QWidget):
         self.any_label = QComboBox()
         self.any_label.addItems(labels)
         self.any_label.setAccessibleName("Any label")
-        settle = QPushButton("Settle")
+        self.any_label.setPlaceholderText("choose a label")
+        settle = self.settle_button = QPushButton("Settle")
         settle.setToolTip("Settle the label chosen in the list")
-        settle.clicked.connect(lambda: self.labelChosen.emit(self.any_label.currentText()))
+        settle.clicked.connect(lambda: self.any_label.currentIndex() >= 0 and
+                               self.labelChosen.emit(self.any_label.currentText()))
+        self.any_label.currentIndexChanged.connect(lambda i: settle.setEnabled(i >= 0))
         clear = QPushButton("Unsettle")
         clear.clicked.connect(lambda: self.labelChosen.emit(None))
         row.addWidget(self.any_label, 1)
@@ -100,16 +103,26 @@ class SettlePanel(QWidget):
         self._vote_buttons: list[QPushButton] = []
 
     def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
-                  comments: list, skipped: dict[str, str] | None = None) -> None:
-        """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote)."""
-        skipped = skipped or {}
+                  comments: list, skipped: dict[str, str] | None = None,
+                  unsure: dict[str, str] | None = None) -> None:
+        """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote);
+        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts)."""
+        skipped, unsure = skipped or {}, unsure or {}
         self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
+        # the list shows this clip's gold, or nothing chosen: never a label left from another
+        # clip or decision, which Settle would then write over the gold
+        self.any_label.setCurrentIndex(self.any_label.findText(gold) if gold else -1)
+        # Alt+1…9 puts the focus on the vote button it clicks; that button is replaced here,
+        # and the focus must stay in the desk (its keys, such as Alt+Down, work from there)
+        focused = next((i for i, b in enumerate(self._vote_buttons) if b.hasFocus()), None)
         for b in self._vote_buttons:
             b.deleteLater()
         self._vote_buttons = []
         for i, name in enumerate(annotators):
             lab = labels.get(name)
             said = f"skipped ({skipped[name]})" if name in skipped else lab or '—'
+            if name in unsure:
+                said += f" (unsure: {unsure[name]})" if unsure[name] else " (unsure)"
             b = QPushButton(f"&{i + 1}  {name}: {said}" if i < 9 else f"{name}: {said}")
             b.setToolTip(f"Settle “{lab}” (Alt+{i + 1})" if lab else
                          f"{name} skipped this clip: {skipped[name]}" if name in skipped else
@@ -120,6 +133,13 @@ class SettlePanel(QWidget):
             b.clicked.connect(lambda _=False, l=lab: self.labelChosen.emit(l))
             self.votes.addWidget(b, i, 0)
             self._vote_buttons.append(b)
+        if focused is not None:
+            live = [b for b in self._vote_buttons if b.isEnabled()]
+            target = (self._vote_buttons[focused] if focused < len(self._vote_buttons)
+                      and self._vote_buttons[focused].isEnabled() else live[0] if live
+                      else self.any_label)
+            target.show()  # now, not on the next pass of the event loop: hidden, it takes no focus
+            target.setFocus(Qt.FocusReason.OtherFocusReason)
         self.track_of.clear()
         self.track_of.addItems(annotators)
         self.to.clear()

@@ -38,6 +38,13 @@ def _open_export(w) -> None:
     open_export_dialog(w)
 
 
+def _import_records(w) -> None:
+    from ..dialogs.import_dialog import import_into  # loaded on first use
+    if import_into(w):
+        w.queue_model.reload()
+        w.refresh()
+
+
 def build_actions(w) -> dict[str, QAction]:
     """The window's commands; ``w`` is the MainWindow providing the slots."""
     A = lambda *args, **kw: make_action(w, *args, **kw)  # noqa: E731
@@ -128,6 +135,9 @@ def build_actions(w) -> dict[str, QAction]:
                         tip="Close this project and open, make or build another"),
         "setup": A("Set up project…", "Ctrl+Shift+P", w.show_setup, "File",
                    tip="The label set, and the videos of this project (leads)"),
+        "import": A("Import records…", None, lambda: _import_records(w), "File",
+                    tip="Import labels, segments and captions from JSON Lines, or clip labels "
+                    "from CSV, all or nothing"),
         "quit": A("Quit", Key.Quit, w.close, "File"),
     }
     acts["export"].setEnabled(lead)

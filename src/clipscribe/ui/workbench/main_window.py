@@ -7,9 +7,11 @@ from __future__ import annotations
 from PySide6.QtCore import QSettings, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QCloseEvent, QGuiApplication, QImage
 from PySide6.QtWidgets import (
-    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QStackedWidget, QVBoxLayout, QWidget,
+    QDialog, QDockWidget, QInputDialog, QLabel, QMainWindow, QMessageBox, QSizePolicy, QStackedWidget,
+    QVBoxLayout, QWidget,
 )
 
+from ...errors import GuidelineNotMet
 from ..boot import remember_project
 from ..dialogs.help import CautionsNote, ShortcutSheet
 from ..editor import ClipEditor
@@ -28,10 +30,14 @@ from .queue_model import ClipQueueModel
 from .scrub_bar import ScrubBar
 from .segment_model import SegmentModel
 from .segments_ops import SegmentOps
+from .submit_check import ask_override
 from .timeline import Timeline
-from .work_pause import WorkViewPause
+from .work_pause import SHARED_ACTIONS, WorkViewPause
 
 RESUME_MS = 400
+#: the work view's dock layout (a key of its own: the layout once saved under "window/state"
+#: may be a review view's, with every dock hidden, and is not read)
+WORK_STATE_KEY = "window/work/state"
 
 
 class MainWindow(SegmentOps, QMainWindow):
@@ -42,6 +48,7 @@ class MainWindow(SegmentOps, QMainWindow):
         review view's second tab)."""
         super().__init__()
         self.project = project
+        self._shown_state: tuple[int, str] | None = None  # (clip, state) last shown, for reopens
         self.settings = settings if settings is not None else QSettings()
         self.setWindowTitle(f"clipscribe — {project.settings.name} — {project.user}")
         self.setObjectName("workbench")
@@ -102,6 +109,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.stack = QStackedWidget()
         self.stack.addWidget(work)
         self.stack.addWidget(self.review_page)
+        self.review_page.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Ignored)
         self.setCentralWidget(self.stack)
         self.clip_panel.set_label_actions(
             [a[f"label:{l.name}"] for l in self.label_infos], self.colours)
@@ -126,7 +134,8 @@ class MainWindow(SegmentOps, QMainWindow):
         d.setObjectName(name)
         d.setWidget(widget)
         d.setFeatures(QDockWidget.DockWidgetFeature.DockWidgetMovable
-                      | QDockWidget.DockWidgetFeature.DockWidgetFloatable)
+                      | QDockWidget.DockWidgetFeature.DockWidgetFloatable
+                      | QDockWidget.DockWidgetFeature.DockWidgetClosable)  # View menu brings it back
         self.addDockWidget(area, d)
         return d
 
@@ -233,6 +242,10 @@ class MainWindow(SegmentOps, QMainWindow):
         self.captions.load(p.caption_rows(clip=cid, annotator=me), segments,
                            versions=p.caption_versions(cid, me))
         state, reason = p.clip_state(cid, me)
+        if self._shown_state == (cid, "submitted") and state == "open":
+            self.statusBar().showMessage(f"Clip {cid} reopened: you changed it after submitting; "
+                                         "submit it again when done (Ctrl+Return)", 8000)
+        self._shown_state = (cid, state)
         c = self.clip
         self.clip_panel.show_clip(f"Clip {c.id}: {c.path}\n{c.frame_count} frames, {c.fps:g} fps, "
                                   f"{c.width}×{c.height}", p.my_clip_label(cid, me), state, reason)
@@ -284,9 +297,18 @@ class MainWindow(SegmentOps, QMainWindow):
     @Slot()
     def submit_clip(self) -> None:
         self.captions.flush()
-        if self.editor.set_state("submitted") is not None:
+        done = self.editor.set_state("submitted")
+        missed = self.editor.last_refusal
+        if done is None and isinstance(missed, GuidelineNotMet):
+            reason = self.ask_override(missed.missing, blocking=missed.blocking)
+            done = self.editor.set_state("submitted", override=reason) if reason else None
+        if done is not None:
             self.next_unfinished()
             self.focus_viewer()  # the next keys are label and playback keys, not text
+
+    def ask_override(self, missing, *, blocking: bool) -> str | None:
+        """What the clip's captions miss; the override reason, or None to go back."""
+        return ask_override(self, missing, blocking=blocking)
 
     def _leave_fields(self) -> None:
         """On clip change, move the cursor out of a caption or reason field: typing meant for
@@ -349,6 +371,8 @@ class MainWindow(SegmentOps, QMainWindow):
     def show_view(self, view: str) -> None:
         """"work", "review" or "board" (the review view on its agreement board tab)."""
         review = view in ("review", "board")
+        if review and self.stack.currentIndex() == 0:
+            self._work_state = self.saveState()  # the work view's docks, before they are hidden
         self.stack.setCurrentIndex(1 if review else 0)
         self.actions_["work_view"].setChecked(not review)
         self.actions_["review_view"].setChecked(review)
@@ -362,15 +386,35 @@ class MainWindow(SegmentOps, QMainWindow):
         for anyone else the note saying why there is none."""
         return self.review_page.page or self.review_page.refusal
 
+    @property
+    def in_review_view(self) -> bool:
+        return self.stack.currentWidget() is self.review_page
+
     @Slot(int)
     def _view_switched(self, index: int) -> None:
-        """Keep the work view's docks and shortcuts out of the review view's way."""
+        """Keep the work view's docks and shortcuts out of the review view's way. Only the
+        page on show counts towards the window's minimum size, so a wide page hidden in the
+        stack never widens the window of the other view."""
+        size = self.size()
+        for i in range(self.stack.count()):
+            page, shown = self.stack.widget(i), i == index
+            page.setSizePolicy(QSizePolicy.Policy.Preferred if shown else QSizePolicy.Policy.Ignored,
+                               QSizePolicy.Policy.Preferred if shown else QSizePolicy.Policy.Ignored)
         if self.stack.widget(index) is self.review_page:
-            self.review_page.build()
             self.player.pause()
-            self.work_pause.hold()
+            self.work_pause.hold()  # docks hidden first: the page must not count beside them
+            page = self.review_page.build()
+            if page is not None:
+                page.focus_current()
         else:
+            self.stack.layout().invalidate()  # the review page's minimum no longer counts
             self.work_pause.release()
+            self.restoreState(self._work_state)  # the docks at the widths they had
+        self.layout().activate()
+        if self.width() > size.width() or self.height() > size.height():
+            # the docks came back at their old widths beside the page's minimum: the window
+            # keeps the size it had (the docks give way), so it never grows off the screen
+            self.resize(size.expandedTo(self.minimumSizeHint()))
 
     @Slot(ReviewPage)
     def _review_built(self, page: ReviewPage) -> None:
@@ -397,8 +441,18 @@ class MainWindow(SegmentOps, QMainWindow):
     def all_actions(self) -> list:
         return list(self.actions_.values())
 
+    def shortcut_sheet(self) -> ShortcutSheet:
+        """The keys that work where the person is: in the review view, the review page's
+        and the window's shared commands; in the work view, the work view's."""
+        page = self.review_page.page
+        if self.in_review_view and page is not None:
+            shared = [self.actions_[n] for n in SHARED_ACTIONS if n in self.actions_]
+            return ShortcutSheet(page.key_actions() + shared, self, extra_rows=page.key_rows(),
+                                 title="Keyboard shortcuts — review view")
+        return ShortcutSheet(self.all_actions(), self)
+
     def show_shortcuts(self) -> None:
-        ShortcutSheet(self.all_actions(), self).exec()
+        self.shortcut_sheet().exec()
 
     def open_other_project(self) -> None:
         """Choose another project in the start window; this window closes and it opens."""
@@ -442,11 +496,25 @@ class MainWindow(SegmentOps, QMainWindow):
         self.settings.sync()
 
     def _restore_layout(self) -> None:
-        geo, state = self.settings.value("window/geometry"), self.settings.value("window/state")
+        """The saved size and the work view's docks as the person left them. A saved dock
+        layout that does not restore, or one that hid every dock (never the person's doing
+        in the work view), is dropped for the default one."""
+        geo, state = self.settings.value("window/geometry"), self.settings.value(WORK_STATE_KEY)
         screen = self.screen() or QGuiApplication.primaryScreen()
         fit_window(self, screen.availableGeometry(), geo)
-        if state is not None:
-            self.restoreState(state)
+        self._work_state = self.saveState()  # the default layout
+        docks = self.findChildren(QDockWidget)
+        if state is None or not self.restoreState(state) or all(d.isHidden() for d in docks):
+            self.restoreState(self._work_state)
+            for d in docks:
+                d.setHidden(False)
+
+    def _save_layout(self) -> None:
+        """Geometry, and the work view's dock layout as it was in the work view (the review
+        view hides the docks; that is not the person's layout)."""
+        self.settings.setValue("window/geometry", self.saveGeometry())
+        self.settings.setValue(WORK_STATE_KEY,
+                               self._work_state if self.in_review_view else self.saveState())
 
     def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
         if not self.settle_conflicts():
@@ -454,8 +522,7 @@ class MainWindow(SegmentOps, QMainWindow):
             return
         self.captions.flush()
         self._write_resume()
-        self.settings.setValue("window/geometry", self.saveGeometry())
-        self.settings.setValue("window/state", self.saveState())
+        self._save_layout()
         self.settings.sync()
         self.jobs.cancel()
         self.player.close()

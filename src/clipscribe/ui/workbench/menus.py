@@ -11,6 +11,7 @@ def build_menus(w) -> None:
     m = bar.addMenu("&File")
     m.addAction(a["open_other"])
     m.addAction(a["setup"])
+    m.addAction(a["import"])
     m.addAction(a["export"])
     m.addSeparator()
     m.addAction(a["quit"])

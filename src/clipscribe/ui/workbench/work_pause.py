@@ -1,5 +1,5 @@
 """What the work view gives up while the workbench window shows its review view: its docks are
-hidden and its commands are off, so keys meant for the review desk never act on the work
+hidden and its commands (also the View menu's entries showing or hiding a dock) are off, so keys meant for the review desk never act on the work
 view's clip. Leaving the review view brings both back as they were."""
 
 from __future__ import annotations
@@ -30,6 +30,7 @@ class WorkViewPause:
                     self._was_enabled[name] = a.isEnabled()
                     a.setEnabled(False)
         for d in self.docks():
+            d.toggleViewAction().setEnabled(False)
             if not d.isHidden():
                 self._hidden.append(d)
                 d.hide()
@@ -42,3 +43,5 @@ class WorkViewPause:
         self._was_enabled.clear()
         while self._hidden:
             self._hidden.pop().show()
+        for d in self.docks():
+            d.toggleViewAction().setEnabled(True)
