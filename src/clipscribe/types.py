@@ -51,10 +51,13 @@ BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 
 @dataclass(frozen=True, slots=True)
 class SegmentInfo:
+    """One annotator's segment. ``label`` is None while the segment is unlabelled (marked
+    before its annotator chose the clip's label); never the word "unlabelled", which is only
+    how screens show it."""
     id: int
     clip: int
     annotator: str
-    label: str
+    label: str | None
     start: int
     end: int  # exclusive
 

@@ -187,6 +187,9 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
         "duplicates_dropped": "reference captions left out because an equal one (same text, "
                               "same segment; under gold+agreeing also equal after "
                               "normalisation) was already among the clip's references",
+        "unlabelled_segments": "annotator segments of the exported clips that had no label "
+                               "(marked before their annotator chose one): never exported, "
+                               "never chosen by the segment rule",
         "files": "sha256 of every written file except manifest.json, byte size",
         "leakage": "see leakage.recipe; counts are findings per kind",
         "assignment": "clip -> split of this export plus earlier frozen clips not exported now",
@@ -200,6 +203,7 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
                                       rule=plan.policy.describe()),
         seed=plan.seed, ratios=plan.split.ratios, counts=counts,
         duplicates_dropped=plan.duplicates_dropped,
+        unlabelled_segments=plan.unlabelled_segments,
         totals={s: sum(c.values()) for s, c in counts.items()},
         left_out=[LeftOut(clip=d.clip_id, reason=d.reason or "",
                           media=plan.left_out_media.get(d.clip_id)) for d in plan.left_out],

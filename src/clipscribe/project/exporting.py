@@ -62,8 +62,13 @@ class Exporting(Service):
             if who not in leads:
                 skips[clip].append((who, reason))
         segs: dict[int, dict[str, list]] = defaultdict(lambda: defaultdict(list))
+        unlabelled: dict[int, int] = defaultdict(int)  # never exported; counted in the manifest
         for g in self.peers.annotation.segments():  # ordered by clip, then name
-            if g.annotator not in leads:
+            if g.annotator in leads:
+                continue
+            if g.label is None:
+                unlabelled[g.clip] += 1
+            else:
                 segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
@@ -93,6 +98,7 @@ class Exporting(Service):
                 gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
                 gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
                 segments=tuple(gold_segs.get(c.id, ())), annotator_segments=own,
+                unlabelled_segments=unlabelled.get(c.id, 0),
                 consent=c.consent, licence=c.licence,
                 source_path=str(self.ctx.media_root / c.path)))
         return out

@@ -451,15 +451,18 @@ class Project:
 
     # ---- annotate (Annotation) ----------------------------------------------------
     def set_clip_label(self, clip: ClipRef, annotator: Any, label: str | None) -> int | None:
-        """Set (or with ``None`` clear) one annotator's label of a clip."""
+        """Set (or with ``None`` clear) one annotator's label of a clip. Setting it also gives
+        that label to the annotator's unlabelled segments of the clip, in the same edit (one
+        undo step)."""
         return self._annotation.set_clip_label(clip, annotator, label)
 
     def clip_labels(self, *, annotator: Any = None, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         return self._annotation.clip_labels(annotator=annotator, clip=clip)
 
-    def add_segment(self, clip: ClipRef, annotator: Any, label: str, start: int, end: int) -> int:
-        """Add a segment ``[start, end)`` in frames; returns its id."""
+    def add_segment(self, clip: ClipRef, annotator: Any, label: str | None, start: int, end: int) -> int:
+        """Add a segment ``[start, end)`` in frames; returns its id. ``label`` None stores it
+        unlabelled: the annotator's next clip label fills it, or ``update_segment(label=...)``."""
         return self._annotation.add_segment(clip, annotator, label, start, end)
 
     def update_segment(
@@ -478,6 +481,8 @@ class Project:
         return self._annotation.merge_segments(first_id, second_id)
 
     def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
+        """Annotators' segments, ordered by clip, annotator, start. ``SegmentInfo.label`` is
+        None for an unlabelled segment (shown as "unlabelled" in the workbench)."""
         return self._annotation.segments(clip=clip, annotator=annotator)
 
     def add_caption(

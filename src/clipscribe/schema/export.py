@@ -164,6 +164,9 @@ class ExportManifest(_Model):
     duplicates_dropped: int = Field(
         default=0, ge=0, description="reference captions left out as repeats of one already "
                                      "taken (see recipes.duplicates_dropped)")
+    unlabelled_segments: int = Field(
+        default=0, ge=0, description="annotator segments of the exported clips left out for "
+                                     "having no label (see recipes.unlabelled_segments)")
     warnings: list[QualityWarning] = Field(
         default_factory=list, description="splits empty or far from their ratios, clips short of "
                                           "reference captions; see recipes.warnings")

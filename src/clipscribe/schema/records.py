@@ -66,12 +66,14 @@ class LabelRecord(_Record):
 
 
 class SegmentRecord(_Record):
-    """A temporal segment in frames; ``end`` is exclusive."""
+    """A temporal segment in frames; ``end`` is exclusive. Without ``label`` (or with null) the
+    segment is unlabelled: marked before its annotator chose a label."""
 
     type: Literal["segment"] = "segment"
     clip: ClipRef
     annotator: Name
-    label: Name
+    label: Name | None = Field(default=None, description="the segment's label; absent or null: "
+                               "unlabelled (marked before its annotator chose one)")
     start: int = Field(strict=True, ge=0, le=MAX_FRAME, description="first frame of the segment (0-based)")
     end: int = Field(strict=True, gt=0, le=MAX_FRAME, description="frame after the last frame of the segment")
 

@@ -163,12 +163,14 @@ class Segment(Base):
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[annotator_fk]
-    label_id: Mapped[label_fk]
+    # None: marked before its annotator chose a label ("unlabelled"); setting the clip label
+    # fills it, or the annotator gives it one
+    label_id: Mapped[Optional[int]] = mapped_column(ForeignKey("labels.id", ondelete="RESTRICT"))
     start_frame: Mapped[int] = mapped_column(Integer)
     end_frame: Mapped[int] = mapped_column(Integer, doc="exclusive")
     updated_at: Mapped[when]
     version: Mapped[int] = mapped_column(Integer, default=1)
-    label: Mapped[Label] = relationship(lazy="joined")
+    label: Mapped[Optional[Label]] = relationship(lazy="joined")
     __mapper_args__ = {"version_id_col": version}
 
 

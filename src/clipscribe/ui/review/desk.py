@@ -194,7 +194,8 @@ class ReviewDesk(QWidget):
             "queue": desk_action(self, "Go to disputed clips", "Ctrl+L", self.queue_view.setFocus),
             "captions": desk_action(self, "Go to captions", "Ctrl+E", self.caption_view.setFocus),
             "viewer": desk_action(self, "Go to viewer", "Ctrl+0", self.viewer.setFocus),
-            "copy_track": desk_action(self, "Copy the chosen annotator's segments to gold",
+            "copy_track": desk_action(self, "Copy the chosen annotator's labelled segments "
+                                      "to gold",
                                       "Ctrl+Shift+G",
                                       lambda: self.copy_track(self.settle.track_of.currentText())),
         })
@@ -374,8 +375,16 @@ class ReviewDesk(QWidget):
     def copy_track(self, annotator: str) -> None:
         if self.cmp is None:
             return
-        segs = [(g.label, g.start, g.end) for g in self.cmp.segments.get(annotator, [])]
-        self.editor.settle_segments(segs, f"Copy {annotator}'s segments to gold")
+        theirs = self.cmp.segments.get(annotator, [])
+        segs = [(g.label, g.start, g.end) for g in theirs if g.label is not None]
+        left_out = len(theirs) - len(segs)
+        if left_out and not segs:  # copying nothing would clear the gold segments
+            self.status.emit(f"Nothing copied: {annotator}'s segments are all unlabelled")
+            return
+        done = self.editor.settle_segments(segs, f"Copy {annotator}'s segments to gold")
+        if done is not None and left_out:
+            self.status.emit(f"Copied {len(segs)} of {annotator}'s segments to gold; "
+                             f"{left_out} unlabelled left out")
 
     def add_segment(self) -> None:
         if self.cmp is None:

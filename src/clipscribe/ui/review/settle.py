@@ -58,7 +58,8 @@ class SettlePanel(QWidget):
         self.track_of = QComboBox()
         self.track_of.setAccessibleName("Annotator whose segments to copy")
         copy = QPushButton("Copy to gold")
-        copy.setToolTip("Replace the gold segments with this annotator's track")
+        copy.setToolTip("Replace the gold segments with this annotator's labelled segments "
+                        "(unlabelled ones are not copied)")
         copy.clicked.connect(lambda: self.track_of.currentText() and
                              self.copyTrack.emit(self.track_of.currentText()))
         row.addWidget(self.track_of, 1)
