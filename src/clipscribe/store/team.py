@@ -152,7 +152,20 @@ BEGIN
      ORDER BY c.id LIMIT 1
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
-      RETURN NULL;
+      -- Every clip with a free place may only be held for a moment by another pull (SKIP
+      -- LOCKED passes over it): wait for the first such clip instead of answering "no work",
+      -- then count its places again. Only when no clip has a free place is there no work.
+      SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
+       WHERE c.state <> 'settled'
+         AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+                         AND a.annotator_id = p_annotator)
+         AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+              AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
+       ORDER BY c.id LIMIT 1
+       FOR UPDATE OF c;
+      IF v_clip IS NULL THEN
+        RETURN NULL;
+      END IF;
     END IF;
     IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip AND {_HOLDS})
        < (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
