@@ -51,10 +51,13 @@ BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 
 @dataclass(frozen=True, slots=True)
 class SegmentInfo:
+    """One annotator's segment. ``label`` is None while the segment is unlabelled (marked
+    before its annotator chose the clip's label); never the word "unlabelled", which is only
+    how screens show it."""
     id: int
     clip: int
     annotator: str
-    label: str
+    label: str | None
     start: int
     end: int  # exclusive
 
@@ -182,6 +185,8 @@ class DisputedClip:
     gold_label: str | None
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    inferred_label: str | None = None   # the most probable true label (Dawid-Skene), if inferred
+    certainty: float = float("nan")     # its posterior probability (NaN when not inferred)
 
     @property
     def settled(self) -> bool:
@@ -212,6 +217,7 @@ class ClipComparison:
     scores: dict[str, float] = field(default_factory=dict)
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    posterior: dict[str, float] = field(default_factory=dict)  # label -> inferred probability
 
 
 @dataclass(frozen=True, slots=True)

@@ -13,6 +13,7 @@ import pytest
 
 from clipscribe import Project
 from clipscribe.cli import main
+from clipscribe.media.index import index_key
 from clipscribe.cluster import KINDS, CacheFolders
 from clipscribe.cluster.tasks import cache_file
 
@@ -68,8 +69,9 @@ def test_the_done_checks_name_the_files_the_engines_write(clips_copy, tmp_path, 
         clips = p.clips()
     folders = CacheFolders(str(cache))
     for c in clips:
+        key = index_key(clips_copy / "media" / c.path)
         for kind in ("index", "thumbs", "motion", "features"):
-            assert cache_file(kind, c.sha256, folders).is_file(), (kind, c.path)
+            assert cache_file(kind, c.sha256, folders, index_key=key).is_file(), (kind, c.path)
         assert c.fingerprint is not None
 
 

@@ -64,10 +64,13 @@ def _job_file(folders: CacheFolders, sha256: str, name: str, params: dict) -> Pa
     return folders.folder("jobs") / f"{sha256}-{name}-{hashlib.sha256(recipe.encode()).hexdigest()[:16]}.npy"
 
 
-def cache_file(kind: str, sha256: str, folders: CacheFolders) -> Path | None:
-    """The cache file that holds ``kind`` for content ``sha256`` (None: kept in the database)."""
+def cache_file(kind: str, sha256: str, folders: CacheFolders, *,
+               index_key: str | None = None) -> Path | None:
+    """The cache file that holds ``kind`` for content ``sha256`` (None: kept in the database).
+    The frame index is kept under the media engine's own cheap key of the file
+    (:func:`clipscribe.media.index.index_key`), which the caller reads from the file."""
     if kind == "index":
-        return folders.folder("frame-index") / f"{sha256}.npz"
+        return folders.folder("frame-index") / f"{index_key or sha256}.npz"
     if kind == "thumbs":
         return _job_file(folders, sha256, "thumbs", THUMBS)
     if kind == "motion":
@@ -79,9 +82,10 @@ def cache_file(kind: str, sha256: str, folders: CacheFolders) -> Path | None:
     raise ValueError(f"no kind of work {kind!r}; kinds are {', '.join(KINDS)}")
 
 
-def is_done(kind: str, sha256: str, fingerprint: int | None, folders: CacheFolders) -> bool:
+def is_done(kind: str, sha256: str, fingerprint: int | None, folders: CacheFolders, *,
+            index_key: str | None = None) -> bool:
     """Whether ``kind`` is done for a clip with this content and stored fingerprint."""
-    target = cache_file(kind, sha256, folders)
+    target = cache_file(kind, sha256, folders, index_key=index_key)
     return fingerprint is not None if target is None else target.is_file()
 
 

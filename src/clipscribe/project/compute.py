@@ -78,7 +78,9 @@ class Compute(Service):
         report = ComputeReport(what=kinds, clips=len(rows))
         tasks, where = [], {}
         for c in rows:
-            need = tuple(k for k in kinds if not is_done(k, c.sha256, c.fingerprint, client_cache))
+            key = _index_key(self.ctx.media_root / c.path) if "index" in kinds else None
+            need = tuple(k for k in kinds
+                         if not is_done(k, c.sha256, c.fingerprint, client_cache, index_key=key))
             if not need:
                 report.already_done += 1
                 continue
@@ -195,3 +197,13 @@ def _reasons(failed: dict[str, str]) -> str:
     for kind, why in failed.items():
         by_reason.setdefault(why, []).append(kind)
     return "; ".join(f"{why} ({', '.join(kinds)})" for why, kinds in by_reason.items())
+
+
+def _index_key(path: Any) -> str | None:
+    """The media engine's cache key of the file's frame index; None when the file cannot be
+    read here (the worker reports why)."""
+    from ..media.index import index_key
+    try:
+        return index_key(path)
+    except OSError:
+        return None

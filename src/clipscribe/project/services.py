@@ -15,6 +15,7 @@ if TYPE_CHECKING:
     from .analysis import Analysis
     from .annotate import Annotation
     from .catalog import Catalog
+    from .checks import Checks
     from .clip_facts import ClipFacts
     from .compute import Compute
     from .context import Context
@@ -36,6 +37,7 @@ SERVICES = {
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
     "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
+    "checks": ("checks", "Checks"),
 }
 
 
@@ -55,6 +57,7 @@ class Peers:
     team: Team
     suggestions: Suggestions
     compute: Compute
+    checks: Checks
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx
