@@ -114,6 +114,17 @@ _HOLDS = f"""(a.state NOT IN ('expired', 'skipped') AND (a.expires_at IS NOT NUL
 # and returns nothing but a clip id. The count is checked again after the clip row is locked,
 # in a fresh statement (a fresh snapshot under READ COMMITTED), so two pulls racing for the
 # last free place of a clip cannot both win.
+# The first clip the pull may give ``p_annotator``: not settled, not a check clip, not theirs
+# already, with a free place in the plan (its FROM and WHERE; the pull adds the locking).
+_FREE_PLACE = f"""{SCHEMA}.clips c
+     WHERE c.state <> 'settled'
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.check_clips k WHERE k.clip_id = c.id)
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+                       AND a.annotator_id = p_annotator)
+       AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
+     ORDER BY c.id LIMIT 1"""
+
 _PULL = f"""
 CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_pull(p_annotator integer, p_lease_seconds double precision)
 RETURNS integer LANGUAGE plpgsql SECURITY DEFINER {_PATH} AS $$
@@ -176,27 +187,13 @@ BEGIN
   END IF;
 
   LOOP
-    SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
-     WHERE c.state <> 'settled'
-       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.check_clips k WHERE k.clip_id = c.id)
-       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-                       AND a.annotator_id = p_annotator)
-       AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
-     ORDER BY c.id LIMIT 1
+    SELECT c.id INTO v_clip FROM {_FREE_PLACE}
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
       -- Every clip with a free place may only be held for a moment by another pull (SKIP
       -- LOCKED passes over it): wait for the first such clip instead of answering "no work",
       -- then count its places again. Only when no clip has a free place is there no work.
-      SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
-       WHERE c.state <> 'settled'
-         AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.check_clips k WHERE k.clip_id = c.id)
-         AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-                         AND a.annotator_id = p_annotator)
-         AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-              AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
-       ORDER BY c.id LIMIT 1
+      SELECT c.id INTO v_clip FROM {_FREE_PLACE}
        FOR UPDATE OF c;
       IF v_clip IS NULL THEN
         RETURN NULL;
