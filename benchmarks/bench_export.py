@@ -6,6 +6,12 @@ fingerprints with planted near-duplicates, random sha256 with planted copies, tw
 clip with planted identical and near-identical ones.
 
     PYTHONPATH=src python benchmarks/bench_export.py [--clips 100000] [--subset 20000]
+
+Look-alike collections (clips from 50 fixed cameras; each case in a fresh process, peak memory
+as that process's VmHWM), clusters beside the all-pairs search they replace:
+
+    PYTHONPATH=src python benchmarks/bench_export.py --look-alike [--pairs-max 20000]
+        [--before-src DIR]   # DIR/src of an older checkout: its check_leakage as "before"
 """
 
 from __future__ import annotations
@@ -13,6 +19,8 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import subprocess
+import sys
 import time
 from collections import Counter
 
@@ -22,6 +30,8 @@ from clipscribe.export import (
     CaptionInput, ClipInput, build_plan, check_leakage, near_pairs, near_pairs_brute, split_clips,
 )
 from clipscribe.export.textdup import jaccard, normalise_caption, shingles, similar_pairs
+
+CAMERAS = 50
 
 WORDS = ("person man woman child cook worker opens closes picks puts pours stirs cuts washes "
          "carries drops the a a the red blue small large door box cup pot knife bowl table "
@@ -65,6 +75,116 @@ def timed(label, fn, *a, **kw):
     return out, time.perf_counter() - t
 
 
+def camera_clips(n: int, seed: int = 0) -> list[ClipInput]:
+    """``n`` clips from CAMERAS fixed cameras: a clip's fingerprint flips at most 4 bits of its
+    camera's (so a camera's clips are all within 8 bits of each other), and its two captions are
+    the camera's sentence with one or two words added at the end."""
+    rng = np.random.default_rng(seed)
+    base = rng.integers(0, 2**64, CAMERAS, dtype=np.uint64)
+    camera = rng.integers(0, CAMERAS, n)
+    flips = np.zeros(n, dtype=np.uint64)
+    for _ in range(4):
+        bit = rng.integers(0, 64, n).astype(np.uint64)
+        flips |= np.where(rng.random(n) < 0.7, np.uint64(1) << bit, np.uint64(0))
+    fps = base[camera] ^ flips
+    words = np.array(WORDS)
+    sentence = [" ".join(f"{w}{c}" for w in words[rng.integers(0, len(words), 20)])
+                for c in range(CAMERAS)]
+    extra = rng.integers(0, 300, (n, 2, 2))
+    two = rng.random((n, 2)) < 0.5
+
+    def caption(k: int, j: int) -> str:
+        tail = f" tail{extra[k, j, 0]}" + (f" tail{extra[k, j, 1]}" if two[k, j] else "")
+        return sentence[camera[k]] + tail
+
+    return [ClipInput(clip_id=f"c{k:06d}", media_path=f"cam{camera[k]:02d}/{k}.mp4",
+                      group=f"cam{camera[k]:02d}", sha256=f"{k:064x}", fingerprint=int(fps[k]),
+                      labels=("walk",) * 2,
+                      captions=(CaptionInput(caption(k, 0)), CaptionInput(caption(k, 1))))
+            for k in range(n)]
+
+
+def _vm_hwm_mb() -> float:
+    with open("/proc/self/status") as f:
+        for line in f:
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def run_case(case: str, n: int) -> dict:
+    """One look-alike case in this (fresh) process; prints its JSON."""
+    clips = camera_clips(n)
+    out: dict = {"case": case, "clips": n, "cameras": CAMERAS}
+    t = time.perf_counter()
+    if case == "media-clusters":
+        from clipscribe.export.neardup import near_clusters
+        cl = near_clusters(np.array([c.fingerprint for c in clips], dtype=np.uint64), 8)
+        out.update(clusters=len(cl.groups()), links=int(len(cl.link_a)), queries=cl.queries,
+                   candidates=cl.work)
+    elif case == "media-all-pairs":  # the search the check used to run, pairs then listed
+        i, _, _ = near_pairs(np.array([c.fingerprint for c in clips], dtype=np.uint64), 8)
+        out.update(pairs=int(len(i)))
+    elif case in ("captions-clusters", "captions-all-pairs"):
+        texts = sorted({normalise_caption(cap.text) for c in clips for cap in c.captions})
+        out["texts"] = len(texts)
+        t = time.perf_counter()
+        if case == "captions-clusters":
+            from clipscribe.export.textdup import caption_clusters
+            cl = caption_clusters(texts, 0.9)
+            out.update(clusters=len(cl.groups()), links=int(len(cl.link_a)), queries=cl.queries,
+                       candidates=cl.work)
+        else:
+            out["pairs"] = len(similar_pairs(texts, 0.9))
+    elif case == "check":  # every leakage check, split by camera (whatever clipscribe is found)
+        split = split_clips([(c.clip_id, c.group, None) for c in clips],
+                            {"train": 0.8, "test": 0.2}).assignment
+        # one camera parted by hand, so one cluster crosses splits
+        for k, c in enumerate(x for x in clips if x.group == "cam00"):
+            split[c.clip_id] = "train" if k % 2 else "test"
+        t = time.perf_counter()
+        report = check_leakage(clips, split)
+        out["findings"] = report.counts()
+    else:
+        raise SystemExit(f"unknown case {case!r}")
+    out["s"] = round(time.perf_counter() - t, 3)
+    out["vm_hwm_mb"] = round(_vm_hwm_mb(), 1)
+    return out
+
+
+def _fresh(case: str, n: int, src: str, timeout: float) -> dict:
+    env = dict(os.environ, PYTHONPATH=src)
+    try:
+        done = subprocess.run([sys.executable, __file__, "--case", case, "--clips", str(n)],
+                              env=env, capture_output=True, text=True, timeout=timeout)
+    except subprocess.TimeoutExpired:
+        return {"case": case, "clips": n, "timed_out_s": timeout}
+    if done.returncode:
+        return {"case": case, "clips": n, "error": done.stderr.strip().splitlines()[-1:]}
+    return json.loads(done.stdout)
+
+
+def look_alike(args) -> None:
+    src = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "src")
+    rows = []
+    for n in (10_000, 20_000, 40_000):
+        rows.append(_fresh("media-clusters", n, src, args.timeout))
+        rows.append(_fresh("check", n, src, args.timeout))
+        if n <= args.pairs_max:
+            rows.append(_fresh("media-all-pairs", n, src, args.timeout))
+        if args.before_src and n <= args.pairs_max:
+            rows.append(dict(_fresh("check", n, args.before_src, args.timeout), before=True))
+    for n in (12_500, 25_000):
+        rows.append(_fresh("captions-clusters", n, src, args.timeout))
+        if n <= args.pairs_max:
+            rows.append(_fresh("captions-all-pairs", n, src, args.timeout))
+    rows.append(_fresh("check", 100_000, src, args.timeout))
+    print(json.dumps({"look_alike": rows, "load_average_1min": round(os.getloadavg()[0], 2),
+                      "budget": "40k clips from 50 cameras < 10 s and < 1 GB; "
+                                "100k clips, all checks < 10 s",
+                      "peak_memory": "VmHWM of a fresh process per case"}, indent=2))
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--clips", type=int, default=100_000)
@@ -73,7 +193,19 @@ def main() -> None:
     ap.add_argument("--subset", type=int, default=20_000)
     ap.add_argument("--caption-subset", type=int, default=3_000)
     ap.add_argument("--radius", type=int, default=8)
+    ap.add_argument("--look-alike", action="store_true", help="the fixed-camera cases")
+    ap.add_argument("--pairs-max", type=int, default=20_000,
+                    help="largest collection the all-pairs search is run on")
+    ap.add_argument("--before-src", help="src folder of an older checkout, run as 'before'")
+    ap.add_argument("--timeout", type=float, default=600.0)
+    ap.add_argument("--case", help=argparse.SUPPRESS)
     args = ap.parse_args()
+    if args.case:
+        print(json.dumps(run_case(args.case, args.clips)))
+        return
+    if args.look_alike:
+        look_alike(args)
+        return
     ratios = {"train": 0.8, "val": 0.1, "test": 0.1}
     clips, t_make = timed("make_data", make_clips, args.clips, args.groups, args.labels, 0)
     items = [(c.clip_id, c.group, c.labels[0]) for c in clips]

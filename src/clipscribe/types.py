@@ -51,10 +51,13 @@ BY_FOLDER = r"^(?P<group>.+)/[^/]+$"
 
 @dataclass(frozen=True, slots=True)
 class SegmentInfo:
+    """One annotator's segment. ``label`` is None while the segment is unlabelled (marked
+    before its annotator chose the clip's label); never the word "unlabelled", which is only
+    how screens show it."""
     id: int
     clip: int
     annotator: str
-    label: str
+    label: str | None
     start: int
     end: int  # exclusive
 
@@ -118,6 +121,30 @@ class IngestReport:
         return [duplicate_warning(new, old) for new, old in self.duplicates]
 
 
+@dataclass
+class ComputeReport:
+    """What a run of :meth:`Project.compute` did.
+
+    ``computed``: clips whose missing work all succeeded, by kind the number of clips that
+    kind was computed for; ``already_done``: clips that needed nothing; ``failed``: (media
+    path, reason) per clip with a kind that failed. ``seconds`` is the whole run and
+    ``write_seconds`` the part spent writing to the project database."""
+
+    what: tuple[str, ...]
+    ran_on: str = ""
+    clips: int = 0
+    computed: int = 0
+    already_done: int = 0
+    by_kind: dict[str, int] = field(default_factory=dict)
+    failed: list[tuple[str, str]] = field(default_factory=list)
+    seconds: float = 0.0
+    write_seconds: float = 0.0
+
+    @property
+    def ok(self) -> bool:
+        return not self.failed
+
+
 def duplicate_warning(new: str, old: str) -> str:
     return f"{new}: same content (SHA-256) as {old}, already in the project"
 
@@ -158,6 +185,8 @@ class DisputedClip:
     gold_label: str | None
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    inferred_label: str | None = None   # the most probable true label (Dawid-Skene), if inferred
+    certainty: float = float("nan")     # its posterior probability (NaN when not inferred)
 
     @property
     def settled(self) -> bool:
@@ -188,6 +217,7 @@ class ClipComparison:
     scores: dict[str, float] = field(default_factory=dict)
     skipped: dict[str, str] = field(default_factory=dict)  # annotator -> reason
     unsure: dict[str, str] = field(default_factory=dict)   # annotator -> note ("" none)
+    posterior: dict[str, float] = field(default_factory=dict)  # label -> inferred probability
 
 
 @dataclass(frozen=True, slots=True)

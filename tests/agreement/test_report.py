@@ -119,3 +119,27 @@ def test_report_bad_rows():
 def test_repeated_clip_annotator_keeps_last_row():
     rep = agreement_report([("v", "a", "x"), ("v", "b", "y"), ("v", "a", "y")], n_boot=10)
     assert rep.labels.pairs[0].observed == 1.0
+
+
+def test_rouge_and_chrf_are_estimated_on_a_seeded_sample_of_clips_above_the_limit():
+    """Above ``overlap_clips`` clips, leave-one-out ROUGE-L and chrF are those of a seeded
+    random sample of that many clips, and their recipes say so; BLEU keeps every clip."""
+    from clipscribe.agreement import leave_one_out_chrf, leave_one_out_rouge_l
+    rng = random.Random(5)
+    words = "the arm lifts puts red blue block cup down on".split()
+    caps = [(c, a, " ".join(rng.choices(words, k=rng.randint(3, 8))))
+            for c in range(40) for a in ("ann-a", "ann-b", "ann-c")]
+    full = agreement_report([], captions=caps, overlap_clips=None)
+    assert full.captions.chrf.recipe.note is None
+    part = agreement_report([], captions=caps, overlap_clips=10, seed=3)
+    note = part.captions.chrf.recipe.note
+    assert note == "estimated on 10 of 40 clips, sampled with seed 3"
+    assert part.captions.rouge_l.recipe.note == note
+    kept = sorted(set(part.captions.chrf.clips))
+    assert len(kept) == 10
+    by_clip = {c: [(a, t) for c2, a, t in caps if c2 == c] for c in kept}
+    assert part.captions.chrf.overall == pytest.approx(leave_one_out_chrf(by_clip).overall, abs=1e-12)
+    assert part.captions.rouge_l.overall == pytest.approx(leave_one_out_rouge_l(by_clip).overall, abs=1e-12)
+    assert part.captions.bleu.recipe.n_items == full.captions.bleu.recipe.n_items == 120
+    again = agreement_report([], captions=caps, overlap_clips=10, seed=3)
+    assert sorted(set(again.captions.chrf.clips)) == kept  # the same sample for the same seed

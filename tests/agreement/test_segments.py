@@ -81,3 +81,41 @@ def test_bad_segments(bad, message):
 def test_segment_past_clip_end():
     with pytest.raises(ValueError, match="runs past"):
         frame_agreement([("c", "a", "x", 0, 12)], {"c": 10})
+
+
+# ---- unlabelled segments (label None: marked before the annotator chose a label) -------------
+def test_an_unlabelled_segment_matches_any_label_by_time_only():
+    assert match_segments([(None, 0, 10)], [("run", 1, 10)]) == [(0, 0, pytest.approx(0.9))]
+    assert match_segments([("run", 0, 10)], [(None, 1, 10)]) == [(0, 0, pytest.approx(0.9))]
+    assert match_segments([(None, 0, 10)], [("run", 8, 20)]) == []   # time still decides
+    # a labelled pair of the same label is not preferred over a better-timed unlabelled one
+    a = [("run", 0, 10)]
+    assert match_segments(a, [("walk", 0, 10), (None, 0, 9)]) == [(0, 1, pytest.approx(0.9))]
+
+
+def test_the_pair_recipe_counts_unlabelled_segments():
+    segs = [("c1", "a", None, 0, 10), ("c1", "b", "run", 1, 10), ("c1", "b", None, 20, 30)]
+    pairs, per_clip = segment_matching(segs, thresholds=(0.5,))
+    [p] = pairs
+    assert (p.matched, p.n_a, p.n_b) == (1, 1, 2)
+    assert p.recipe.option("unlabelled") == "2"
+    assert per_clip == {"c1": pytest.approx(2 / 3)}
+    labelled, _ = segment_matching([("c1", "a", "run", 0, 10), ("c1", "b", "run", 0, 10)])
+    assert all(q.recipe.option("unlabelled") is None for q in labelled)
+
+
+def test_frames_under_an_unlabelled_segment_are_not_rated():
+    # b's frames 0-9 are unlabelled (missing for b); a rates them "run"
+    segs = [("c", "a", "run", 0, 10), ("c", "b", None, 0, 10),
+            ("c", "a", "walk", 15, 20), ("c", "b", "walk", 16, 20)]
+    ours = frame_agreement(segs, {"c": 20})
+    a = np.r_[np.ones(10), np.zeros(10)]
+    b = np.r_[np.full(10, np.nan), np.zeros(10)]
+    a[15:20], b[16:20] = 2, 2
+    ref = krippendorff.alpha(reliability_data=np.stack([a, b]), level_of_measurement="nominal")
+    assert ours == pytest.approx(ref, abs=1e-12)              # krippendorff package, nan = missing
+    assert ours.recipe.option("unlabelled_frames") == "10"
+    # the same frames as "(no activity)" would be another number: they are not that
+    as_nothing = frame_agreement([g for g in segs if g[2] is not None], {"c": 20})
+    assert as_nothing != pytest.approx(float(ours))
+    assert as_nothing.recipe.option("unlabelled_frames") is None

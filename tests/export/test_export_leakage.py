@@ -64,14 +64,19 @@ def test_near_duplicate_fingerprints_across_splits():
              _clip("d", fp=_flip(BASE_FP, [5]))]                                    # same split
     r = check_leakage(clips, {"a": "train", "b": "test", "c": "test", "d": "train"})
     near = [f for f in r.findings if f.kind == "near-duplicate-media"]
-    # b is 3 bits from a and 4 from d; c is 9 from a (outside radius 8) and 10 from d
-    assert sorted((f.clips, f.details["hamming"]) for f in near) == [(("a", "b"), 3),
-                                                                     (("b", "d"), 4)]
-    assert all(f.severity == "blocking" for f in near)
+    # b is 3 bits from a and 4 from d, a-d is 1 bit; c is 9 from a (outside radius 8), 12 from
+    # b and 10 from d: one cluster {a, b, d} across train and test, c in none
+    [f] = near
+    assert (f.clips, f.files, f.severity) == (("a", "b", "d"), ("a.mp4", "b.mp4", "d.mp4"),
+                                              "blocking")
+    assert f.details["splits"] == {"test": 1, "train": 2}
+    assert len(f.details["links"]) == 2  # a spanning tree of the three
+    assert f.details["crossing"] and all({"b"} & set(x[:2]) for x in f.details["crossing"])
+    assert {tuple(x) for x in f.details["crossing"]} <= {("a", "b", 3), ("b", "d", 4)}
     wider = check_leakage(clips, {"a": "train", "b": "test", "c": "test", "d": "train"},
                           hamming_radius=9)
-    assert (("a", "c"), 9) in [(f.clips, f.details["hamming"]) for f in wider.findings
-                               if f.kind == "near-duplicate-media"]
+    [f] = [f for f in wider.findings if f.kind == "near-duplicate-media"]
+    assert f.clips == ("a", "b", "c", "d") and f.details["hamming"] <= 9
 
 
 def test_identical_media_is_not_reported_twice_as_near_duplicate():
@@ -188,13 +193,20 @@ def test_near_duplicates_of_different_groups_within_one_split_are_a_warning_per_
     a = {"a": "train", "b": "train", "c": "train", "x": "train", "y": "train", "z": "test"}
     r = check_leakage(clips, a)
     within = [f for f in r.findings if f.kind == "near-duplicate-media-in-split"]
-    # a-b-c are one cluster through b (a-c is 9 bits, beyond radius 8, joined by the chain)
+    # z in test is near a and b, so a-b-c-z is one cluster (a-c is 9 bits, beyond radius 8,
+    # joined by the chain through b) across splits: it blocks as a whole
+    [block] = r.blocking
+    assert (block.kind, block.clips) == ("near-duplicate-media", ("a", "b", "c", "z"))
+    assert {tuple(x[:2]) for x in block.details["crossing"]} <= {("a", "z"), ("b", "z")}
     assert [(f.clips, f.severity, f.details["split"]) for f in within] == [
-        (("a", "b", "c"), "warning", "train"), (("x", "y"), "warning", "train")]
-    assert within[0].details["pairs"] == [["a", "b", 1], ["b", "c", 8]]
+        (("x", "y"), "warning", "train")]
+    assert within[0].details["links"] == [["x", "y", 2]]
     assert "different groups" in within[0].message
-    # z in test is near a and b: those pairs block, and z joins no within-split cluster
-    assert sorted(f.clips for f in r.blocking) == [("a", "z"), ("b", "z")]
+    # without z, a-b-c are one cluster within train through b
+    r = check_leakage(clips[:5], {k: v for k, v in a.items() if k != "z"})
+    within = [f for f in r.findings if f.kind == "near-duplicate-media-in-split"]
+    assert [f.clips for f in within] == [("a", "b", "c"), ("x", "y")] and r.blocking == []
+    assert within[0].details["links"] == [["a", "b", 1], ["b", "c", 8]]
     strict = check_leakage(clips, a, hamming_radius=1)
     assert [f.clips for f in strict.findings if f.kind == "near-duplicate-media-in-split"] == [
         ("a", "b")]
@@ -210,7 +222,8 @@ def test_look_alikes_of_one_group_in_one_split_are_expected_and_not_reported():
              _clip("c", group="cam-2", fp=_flip(BASE_FP, [9]))]
     r = check_leakage(clips, {"a": "train", "b": "train", "c": "train"})
     [f] = [f for f in r.findings if f.kind == "near-duplicate-media-in-split"]
-    assert f.clips == ("a", "b", "c")  # c joins through its own near pairs with a and b
-    assert [p[:2] for p in f.details["pairs"]] == [["a", "c"], ["b", "c"]]  # a-b (one group) left out
+    assert f.clips == ("a", "b", "c")  # one cluster holding two groups
+    near = {("a", "b", 1), ("a", "c", 1), ("b", "c", 2)}  # every near pair of the three
+    assert len(f.details["links"]) == 2 and {tuple(x) for x in f.details["links"]} <= near
     same = [_clip("a", group="cam-1", fp=BASE_FP), _clip("b", group="cam-1", fp=_flip(BASE_FP, [3]))]
     assert _kinds(check_leakage(same, {"a": "train", "b": "train"})) == []

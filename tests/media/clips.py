@@ -6,6 +6,7 @@ the number back from decoded pixels and know which frame it is looking at.
 
 from __future__ import annotations
 
+import hashlib
 import shutil
 import subprocess
 from pathlib import Path
@@ -80,14 +81,48 @@ def write_ffmpeg(path: Path, n: int, w: int, h: int, codec_args: list[str], *, f
     return path
 
 
+def _read_loop(path: Path):
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
+    try:
+        while True:
+            ok, f = cap.read()
+            if not ok:
+                return
+            yield f
+    finally:
+        cap.release()
+
+
 def sequential_frames(path: Path) -> list[np.ndarray]:
     """Reference decode: a plain ``read()`` loop on a fresh capture."""
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
-    out = []
-    while True:
-        ok, f = cap.read()
-        if not ok:
-            break
-        out.append(f)
-    cap.release()
-    return out
+    return list(_read_loop(path))
+
+
+def write_ffmpeg_streamed(path: Path, n: int, w: int, h: int, codec_args: list[str], *,
+                          fps: int = 30, filters: str | None = None, extra: list[str] = (),
+                          seed: int = 0) -> Path:
+    """Like :func:`write_ffmpeg`, but frames are piped one by one (long clips stay out of memory)."""
+    cmd = ["ffmpeg", "-hide_banner", "-loglevel", "error", "-y", "-f", "rawvideo",
+           "-pix_fmt", "bgr24", "-s", f"{w}x{h}", "-r", str(fps), "-i", "-"]
+    if filters:
+        cmd += ["-vf", filters]
+    cmd += [*codec_args, *extra, str(path)]
+    proc = subprocess.Popen(cmd, stdin=subprocess.PIPE)
+    try:
+        for i in range(n):
+            proc.stdin.write(make_frame(i, w, h, seed).tobytes())
+    finally:
+        proc.stdin.close()
+        proc.wait(timeout=300)
+    if proc.returncode != 0:
+        raise RuntimeError(f"ffmpeg failed ({proc.returncode}) making {path}")
+    return path
+
+
+def frame_digests(path: Path) -> list[bytes]:
+    """Reference decode of a long clip, kept small: a digest per frame of a ``read()`` loop."""
+    return [digest(f) for f in _read_loop(path)]
+
+
+def digest(frame: np.ndarray) -> bytes:
+    return hashlib.blake2b(frame.tobytes(), digest_size=16).digest()

@@ -252,3 +252,20 @@ def test_rows_model_and_label_split_table(qtbot):
     m.set_rows(rows, headers)
     assert m.columnCount() == 5 and m.index(2, 4).data() == "3"
     assert m.index(2, 0).data(Qt.ItemDataRole.FontRole).bold()
+
+
+def test_inferred_label_rule_is_planned_and_recorded(qtbot, lead, tmp_path):
+    dlg = make_dialog(qtbot, lead, tmp_path / "out")
+    assert dlg.min_agreement.isEnabled() and not dlg.min_posterior.isEnabled()
+    assert dlg.label_rule.toolTip() and dlg.min_posterior.toolTip()
+    run_check(qtbot, dlg)
+    dlg.label_rule.setCurrentIndex(dlg.label_rule.findData("inferred"))
+    assert dlg.min_posterior.isEnabled() and not dlg.min_agreement.isEnabled()
+    assert not dlg.write_btn.isEnabled()          # the rule changed: check again
+    dlg.min_posterior.setValue(0.8)
+    run_check(qtbot, dlg)
+    assert (dlg.plan.policy.labels, dlg.plan.policy.min_posterior) == ("inferred", 0.8)
+    assert {d.source for d in dlg.plan.decisions.values()} <= {"gold", "inferred"}
+    run_write(qtbot, dlg)
+    manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())
+    assert manifest["label_policy"]["labels"] == "inferred"

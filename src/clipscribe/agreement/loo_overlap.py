@@ -15,7 +15,8 @@ import numpy as np
 
 from . import _checks
 from ._recipe import Recipe
-from .chrf import char_ngrams, f_score, match_stats
+from .captions import ngram_index
+from .chrf import f_score
 from .loo import _flatten
 from .rouge import Vocabulary, f_from_lcs, lcs_lengths, tokenize_rouge
 
@@ -77,6 +78,55 @@ def _prepare(captions_by_clip):
     return clip, authors, texts, clip_keys, names, author, hyp, ref
 
 
+def _pair_char_stats(texts: list[str], clip: np.ndarray, author: np.ndarray, hyp: np.ndarray,
+                     ref: np.ndarray, char_order: int) -> np.ndarray:
+    """For each (hyp[p], ref[p]) pair, per order n: [hypothesis n-grams (0 when the reference
+    has none, as :func:`~clipscribe.agreement.chrf.match_stats` counts them), reference
+    n-grams, clipped matches], flattened to (pairs, 3 * char_order).
+
+    Vectorised with numpy rather than one Counter per caption and pair: the character n-grams
+    of all captions are counted once (the shared n-gram index over characters), entries of
+    one clip that share an n-gram are paired by one sort, and each pair's matches are summed
+    into a slot numbered within its clip (captions of a clip are contiguous)."""
+    chars = ["".join(t.split()) for t in texts]
+    index = ngram_index([tuple(c) for c in chars], char_order)
+    length = index.lengths
+    n_docs = len(chars)
+    per_clip = np.bincount(clip, minlength=int(clip.max(initial=-1)) + 1)
+    first = np.cumsum(per_clip) - per_clip
+    pos = np.arange(n_docs) - first[clip]
+    base = np.cumsum(per_clip * per_clip) - per_clip * per_clip
+    slots = int((per_clip * per_clip).sum())
+
+    def slot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        return base[clip[a]] + pos[a] * per_clip[clip[a]] + pos[b]
+
+    pair_slot = slot(hyp, ref)
+    out = np.zeros((len(hyp), 3 * char_order), dtype=np.int64)
+    for n, order in enumerate(index.orders):
+        h = np.maximum(length[hyp] - n, 0)
+        r = np.maximum(length[ref] - n, 0)
+        out[:, 3 * n] = np.where(r > 0, h, 0)
+        out[:, 3 * n + 1] = r
+        if not len(order.doc):
+            continue
+        group = clip[order.doc] * order.n_keys + order.key
+        sort = np.argsort(group, kind="stable")
+        g, doc, count = group[sort], order.doc[sort], order.count[sort]
+        starts = np.flatnonzero(np.r_[True, g[1:] != g[:-1]])
+        sizes = np.diff(np.r_[starts, len(g)])
+        size_of = np.repeat(sizes, sizes)
+        left = np.repeat(np.arange(len(g)), size_of)
+        offset = np.arange(len(left)) - np.repeat(np.cumsum(size_of) - size_of, size_of)
+        right = np.repeat(np.repeat(starts, sizes), size_of) + offset
+        keep = author[doc[left]] != author[doc[right]]
+        left, right = left[keep], right[keep]
+        matches = np.bincount(slot(doc[left], doc[right]),
+                              weights=np.minimum(count[left], count[right]), minlength=slots)
+        out[:, 3 * n + 2] = matches[pair_slot].astype(np.int64)
+    return out
+
+
 def _best_per_caption(hyp: np.ndarray, f: np.ndarray, n: int) -> np.ndarray:
     """Index into the pair arrays of each caption's best pair (highest f, first on ties); -1
     where a caption has no pair."""
@@ -129,9 +179,7 @@ def leave_one_out_chrf(captions_by_clip: Mapping[Any, Sequence[Any]], *, char_or
     char_order = _checks.positive_int("char_order", char_order)
     beta = _checks.finite_number("beta", beta, minimum=0.0)
     clip, authors, texts, clip_keys, names, author, hyp, ref = _prepare(captions_by_clip)
-    grams = [char_ngrams(t, char_order) for t in texts]
-    stats = np.array([match_stats(grams[i], grams[j]) for i, j in zip(hyp.tolist(), ref.tolist())],
-                     dtype=np.int64).reshape(len(hyp), 3 * char_order)
+    stats = _pair_char_stats([t for t in texts], clip, author, hyp, ref, char_order)
     f = f_score(stats, beta)
     best = _best_per_caption(hyp, f, len(texts))
     scored = best >= 0

@@ -73,8 +73,8 @@ def check_clip_results(labels: Sequence[tuple[Any, str, Any]], known: Mapping[An
         kappa.recipe = kappa.recipe.replace(variant="cohen-vs-known", annotators=(ann,),
                                             label_set_version=label_set_version)
         out.append(CheckResult(ann, proportion(hits, len(given), level=level,
-                                               what="check-clip-accuracy", annotators=ann,
-                                               labelset=label_set_version), kappa))
+                                               what="check-clip-accuracy", annotators=[ann],
+                                               label_set_version=label_set_version), kappa))
     return out
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
@@ -140,6 +141,10 @@ class AgreementReport:
         return render(self, top=top)
 
 
+#: clips that leave-one-out ROUGE-L and chrF are estimated on, at most (see _clip_sample)
+OVERLAP_CLIPS = 2000
+
+
 def agreement_report(labels: Iterable[Sequence[Any]],
                      segments: Iterable[Sequence[Any]] | None = None,
                      captions: Iterable[Sequence[Any]] | None = None, *,
@@ -148,7 +153,8 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                      frame_count: Mapping[Any, int] | None = None, seed: int = 0,
                      n_boot: int = 1000, label_set_version: str | None = None,
                      reliability: bool = True, truth_model: str = "full",
-                     known_answers: Mapping[Any, Any] | None = None) -> AgreementReport:
+                     known_answers: Mapping[Any, Any] | None = None,
+                     overlap_clips: int | None = OVERLAP_CLIPS) -> AgreementReport:
     """Agreement of a whole project: labels, and optionally segments and captions.
 
     Parameters
@@ -167,6 +173,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     reliability : (default True) also infer true labels and each annotator's confusion (Dawid-Skene,
         ``truth_model`` "full" or "one-coin") and, with ``known_answers`` {clip: label}, score
         each annotator on those check clips (accuracy with Wilson interval, kappa).
+    overlap_clips : leave-one-out ROUGE-L and chrF are computed on at most this many clips
+        captioned by two or more people (a seeded random sample above it, said in their
+        recipes' note; default 2,000); None computes them on every clip.
 
     Returns
     -------
@@ -215,8 +224,12 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         # caption consensus needs a clip captioned by two people; with none it is not measured
         loo = leave_one_out_bleu(by_clip)
         cider = cider_d(by_clip)
-        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed),
-                                     leave_one_out_rouge_l(by_clip), leave_one_out_chrf(by_clip))
+        sample, note = _clip_sample(by_clip, overlap_clips, seed)
+        rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
+        if note:
+            rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
+                           for m in (rouge, chrf))
+        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
         acc: dict[Any, list] = {}
         for one in loo.captions:
             if not math.isnan(one.bleu):
@@ -240,6 +253,22 @@ def agreement_report(labels: Iterable[Sequence[Any]],
            LEFT_OUT if captions is None else ONE_CAPTIONER if by_clip else NO_CAPTIONS}
     return AgreementReport(summary, seg_summary, cap_summary, clips, recipe, rel,
                            {k: v for k, v in why.items() if v is not None})
+
+
+def _clip_sample(by_clip: dict[Any, list], limit: int | None, seed: int
+                 ) -> tuple[dict[Any, list], str | None]:
+    """The clips ROUGE-L and chrF are computed on: all clips captioned by two or more people,
+    or, above ``limit`` of them, a random sample of ``limit`` (seeded), with the note that
+    says so. Both metrics compare every caption with every other caption of its clip, character
+    n-grams for chrF, so on a big project they cost far more than BLEU and CIDEr-D, which
+    share one n-gram index and stay on every clip; a sample of a few thousand clips pins down
+    a project-wide mean well (the per-clip scores of the review queue do not use them)."""
+    shared = [c for c, v in by_clip.items() if len({a for a, _ in v}) > 1]
+    if limit is None or len(shared) <= limit:
+        return by_clip, None
+    pick = np.sort(np.random.default_rng(seed).choice(len(shared), limit, replace=False))
+    return ({shared[i]: by_clip[shared[i]] for i in pick.tolist()},
+            f"estimated on {limit} of {len(shared)} clips, sampled with seed {seed}")
 
 
 def _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider) -> ClipTable:

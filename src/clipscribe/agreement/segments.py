@@ -2,6 +2,11 @@
 
 A segment is ``(label, start, end)`` in frames with ``end`` exclusive. Input to the public
 functions is an iterable of ``(clip, annotator, label, start, end)`` tuples.
+
+``label`` None is an *unlabelled* segment (marked before its annotator chose a label): it says
+something happens there, not what. Matching pairs it by time only, with a segment of any label
+(the pair's recipe counts such segments as ``unlabelled``); in frame agreement its frames are
+not rated by that annotator (missing), neither a label nor "(no activity)".
 """
 
 from __future__ import annotations
@@ -59,7 +64,8 @@ def match_segments(a: Sequence[tuple], b: Sequence[tuple], *, iou_threshold: flo
     r"""One-to-one matching of two annotators' segments on one clip.
 
     Greedy: all pairs with :math:`\mathrm{IoU} \ge` ``iou_threshold`` (and the same label when
-    ``same_label``) are taken in order of decreasing IoU (ties: earlier segment of ``a``, then
+    ``same_label``; an unlabelled segment, label None, matches any label: by time only) are
+    taken in order of decreasing IoU (ties: earlier segment of ``a``, then
     of ``b``), each segment used at most once. This is the matching used when scoring temporal
     detections (common practice); it can differ from an optimal (Hungarian) assignment when one
     segment overlaps two others about equally.
@@ -70,7 +76,7 @@ def match_segments(a: Sequence[tuple], b: Sequence[tuple], *, iou_threshold: flo
     cands = []
     for i, (la, sa, ea) in enumerate(a):
         for j, (lb, sb, eb) in enumerate(b):
-            if same_label and la != lb:
+            if same_label and la != lb and la is not None and lb is not None:
                 continue
             v = temporal_iou((sa, ea), (sb, eb))
             if v >= thr and v > 0:
@@ -129,7 +135,9 @@ def segment_matching(segments: Iterable[Any], *, thresholds: Sequence[float] = T
     fps : mapping clip -> frames per second, or one number for all clips; for offsets in seconds.
     annotated : mapping clip -> annotators who worked on it (so an annotator who marked nothing
         counts as "no segments"); default: those with a segment on the clip.
-    same_label : match only segments with equal labels (default).
+    same_label : match only segments with equal labels (default); an unlabelled segment
+        (label None) matches by time only, and the pair's recipe gives their count as
+        ``unlabelled`` (left out of the recipe when there are none).
 
     Returns
     -------
@@ -153,7 +161,7 @@ def segment_matching(segments: Iterable[Any], *, thresholds: Sequence[float] = T
     members = {c: sorted(set(by.get(c, {})) | set(map(str, (annotated or {}).get(c, ()))))
                for c in clips}
     mid = ths[len(ths) // 2] if 0.5 not in ths else 0.5
-    acc: dict = defaultdict(lambda: [0, 0, 0, [], [], []])
+    acc: dict = defaultdict(lambda: [0, 0, 0, [], [], [], 0])
     clip_f1: dict[Any, list[float]] = defaultdict(list)
     for clip in clips:
         segs = by.get(clip, {})
@@ -168,6 +176,7 @@ def segment_matching(segments: Iterable[Any], *, thresholds: Sequence[float] = T
                     s[0] += len(pairs)
                     s[1] += len(sa)
                     s[2] += len(sb)
+                    s[6] += sum(g[0] is None for g in (*sa, *sb))
                     for i, j, _ in pairs:
                         ds, de = abs(sa[i][1] - sb[j][1]), abs(sa[i][2] - sb[j][2])
                         s[3].append(ds)
@@ -177,9 +186,10 @@ def segment_matching(segments: Iterable[Any], *, thresholds: Sequence[float] = T
                         n = len(sa) + len(sb)
                         clip_f1[clip].append(2 * len(pairs) / n if n else 1.0)
     out = []
-    for (a, b, t), (mt, na, nb, ds, de, sec) in sorted(acc.items()):
+    for (a, b, t), (mt, na, nb, ds, de, sec, blank) in sorted(acc.items()):
         rec = Recipe.make("segments", "matching", iou=t, matching="greedy",
-                          same_label=same_label, n_raters=2, n_items=na + nb, annotators=(a, b))
+                          same_label=same_label, unlabelled=blank or None, n_raters=2,
+                          n_items=na + nb, annotators=(a, b))
         mean = (lambda xs: float(np.mean(xs)) if xs else float("nan"))
         seconds = mean(sec) if fps is not None else None
         out.append(PairMatch(a, b, t, mt, na, nb, _ratio(mt, na, nb), _ratio(mt, nb, na),
@@ -201,8 +211,10 @@ def frame_agreement(segments: Iterable[Any], frame_counts: Mapping[Any, int], *,
     r"""Krippendorff's nominal alpha with every frame a unit.
 
     Each annotator who worked on a clip gives each frame of it the label of the segment covering
-    it, or ``"(no activity)"`` when none does; where one annotator's segments overlap, the one
-    starting last wins (then the later one in the input). Clips missing from ``frame_counts``
+    it, or ``"(no activity)"`` when none does; frames under an unlabelled segment (label None)
+    are missing for that annotator (not rated; the recipe counts them as ``unlabelled_frames``).
+    Where one annotator's segments overlap, the one starting last wins (then the later one in
+    the input). Clips missing from ``frame_counts``
     are left out; segments past the clip's last frame raise ValueError.
 
     Notes
@@ -213,8 +225,10 @@ def frame_agreement(segments: Iterable[Any], frame_counts: Mapping[Any, int], *,
     """
     rows = check_segments(segments)
     by = group_by_clip(rows)
-    labels = sorted({r[2] for r in rows}, key=str)
-    code = {lab: i + 1 for i, lab in enumerate(labels)}
+    labels = sorted({r[2] for r in rows if r[2] is not None}, key=str)
+    code: dict = {lab: i + 1 for i, lab in enumerate(labels)}
+    code[None] = -1  # an unlabelled segment: its frames are not rated
+    blank = 0
     sums = np.zeros(3 + len(labels))
     batch: list[np.ndarray] = []
     size = n_frames = 0
@@ -233,6 +247,7 @@ def frame_agreement(segments: Iterable[Any], frame_counts: Mapping[Any, int], *,
                     raise ValueError(f"clip {clip!r}: segment [{s}, {e}) of {a} runs past its "
                                      f"{count} frames")
                 block[r, s:e] = code[label]
+            blank += int(np.count_nonzero(block[r] < 0))
         batch.append(block)
         size += block.size
         n_frames += count
@@ -244,7 +259,8 @@ def frame_agreement(segments: Iterable[Any], frame_counts: Mapping[Any, int], *,
     us = nominal_unit_stats(np.zeros((0, len(labels) + 1)))
     value = float(us.finish(sums))
     recipe = Recipe.make("alpha", "krippendorff-frames", level="nominal",
-                         empty=NO_ACTIVITY, n_raters=len(n_raters), n_items=n_frames,
+                         empty=NO_ACTIVITY, unlabelled_frames=blank or None,
+                         n_raters=len(n_raters), n_items=n_frames,
                          annotators=sorted(n_raters))
     return Score(value, recipe)
 

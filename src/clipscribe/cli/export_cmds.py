@@ -74,7 +74,8 @@ def cmd_export(args: argparse.Namespace) -> int:
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
                              frozen=args.frozen, hamming_radius=args.radius,
                              progress=Bar("fingerprints"), captions=args.captions,
-                             segments=args.segments)
+                             segments=args.segments, labels=args.labels,
+                             min_posterior=args.min_posterior)
         print("splits: " + _split_counts(plan))
         print_warnings(plan)
         _print_left_out(plan.left_out, media=plan.left_out_media)
@@ -93,7 +94,8 @@ def _export_folds(p, args: argparse.Namespace) -> int:
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
                          progress=Bar("fingerprints"), captions=args.captions,
-                             segments=args.segments)
+                         segments=args.segments, labels=args.labels,
+                         min_posterior=args.min_posterior)
     for i, plan in enumerate(plans, start=1):
         print(f"split {i}: " + _split_counts(plan))
         print_warnings(plan, f" (split {i})")
@@ -117,6 +119,14 @@ def register(add) -> None:
     sp.add_argument("--seed", type=int, default=0)
     sp.add_argument("--min-agreement", type=float, default=0.6,
                     help="share of annotators a majority label needs when there is no gold (default 0.6)")
+    sp.add_argument("--labels", choices=("majority", "inferred"), default="majority",
+                    help="label without gold: majority (the majority label, see --min-agreement; "
+                         "default) or inferred (the label inferred from every annotator's "
+                         "estimated confusion, Dawid-Skene, see --min-posterior); recorded in "
+                         "the manifest")
+    sp.add_argument("--min-posterior", type=float, default=0.9,
+                    help="with --labels inferred: probability the inferred label needs "
+                         "(default 0.9)")
     sp.add_argument("--captions", choices=("gold", "gold+agreeing"), default="gold",
                     help="reference captions: gold (the lead's ticked captions when settled, else "
                          "every annotator caption; default) or gold+agreeing (those plus the "

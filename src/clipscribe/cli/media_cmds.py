@@ -8,11 +8,13 @@ import argparse
 from pathlib import Path
 
 from .common import Bar, UsageError, open_project
+from .compute_cmds import checked_workers, cluster_options
 
 
 def cmd_add_media(args: argparse.Namespace) -> int:
     if args.copy_from and args.folder:
         raise UsageError("give either FOLDER or --copy-from, not both")
+    checked_workers(args)
     with open_project(args) as p:
         folder = Path(args.folder) if args.folder else p.media_root
         if args.copy_from:
@@ -23,7 +25,8 @@ def cmd_add_media(args: argparse.Namespace) -> int:
         if pattern is None and args.group_csv is None and args.group_by == "folder":
             pattern = BY_FOLDER
         rep = p.add_media(folder, group_pattern=pattern, group_csv=args.group_csv,
-                          progress=Bar("adding media"))
+                          progress=Bar("adding media"), workers=args.workers,
+                          scheduler=args.scheduler, path_map=args.map or None)
         how = ("from the CSV" if args.group_csv else "by pattern" if args.group_pattern
                else "by folder" if pattern else "none: every clip is its own group")
         print(f"added {len(rep.added)} clip(s); {len(rep.already_present)} already present; "
@@ -69,6 +72,9 @@ def register(add) -> None:
     grp.add_argument("--group-by", choices=("folder", "none"), default="folder",
                      help="without a pattern or CSV: group clips by their folder (default, as the "
                           "setup dialog does), or none (every clip its own group)")
+    cluster_options(sp, workers_help="read the files (header, SHA-256, frame index) on N worker "
+                                     "processes, e.g. all cores for thousands of files (default: "
+                                     "in this process, one after another)")
     sp = add("clip-facts", cmd_clip_facts, "show or change the group, consent, licence and source "
              "of clips already added (lead only; each change is an edit in the history)", user=True)
     sp.add_argument("clips", nargs="+", metavar="CLIP", help="clip number or media path")

@@ -7,7 +7,7 @@ import argparse
 from collections.abc import Callable
 
 from .._version import __version__
-from . import (agreement_cmds, export_cmds, media_cmds, project_cmds, review_cmds, suggest_cmds,
+from . import (agreement_cmds, compute_cmds, export_cmds, media_cmds, project_cmds, review_cmds, suggest_cmds,
                team_cmds, window_cmds)
 
 Command = Callable[[argparse.Namespace], int]
@@ -32,6 +32,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     project_cmds.register_setup(add)
     media_cmds.register(add)
+    compute_cmds.register(add)
     project_cmds.register_records(add)
     window_cmds.register(add)
     agreement_cmds.register(add)

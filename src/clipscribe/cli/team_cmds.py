@@ -34,10 +34,30 @@ def cmd_assign(args: argparse.Namespace) -> int:
         if args.lease_hours is not None:
             p.set_lease(args.lease_hours)
         plan = p.assign(per_clip=args.per_clip, overlap=args.overlap,
-                        overlap_count=args.overlap_count, seed=args.seed)
-        print(json.dumps(plan.recipe(), indent=2) if args.json else
-              f"{plan.clips} clip(s): {plan.overlapped} get {plan.overlap_count} people, "
-              f"the rest {plan.per_clip} (seed {plan.seed}); lease {p.lease_seconds() / 3600:g} h")
+                        overlap_count=args.overlap_count, seed=args.seed,
+                        check_rate=args.check_rate)
+        print(json.dumps({**plan.recipe(), "check_rate": p.check_rate()}, indent=2) if args.json
+              else f"{plan.clips} clip(s): {plan.overlapped} get {plan.overlap_count} people, "
+              f"the rest {plan.per_clip} (seed {plan.seed}); lease {p.lease_seconds() / 3600:g} h; "
+              f"check clips {100 * p.check_rate():g}% of each person's clips")
+    return 0
+
+
+def cmd_check_clips(args: argparse.Namespace) -> int:
+    with open_project(args) as p:
+        for clip in args.mark or ():
+            print(f"clip {clip}: check clip, known answer {p.mark_check_clip(clip, args.answer)!r}")
+        for clip in args.unmark or ():
+            print(f"clip {clip}: " + ("no longer a check clip" if p.unmark_check_clip(clip)
+                                      else "was not a check clip"))
+        if not (args.mark or args.unmark):
+            known = p.check_clips()
+            if args.json:
+                print(json.dumps({str(c): a for c, a in known.items()}, indent=2))
+            else:
+                for c, a in known.items():
+                    print(f"{c}\t{a}")
+                print(f"{len(known)} check clip(s); check rate {100 * p.check_rate():g}%")
     return 0
 
 
@@ -108,7 +128,19 @@ def register(add) -> None:
     sp.add_argument("--overlap-count", type=int, default=3, help="people on an overlapped clip")
     sp.add_argument("--seed", type=int, default=0, help="seed choosing the overlapped clips")
     sp.add_argument("--lease-hours", type=float, help="hours a pulled clip stays reserved untouched")
+    sp.add_argument("--check-rate", type=float, metavar="SHARE",
+                    help="share of each annotator's clips that are check clips, mixed into "
+                         "their queue (e.g. 0.1; default: keep the current one, at first 0)")
     sp.add_argument("--json", action="store_true", help="print the plan's recipe as JSON")
+    sp = add("check-clips", cmd_check_clips, "list, mark or unmark check clips (clips whose "
+             "answer is known in advance; annotators are not told which; leads only)", user=True)
+    sp.add_argument("--mark", metavar="CLIP", action="append",
+                    help="make this clip a check clip (repeatable)")
+    sp.add_argument("--answer", metavar="LABEL",
+                    help="with --mark: the known answer (default: the clip's gold label)")
+    sp.add_argument("--unmark", metavar="CLIP", action="append",
+                    help="make this check clip an ordinary clip again (repeatable)")
+    sp.add_argument("--json", action="store_true", help="list as JSON {clip: answer}")
     add("next", cmd_next, "reserve and print the next clip for --user", user=True)
     sp = add("set-password", cmd_password, "give a person a login or a new password "
              "(asked without echo; in scripts from CLIPSCRIBE_NEW_PASSWORD)", user=True)

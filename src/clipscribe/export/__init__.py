@@ -17,7 +17,8 @@ from .plan import (
     ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override, build_plan,
 )
 from .policy import (
-    CaptionChoice, LabelDecision, LabelPolicy, apply_policy, decide_captions, decide_label,
+    CaptionChoice, LabelDecision, LabelPolicy, apply_policy, decide_captions, decide_inferred,
+    decide_label,
 )
 from .splits import SplitResult, assign_folds, assign_splits, normalise_ratios, split_clips
 from .textdup import normalise_caption
@@ -26,7 +27,7 @@ from .writers import remove_stale_partials, write_export
 __all__ = [
     "CaptionInput", "ClipInput", "SegmentInput",
     "LabelPolicy", "LabelDecision", "CaptionChoice", "decide_label", "decide_captions",
-    "apply_policy",
+    "decide_inferred", "apply_policy",
     "SplitResult", "assign_splits", "assign_folds", "split_clips", "normalise_ratios",
     "Finding", "LeakageReport", "check_leakage", "near_pairs", "near_pairs_brute",
     "normalise_caption",

@@ -35,9 +35,14 @@ class ClipInput:
     ``gold_captions`` are the lead's settled answers (None when not settled); ``segments`` are
     the lead's gold segments and ``annotator_segments`` each annotator's own, as
     ``(annotator, segments)`` pairs (the segment rule of the export chooses between them, see
-    :mod:`clipscribe.export.segment_choice`). ``fingerprint`` is
+    :mod:`clipscribe.export.segment_choice`); ``unlabelled_segments`` counts the annotator
+    segments that had no label (marked before their annotator chose one): they are not in
+    ``annotator_segments``, are never exported, and are counted in the manifest. ``fingerprint`` is
     the clip's 64-bit perceptual hash as a plain int; ``sha256`` the hex digest of the media file.
     ``source_path`` is where the writer reads the media from when it copies or links them.
+    ``posterior`` is the inferred probability of each true label, ``(label, probability)``
+    pairs (the caller's truth inference over every clip's annotator labels; empty when not
+    inferred); the ``"inferred"`` label rule decides by it.
     """
 
     clip_id: str
@@ -55,9 +60,11 @@ class ClipInput:
     gold_captions: tuple[str, ...] | None = None
     segments: tuple[SegmentInput, ...] = ()
     annotator_segments: tuple[tuple[str, tuple[SegmentInput, ...]], ...] = ()
+    unlabelled_segments: int = 0
     consent: bool | None = None
     licence: str | None = None
     source_path: str | None = None
+    posterior: tuple[tuple[str, float], ...] = ()
     extra: dict = field(default_factory=dict, compare=False)
 
     @property

@@ -13,13 +13,11 @@ from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Literal, Mapping, Sequence
 
-import numpy as np
-
 from .checks import name_files
 from .inputs import ClipInput
-from .neardup import as_uint64, near_pairs
+from .neardup import as_uint64, near_clusters
 from .policy import caption_texts
-from .textdup import normalise_caption, similar_pairs
+from .textdup import caption_clusters, normalise_caption
 
 Severity = Literal["blocking", "warning"]
 _KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missing-consent",
@@ -136,68 +134,62 @@ def _identical_media(clips: Sequence[ClipInput], assignment: Mapping[str, str]) 
     return out
 
 
+def _file_key(c: ClipInput) -> str:
+    return f"sha256:{c.sha256.lower()}" if c.sha256 else f"clip:{c.clip_id}"
+
+
+def _source_key(c: ClipInput) -> str:
+    return f"group:{c.group}" if c.group is not None else _file_key(c)
+
+
 def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                 radius: int) -> list[Finding]:
-    """Cross-split pairs block, one finding per pair. Look-alikes within one split from
-    different groups are a warning, one per cluster (clips joined by any chain of near pairs):
-    the grouping probably missed that they share a source, so a later split could part them.
-    Look-alikes of one group are expected (takes of the same source) and not reported."""
+    """One finding per cluster of look-alike clips (a connected component of "fingerprints
+    within ``radius``"; see :mod:`clipscribe.export.clusters`) that holds more than one file.
+
+    A cluster in several splits blocks: some near pair of it crosses splits, and the split is
+    free of such pairs only when every cluster lies in one split. A cluster in one split with
+    clips of different groups is a warning: the grouping probably missed that they share a
+    source, so a later split could part them. A cluster of one group is expected (takes of the
+    same source) and not reported; copies of one file are the duplicate-media findings.
+    """
     have = [c for c in clips if c.fingerprint is not None]
     if len(have) < 2:
         return []
-    codes = as_uint64([c.fingerprint for c in have])
-    split_of = [assignment[c.clip_id] for c in have]
-    i, j, d = near_pairs(codes, radius)
-    out, within = [], []
-    for a, b, dist in zip(i.tolist(), j.tolist(), d.tolist()):
-        ca, cb = have[a], have[b]
-        if ca.sha256 and cb.sha256 and ca.sha256.lower() == cb.sha256.lower():
-            continue  # already a duplicate-media finding
-        if split_of[a] == split_of[b]:
-            if ca.group is None or ca.group != cb.group:
-                within.append((a, b, dist))
-            continue
-        pair = tuple(sorted((ca.clip_id, cb.clip_id)))
-        path = {ca.clip_id: ca.media_path, cb.clip_id: cb.media_path}
-        out.append(Finding(
-            "near-duplicate-media", "blocking",
-            f"{_where(pair, path, assignment)} look alike: fingerprints differ in {dist} of 64 "
-            f"bits (radius {radius})",
-            pair, {"hamming": dist, "splits": {p: assignment[p] for p in pair}},
-            _files(pair, path)))
-    out.sort(key=lambda f: f.clips)
-    return out + _clusters_in_split(have, split_of, within, radius)
-
-
-def _clusters_in_split(have: Sequence[ClipInput], split_of: Sequence[str],
-                       pairs: list[tuple[int, int, int]], radius: int) -> list[Finding]:
-    parent = list(range(len(have)))  # union-find over the clips that have near pairs
-
-    def root(x: int) -> int:
-        while parent[x] != x:
-            parent[x] = parent[parent[x]]
-            x = parent[x]
-        return x
-
-    for a, b, _ in pairs:
-        parent[root(a)] = root(b)
-    clusters: dict[int, list[tuple[int, int, int]]] = defaultdict(list)
-    for a, b, dist in pairs:
-        clusters[root(a)].append((a, b, dist))
+    clusters = near_clusters(as_uint64([c.fingerprint for c in have]), radius)
+    links = clusters.links_of()
     out, path = [], _paths(have)
-    for members in clusters.values():
-        ids = sorted({have[x].clip_id for p in members for x in p[:2]})
-        split = split_of[members[0][0]]
-        out.append(Finding(
-            "near-duplicate-media-in-split", "warning",
-            f"{len(ids)} clips of different groups in split {split!r} look alike (fingerprints "
-            f"within {radius} of 64 bits): {name_files(sorted(_files(ids, path)))}; check their "
-            f"groups, or a later split may part them",
-            tuple(ids),
-            {"split": split, "pairs": sorted([sorted((have[a].clip_id, have[b].clip_id)) + [dist]
-                                              for a, b, dist in members])},
-            _files(ids, path)))
-    return sorted(out, key=lambda f: f.clips)
+    for members in clusters.groups():
+        group = [have[x] for x in members.tolist()]
+        if len({_file_key(c) for c in group}) < 2:
+            continue
+        ids = tuple(sorted(c.clip_id for c in group))
+        counts = _split_counts(ids, assignment)
+        lk = sorted([*sorted((have[a].clip_id, have[b].clip_id)), int(d)]
+                    for a, b, d in links[int(clusters.label[members[0]])])
+        if len(counts) > 1:
+            crossing = [x for x in lk if assignment[x[0]] != assignment[x[1]]]
+            a, b, d = min(crossing, key=lambda x: (x[2], x[0], x[1]))
+            if len(ids) == 2:
+                what = (f"{_where(ids, path, assignment)} look alike: fingerprints differ in "
+                        f"{d} of 64 bits (radius {radius})")
+            else:
+                what = (f"{len(ids)} clips in {_describe(counts)} look alike (joined by "
+                        f"fingerprints within {radius} of 64 bits): "
+                        f"{_where(ids, path, assignment)}; e.g. "
+                        f"{_where((a, b), path, assignment)} differ in {d}")
+            out.append(Finding("near-duplicate-media", "blocking", what, ids,
+                               {"splits": counts, "hamming": max(x[2] for x in lk),
+                                "links": lk, "crossing": crossing}, _files(ids, path)))
+        elif len({_source_key(c) for c in group}) > 1:
+            split = next(iter(counts))
+            out.append(Finding(
+                "near-duplicate-media-in-split", "warning",
+                f"{len(ids)} clips of different groups in split {split!r} look alike "
+                f"(fingerprints within {radius} of 64 bits): "
+                f"{name_files(sorted(_files(ids, path)))}; check their groups, or a later "
+                f"split may part them", ids, {"split": split, "links": lk}, _files(ids, path)))
+    return sorted(out, key=lambda f: (f.kind, f.clips))
 
 
 def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
@@ -211,33 +203,50 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
             if norm:
                 by_text[norm].add(c.clip_id)
     texts = sorted(by_text)
-    split_ids = {s: k for k, s in enumerate(sorted(set(assignment.values())))}
-    keys = []  # the text's split when all its clips share one, else -1
     out = []
     for t in texts:
         members = by_text[t]
         if len(members) == 1:
-            keys.append(split_ids[assignment[next(iter(members))]])
             continue
-        members = sorted(members)
-        counts = _split_counts(members, assignment)
-        keys.append(split_ids[next(iter(counts))] if len(counts) == 1 else -1)
+        ids = sorted(members)
+        counts = _split_counts(ids, assignment)
         if len(counts) > 1:
             out.append(Finding("duplicate-caption", "warning",
                                f"caption {t!r} is written for clips in several splits: "
-                               f"{_where(members, path, assignment)}", tuple(members),
-                               {"text": t, "splits": counts}, _files(members, path)))
+                               f"{_where(ids, path, assignment)}", tuple(ids),
+                               {"text": t, "splits": counts}, _files(ids, path)))
     if threshold < 1.0:
-        for a, b, sim in similar_pairs(texts, threshold, keys=keys):
-            members = sorted(by_text[texts[a]] | by_text[texts[b]])
-            counts = _split_counts(members, assignment)
-            if len(counts) > 1:
-                out.append(Finding(
-                    "near-duplicate-caption", "warning",
-                    f"captions {texts[a]!r} and {texts[b]!r} are near-identical (Jaccard "
-                    f"{sim:.2f}) across splits: {_where(members, path, assignment)}",
-                    tuple(members), {"texts": [texts[a], texts[b]], "jaccard": round(sim, 4),
-                                     "splits": counts}, _files(members, path)))
+        out += _near_captions(texts, by_text, assignment, path, threshold)
+    return out
+
+
+def _near_captions(texts: list[str], by_text: Mapping[str, set[str]],
+                   assignment: Mapping[str, str], path: Mapping[str, str],
+                   threshold: float) -> list[Finding]:
+    """One warning per cluster of near-identical texts (a connected component of "Jaccard >=
+    threshold") whose clips lie in several splits."""
+    clusters = caption_clusters(texts, threshold)
+    links = clusters.links_of()
+    out = []
+    for members in clusters.groups():
+        ids = sorted(set().union(*(by_text[texts[k]] for k in members.tolist())))
+        counts = _split_counts(ids, assignment)
+        if len(counts) < 2:
+            continue
+        lk = [[texts[a], texts[b], round(1.0 - d, 4)]
+              for a, b, d in links[int(clusters.label[members[0]])]]
+        weakest = min(x[2] for x in lk)
+        if len(members) == 2:
+            what = f"captions {lk[0][0]!r} and {lk[0][1]!r} are near-identical (Jaccard {weakest:.2f})"
+        else:
+            a, b, sim = max(lk, key=lambda x: x[2])
+            what = (f"{len(members)} captions are near-identical, each within Jaccard "
+                    f"{threshold:.2f} of another (e.g. {a!r} and {b!r}, Jaccard {sim:.2f})")
+        out.append(Finding("near-duplicate-caption", "warning",
+                           f"{what} across splits: {_where(ids, path, assignment)}", tuple(ids),
+                           {"texts": sorted(texts[k] for k in members.tolist()),
+                            "jaccard": weakest, "links": lk, "splits": counts},
+                           _files(ids, path)))
     return out
 
 
@@ -281,14 +290,16 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     """Look for leakage between splits.
 
     Only clips present in ``assignment`` are checked. Messages name the clips' media files
-    (``ClipInput.media_path``); ``Finding.clips`` keeps their ids. Near-duplicate media: two clips in
-    different splits whose 64-bit perceptual fingerprints differ in at most ``hamming_radius``
-    bits (Hamming distance, found exactly by multi-index hashing; see
-    :mod:`clipscribe.export.neardup`). Near-duplicates within one split are not leakage; those
-    of different groups are one warning per cluster (a grouping that missed a shared source
-    leaks in a later split). Captions:
-    identical after normalisation, or word 3-gram shingle Jaccard >= ``caption_threshold``
-    (see :mod:`clipscribe.export.textdup`); ``caption_threshold=1.0`` keeps only identical text.
+    (``ClipInput.media_path``); ``Finding.clips`` keeps their ids. Near-duplicate media: 64-bit
+    perceptual fingerprints within ``hamming_radius`` bits (Hamming distance) are near, and the
+    clips are grouped into clusters, the connected components of that relation (a chain of near
+    pairs joins a cluster; see :mod:`clipscribe.export.clusters`), found exactly without listing
+    every near pair. A cluster in several splits blocks (one finding naming all its files, with
+    its links and the links that cross splits in ``details``); one in a single split with clips
+    of different groups is a warning (a grouping that missed a shared source leaks in a later
+    split). Captions: identical after normalisation, or clusters of texts joined by word 3-gram
+    shingle Jaccard >= ``caption_threshold`` whose clips lie in several splits (see
+    :mod:`clipscribe.export.textdup`); ``caption_threshold=1.0`` keeps only identical text.
 
     Parameters
     ----------
@@ -321,14 +332,17 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     recipe = {
         "clips_checked": len(clips),
         "hamming_radius": hamming_radius,
-        "near_duplicate_media": "64-bit perceptual fingerprints with Hamming distance <= radius, "
-                                "across splits (blocking) and within one across groups (a "
-                                "warning per cluster); exact multi-index hashing search",
+        "near_duplicate_media": "64-bit perceptual fingerprints with Hamming distance <= radius; "
+                                "one finding per cluster (connected component of near pairs): "
+                                "in several splits blocking, in one split across groups a "
+                                "warning; exact, multi-index hashing with leader cover",
         "identical_media": "equal sha256 of the media file",
         "caption_normalisation": "NFKC, case fold, punctuation to space, collapse whitespace",
         "caption_threshold": caption_threshold,
-        "near_identical_captions": "Jaccard of word 3-gram shingle sets >= threshold, across "
-                                   "splits; exact prefix-filtered search",
+        "near_identical_captions": "Jaccard of word 3-gram shingle sets >= threshold; one "
+                                   "finding per cluster (connected component of near pairs) "
+                                   "whose clips lie in several splits; exact, prefix-filtered "
+                                   "index with leader cover",
         "require_consent": require_consent,
         "require_licence": require_licence,
     }

@@ -85,6 +85,11 @@ class ExportPlan:
         return sum(c.dropped for c in self.captions.values())
 
     @property
+    def unlabelled_segments(self) -> int:
+        """Annotator segments of the exported clips left out for having no label."""
+        return sum(c.unlabelled_segments for c in self.clips)
+
+    @property
     def assignment(self) -> dict[str, str]:
         return self.split.assignment
 

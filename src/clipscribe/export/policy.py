@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import dataclass, replace
-from typing import Iterable, Literal, Sequence
+from dataclasses import dataclass, field, replace
+from typing import Iterable, Literal, Mapping, Sequence
 
 from .inputs import CaptionInput, ClipInput
 from .segment_choice import SEGMENT_POLICIES, describe_segment_rule
@@ -15,6 +15,8 @@ _EPS = 1e-9
 
 #: caption policies: which reference captions a clip is exported with
 CAPTION_POLICIES = ("gold", "gold+agreeing")
+#: label rules without gold: the majority of annotator labels, or the inferred true label
+LABEL_RULES = ("majority", "inferred")
 
 
 @dataclass(frozen=True)
@@ -39,16 +41,34 @@ class LabelPolicy:
         ``"gold"``: the lead's gold segments, else none. ``"gold+best"``: the gold segments,
         else those of the agreeing annotator whose segments agree best with the others', else
         none (see :func:`clipscribe.export.segment_choice.choose_segments`).
+    labels : "majority" or "inferred"
+        Without gold: ``"majority"`` takes the majority label (``min_agreement``);
+        ``"inferred"`` takes the most probable inferred true label when its posterior
+        probability (``ClipInput.posterior``, given by the caller) is at least
+        ``min_posterior``. Gold wins under either rule.
+    min_posterior : float
+        Smallest posterior accepted under ``labels="inferred"`` (default 0.9).
+    inference : dict, optional
+        The recipe of the truth inference that gave the posteriors (written into the
+        manifest beside the rule).
     """
 
     min_agreement: float = 0.6
     require_label: bool = True
     captions: Literal["gold", "gold+agreeing"] = "gold"
     segments: Literal["gold+best", "gold"] = "gold+best"
+    labels: Literal["majority", "inferred"] = "majority"
+    min_posterior: float = 0.9
+    inference: dict | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
         if not 0.0 <= self.min_agreement <= 1.0:
             raise ValueError(f"min_agreement must lie in [0, 1], got {self.min_agreement!r}")
+        if not 0.0 <= self.min_posterior <= 1.0:
+            raise ValueError(f"min_posterior must lie in [0, 1], got {self.min_posterior!r}")
+        if self.labels not in LABEL_RULES:
+            raise ValueError(f"labels must be one of {', '.join(LABEL_RULES)}, "
+                             f"got {self.labels!r}")
         if self.captions not in CAPTION_POLICIES:
             raise ValueError(f"captions must be one of {', '.join(CAPTION_POLICIES)}, "
                              f"got {self.captions!r}")
@@ -64,9 +84,15 @@ class LabelPolicy:
                 "agreeing annotator (one whose own label of the clip equals the exported label; "
                 "every annotator when the clip is exported without a label), leaving out text "
                 "equal after normalisation to a caption already taken")
-        return (f"gold label when the lead settled one; else the majority label when its share "
-                f"of annotator labels is >= {self.min_agreement:.2f} and no other label has as "
-                f"many votes; else the clip is left out. Annotators who skipped the clip give no "
+        if self.labels == "inferred":
+            how = (f"else the inferred true label (Dawid-Skene: the most probable label given "
+                   f"every annotator's estimated confusion) when its posterior probability is "
+                   f">= {self.min_posterior:.2f}")
+        else:
+            how = (f"else the majority label when its share of annotator labels is >= "
+                   f"{self.min_agreement:.2f} and no other label has as many votes")
+        return (f"gold label when the lead settled one; {how}; else the clip is left out. "
+                f"Annotators who skipped the clip give no "
                 f"label and are not counted. Captions ({self.captions}): {caps}; a reference "
                 f"equal to one already taken (same text, same segment) is dropped. Segments "
                 f"({self.segments}): {describe_segment_rule(self.segments)}.")
@@ -78,11 +104,12 @@ class LabelDecision:
 
     clip_id: str
     label: str | None
-    source: Literal["gold", "majority"] | None
+    source: Literal["gold", "majority", "inferred"] | None
     agreement: float | None
     annotators: int
     reason: str | None = None
     skipped: int = 0
+    posterior: float | None = None   # inferred probability of ``label`` (inferred rule only)
 
     @property
     def included(self) -> bool:
@@ -146,6 +173,40 @@ def decide_label(labels: Iterable[str], gold: str | None = None, *, min_agreemen
                              reason=f"majority '{leaders[0]}' {share:.2f} below minimum "
                                     f"{min_agreement:.2f}")
     return LabelDecision(clip_id, leaders[0], "majority", share, n)
+
+
+def decide_inferred(labels: Iterable[str], posterior: Mapping[str, float],
+                    gold: str | None = None, *, min_posterior: float = 0.9,
+                    require_label: bool = True, clip_id: str = "") -> LabelDecision:
+    r"""Decide a clip's label by its inferred posterior: gold first, else the most probable
+    label :math:`\hat y = \arg\max_y P(y \mid \text{answers})` when
+    :math:`P(\hat y) \ge` ``min_posterior`` (a tie for the top is not a decision).
+
+    ``posterior`` is {label: probability} from a truth inference such as
+    :func:`clipscribe.agreement.dawid_skene` (Dawid & Skene 1979); empty when the clip has no
+    labels. ``agreement`` is the share of annotator labels equal to the decided label, as for
+    :func:`decide_label`; ``posterior`` on the decision is the probability of its label.
+    Reasons: ``"no labels"``, ``"tie between …"``, ``"inferred 'X' 0.72 below minimum 0.90"``.
+    """
+    votes = Counter(labels)
+    n = sum(votes.values())
+    if gold is not None or n == 0:  # gold wins; no labels: as under the majority rule
+        return replace(decide_label(votes.elements(), gold, require_label=require_label,
+                                    clip_id=clip_id),
+                       posterior=posterior.get(gold) if gold is not None else None)
+    if not posterior:
+        return LabelDecision(clip_id, None, None, None, n, reason="no inferred label")
+    top = max(posterior.values())
+    leaders = sorted(lab for lab, p in posterior.items() if p == top)
+    share = votes.get(leaders[0], 0) / n if n else None
+    if len(leaders) > 1:
+        return LabelDecision(clip_id, None, None, share, n, posterior=top,
+                             reason=f"tie between {_quote_list(leaders)}")
+    if top + _EPS < min_posterior:
+        return LabelDecision(clip_id, None, None, share, n, posterior=top,
+                             reason=f"inferred '{leaders[0]}' {top:.2f} below minimum "
+                                    f"{min_posterior:.2f}")
+    return LabelDecision(clip_id, leaders[0], "inferred", share, n, posterior=top)
 
 
 @dataclass(frozen=True)
@@ -250,8 +311,14 @@ def caption_texts(clip: ClipInput) -> tuple[str, ...]:
 
 
 def apply_policy(clips: Iterable[ClipInput], policy: LabelPolicy) -> list[LabelDecision]:
-    """:func:`decide_label` for every clip, in input order; ``skipped`` counts the clip's skips
-    (they are not among its labels)."""
+    """:func:`decide_label` (or :func:`decide_inferred` under ``labels="inferred"``) for every
+    clip, in input order; ``skipped`` counts the clip's skips (they are not among its
+    labels)."""
+    if policy.labels == "inferred":
+        return [replace(decide_inferred(c.labels, dict(c.posterior), c.gold_label,
+                                        min_posterior=policy.min_posterior,
+                                        require_label=policy.require_label, clip_id=c.clip_id),
+                        skipped=len(c.skipped)) for c in clips]
     return [replace(decide_label(c.labels, c.gold_label, min_agreement=policy.min_agreement,
                                  require_label=policy.require_label, clip_id=c.clip_id),
                     skipped=len(c.skipped)) for c in clips]

@@ -23,6 +23,8 @@ from typing import Iterable, Sequence
 
 import numpy as np
 
+from .clusters import Clusters, cover_components
+
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
@@ -63,7 +65,7 @@ def _dense_ids(values: np.ndarray) -> np.ndarray:
 
 def _distinct_sorted(values: np.ndarray) -> np.ndarray:
     sv = np.sort(values)
-    return sv[np.r_[True, sv[1:] != sv[:-1]]]
+    return sv[np.r_[True, sv[1:] != sv[:-1]]] if len(sv) else sv
 
 
 def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
@@ -164,3 +166,91 @@ def similar_pairs(texts: Iterable[str], threshold: float, *,
     sim = inter / (size[a] + size[b] - inter)
     hit = sim + 1e-12 >= threshold
     return list(zip(a[hit].tolist(), b[hit].tolist(), sim[hit].tolist()))
+
+
+class PrefixIndex:
+    """The prefix-filtered shingle index of :func:`similar_pairs`, asked one batch at a time.
+
+    ``neighbours(q)`` returns every text with Jaccard >= ``threshold`` to each query: the
+    candidates are the texts whose prefix shares a shingle with the query's prefix (exact by
+    the prefix filter), pruned by size and verified on the full shingle sets.
+    """
+
+    def __init__(self, texts: Sequence[str], threshold: float):
+        if not 0.0 < threshold <= 1.0:
+            raise ValueError(f"caption threshold must lie in (0, 1], got {threshold!r}")
+        self.n = len(texts)
+        self.threshold = threshold
+        text, self.sid = _shingle_table(list(texts))
+        self.size = np.bincount(text, minlength=self.n)
+        self.first = np.cumsum(self.size) - self.size
+        rank = np.arange(len(text)) - self.first[text]
+        self.prefix = self.size - np.ceil(threshold * self.size - 1e-9).astype(np.int64) + 1
+        keep = rank < self.prefix[text]
+        by = np.lexsort((text[keep], self.sid[keep]))  # postings: by shingle, then text
+        self.post_text, self.post_rank = text[keep][by], rank[keep][by]
+        n_sid = int(self.sid.max()) + 1
+        self.post_count = np.bincount(self.sid[keep], minlength=n_sid)
+        self.post_start = np.cumsum(self.post_count) - self.post_count
+
+    def similarity(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """Exact shingle Jaccard of the pairs ``(a[k], b[k])``."""
+        if not len(a):
+            return np.empty(0)
+        inter = _overlaps(a, b, self.first, self.size, self.sid)
+        return inter / (self.size[a] + self.size[b] - inter)
+
+    def neighbours(self, q: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, int]:
+        """``(query, other, 1 - jaccard, work)`` for every text near a query (see class)."""
+        q = np.asarray(q, dtype=np.int64)
+        qq, pos = _runs(self.first[q], self.prefix[q])
+        s = self.sid[pos]
+        c = self.post_count[s]
+        owner, at = _runs(self.post_start[s], c)
+        a, b = q[qq][owner], self.post_text[at]
+        work = len(a)
+        # positional filter: a shingle at rank i of a and j of b leaves room for at most
+        # 1 + min(|a| - i - 1, |b| - j - 1) shared shingles from there on; a pair is kept when
+        # some shared prefix shingle allows the overlap J >= t needs, t (|a| + |b|) / (1 + t)
+        # (exact: the first shared shingle lies in both prefixes and bounds the overlap)
+        i = (pos - self.first[q[qq]])[owner]
+        room = 1 + np.minimum(self.size[a] - i - 1, self.size[b] - self.post_rank[at] - 1)
+        need = np.ceil(self.threshold * (self.size[a] + self.size[b]) / (1 + self.threshold)
+                       - 1e-9)
+        ok = (a != b) & (room >= need)
+        pair = _distinct_sorted(a[ok] * self.n + b[ok])
+        a, b = pair // self.n, pair % self.n
+        sim = self.similarity(a, b)
+        hit = sim + 1e-12 >= self.threshold
+        return a[hit], b[hit], 1.0 - sim[hit], work
+
+
+def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -> Clusters:
+    """Clusters of near-identical texts: connected components of "shingle Jaccard >= threshold".
+
+    ``texts`` normalised and distinct, as for :func:`similar_pairs`. Exact (the same components
+    as joining every pair :func:`similar_pairs` finds) without listing the pairs; see
+    :mod:`clipscribe.export.clusters`. Jaccard distance ``1 - J`` is a metric, so leaders of two
+    stars that could hold a near pair have ``J >= 1 - 3 (1 - threshold)``. Link distances in the
+    result are ``1 - J``.
+    """
+    texts = list(texts)
+    if len(texts) < 2:
+        return Clusters(np.arange(len(texts)), *(np.empty(0, dtype=np.int64),) * 2, np.empty(0))
+    index = PrefixIndex(texts, threshold)
+    wide = 1.0 - 3.0 * (1.0 - threshold) - 1e-9
+
+    def wide_pairs(items: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        if wide <= 0.0:  # every pair may be within three times the distance
+            i, j = np.triu_indices(len(items), 1)
+        else:
+            found = similar_pairs([texts[k] for k in items.tolist()], wide)
+            i = np.array([p[0] for p in found], dtype=np.int64)
+            j = np.array([p[1] for p in found], dtype=np.int64)
+        return items[i], items[j]
+
+    def close(a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        sim = index.similarity(a, b)
+        return sim + 1e-12 >= threshold, 1.0 - sim
+
+    return cover_components(len(texts), index.neighbours, wide_pairs, close, seed=seed)

@@ -87,7 +87,7 @@ def _record(clip: ClipInput, plan: ExportPlan, media: str) -> ExportRecord:
         clip=clip.clip_id, split=plan.assignment[clip.clip_id], media=media,
         sha256=clip.sha256.lower() if clip.sha256 else None,
         group=None if clip.group is None else str(clip.group), label=d.label,
-        label_source=d.source, agreement=d.agreement, annotators=d.annotators,
+        label_source=d.source, label_posterior=d.posterior, agreement=d.agreement, annotators=d.annotators,
         skipped=d.skipped, fps=fps, segment_source=seg_choice.source,
         frame_count=clip.frame_count, segments=segments, captions=captions)
 
@@ -187,6 +187,9 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
         "duplicates_dropped": "reference captions left out because an equal one (same text, "
                               "same segment; under gold+agreeing also equal after "
                               "normalisation) was already among the clip's references",
+        "unlabelled_segments": "annotator segments of the exported clips that had no label "
+                               "(marked before their annotator chose one): never exported, "
+                               "never chosen by the segment rule",
         "files": "sha256 of every written file except manifest.json, byte size",
         "leakage": "see leakage.recipe; counts are findings per kind",
         "assignment": "clip -> split of this export plus earlier frozen clips not exported now",
@@ -197,9 +200,14 @@ def _manifest(plan: ExportPlan, records: list[ExportRecord], files: list[FileEnt
                                       require_label=plan.policy.require_label,
                                       captions=plan.policy.captions,
                                       segments=plan.policy.segments,
+                                      labels=plan.policy.labels,
+                                      min_posterior=plan.policy.min_posterior
+                                      if plan.policy.labels == "inferred" else None,
+                                      inference=plan.policy.inference,
                                       rule=plan.policy.describe()),
         seed=plan.seed, ratios=plan.split.ratios, counts=counts,
         duplicates_dropped=plan.duplicates_dropped,
+        unlabelled_segments=plan.unlabelled_segments,
         totals={s: sum(c.values()) for s, c in counts.items()},
         left_out=[LeftOut(clip=d.clip_id, reason=d.reason or "",
                           media=plan.left_out_media.get(d.clip_id)) for d in plan.left_out],

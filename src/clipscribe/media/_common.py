@@ -22,6 +22,24 @@ def default_cache_dir() -> Path:
     return Path(platformdirs.user_cache_dir("clipscribe"))
 
 
+def lower_thread_priority(nice: int = 10) -> bool:
+    """Let the calling thread give way to the others of the process (the viewer's decoder).
+
+    On Linux the nice value belongs to a thread, and the decoder threads FFmpeg starts from it
+    later inherit it; raising it to ``nice`` makes background decoding run on what the
+    foreground leaves. Returns False where this cannot be done (other systems, no permission).
+    A raised nice value cannot be lowered again without privileges: call it on a worker thread
+    that only ever runs background work.
+    """
+    try:
+        tid = threading.get_native_id()
+        if os.getpriority(os.PRIO_PROCESS, tid) < nice:
+            os.setpriority(os.PRIO_PROCESS, tid, nice)
+        return True
+    except (AttributeError, OSError):
+        return False
+
+
 def is_cancelled(cancel: Cancel) -> bool:
     """True when the cancel signal says stop."""
     if cancel is None:

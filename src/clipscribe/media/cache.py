@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 import threading
 from collections import OrderedDict
 
@@ -67,6 +68,27 @@ class FrameCache:
             arr.flags.writeable = False
             self._items[key] = arr
             self._nbytes += size
+
+    def spare(self, like: np.ndarray | tuple[int, ...]) -> np.ndarray | None:
+        """Take out the frame the next :meth:`put` of a frame shaped ``like`` would evict, to be
+        decoded into again, when nothing outside the cache still holds it; else None.
+
+        Decoding into an array the process already has spares the kernel faulting in fresh
+        memory for every new frame (measured in benchmarks/bench_media.py: stepping).
+        """
+        shape = like if isinstance(like, tuple) else like.shape
+        size = int(np.prod(shape))
+        with self._lock:
+            if not self._items or self._nbytes + size <= self.budget:
+                return None
+            key, arr = next(iter(self._items.items()))
+            # references: the cache's, ``arr`` and getrefcount's own argument
+            if arr.shape != shape or arr.dtype != np.uint8 or sys.getrefcount(arr) > 3:
+                return None
+            del self._items[key]
+            self._nbytes -= int(arr.nbytes)
+        arr.flags.writeable = True
+        return arr
 
     def clear(self) -> None:
         with self._lock:

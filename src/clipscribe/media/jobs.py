@@ -3,6 +3,13 @@ result cache keyed by the file's SHA-256 and the job's parameters.
 
 Each job is a plain blocking function; run it on a worker thread and pass ``cancel`` (a
 ``threading.Event`` or a callable returning True) to stop it, which raises :class:`JobCancelled`.
+``background=True`` makes the job give way to the viewer: the worker thread's priority is
+lowered and its decoder uses one thread.
+
+Results are cached per user and, given ``shared_cache_dir`` (the project's
+:func:`shared_cache_dir` beside its media), in a folder every user of the project reads, so a
+clip's thumbnails and motion curve are computed once per project rather than once per person.
+The file names hold the content hash, so a shared result never belongs to another file.
 """
 
 from __future__ import annotations
@@ -11,6 +18,7 @@ import hashlib
 import io
 import json
 import os
+import threading
 from collections.abc import Callable
 from pathlib import Path
 
@@ -18,12 +26,16 @@ import cv2
 import numpy as np
 
 from ._common import (Cancel, Progress, atomic_write_bytes, check_cancel, check_media_path,
-                      default_cache_dir, report)
+                      default_cache_dir, lower_thread_priority, report)
 from .errors import MediaError
 from .probe import file_sha256
 from .video import Video, open_video
 
 JOB_CACHE_VERSION = 1
+#: name of the project's shared result folder inside its media root (hidden, holds no videos)
+SHARED_CACHE_FOLDER = ".clipscribe-cache"
+#: one decoder thread for background jobs, leaving the other cores to the viewer
+BACKGROUND_DECODER_THREADS = 1
 
 
 def default_job_cache_dir() -> Path:
@@ -31,27 +43,67 @@ def default_job_cache_dir() -> Path:
     return default_cache_dir() / "jobs"
 
 
-def cached_result(path: Path, name: str, params: dict, compute: Callable[[], np.ndarray], *,
-                  cache_dir: str | os.PathLike | None, use_cache: bool) -> np.ndarray:
-    """Load ``<sha256>-<name>-<params hash>.npy`` from the cache or compute and store it."""
-    if not use_cache:
-        return compute()
-    folder = Path(cache_dir) if cache_dir is not None else default_job_cache_dir()
-    recipe = json.dumps({"v": JOB_CACHE_VERSION, **params}, sort_keys=True)
-    key = f"{file_sha256(path)}-{name}-{hashlib.sha256(recipe.encode()).hexdigest()[:16]}.npy"
-    target = folder / key
+def shared_cache_dir(media_root: str | os.PathLike) -> Path:
+    """The result folder a project's users share: ``<media root>/.clipscribe-cache``."""
+    return Path(media_root) / SHARED_CACHE_FOLDER
+
+
+_hashes: dict[tuple[str, int, int], str] = {}
+_hashes_lock = threading.Lock()
+
+
+def content_sha256(path: Path) -> str:
+    """:func:`file_sha256`, remembered in this process while the file's size and time stay."""
+    st = os.stat(path)
+    key = (os.path.realpath(path), st.st_size, st.st_mtime_ns)
+    with _hashes_lock:
+        known = _hashes.get(key)
+    if known is None:
+        known = file_sha256(path)
+        with _hashes_lock:
+            _hashes[key] = known
+    return known
+
+
+def _load(target: Path) -> np.ndarray | None:
     if target.is_file():
         try:
             return np.load(target, allow_pickle=False)
         except (OSError, ValueError):
             pass  # damaged cache file: compute again
+    return None
+
+
+def _store(targets: list[Path], data: bytes) -> None:
+    for target in targets:  # the first folder that takes it (the shared one may be read-only)
+        try:
+            atomic_write_bytes(target, data)
+            return
+        except OSError:
+            continue
+
+
+def cached_result(path: Path, name: str, params: dict, compute: Callable[[], np.ndarray], *,
+                  cache_dir: str | os.PathLike | None, use_cache: bool,
+                  shared_dir: str | os.PathLike | None = None) -> np.ndarray:
+    """Load ``<sha256>-<name>-<params hash>.npy`` from the shared folder (when given) or the
+    personal cache, or compute it and store it in the first of them that can be written."""
+    if not use_cache:
+        return compute()
+    folder = Path(cache_dir) if cache_dir is not None else default_job_cache_dir()
+    recipe = json.dumps({"v": JOB_CACHE_VERSION, **params}, sort_keys=True)
+    key = f"{content_sha256(path)}-{name}-{hashlib.sha256(recipe.encode()).hexdigest()[:16]}.npy"
+    targets = ([Path(shared_dir) / key] if shared_dir is not None else []) + [folder / key]
+    for k, target in enumerate(targets):
+        found = _load(target)
+        if found is not None:
+            if k > 0:  # computed before the project shared its results: share it now
+                _store(targets[:1], target.read_bytes())
+            return found
     result = compute()
     buf = io.BytesIO()
     np.save(buf, result, allow_pickle=False)
-    try:
-        atomic_write_bytes(target, buf.getvalue())
-    except OSError:
-        pass
+    _store(targets, buf.getvalue())
     return result
 
 
@@ -75,7 +127,9 @@ def wait_for_index(video: Video, cancel: Cancel) -> int:
 def thumbnail_strip(path: str | os.PathLike, n: int, *, height: int = 72, cancel: Cancel = None,
                     progress: Progress = None, cache_dir: str | os.PathLike | None = None,
                     use_cache: bool = True,
-                    index_cache_dir: str | os.PathLike | None = None) -> list[np.ndarray]:
+                    index_cache_dir: str | os.PathLike | None = None,
+                    shared_cache_dir: str | os.PathLike | None = None,
+                    background: bool = False) -> list[np.ndarray]:
     """``n`` evenly spaced frames scaled to ``height`` pixels (aspect kept), for a scrub bar.
 
     Frames are taken at :func:`sample_indices` and are the exact decode-order frames;
@@ -84,9 +138,11 @@ def thumbnail_strip(path: str | os.PathLike, n: int, *, height: int = 72, cancel
     p = check_media_path(path)
     if height < 1:
         raise ValueError(f"thumbnail height must be >= 1, got {height}")
+    threads = _background(background)
 
     def compute() -> np.ndarray:
-        with open_video(p, cache_bytes=0, index_cache_dir=index_cache_dir) as v:
+        with open_video(p, cache_bytes=0, index_cache_dir=index_cache_dir,
+                        decoder_threads=threads) as v:
             count = wait_for_index(v, cancel)
             w, h = v.size
             tw = max(1, round(w * height / h))
@@ -98,7 +154,16 @@ def thumbnail_strip(path: str | os.PathLike, n: int, *, height: int = 72, cancel
             return out
 
     return list(cached_result(p, "thumbs", {"n": n, "height": height}, compute,
-                              cache_dir=cache_dir, use_cache=use_cache))
+                              cache_dir=cache_dir, use_cache=use_cache,
+                              shared_dir=shared_cache_dir))
+
+
+def _background(background: bool) -> int | None:
+    """Decoder threads for a job; lowers this thread's priority for a background job."""
+    if not background:
+        return None
+    lower_thread_priority()
+    return BACKGROUND_DECODER_THREADS
 
 
 def _small_grey(frame: np.ndarray, scale: float) -> np.ndarray:
@@ -111,7 +176,8 @@ def _small_grey(frame: np.ndarray, scale: float) -> np.ndarray:
 def motion_curve(path: str | os.PathLike, *, method: str = "flow", scale: float = 0.25,
                  cancel: Cancel = None, progress: Progress = None,
                  cache_dir: str | os.PathLike | None = None,
-                 use_cache: bool = True) -> np.ndarray:
+                 use_cache: bool = True, shared_cache_dir: str | os.PathLike | None = None,
+                 background: bool = False) -> np.ndarray:
     """Amount of motion per frame, one float32 per frame in decode order (frame 0 is 0).
 
     ``method="flow"``: mean magnitude of dense optical flow (Farnebäck 2003, "Two-Frame Motion
@@ -128,9 +194,11 @@ def motion_curve(path: str | os.PathLike, *, method: str = "flow", scale: float 
         raise ValueError(f"method must be 'flow' or 'diff', got {method!r}")
     if not 0 < scale <= 1:
         raise ValueError(f"scale must be in (0, 1], got {scale}")
+    threads = _background(background)
 
     def compute() -> np.ndarray:
-        cap = cv2.VideoCapture(str(p), cv2.CAP_FFMPEG)
+        params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, threads]
+        cap = cv2.VideoCapture(str(p), cv2.CAP_FFMPEG, params)
         try:
             if not cap.isOpened():
                 raise MediaError(f"{p}: not a video OpenCV can open")
@@ -165,4 +233,4 @@ def motion_curve(path: str | os.PathLike, *, method: str = "flow", scale: float 
             cap.release()
 
     return cached_result(p, "motion", {"method": method, "scale": scale}, compute,
-                         cache_dir=cache_dir, use_cache=use_cache)
+                         cache_dir=cache_dir, use_cache=use_cache, shared_dir=shared_cache_dir)

@@ -5,51 +5,55 @@ loop yields. Random access seeks with OpenCV, then checks where it landed by loo
 frame's timestamp up in the frame index; a landing after the target (or one that cannot be
 recognised) is retried from an earlier keyframe and, as a last resort, by decoding from the start.
 
+Before the index is complete, the packets its demux-only pass has read so far already number
+the frames (see :mod:`clipscribe.media.index`), so a request far ahead waits at most for that
+pass to reach it, then seeks exactly; only a file whose packets cannot be trusted is decoded
+forward from the start until its index is ready.
+
+Stepping backward decodes a run of frames ending at the requested one (as many as the cache
+holds) from the keyframe before it once, and keeps them, so the steps after it are served from
+the cache instead of decoding from the keyframe again for each.
+
 Threading: every method may be called from any thread. One re-entrant lock guards the decoder
 (the ``cv2.VideoCapture`` and the count of frames it has yielded); ``frame()`` holds it while it
 decodes one requested frame, so a UI thread and a worker thread (or the read-ahead thread) take
 turns frame by frame. The frame index is built in a background ``threading.Thread`` with its own
-decoder, so it never holds that lock.
+demuxer, so it never holds that lock.
 """
 
 from __future__ import annotations
 
-import hashlib
 import operator
 import os
 import threading
+import time
 from collections.abc import Iterator
 from pathlib import Path
 
 import cv2
 import numpy as np
 
-from ._common import check_cancel, check_media_path
+from ._common import check_media_path
 from .cache import DEFAULT_CACHE_BYTES, FrameCache
 from .errors import JobCancelled, MediaError
-from .index import FrameIndex, load_or_build_index
+from .index import FrameIndex, PacketScan, load_or_build_index
 
 #: Targets at most this many frames ahead of the decoder are reached by decoding forward.
 FORWARD_LIMIT = 64
+#: How long after opening a far request waits for the packet pass to start (its checks take a
+#: fraction of a second) before it decodes forward from the start instead.
+EARLY_WAIT_S = 1.0
 _AT_END = 1 << 62  # decoder position after it ran off the end: any request needs a seek
 
 
-def _open_capture(path: Path) -> cv2.VideoCapture:
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
+def _open_capture(path: Path, threads: int | None = None) -> cv2.VideoCapture:
+    params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, int(threads)]
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, params)
     if not cap.isOpened():
         cap.release()
         raise MediaError(f"{path}: not a video OpenCV can open (unknown container or codec, "
                          "or the file is truncated)")
     return cap
-
-
-def _sha256(path: Path, stop: threading.Event, chunk: int = 1 << 20) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        while block := f.read(chunk):
-            h.update(block)
-            check_cancel(stop, f"{path}: hashing")
-    return h.hexdigest()
 
 
 class Video:
@@ -61,10 +65,12 @@ class Video:
     """
 
     def __init__(self, path: str | os.PathLike, *, cache_bytes: int | None = None,
-                 index_cache_dir: str | os.PathLike | None = None) -> None:
+                 index_cache_dir: str | os.PathLike | None = None,
+                 decoder_threads: int | None = None) -> None:
         self.path = check_media_path(path)
         self._lock = threading.RLock()
-        self._cap = _open_capture(self.path)
+        self._threads = decoder_threads
+        self._cap = _open_capture(self.path, decoder_threads)
         ok, first = self._cap.read()
         if not ok or first is None:
             self._cap.release()
@@ -81,15 +87,19 @@ class Video:
         self._index_error: BaseException | None = None
         self._index_done = threading.Event()
         self._stop = threading.Event()
-        self.sha256: str | None = None
+        self._scan: PacketScan | None = None  # the packet pass, once its checks passed
+        self._scan_decided = threading.Event()  # set once it is known whether there is one
+        self._opened_at = time.monotonic()
+        self._provisional: FrameIndex | None = None
         self._index_dir = Path(index_cache_dir) if index_cache_dir is not None else None
         self._index_thread = threading.Thread(target=self._index_worker, daemon=True,
                                               name=f"frame-index {self.path.name}")
         self._index_thread.start()
         self._prefetch_thread: threading.Thread | None = None
         self._prefetch_stop = threading.Event()
-        #: Counters for tests and benchmarks: seeks tried, reopen-and-decode fallbacks, grabs.
-        self.stats = {"seeks": 0, "reopens": 0, "grabs": 1}
+        #: Counters for tests and benchmarks: seeks tried, reopen-and-decode fallbacks, grabs,
+        #: seeks made with the partial index of the packet pass, backward runs decoded.
+        self.stats = {"seeks": 0, "reopens": 0, "grabs": 1, "early_seeks": 0, "back_runs": 0}
 
     # -- facts ---------------------------------------------------------------------------------
     @property
@@ -129,9 +139,13 @@ class Video:
 
     def _index_worker(self) -> None:
         try:
-            self.sha256 = _sha256(self.path, self._stop)
-            self._index = load_or_build_index(self.path, self.sha256, index_dir=self._index_dir,
-                                              cancel=self._stop)
+            index = load_or_build_index(self.path, index_dir=self._index_dir, cancel=self._stop,
+                                        scan=PacketScan(), on_trusted=self._use_scan)
+            if index.method != "packets" and self._scan is not None:
+                with self._lock:  # frames numbered from packets that proved untrustworthy
+                    self.cache.clear()
+                    self._pos = _AT_END  # and the decoder's count: the next request seeks
+            self._index = index
         except JobCancelled:
             pass
         except BaseException as exc:  # noqa: BLE001 - kept and re-raised by wait_index
@@ -139,6 +153,41 @@ class Video:
                 f"{self.path}: frame index failed: {exc}")
         finally:
             self._index_done.set()
+            self._scan_decided.set()
+            scan = self._scan
+            if scan is not None:
+                scan.publish()
+
+    def _use_scan(self, scan: PacketScan | None) -> None:
+        self._scan = scan
+        self._scan_decided.set()
+
+    def _early_index(self, i: int) -> FrameIndex | None:
+        """Before the index is ready: an index of the frames the packet pass has settled, once
+        it covers frame ``i`` (waiting for the pass to get there), or None when the packets
+        cannot be used (then the caller decodes forward)."""
+        while not self._stop.is_set():
+            if self._index is not None:
+                return self._index
+            scan = self._scan
+            if scan is None:
+                left = EARLY_WAIT_S - (time.monotonic() - self._opened_at)
+                if self._scan_decided.is_set() or left <= 0:
+                    return None
+                self._scan_decided.wait(min(left, 0.05))
+                continue
+            with scan.changed:
+                ts, keys = scan.settled()
+                if scan.problem is not None or (scan.done and not scan.usable(ts)):
+                    return None
+                if scan.usable(ts) and (len(ts) > i or scan.done):
+                    old = self._provisional
+                    if old is None or old.frame_count != len(ts):
+                        old = FrameIndex(timestamps_ms=ts, keyframes=keys, method="packets")
+                        self._provisional = old
+                    return old
+                scan.changed.wait(0.05)
+        return None
 
     # -- frames --------------------------------------------------------------------------------
     def frame(self, i: int) -> np.ndarray:
@@ -206,7 +255,11 @@ class Video:
     # -- decoding (caller holds the lock) ------------------------------------------------------
     def _decode(self, i: int) -> np.ndarray:
         idx = self._index
-        if idx is not None and i >= idx.frame_count:
+        if idx is None and not self._pos <= i <= self._pos + FORWARD_LIMIT:
+            idx = self._early_index(i)
+            if idx is not None and idx is not self._index and i < idx.frame_count:
+                self.stats["early_seeks"] += 1
+        if idx is not None and i >= idx.frame_count:  # the packet pass has read every packet
             raise IndexError(f"frame {i} out of range: {self.path} has {idx.frame_count} frames")
         if idx is None or not idx.seekable:
             if self._pos > i:
@@ -215,7 +268,24 @@ class Video:
         if self._pos <= i and (self._pos >= idx.keyframe_at_or_before(i)
                                or i - self._pos <= FORWARD_LIMIT):
             return self._forward(i)
+        if i < self._pos and i + 1 in self.cache:
+            return self._backward_run(i, idx)
         return self._seek(i, idx)
+
+    def _backward_run(self, i: int, idx: FrameIndex) -> np.ndarray:
+        """Stepping backward: decode the frames before ``i`` that the cache can hold, up to and
+        including ``i``, from their keyframe once, and keep them for the next steps back."""
+        per_frame = max(1, self._size[0] * self._size[1] * 3)
+        room = self.cache.budget // per_frame - 1  # frame i+1, on screen, stays cached
+        start = max(idx.keyframe_at_or_before(i), i - room + 1, 0)
+        if room < 2 or start >= i:
+            return self._seek(i, idx)
+        self.stats["back_runs"] += 1
+        arr = self._seek(start, idx)
+        for j in range(start, i):
+            self.cache.put(j, arr)
+            arr = self._forward(j + 1)
+        return arr
 
     def _forward(self, i: int) -> np.ndarray:
         """Grab without colour conversion up to frame ``i``, then retrieve it."""
@@ -228,7 +298,9 @@ class Video:
         if not cap.grab():
             self._ran_off_end(i)
         self._pos += 1
-        ok, arr = cap.retrieve()
+        w, h = self._size
+        spare = self.cache.spare((h, w, 3))
+        ok, arr = cap.retrieve() if spare is None else cap.retrieve(spare)
         if not ok or arr is None:
             raise MediaError(f"{self.path}: frame {i} could not be decoded")
         return arr
@@ -245,7 +317,7 @@ class Video:
     def _reopen(self) -> None:
         self.stats["reopens"] += 1
         self._cap.release()
-        self._cap = _open_capture(self.path)
+        self._cap = _open_capture(self.path, self._threads)
         self._pos = 0
 
     def _seek(self, i: int, idx: FrameIndex) -> np.ndarray:
@@ -303,7 +375,8 @@ class Video:
 
 
 def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
-               index_cache_dir: str | os.PathLike | None = None) -> Video:
+               index_cache_dir: str | os.PathLike | None = None,
+               decoder_threads: int | None = None) -> Video:
     """Open a video for frame-exact access.
 
     Parameters
@@ -315,6 +388,9 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     index_cache_dir : path-like, optional
         Folder for cached frame indexes, keyed by the file's SHA-256 (default
         ``platformdirs.user_cache_dir("clipscribe")/frame-index``).
+    decoder_threads : int, optional
+        Threads of the FFmpeg decoder (default: FFmpeg's choice, one per core); background
+        work uses 1 so that it leaves the other cores to the viewer.
 
     Returns
     -------
@@ -326,4 +402,5 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     MediaError
         Missing, empty, truncated, non-video or undecodable file; the message names the file.
     """
-    return Video(path, cache_bytes=cache_bytes, index_cache_dir=index_cache_dir)
+    return Video(path, cache_bytes=cache_bytes, index_cache_dir=index_cache_dir,
+                 decoder_threads=decoder_threads)

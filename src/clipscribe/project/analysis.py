@@ -28,8 +28,9 @@ class Analysis(Service):
             reliability=True, truth_model=truth_model, known_answers=self.known_answers())
 
     def known_answers(self) -> dict:
-        """{clip: answer} of the check clips (empty where there are none)."""
-        return {}
+        """{clip: answer} of the check clips (empty where there are none, and for anyone but
+        a lead: annotators are not told which clips are check clips)."""
+        return self.peers.checks.known_answers()
 
     def _voting_labels(self, leads: set[str]) -> list[tuple[int, str, str]]:
         """Annotator labels that count as votes: not a lead's, and not left on a clip its

@@ -31,7 +31,9 @@ from .context import Service, require, row_dict
 class Annotation(Service):
     # ---- clip labels ------------------------------------------------------------------
     def set_clip_label(self, clip: ClipRef, annotator: Any, label: str | None) -> int | None:
-        """Set (or with ``None`` clear) one annotator's label of a clip."""
+        """Set (or with ``None`` clear) one annotator's label of a clip. Setting it also gives
+        that label to the annotator's unlabelled segments of the clip, in the same edit (one
+        undo step); clearing it leaves segments as they are."""
         return self.ctx.write(lambda s: self._set_clip_label(s, clip, annotator, label))
 
     def _set_clip_label(self, s: Session, clip: Any, annotator: Any, label: str | None) -> int | None:
@@ -51,14 +53,30 @@ class Annotation(Service):
             row = ClipLabel(clip_id=c.id, annotator_id=a.id, label_id=lab.id)
             s.add(row)
         elif row.label_id == lab.id:
+            if self._fill_unlabelled(s, c, a, lab):
+                self._reopen(s, c.id, a.id)
             return row.id
         else:
             row.label_id, row.updated_at = lab.id, utcnow()
         s.flush()
         self._touch(s, c, a)
         self.ctx.log(s, "set", "clip_label", row.id, c.id, before, row_dict(row))
+        self._fill_unlabelled(s, c, a, lab)
         self._reopen(s, c.id, a.id)
         return row.id
+
+    def _fill_unlabelled(self, s: Session, c: Clip, a: Annotator, lab: Label) -> int:
+        """Give ``lab`` to the annotator's unlabelled segments of the clip, each change in the
+        history of the write ``s`` belongs to; returns how many."""
+        rows = list(s.scalars(select(Segment).where(
+            Segment.clip_id == c.id, Segment.annotator_id == a.id, Segment.label_id.is_(None))
+            .order_by(Segment.start_frame, Segment.id)))
+        for g in rows:
+            before = row_dict(g)
+            g.label_id, g.updated_at = lab.id, utcnow()
+            s.flush()
+            self.ctx.log(s, "change", "segment", g.id, c.id, before, row_dict(g))
+        return len(rows)
 
     def _owned_by(self, s: Session, stmt, model, clip: Any, annotator: Any):
         """Narrow a query over a per-annotator table to one clip and/or one annotator."""
@@ -79,15 +97,17 @@ class Annotation(Service):
         return self.ctx.read(q)
 
     # ---- segments ---------------------------------------------------------------------
-    def add_segment(self, clip: ClipRef, annotator: Any, label: str, start: int, end: int) -> int:
-        """Add a segment ``[start, end)`` in frames; returns its id."""
+    def add_segment(self, clip: ClipRef, annotator: Any, label: str | None, start: int, end: int) -> int:
+        """Add a segment ``[start, end)`` in frames; returns its id. ``label`` None stores it
+        unlabelled (the annotator's next clip label, or a label chosen for it, fills it)."""
         return self.ctx.write(lambda s: self._add_segment(s, clip, annotator, label, start, end))
 
-    def _add_segment(self, s: Session, clip: Any, annotator: Any, label: str, start: int, end: int) -> int:
+    def _add_segment(self, s: Session, clip: Any, annotator: Any, label: str | None, start: int,
+                     end: int) -> int:
         c, a = self.ctx.clip(s, clip), self.ctx.annotator(s, annotator)
-        lab = self.ctx.label(s, label)
+        lab_id = None if label is None else self.ctx.label(s, label).id
         self._check_segment(s, c, a, start, end, None)
-        row = Segment(clip_id=c.id, annotator_id=a.id, label_id=lab.id, start_frame=start, end_frame=end)
+        row = Segment(clip_id=c.id, annotator_id=a.id, label_id=lab_id, start_frame=start, end_frame=end)
         s.add(row)
         s.flush()
         self._touch(s, c, a)
@@ -174,11 +194,14 @@ class Annotation(Service):
         self.ctx.write(work)
 
     def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
+        """Every segment, ordered by clip, person, start; ``label`` is None for an unlabelled
+        one (marked before its annotator chose a label)."""
         def q(s: Session) -> list[SegmentInfo]:
             stmt = (select(Segment, Annotator.name).join(Annotator, Annotator.id == Segment.annotator_id)
                     .order_by(Segment.clip_id, Annotator.name, Segment.start_frame, Segment.id))
             stmt = self._owned_by(s, stmt, Segment, clip, annotator)
-            return [SegmentInfo(g.id, g.clip_id, name, g.label.name, g.start_frame, g.end_frame)
+            return [SegmentInfo(g.id, g.clip_id, name, g.label.name if g.label else None,
+                                g.start_frame, g.end_frame)
                     for g, name in s.execute(stmt)]
         return self.ctx.read(q)
 

@@ -227,7 +227,8 @@ class Catalog(Service):
     def add_media(self, folder: str | os.PathLike, *, group_pattern: str | None = None,
                   group_csv: str | os.PathLike | None = None, progress: Progress | None = None,
                   source: str | None = None, licence: str | None = None,
-                  consent: bool | None = None) -> IngestReport:
+                  consent: bool | None = None, workers: int | None = None,
+                  scheduler: str | None = None, path_map: Any = None) -> IngestReport:
         """Add every video below ``folder`` (recursive). Unreadable files are skipped with the
         reason. The group key comes from ``group_pattern`` (a regular expression with a named
         group ``group``, searched in the path relative to the media root; :data:`BY_FOLDER`
@@ -258,6 +259,11 @@ class Catalog(Service):
         by_digest = dict(self.ctx.read(lambda s: list(s.execute(
             select(Clip.sha256, func.min(Clip.path)).group_by(Clip.sha256)).all())))
         report = IngestReport(skipped=[(_shown_below(self.ctx.media_root, p), why) for p, why in found.skipped])
+        if workers is not None or scheduler is not None:
+            self._add_on_workers(files, known, by_digest, report, groups, pattern,
+                                 (source, licence, consent), progress=progress, workers=workers,
+                                 scheduler=scheduler, path_map=path_map)
+            return report
         for i, path in enumerate(files):
             if progress:
                 progress(i, len(files))
@@ -265,10 +271,7 @@ class Catalog(Service):
             if rel in known:
                 report.already_present.append(rel)
                 continue
-            group = groups.get(rel)
-            if group is None and pattern is not None:
-                m = pattern.search(rel)
-                group = m.group("group") if m else None
+            group = _group_of(rel, groups, pattern)
             try:
                 info, digest = probe_media(path)
             except (media.MediaError, OSError) as exc:
@@ -283,6 +286,45 @@ class Catalog(Service):
         if progress:
             progress(len(files), len(files))
         return report
+
+    def _add_on_workers(self, files: list[Path], known: set[str], by_digest: dict[str, str],
+                        report: IngestReport, groups: dict[str, str], pattern: Any,
+                        facts: tuple[Any, Any, Any], *, progress: Progress | None,
+                        workers: int | None, scheduler: str | None, path_map: Any) -> None:
+        """:meth:`add_media` with the files read on worker processes; each batch of results is
+        written in one transaction (a kill loses only the batch in flight)."""
+        from .. import media
+        todo: list[Path] = []
+        for path in files:
+            rel = self.ctx.relative_media_path(path)
+            if rel in known:
+                report.already_present.append(rel)
+            else:
+                todo.append(path)
+
+        def write(batch: list[tuple[Path, Any]]) -> None:
+            rows = []
+            for path, f in batch:
+                rel = self.ctx.relative_media_path(path)
+                if f.problem is not None:
+                    report.skipped.append((rel, f.problem))
+                    continue
+                info = media.ProbeInfo(fps=f.fps, frame_count=f.frame_count, width=f.width,
+                                       height=f.height)
+                rows.append((rel, f.sha256, info))
+
+            def work(s: Session) -> list[int]:
+                return [self._insert_clip(s, rel, digest, info, _group_of(rel, groups, pattern), *facts)
+                        for rel, digest, info in rows]
+            report.added.extend(self.ctx.write(work) if rows else [])
+            for rel, digest, _info in rows:
+                if digest in by_digest:
+                    report.duplicates.append((rel, by_digest[digest]))
+                else:
+                    by_digest[digest] = rel
+
+        self.peers.compute.probe_files(todo, write, workers=workers, scheduler=scheduler,
+                                       path_map=path_map, progress=progress)
 
     def copy_media_in(self, source: str | os.PathLike, *, cancel: Any = None,
                       progress: Progress | None = None) -> Path:
@@ -388,6 +430,15 @@ def probe_media(path: Path) -> tuple[media.ProbeInfo, str]:
     info = media.ProbeInfo(fps=header.fps, frame_count=index.frame_count, width=header.width,
                            height=header.height)
     return info, digest
+
+
+def _group_of(rel: str, groups: dict[str, str], pattern: Any) -> str | None:
+    """A file's group: from the CSV, else from the pattern, else none."""
+    group = groups.get(rel)
+    if group is None and pattern is not None:
+        m = pattern.search(rel)
+        group = m.group("group") if m else None
+    return group
 
 
 def _shown_below(root: Path, path: Path) -> str:

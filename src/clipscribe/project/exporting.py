@@ -9,6 +9,7 @@ assignment of the last export is kept in the project and passed in as ``frozen``
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 import threading
@@ -17,7 +18,7 @@ from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
 
-from .. import export, media
+from .. import agreement, export, media
 from ..errors import RecordError
 from ..store.models import Setting
 from .context import Service
@@ -62,8 +63,13 @@ class Exporting(Service):
             if who not in leads:
                 skips[clip].append((who, reason))
         segs: dict[int, dict[str, list]] = defaultdict(lambda: defaultdict(list))
+        unlabelled: dict[int, int] = defaultdict(int)  # never exported; counted in the manifest
         for g in self.peers.annotation.segments():  # ordered by clip, then name
-            if g.annotator not in leads:
+            if g.annotator in leads:
+                continue
+            if g.label is None:
+                unlabelled[g.clip] += 1
+            else:
                 segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
@@ -93,6 +99,7 @@ class Exporting(Service):
                 gold_label=gold_labels.get(c.id), captions=tuple(caps.get(c.id, ())),
                 gold_captions=tuple(gold_caps[c.id]) if c.id in gold_caps else None,
                 segments=tuple(gold_segs.get(c.id, ())), annotator_segments=own,
+                unlabelled_segments=unlabelled.get(c.id, 0),
                 consent=c.consent, licence=c.licence,
                 source_path=str(self.ctx.media_root / c.path)))
         return out
@@ -101,7 +108,8 @@ class Exporting(Service):
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
                     hamming_radius: int = 8, caption_threshold: float = 0.9,
                     progress: Progress = None, captions: str = "gold",
-                    segments: str = "gold+best") -> export.ExportPlan:
+                    segments: str = "gold+best", labels: str = "majority",
+                    min_posterior: float = 0.9) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -111,6 +119,10 @@ class Exporting(Service):
         guideline's captions per clip, and splits empty or far from their ratios, are in the
         plan's ``warnings``. ``segments`` is the segment rule, ``"gold+best"`` or ``"gold"``
         (see :mod:`clipscribe.export.segment_choice`); both are recorded in the manifest.
+        ``labels`` is the label rule without gold: ``"majority"`` (``min_agreement``) or
+        ``"inferred"``: the label Dawid-Skene infers from every annotator's labels when its
+        posterior is at least ``min_posterior`` (the inference's recipe goes into the
+        manifest). Gold wins under either rule.
         """
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
@@ -120,11 +132,12 @@ class Exporting(Service):
         elif isinstance(frozen, (str, os.PathLike)):
             frozen = _manifest_assignment(Path(frozen))
         try:
+            inputs, inference = self._inputs(labels)
             return export.build_plan(
-                self.export_inputs(), ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
+                inputs, ratios or {"train": 0.7, "val": 0.15, "test": 0.15},
                 project=self.ctx.settings.name, seed=seed, frozen=frozen,
                 **self._plan_options(min_agreement, captions, hamming_radius, caption_threshold,
-                                     segments))
+                                     segments, labels, min_posterior, inference))
         except ValueError as exc:
             raise RecordError(f"export: {exc}") from None
 
@@ -154,16 +167,18 @@ class Exporting(Service):
     def plan_folds(self, k: int, *, seed: int = 0, val_fraction: float = 0.0,
                    min_agreement: float = 0.6, hamming_radius: int = 8,
                    caption_threshold: float = 0.9, progress: Progress = None,
-                   captions: str = "gold", segments: str = "gold+best") -> list[export.ExportPlan]:
+                   captions: str = "gold", segments: str = "gold+best", labels: str = "majority",
+                   min_posterior: float = 0.9) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
         self._require_lead("export")
         self.compute_fingerprints(progress=progress)
-        inputs = self.export_inputs()
         try:
+            inputs, inference = self._inputs(labels)
             opts = dict(project=self.ctx.settings.name, seed=seed,
                         **self._plan_options(min_agreement, captions, hamming_radius,
-                                             caption_threshold, segments))
+                                             caption_threshold, segments, labels, min_posterior,
+                                             inference))
             base = export.build_plan(inputs, {"all": 1.0}, **opts)
             items = [(c.clip_id, c.group, base.decisions[c.clip_id].label) for c in base.clips]
             folds = export.assign_folds(items, k, seed=seed, val_fraction=val_fraction)
@@ -211,11 +226,34 @@ class Exporting(Service):
             {"folder": str(out), "folds": len(plans), "override": override_reason})), out)
         return manifests
 
+    def _inputs(self, labels: str) -> tuple[list[export.ClipInput], dict | None]:
+        """The export inputs; under the ``"inferred"`` label rule each with its posterior
+        (Dawid-Skene over the same annotator labels the majority would count), and the
+        inference's recipe."""
+        if labels != "inferred":
+            return self.export_inputs(), None
+        with self.ctx.snapshot():  # the labels and the posteriors from one state
+            inputs = self._export_inputs()
+            rows = self.peers.analysis._voting_labels(
+                {a.name for a in self.peers.catalog.annotators() if a.role == "lead"})
+            order = [l.name for l in self.peers.catalog.labels()]
+            version = f"v{self.peers.catalog.label_set_version()}"
+        if not rows:
+            return inputs, None
+        inf = agreement.dawid_skene(rows, label_order=order, label_set_version=version)
+        post = {str(c): tuple((str(k), float(p)) for k, p in v.items())
+                for c, v in inf.posterior.items()}
+        return ([dataclasses.replace(c, posterior=post.get(c.clip_id, ())) for c in inputs],
+                inf.recipe.to_dict())
+
     def _plan_options(self, min_agreement: float, captions: str, hamming_radius: int,
-                      caption_threshold: float, segments: str) -> dict[str, Any]:
+                      caption_threshold: float, segments: str, labels: str = "majority",
+                      min_posterior: float = 0.9, inference: dict | None = None
+                      ) -> dict[str, Any]:
         """Options of :func:`clipscribe.export.build_plan` that come from the project."""
         policy = export.LabelPolicy(min_agreement=min_agreement, captions=captions,
-                                    segments=segments)
+                                    segments=segments, labels=labels,  # type: ignore[arg-type]
+                                    min_posterior=min_posterior, inference=inference)
         return dict(policy=policy,
                     require_consent=self.ctx.settings.require_consent, hamming_radius=hamming_radius,
                     caption_threshold=caption_threshold,

@@ -33,6 +33,7 @@ from ..types import (
     ClipInfo,
     ClipRef,
     CommentNote,
+    ComputeReport,
     DisputedClip,
     EditInfo,
     GoldCaptionInfo,
@@ -87,6 +88,8 @@ class Project:
     _exporting = property(lambda self: self._peers.exporting)
     _team = property(lambda self: self._peers.team)
     _suggestions = property(lambda self: self._peers.suggestions)
+    _compute = property(lambda self: self._peers.compute)
+    _checks = property(lambda self: self._peers.checks)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -398,15 +401,19 @@ class Project:
         return self._catalog.add_clip(media_path, group, source=source, licence=licence, consent=consent)
 
     def add_media(
-            self, folder: str | os.PathLike, *, group_pattern: str | None = None, group_csv: str | os.PathLike | None = None, progress: Progress | None = None, source: str | None = None, licence: str | None = None, consent: bool | None = None) -> IngestReport:
+            self, folder: str | os.PathLike, *, group_pattern: str | None = None, group_csv: str | os.PathLike | None = None, progress: Progress | None = None, source: str | None = None, licence: str | None = None, consent: bool | None = None,
+            workers: int | None = None, scheduler: str | None = None, path_map: Any = None) -> IngestReport:
         """Add every video below ``folder`` (recursive). Unreadable files are skipped with the
         reason. The group key comes from ``group_pattern`` (a regular expression with a named
         group ``group``, searched in the path relative to the media root; :data:`BY_FOLDER`
         groups by folder, as the CLI and the setup dialog do by default) or from ``group_csv``
         (columns ``path,group``); with neither, every clip is its own group. A file with the same
         SHA-256 as a clip already present (or added earlier in the same call) is added and
-        listed in ``duplicates``."""
-        return self._catalog.add_media(folder, group_pattern=group_pattern, group_csv=group_csv, progress=progress, source=source, licence=licence, consent=consent)
+        listed in ``duplicates``. With ``workers`` or ``scheduler`` (as for :meth:`compute`)
+        the files are read (header, SHA-256, frame index) by worker processes and the clips
+        written in batches; without them, in this process, one clip per transaction."""
+        return self._catalog.add_media(folder, group_pattern=group_pattern, group_csv=group_csv, progress=progress, source=source, licence=licence, consent=consent,
+                                       workers=workers, scheduler=scheduler, path_map=path_map)
 
     def copy_media_in(
             self, source: str | os.PathLike, *, cancel: Any = None, progress: Progress | None = None) -> Path:
@@ -451,15 +458,18 @@ class Project:
 
     # ---- annotate (Annotation) ----------------------------------------------------
     def set_clip_label(self, clip: ClipRef, annotator: Any, label: str | None) -> int | None:
-        """Set (or with ``None`` clear) one annotator's label of a clip."""
+        """Set (or with ``None`` clear) one annotator's label of a clip. Setting it also gives
+        that label to the annotator's unlabelled segments of the clip, in the same edit (one
+        undo step)."""
         return self._annotation.set_clip_label(clip, annotator, label)
 
     def clip_labels(self, *, annotator: Any = None, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         return self._annotation.clip_labels(annotator=annotator, clip=clip)
 
-    def add_segment(self, clip: ClipRef, annotator: Any, label: str, start: int, end: int) -> int:
-        """Add a segment ``[start, end)`` in frames; returns its id."""
+    def add_segment(self, clip: ClipRef, annotator: Any, label: str | None, start: int, end: int) -> int:
+        """Add a segment ``[start, end)`` in frames; returns its id. ``label`` None stores it
+        unlabelled: the annotator's next clip label fills it, or ``update_segment(label=...)``."""
         return self._annotation.add_segment(clip, annotator, label, start, end)
 
     def update_segment(
@@ -478,6 +488,8 @@ class Project:
         return self._annotation.merge_segments(first_id, second_id)
 
     def segments(self, *, clip: ClipRef | None = None, annotator: Any = None) -> list[SegmentInfo]:
+        """Annotators' segments, ordered by clip, annotator, start. ``SegmentInfo.label`` is
+        None for an unlabelled segment (shown as "unlabelled" in the workbench)."""
         return self._annotation.segments(clip=clip, annotator=annotator)
 
     def add_caption(
@@ -711,17 +723,21 @@ class Project:
         return self._review.unsure_flags(clip)
 
     def review_queue(
-            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
+            self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False,
+            rank_by: str = "disputed") -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
+
+        ``rank_by="least-certain"``: lowest posterior probability of the inferred label
+        (Dawid-Skene) first. Every row carries ``inferred_label`` and ``certainty``.
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
         clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
         it. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -822,6 +838,27 @@ class Project:
         accepting a suggestion."""
         return self._suggestions.agreement_with_and_without_suggestions()
 
+    # ---- precompute (Compute) -----------------------------------------------------
+    def compute(
+            self, what: str | Sequence[str] | None = None, *, clips: Sequence[ClipRef] | None = None,
+            group: str | None = None, workers: int | None = None, scheduler: str | None = None,
+            path_map: Any = None, cache_dir: str | os.PathLike | None = None,
+            progress: Progress = None,
+            cancel: threading.Event | Callable[[], bool] | None = None) -> ComputeReport:
+        """Compute what is missing for every clip (or ``clips``, or a ``group``): ``what`` is
+        any of "index", "thumbs", "motion", "fingerprint", "features" (a list, or one string
+        "index,thumbs"; default all). A clip already done is skipped, so a run killed half-way
+        is resumed by running it again. The work runs on a local cluster of ``workers`` worker
+        processes (default cores − 1; 0 computes in this process, without Dask), or on the
+        Dask ``scheduler`` given ("tcp://host:8786"). ``path_map`` ({client prefix: worker
+        prefix}) names where workers find the media root and ``cache_dir`` (default: the
+        per-user cache) when they mount shared storage elsewhere. A missing or broken file is
+        listed in ``.failed`` with the reason; nothing else stops. Fingerprints are written by
+        a lead. Needs ``clipscribe[cluster]`` (Dask) unless ``workers=0``; see docs/cluster.md."""
+        return self._compute.compute(what, clips=clips, group=group, workers=workers,
+                                     scheduler=scheduler, path_map=path_map, cache_dir=cache_dir,
+                                     progress=progress, cancel=cancel)
+
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(
             self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000,
@@ -848,7 +885,7 @@ class Project:
         return self._exporting.export_inputs()
 
     def plan_export(
-            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> export.ExportPlan:
+            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -859,9 +896,12 @@ class Project:
         plan's ``warnings``. ``segments`` is the segment rule: ``"gold+best"`` (gold segments,
         else those of the agreeing annotator who agrees best with the others, else none) or
         ``"gold"`` (gold segments, else none); the manifest records both rules and how many
-        repeated reference captions were dropped.
+        repeated reference captions were dropped. ``labels`` is the label rule without gold:
+        ``"majority"`` (``min_agreement``) or ``"inferred"`` (the label Dawid-Skene infers,
+        when its posterior is at least ``min_posterior``; recorded with the inference's
+        recipe). Gold wins under either rule.
         """
-        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
+        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
 
     def write_export(
             self, out_dir: str | os.PathLike, plan: export.ExportPlan, *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, overwrite: bool = False, progress: Progress = None, cancel: threading.Event | None = None):
@@ -870,10 +910,10 @@ class Project:
         return self._exporting.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt, override_reason=override_reason, overwrite=overwrite, progress=progress, cancel=cancel)
 
     def plan_folds(
-            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best") -> list[export.ExportPlan]:
+            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
         groups), each planned and leakage-checked like a single export; writes nothing."""
-        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments)
+        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
 
     def write_folds(
             self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, progress: Progress = None, cancel: threading.Event | None = None) -> list:
@@ -914,11 +954,35 @@ class Project:
         return self._team.lease_seconds()
 
     def assign(
-            self, *, per_clip: int = 1, overlap: float = 0.0, overlap_count: int = 3, seed: int = 0) -> AssignmentPlan:
+            self, *, per_clip: int = 1, overlap: float = 0.0, overlap_count: int = 3, seed: int = 0,
+            check_rate: float | None = None) -> AssignmentPlan:
         """Set how many people annotate each clip: a fraction ``overlap`` of the clips (chosen
         by ``seed``, see :func:`overlap_selection`) gets ``overlap_count``, the rest
-        ``per_clip``. Settled clips are left out. Lead only."""
-        return self._team.assign(per_clip=per_clip, overlap=overlap, overlap_count=overlap_count, seed=seed)
+        ``per_clip``. Settled clips are left out. ``check_rate`` (0..1; None keeps the
+        current one) is the share of each annotator's clips that are check clips, which the
+        queue mixes in (see :meth:`mark_check_clip`). Lead only."""
+        return self._team.assign(per_clip=per_clip, overlap=overlap, overlap_count=overlap_count, seed=seed,
+                                 check_rate=check_rate)
+
+    def check_rate(self) -> float:
+        """Share of each annotator's clips that are check clips (0: none handed out)."""
+        return self._team.check_rate()
+
+    def mark_check_clip(self, clip: ClipRef, answer: str | None = None) -> str:
+        """Make ``clip`` a check clip: its answer is known in advance (``answer``, default the
+        clip's gold label), and each annotator's labels of it are scored against that answer
+        (accuracy with a Wilson interval and kappa, in the agreement report). Annotators are
+        not told which clips are check clips (on a team server the database hides them); the
+        queue mixes them in at the check rate of :meth:`assign`. Returns the answer. Lead only."""
+        return self._checks.mark_check_clip(clip, answer)
+
+    def unmark_check_clip(self, clip: ClipRef) -> bool:
+        """Make a check clip an ordinary clip again; False when it was none. Lead only."""
+        return self._checks.unmark_check_clip(clip)
+
+    def check_clips(self) -> dict[int, str]:
+        """{clip id: known answer} of every check clip. Lead only."""
+        return self._checks.check_clips()
 
     def assignment_plan(self) -> dict[int, int]:
         """clip id -> number of people wanted (clips never planned count as one)."""

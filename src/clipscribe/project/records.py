@@ -20,6 +20,7 @@ from ..export import csvsafe, jsonl
 from ..schema.records import (
     RECORD_TYPES,
     CaptionRecord,
+    CheckRecord,
     ClipRecord,
     CommentRecord,
     GoldRecord,
@@ -136,6 +137,8 @@ class Records(Service):
             return self._import_comment(s, rec)
         if isinstance(rec, StateRecord):
             return self._import_state(s, rec)
+        if isinstance(rec, CheckRecord):
+            return self.peers.checks.import_check(s, rec.clip, rec.label, rec.annotator)
         raise AssertionError(rec)
 
     def _import_state(self, s: Session, rec: StateRecord) -> int:
@@ -253,6 +256,8 @@ class Records(Service):
             out.append(GoldRecord.model_construct(clip=paths[clip], annotator=leads[clip], captions=caps))
         for clip, to, lead, text in self.peers.gold.comments():
             out.append(CommentRecord.model_construct(clip=paths[clip], annotator=lead, to=to, text=text))
+        for clip, label, lead in self.peers.checks.check_records():  # a lead's dump only
+            out.append(CheckRecord.model_construct(clip=paths[clip], annotator=lead, label=label))
         for clip, who, state, reason in self.ctx.read(_states):  # last: edits above would reopen
             out.append(StateRecord.model_construct(clip=paths[clip], annotator=who, state=state,
                                                    reason=reason))

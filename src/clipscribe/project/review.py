@@ -3,17 +3,18 @@ annotator throughput and the agreement trend. Writes go through the gold service
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import math
 from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ..agreement import krippendorff_alpha
 from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import Annotator, Assignment, GoldCaption
+from ..store.models import Annotator, Assignment, Edit, GoldCaption
 from ..types import (  # noqa: F401 (re-exported)
     IDLE_SECONDS,
     ClipComparison,
@@ -33,6 +34,24 @@ from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with
 from .context import Service
 
 MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
+
+#: the orders the review queue can be ranked in (value: how the desk describes it)
+RANKINGS = {
+    "disputed": "most disputed first: label disagreement, then segment F1, then caption BLEU",
+    "least-certain": "least certain inferred label first: lowest posterior probability of the "
+                     "label Dawid-Skene infers (clips without an inferred label last)",
+}
+
+
+def inferred_posteriors(report: Any) -> dict[int, dict[str, float]]:
+    """{clip id: {label: posterior}} from a report's reliability part ({} when not inferred)."""
+    rel = getattr(report, "reliability", None)
+    inf = rel.inferred if rel is not None else None
+    if inf is None:
+        return {}
+    cats = [str(c) for c in inf.label_order]
+    return {int(it): dict(zip(cats, row)) for it, row in zip(inf.items,
+                                                             inf.posterior_matrix.tolist())}
 
 
 def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[int]]:
@@ -84,10 +103,15 @@ class Review(Service):
     # ---- the queue ----------------------------------------------------------------------
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
                      group: str | None = None, report: Any = None, seed: int = 0,
-                     n_boot: int = 200, flagged: bool = False) -> list[DisputedClip]:
+                     n_boot: int = 200, flagged: bool = False,
+                     rank_by: str = "disputed") -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
+
+        ``rank_by="least-certain"`` orders them by the posterior probability of the label
+        Dawid-Skene infers, lowest first (ties keep the disputed order; clips without an
+        inferred label come last). Each row carries its inferred label and that probability.
 
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
@@ -95,6 +119,8 @@ class Review(Service):
         it. Leads only.
         """
         self.check_reviewer()
+        if rank_by not in RANKINGS:
+            raise RecordError(f"rank by {rank_by!r}: use one of {', '.join(RANKINGS)}")
         rep = report if report is not None else self.peers.analysis.agreement_report(seed=seed, n_boot=n_boot)
         clips = {c.id: c for c in self.peers.catalog.clips()}
         workers = self._workers()
@@ -133,7 +159,24 @@ class Review(Service):
                 and (annotator is None or annotator in worked.get(r.clip, ()))
                 and (group is None or r.group == group)
                 and (not flagged or bool(r.skipped or r.unsure))]
-        return keep
+        return self._with_inferred(keep, inferred_posteriors(rep), rank_by)
+
+    @staticmethod
+    def _with_inferred(rows: list[DisputedClip], post: dict[int, dict[str, float]],
+                       rank_by: str) -> list[DisputedClip]:
+        """The rows with their inferred label and its probability, in ``rank_by`` order."""
+        out = []
+        for r in rows:
+            p = post.get(r.clip)
+            if p:
+                best = max(p, key=p.__getitem__)
+                r = dataclasses.replace(r, inferred_label=best, certainty=p[best])
+            out.append(r)
+        if rank_by == "least-certain":
+            out.sort(key=lambda r: (math.isnan(r.certainty), 0.0 if math.isnan(r.certainty)
+                                    else r.certainty))
+            out = [dataclasses.replace(r, rank=i + 1) for i, r in enumerate(out)]
+        return out
 
     @staticmethod
     def _disputed(rank, info, row, labels, gold, skipped, unsure) -> DisputedClip:
@@ -167,7 +210,8 @@ class Review(Service):
             if c.annotator in workers:
                 caps.setdefault(c.annotator, []).append(c)
         names = sorted(set(labels) | set(segs) | set(caps) | set(skipped) | set(unsure))
-        scores = {}
+        scores: dict[str, float] = {}
+        posterior = inferred_posteriors(report).get(info.id, {}) if report is not None else {}
         if report is not None:
             row = next((r for r in report.clips if int(r.clip) == info.id), None)
             if row is not None:
@@ -177,7 +221,7 @@ class Review(Service):
             caps, self.peers.gold.gold_labels().get(info.id),
             [(lab, s, e) for _, lab, s, e in self.peers.gold.gold_segments(info.id)],
             self.gold_caption_rows(info.id), self.peers.gold.comments(info.id), scores, skipped,
-            unsure)
+            unsure, posterior)
 
     def gold_caption_rows(self, clip: ClipRef) -> list[GoldCaptionInfo]:
         """A clip's gold captions with the annotator caption each came from."""
@@ -195,14 +239,19 @@ class Review(Service):
         row changed (an import by the lead counts for the annotator it was for)."""
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
         workers = self._workers()
+        # four plain columns of the history, not whole history rows with their JSON: a big
+        # project has hundreds of thousands of them
+        owner = func.coalesce(Edit.after["annotator_id"].as_integer(),
+                              Edit.before["annotator_id"].as_integer())
+        stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
+                .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
+                .order_by(Edit.id))
         out = []
-        for e in self.peers.history.history():
-            if e.entity not in WORK_ENTITIES or e.clip is None:
-                continue
-            row = e.after or e.before or {}
-            name = ids.get(row.get("annotator_id"), e.who)
+        for at, row_owner, who, clip in self.ctx.read(lambda s: s.execute(stmt).all()):
+            name = ids.get(row_owner) if row_owner is not None else None
+            name = name if name is not None else ids.get(who)
             if name in workers:
-                out.append((e.at, name, e.clip))
+                out.append((at, name, clip))
         return out
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:

@@ -15,7 +15,9 @@ if TYPE_CHECKING:
     from .analysis import Analysis
     from .annotate import Annotation
     from .catalog import Catalog
+    from .checks import Checks
     from .clip_facts import ClipFacts
+    from .compute import Compute
     from .context import Context
     from .exporting import Exporting
     from .gold import Gold
@@ -34,7 +36,8 @@ SERVICES = {
     "history": ("history", "History"), "records": ("records", "Records"),
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
-    "suggestions": ("suggestions", "Suggestions"),
+    "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
+    "checks": ("checks", "Checks"),
 }
 
 
@@ -53,6 +56,8 @@ class Peers:
     exporting: Exporting
     team: Team
     suggestions: Suggestions
+    compute: Compute
+    checks: Checks
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx

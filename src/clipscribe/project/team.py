@@ -23,6 +23,7 @@ from ..store.models import (
     Annotator,
     Assignment,
     Caption,
+    CheckClip,
     Clip,
     Edit,
     Setting,
@@ -193,10 +194,17 @@ class Team(Service):
 
     # ---- assignment -------------------------------------------------------------------
     def assign(self, *, per_clip: int = 1, overlap: float = 0.0, overlap_count: int = 3,
-               seed: int = 0) -> AssignmentPlan:
+               seed: int = 0, check_rate: float | None = None) -> AssignmentPlan:
         """Set how many people annotate each clip: a fraction ``overlap`` of the clips (chosen
         by ``seed``, see :func:`overlap_selection`) gets ``overlap_count``, the rest
-        ``per_clip``. Settled clips are left out. Lead only."""
+        ``per_clip``. Settled clips are left out. ``check_rate`` (0..1; None keeps the one
+        set before) is the share of each annotator's clips that are check clips: the queue
+        hands them the next check clip they have not had whenever one more keeps their
+        share at most the rate (``checks + 1 <= check_rate x (clips had + 1)``; at 0.25 their
+        4th, 8th, … clip). Check clips go out this way only, to everyone, never through the
+        places above. Lead only."""
+        require(check_rate is None or 0.0 <= check_rate <= 1.0,
+                f"check_rate {check_rate!r}: must lie in [0, 1]")
         require(isinstance(per_clip, int) and per_clip >= 1, f"per_clip {per_clip!r}: must be >= 1")
         require(0.0 <= overlap <= 1.0, f"overlap {overlap!r}: must lie in [0, 1]")
         require(isinstance(overlap_count, int) and overlap_count >= 1,
@@ -210,12 +218,19 @@ class Team(Service):
                 s.execute(update(Clip).where(Clip.id.in_(chosen[i:i + 500]))
                           .values(annotators_wanted=overlap_count))
             plan = AssignmentPlan(len(ids), len(chosen), per_clip, float(overlap), overlap_count, seed)
+            if check_rate is not None:
+                s.merge(Setting(key=team.CHECK_RATE_KEY, value=float(check_rate)))
             before = s.get(Setting, team.PLAN_KEY)
             s.merge(Setting(key=team.PLAN_KEY, value=plan.recipe()))
             self.ctx.log(s, "plan", "assignment_plan", None, None,
                       before.value if before else None, plan.recipe())
             return plan
         return self.ctx.write(work)
+
+    def check_rate(self) -> float:
+        """Share of each annotator's clips that are check clips (0: none handed out)."""
+        row = self.ctx.read(lambda s: s.get(Setting, team.CHECK_RATE_KEY))
+        return float(row.value) if row is not None else 0.0
 
     def assignment_plan(self) -> dict[int, int]:
         """clip id -> number of people wanted (clips never planned count as one)."""
@@ -250,7 +265,8 @@ class Team(Service):
         if mine is not None:
             mine.expires_at = until
             return mine.clip_id
-        clip = s.scalar(self.wanting(me).order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
+        clip = self._next_check_clip(s, me) or s.scalar(
+            self.wanting(me).order_by(Clip.id).limit(1).with_for_update(skip_locked=True))
         if clip is None:
             return None
         self.reserve(s, clip, me, now, until)
@@ -258,12 +274,14 @@ class Team(Service):
 
     @staticmethod
     def wanting(me: Annotator):
-        """The clips that still need people and that ``me`` has not had (a select of Clip)."""
+        """The clips that still need people, that ``me`` has not had and that are not check
+        clips (those come at the check rate only): a select of Clip."""
         live = (select(func.count()).select_from(Assignment)
                 .where(Assignment.clip_id == Clip.id, Assignment.state.not_in(("expired", "skipped")))
                 .scalar_subquery())
         had = exists().where(Assignment.clip_id == Clip.id, Assignment.annotator_id == me.id)
-        return select(Clip).where(Clip.state != "settled", ~had,
+        is_check = exists().where(CheckClip.clip_id == Clip.id)
+        return select(Clip).where(Clip.state != "settled", ~had, ~is_check,
                                   live < func.coalesce(Clip.annotators_wanted, 1))
 
     @staticmethod
@@ -275,6 +293,25 @@ class Team(Service):
         if clip.state == "new":
             clip.state = "in_progress"
         s.flush()
+
+    def _next_check_clip(self, s: Session, me: Annotator) -> Clip | None:
+        """The check clip due for ``me`` at the check rate, if any (as ``clipscribe_pull``
+        decides it on a server)."""
+        rate = s.get(Setting, team.CHECK_RATE_KEY)
+        rate = float(rate.value) if rate is not None else 0.0
+        if rate <= 0:
+            return None
+        mine = (select(Assignment.clip_id).where(Assignment.annotator_id == me.id,
+                                                 Assignment.state != "expired"))
+        had = s.scalar(select(func.count()).select_from(mine.subquery())) or 0
+        checks = s.scalar(select(func.count()).select_from(
+            mine.where(Assignment.clip_id.in_(select(CheckClip.clip_id))).subquery())) or 0
+        if checks + 1 > rate * (had + 1) + 1e-9:  # one more would pass the rate
+            return None
+        ever = exists().where(Assignment.clip_id == CheckClip.clip_id,
+                              Assignment.annotator_id == me.id)
+        cid = s.scalar(select(CheckClip.clip_id).where(~ever).order_by(CheckClip.clip_id).limit(1))
+        return s.get(Clip, cid) if cid is not None else None
 
     def _expire(self, s: Session, now: dt.datetime, lease: float) -> int:
         cutoff = now - dt.timedelta(seconds=lease)

@@ -58,7 +58,10 @@ class ExportRecord(_Model):
     sha256: str | None = Field(default=None, pattern=_SHA256, description="of the media file")
     group: str | None = None
     label: str | None = Field(default=None, description="decided clip label")
-    label_source: Literal["gold", "majority"] | None = None
+    label_source: Literal["gold", "majority", "inferred"] | None = None
+    label_posterior: float | None = Field(
+        default=None, ge=0, le=1,
+        description="inferred probability of the decided label (label rule `inferred` only)")
     agreement: float | None = Field(
         default=None, ge=0, le=1,
         description="share of annotator labels equal to the decided label")
@@ -87,6 +90,14 @@ class LabelPolicyModel(_Model):
         default="gold+best", description="gold: the gold segments, else none; gold+best: the gold "
                                          "segments, else those of the agreeing annotator who "
                                          "agrees best with the others, else none")
+    labels: Literal["majority", "inferred"] = Field(
+        default="majority", description="without gold: majority, the majority label "
+                                        "(min_agreement); inferred, the inferred true label "
+                                        "when its posterior is at least min_posterior")
+    min_posterior: float | None = Field(default=None, ge=0, le=1,
+                                        description="threshold of the inferred rule")
+    inference: dict | None = Field(default=None,
+                                   description="recipe of the truth inference (inferred rule)")
     rule: str = Field(description="the rule in words")
 
 
@@ -164,6 +175,9 @@ class ExportManifest(_Model):
     duplicates_dropped: int = Field(
         default=0, ge=0, description="reference captions left out as repeats of one already "
                                      "taken (see recipes.duplicates_dropped)")
+    unlabelled_segments: int = Field(
+        default=0, ge=0, description="annotator segments of the exported clips left out for "
+                                     "having no label (see recipes.unlabelled_segments)")
     warnings: list[QualityWarning] = Field(
         default_factory=list, description="splits empty or far from their ratios, clips short of "
                                           "reference captions; see recipes.warnings")

@@ -66,12 +66,14 @@ class LabelRecord(_Record):
 
 
 class SegmentRecord(_Record):
-    """A temporal segment in frames; ``end`` is exclusive."""
+    """A temporal segment in frames; ``end`` is exclusive. Without ``label`` (or with null) the
+    segment is unlabelled: marked before its annotator chose a label."""
 
     type: Literal["segment"] = "segment"
     clip: ClipRef
     annotator: Name
-    label: Name
+    label: Name | None = Field(default=None, description="the segment's label; absent or null: "
+                               "unlabelled (marked before its annotator chose one)")
     start: int = Field(strict=True, ge=0, le=MAX_FRAME, description="first frame of the segment (0-based)")
     end: int = Field(strict=True, gt=0, le=MAX_FRAME, description="frame after the last frame of the segment")
 
@@ -134,14 +136,24 @@ class StateRecord(_Record):
         return self
 
 
+class CheckRecord(_Record):
+    """A check clip: a clip whose answer a lead knows in advance (only in a lead's dump)."""
+
+    type: Literal["check"] = "check"
+    clip: ClipRef
+    annotator: Name = Field(description="the lead who marked it")
+    label: Name = Field(description="the known answer")
+
+
 Record = Annotated[
     Union[ClipRecord, LabelRecord, SegmentRecord, CaptionRecord, GoldRecord, CommentRecord,
-          StateRecord],
+          StateRecord, CheckRecord],
     Field(discriminator="type"),
 ]
 RECORD_TYPES: dict[str, type[_Record]] = {
     "clip": ClipRecord, "label": LabelRecord, "segment": SegmentRecord,
     "caption": CaptionRecord, "gold": GoldRecord, "comment": CommentRecord, "state": StateRecord,
+    "check": CheckRecord,
 }
 _adapter: TypeAdapter[Record] = TypeAdapter(Record)
 

@@ -163,12 +163,14 @@ class Segment(Base):
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[annotator_fk]
-    label_id: Mapped[label_fk]
+    # None: marked before its annotator chose a label ("unlabelled"); setting the clip label
+    # fills it, or the annotator gives it one
+    label_id: Mapped[Optional[int]] = mapped_column(ForeignKey("labels.id", ondelete="RESTRICT"))
     start_frame: Mapped[int] = mapped_column(Integer)
     end_frame: Mapped[int] = mapped_column(Integer, doc="exclusive")
     updated_at: Mapped[when]
     version: Mapped[int] = mapped_column(Integer, default=1)
-    label: Mapped[Label] = relationship(lazy="joined")
+    label: Mapped[Optional[Label]] = relationship(lazy="joined")
     __mapper_args__ = {"version_id_col": version}
 
 
@@ -224,6 +226,19 @@ class GoldCaption(Base):
         ForeignKey("captions.id", ondelete="SET NULL"))
     lead_id: Mapped[int] = mapped_column(ForeignKey("annotators.id", ondelete="RESTRICT"))
     decided_at: Mapped[when]
+
+
+class CheckClip(Base):
+    """A clip whose answer is known in advance, mixed into annotators' work to measure them.
+    Only leads may see these rows (on a server the database refuses every other login)."""
+
+    __tablename__ = "check_clips"
+    clip_id: Mapped[int] = mapped_column(ForeignKey("clips.id", ondelete="CASCADE"),
+                                         primary_key=True, autoincrement=False)
+    label_id: Mapped[label_fk]
+    lead_id: Mapped[int] = mapped_column(ForeignKey("annotators.id", ondelete="RESTRICT"))
+    marked_at: Mapped[when]
+    label: Mapped[Label] = relationship(lazy="joined")
 
 
 class ReviewComment(Base):

@@ -14,7 +14,10 @@ Who may see and change what is decided by the database, not by the program:
 * the edit history is append-only for everyone (no UPDATE/DELETE grants); an annotator inserts
   and reads only their own rows;
 * leads (and the database owner, the admin login that ran the migrations) read everything and
-  write gold; gold tables are invisible to annotators.
+  write gold; gold tables are invisible to annotators;
+* check clips (``check_clips``: clips whose answer is known in advance) are lead-only: no
+  grant to annotators and a lead-only policy, so an annotator's login cannot tell which clips
+  are check clips; the pull mixes them in at the lead's rate.
 
 Tables holding per-person data use FORCE ROW LEVEL SECURITY so the owner passes through the
 same policies (it is let through as a lead), which keeps a definer-rights function or view from
@@ -41,6 +44,10 @@ SHARED_TABLES = ("settings", "labels", "annotators", "clips")
 BLIND_KEY = "team.blind"
 LEASE_KEY = "team.lease_seconds"
 PLAN_KEY = "team.assignment_plan"
+#: share of each annotator's pulled clips that are check clips (0: none handed out)
+CHECK_RATE_KEY = "team.check_rate"
+#: lead-only tables: no grant to annotators and a lead-only policy
+LEAD_TABLES = ("check_clips",)
 MAX_LOGIN_BYTES = 63  # PostgreSQL's NAMEDATALEN - 1
 #: role names PostgreSQL refuses to create (besides every name starting with ``pg_``)
 RESERVED_LOGINS = ("public", "none", "current_user", "session_user", "current_role", "user")
@@ -107,6 +114,17 @@ _HOLDS = f"""(a.state NOT IN ('expired', 'skipped') AND (a.expires_at IS NOT NUL
 # and returns nothing but a clip id. The count is checked again after the clip row is locked,
 # in a fresh statement (a fresh snapshot under READ COMMITTED), so two pulls racing for the
 # last free place of a clip cannot both win.
+# The first clip the pull may give ``p_annotator``: not settled, not a check clip, not theirs
+# already, with a free place in the plan (its FROM and WHERE; the pull adds the locking).
+_FREE_PLACE = f"""{SCHEMA}.clips c
+     WHERE c.state <> 'settled'
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.check_clips k WHERE k.clip_id = c.id)
+       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+                       AND a.annotator_id = p_annotator)
+       AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
+            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
+     ORDER BY c.id LIMIT 1"""
+
 _PULL = f"""
 CREATE OR REPLACE FUNCTION {SCHEMA}.clipscribe_pull(p_annotator integer, p_lease_seconds double precision)
 RETURNS integer LANGUAGE plpgsql SECURITY DEFINER {_PATH} AS $$
@@ -114,6 +132,9 @@ DECLARE
   v_now timestamptz := pg_catalog.clock_timestamp();
   v_lease interval := pg_catalog.make_interval(secs => p_lease_seconds);
   v_clip integer;
+  v_rate double precision;
+  v_mine bigint;
+  v_checks bigint;
 BEGIN
   IF NOT EXISTS (SELECT 1 FROM {SCHEMA}.annotators WHERE id = p_annotator AND db_login = session_user)
      AND NOT {_CALLER_IS_LEAD} THEN
@@ -142,17 +163,41 @@ BEGIN
     RETURN v_clip;
   END IF;
 
+  -- check clips (known answers, lead-only table) come in at the lead's rate: the next one
+  -- when one more keeps the person's share of check clips at most the rate
+  v_rate := coalesce((SELECT (s.value::text)::double precision FROM {SCHEMA}.settings s
+                       WHERE s.key = '{CHECK_RATE_KEY}'), 0);
+  IF v_rate > 0 THEN
+    SELECT count(*), count(k.clip_id) INTO v_mine, v_checks
+      FROM {SCHEMA}.assignments a LEFT JOIN {SCHEMA}.check_clips k ON k.clip_id = a.clip_id
+     WHERE a.annotator_id = p_annotator AND a.state <> 'expired';
+    IF v_checks + 1 <= v_rate * (v_mine + 1) + 1e-9 THEN
+      SELECT k.clip_id INTO v_clip FROM {SCHEMA}.check_clips k
+       WHERE NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = k.clip_id
+                         AND a.annotator_id = p_annotator)
+       ORDER BY k.clip_id LIMIT 1;
+      IF v_clip IS NOT NULL THEN
+        INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
+                                          updated_at, version)
+        VALUES (v_clip, p_annotator, 'open', v_now, v_now + v_lease, v_now, 1);
+        UPDATE {SCHEMA}.clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
+        RETURN v_clip;
+      END IF;
+    END IF;
+  END IF;
+
   LOOP
-    SELECT c.id INTO v_clip FROM {SCHEMA}.clips c
-     WHERE c.state <> 'settled'
-       AND NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-                       AND a.annotator_id = p_annotator)
-       AND (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = c.id
-            AND {_HOLDS}) < coalesce(c.annotators_wanted, 1)
-     ORDER BY c.id LIMIT 1
+    SELECT c.id INTO v_clip FROM {_FREE_PLACE}
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
-      RETURN NULL;
+      -- Every clip with a free place may only be held for a moment by another pull (SKIP
+      -- LOCKED passes over it): wait for the first such clip instead of answering "no work",
+      -- then count its places again. Only when no clip has a free place is there no work.
+      SELECT c.id INTO v_clip FROM {_FREE_PLACE}
+       FOR UPDATE OF c;
+      IF v_clip IS NULL THEN
+        RETURN NULL;
+      END IF;
     END IF;
     IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip AND {_HOLDS})
        < (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
@@ -434,6 +479,26 @@ DROP FUNCTION IF EXISTS {SCHEMA}.clipscribe_clip_state(integer);
 """
 
 
+def protect_check_clips(conn: Any) -> None:
+    """Make ``check_clips`` lead-only, like the gold tables: row-level security (forced, so
+    the owner passes the same policy as a lead) with a lead policy only, so an annotator's
+    SELECT finds no row; no write right for annotators (the table is keyed by clip id: no
+    sequence to read). Annotators learn nothing about check clips, not even how many."""
+    a, l = ANNOTATOR_GROUP, LEAD_GROUP
+    out = []
+    for t in LEAD_TABLES:
+        out += [
+            f"REVOKE ALL ON {_q(t)} FROM PUBLIC, {a};",
+            f"GRANT SELECT ON {_q(t)} TO {a};",  # readable, but no row passes a policy
+            f"ALTER TABLE {_q(t)} ENABLE ROW LEVEL SECURITY;",
+            f"ALTER TABLE {_q(t)} FORCE ROW LEVEL SECURITY;",
+            f"GRANT SELECT, INSERT, UPDATE, DELETE ON {_q(t)} TO {l};",
+            f"DROP POLICY IF EXISTS lead_rows ON {_q(t)};",
+            f"CREATE POLICY lead_rows ON {_q(t)} USING {_LEAD} WITH CHECK {_LEAD};",
+        ]
+    _driver(conn).execute("\n".join(out))
+
+
 def _driver(conn: Any):
     """The psycopg connection under a SQLAlchemy Connection or Session (same transaction)."""
     if hasattr(conn, "connection") and hasattr(conn.connection, "driver_connection"):
@@ -492,7 +557,11 @@ def set_timeouts(conn: Any, login: str, role: str) -> None:
 
 def uninstall(conn: Any) -> None:
     raw = _driver(conn)
-    tables = (*PERSON_TABLES, "assignments", *GOLD_TABLES, "review_comments", "edits")
+    present = {r[0] for r in raw.execute(
+        "SELECT table_name FROM information_schema.tables WHERE table_schema = %s",
+        (SCHEMA,)).fetchall()}
+    tables = (*PERSON_TABLES, "assignments", *GOLD_TABLES, "review_comments", "edits",
+              *(t for t in LEAD_TABLES if t in present))
     for t in tables:
         for pol in raw.execute("SELECT policyname FROM pg_policies WHERE tablename = %s",
                                (t,)).fetchall():

@@ -98,7 +98,8 @@ class ClipEditor(QObject):
             self.clip, self.me, state, reason, override=override))
 
     # ---- segments -----------------------------------------------------------------------
-    def add_segment(self, label: str, start: int, end: int) -> Any:
+    def add_segment(self, label: str | None, start: int, end: int) -> Any:
+        """Add one of one's segments; ``label`` None: unlabelled."""
         return self.apply(f"Add segment {start}–{end - 1}",
                           lambda: self.project.add_segment(self.clip, self.me, label, start, end))
 

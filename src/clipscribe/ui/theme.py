@@ -13,6 +13,8 @@ MARK = "#06d6a0"
 CURVE = "#5ec2b7"
 CURVE_FILL = (94, 194, 183, 90)  # r, g, b, alpha
 SELECTED = "#ffffff"
+UNLABELLED_FILL = "#46505c"   # a segment with no label yet: slate, hatched, dashed edge
+UNLABELLED_HATCH = "#8a96a3"
 SAVED_OK = "#2e7d32"
 SAVED_BAD = "#c62828"
 

@@ -133,6 +133,8 @@ class ExportDialog(ExportOptions, QDialog):
             s.valueChanged.connect(self._refresh)
         self.folds.toggled.connect(self._refresh)
         self.min_agreement.valueChanged.connect(self._refresh)
+        self.min_posterior.valueChanged.connect(self._refresh)
+        self.label_rule.currentIndexChanged.connect(self._refresh)
         self.caption_policy.currentIndexChanged.connect(self._refresh)
         self.segment_rule.currentIndexChanged.connect(self._refresh)
         self.keep_splits.toggled.connect(self._refresh)
@@ -263,6 +265,8 @@ class ExportDialog(ExportOptions, QDialog):
         p, key = self.project, self._key()
         ratios, seed, agree, radius = self.ratios(), self.seed.value(), self.min_agreement.value(), self.radius.value()
         captions, segments = self.caption_policy.currentData(), self.segment_rule.currentData()
+        rule = dict(labels=self.label_rule.currentData(),
+                    min_posterior=round(self.min_posterior.value(), 4))
         frozen = None if self.keep_splits.isChecked() else {}
         k, val = (self.k.value(), self.val_share.value() / 100) if self.fold_mode else (0, 0.0)
 
@@ -273,10 +277,11 @@ class ExportDialog(ExportOptions, QDialog):
                 raise JobCancelled("check cancelled")
             if k:
                 return p.plan_folds(k, seed=seed, val_fraction=val, min_agreement=agree,
-                                    hamming_radius=radius, captions=captions, segments=segments)
+                                    hamming_radius=radius, captions=captions, segments=segments,
+                                    **rule)
             return [p.plan_export(ratios, seed=seed, min_agreement=agree, frozen=frozen,
                                   hamming_radius=radius, captions=captions,
-                                  segments=segments)]
+                                  segments=segments, **rule)]
 
         self.plans, self._plan_key = None, None
         self.results.show_plans(None)

@@ -15,8 +15,21 @@ MEDIA_MODES = (("Leave media where they are", None), ("Copy media into the expor
                ("Hard-link media (same disk only)", "hardlink"))
 CAPTION_POLICIES = (("Gold only (else every annotator's)", "gold"),
                     ("Gold and agreeing annotators'", "gold+agreeing"))
+LABEL_RULES = (("Majority of annotators", "majority"),
+               ("Inferred true label (Dawid-Skene)", "inferred"))
 SEGMENT_RULES = (("Gold, else the best-agreeing annotator's", "gold+best"),
                  ("Gold only (else none)", "gold"))
+
+
+def _share_box(value: float, tip: str) -> QDoubleSpinBox:
+    """A spin box for a share or probability (0..1, two decimals, steps of 0.05)."""
+    box = QDoubleSpinBox()
+    box.setRange(0.0, 1.0)
+    box.setSingleStep(0.05)
+    box.setDecimals(2)
+    box.setValue(value)
+    box.setToolTip(tip)
+    return box
 
 
 class ExportOptions:
@@ -66,15 +79,24 @@ class ExportOptions:
         self.seed.setToolTip("Seed for placing groups into splits; the same seed and project give "
                              "the same splits")
         form.addRow("See&d", self.seed)
-        self.min_agreement = QDoubleSpinBox()
-        self.min_agreement.setRange(0.0, 1.0)
-        self.min_agreement.setSingleStep(0.05)
-        self.min_agreement.setDecimals(2)
-        self.min_agreement.setValue(0.6)
-        self.min_agreement.setToolTip("Without gold, the majority label must be given by at least "
-                                      "this share of the clip's annotators; otherwise the clip is "
-                                      "left out")
+        self.min_agreement = _share_box(0.6, "Without gold, the majority label must be given "
+                                        "by at least this share of the clip's annotators; "
+                                        "otherwise the clip is left out")
+        self.label_rule = QComboBox()
+        self.label_rule.setObjectName("labelRule")
+        for text, value in LABEL_RULES:
+            self.label_rule.addItem(text, value)
+        self.label_rule.setToolTip(
+            "The label of a clip without gold. Majority: the most common annotator label, when "
+            "its share reaches the minimum agreement. Inferred: the label most probable given "
+            "every annotator's estimated confusion (Dawid-Skene), when its probability reaches "
+            "the minimum posterior. Gold wins either way; recorded in the manifest.")
+        form.addRow("Label without gold", self.label_rule)
         form.addRow("Minimum a&greement", self.min_agreement)
+        self.min_posterior = _share_box(0.9, "With the inferred label: the probability it "
+                                        "needs; otherwise the clip is left out")
+        self.min_posterior.setObjectName("minPosterior")
+        form.addRow("Minimum posterior", self.min_posterior)
         self.caption_policy = QComboBox()
         self.caption_policy.setObjectName("captionPolicy")
         for text, value in CAPTION_POLICIES:
@@ -150,7 +172,8 @@ class ExportOptions:
     def _key(self) -> tuple:
         """The settings a check depends on; a check is current while this stays the same."""
         common = (self.seed.value(), round(self.min_agreement.value(), 4), self.radius.value(),
-                  self.caption_policy.currentData(), self.segment_rule.currentData())
+                  self.caption_policy.currentData(), self.segment_rule.currentData(),
+                  self.label_rule.currentData(), round(self.min_posterior.value(), 4))
         if self.fold_mode:
             return ("folds", self.k.value(), self.val_share.value(), *common)
         return ("one", tuple(sorted(self.ratios().items())), *common, self.keep_splits.isChecked())
@@ -158,10 +181,11 @@ class ExportOptions:
     def _option_widgets(self) -> list:
         """(widget, enabled when idle) for every option, by the mode now chosen."""
         folds = self.fold_mode
-        return [(self.one_split, True), (self.folds, True),
+        inferred = self.label_rule.currentData() == "inferred"
+        return [(self.label_rule, True), (self.min_posterior, inferred), (self.one_split, True), (self.folds, True),
                 *((s, not folds) for s in self.ratio_spins.values()),
                 (self.k, folds), (self.val_share, folds), (self.seed, True),
-                (self.min_agreement, True), (self.caption_policy, True), (self.segment_rule, True),
+                (self.min_agreement, not inferred), (self.caption_policy, True), (self.segment_rule, True),
                 (self.radius, True),
                 (self.keep_splits, not folds),
                 (self.folder, True), (self.browse, True), (self.media, True), (self.webvtt, True),

@@ -8,7 +8,7 @@ from __future__ import annotations
 import html
 from pathlib import Path
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QCheckBox, QComboBox, QDialog, QDialogButtonBox, QFileDialog, QFormLayout, QGroupBox,
     QHBoxLayout, QLabel, QMessageBox, QPlainTextEdit, QProgressBar, QPushButton, QSpinBox,
@@ -34,12 +34,24 @@ GROUPINGS = {
 }
 
 
-def ingest(project, source: Path | None, pattern: str | None, *, cancel, progress):  # worker
+#: what the progress bar says in each phase of adding videos (``%p``, ``%v``, ``%m``: Qt's
+#: percent, value and maximum)
+PHASES = {"copying": "Copying the videos… %p%",
+          "reading": "Reading the videos: %v of %m"}
+
+
+def ingest(project, source: Path | None, pattern: str | None, *, cancel, progress,
+           phase=None):  # worker
     """Copy ``source`` in first when given, then add every new video of that folder (or of
-    the whole media folder). Returns (folder added, IngestReport)."""
+    the whole media folder). ``phase(name)`` is called as each phase of :data:`PHASES`
+    starts. Returns (folder added, IngestReport)."""
     folder = project.media_root
     if source is not None:
+        if phase is not None:
+            phase("copying")
         folder = project.copy_media_in(source, cancel=cancel, progress=progress)
+    if phase is not None:
+        phase("reading")
     return folder, project.add_media(folder, group_pattern=pattern, progress=progress)
 
 
@@ -67,6 +79,9 @@ def _note(layout) -> QLabel:
 class ProjectSetup(QDialog):
     """Labels, videos and people of one project; ``changed`` says whether anything was saved."""
 
+    #: a phase of adding videos began (emitted from the worker, delivered on the UI thread)
+    phaseStarted = Signal(str)
+
     def __init__(self, project, parent: QWidget | None = None, *, pick=None, ask=None) -> None:
         super().__init__(parent)
         self.setObjectName("projectSetup")
@@ -78,6 +93,7 @@ class ProjectSetup(QDialog):
         self.ask = ask or (lambda what: ask_unsaved(self, what))
         self.jobs = JobRunner(self)
         self._job: Job | None = None
+        self.phaseStarted.connect(self._phase)
         lay = QVBoxLayout(self)
         lay.addWidget(self._labels_box())
         lay.addWidget(self._captions_box())
@@ -326,12 +342,20 @@ class ProjectSetup(QDialog):
         p = self.project
         job = Job("adding videos",
                   lambda *, cancel, progress: ingest(p, source, pattern, cancel=cancel,
-                                                     progress=progress))
+                                                     progress=progress,
+                                                     phase=self.phaseStarted.emit))
         job.signals.progress.connect(self._progress)
         job.signals.finished.connect(self._done)
         job.signals.failed.connect(lambda msg: self._ended(f"Not added: {msg.splitlines()[-1]}"))
         job.signals.cancelled.connect(lambda: self._ended("Cancelled: nothing was copied."))
         self._job = self.jobs.start(job)
+
+    def _phase(self, name: str) -> None:
+        self.progress.setRange(0, 0)  # busy until the phase reports its first step
+        self.progress.setFormat(PHASES[name])
+        self.progress.setTextVisible(True)
+        if name == "reading":
+            self.video_note.setText("Reading the videos (frame count, frame index, checksum)…")
 
     def _progress(self, done: int, total: int) -> None:
         self.progress.setRange(0, max(total, 1))

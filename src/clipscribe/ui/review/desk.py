@@ -93,6 +93,12 @@ class ReviewDesk(QWidget):
                 box.addItem(it, it)
             box.setAccessibleName(name)
             ll.addWidget(box)
+        self.rank_by = QComboBox()
+        self.rank_by.setObjectName("rankBy")
+        self.rank_by.addItem("most disputed first", "disputed")
+        self.rank_by.addItem("least certain inferred label first", "least-certain")
+        self.rank_by.setAccessibleName("Order of the disputed clips")
+        ll.addWidget(self.rank_by)
         self.by_flag = QComboBox()
         self.by_flag.setObjectName("flagFilter")
         self.by_flag.addItem("all clips", False)
@@ -194,7 +200,8 @@ class ReviewDesk(QWidget):
             "queue": desk_action(self, "Go to disputed clips", "Ctrl+L", self.queue_view.setFocus),
             "captions": desk_action(self, "Go to captions", "Ctrl+E", self.caption_view.setFocus),
             "viewer": desk_action(self, "Go to viewer", "Ctrl+0", self.viewer.setFocus),
-            "copy_track": desk_action(self, "Copy the chosen annotator's segments to gold",
+            "copy_track": desk_action(self, "Copy the chosen annotator's labelled segments "
+                                      "to gold",
                                       "Ctrl+Shift+G",
                                       lambda: self.copy_track(self.settle.track_of.currentText())),
         })
@@ -213,7 +220,7 @@ class ReviewDesk(QWidget):
         pl.failed.connect(self.status)
         self.tracks.seekRequested.connect(pl.seek)
         self.tracks.goldEdited.connect(self.drag_gold)
-        for box in (self.by_label, self.by_person, self.by_group, self.by_flag):
+        for box in (self.by_label, self.by_person, self.by_group, self.by_flag, self.rank_by):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
             lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
@@ -223,6 +230,7 @@ class ReviewDesk(QWidget):
         s.addSegment.connect(self.add_segment)
         s.removeSegment.connect(self.segment_model.remove)
         s.commentSent.connect(self._comment)
+        s.checkClip.connect(self.set_check_clip)
         self.editor.changed.connect(self.refresh)
         self.editor.notSaved.connect(lambda why: self.status.emit(f"Not saved: {why}"))
         self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
@@ -236,7 +244,8 @@ class ReviewDesk(QWidget):
         if self.ranking is not None:
             self.ranking.cancel()
         flt = dict(label=self.by_label.currentData(), annotator=self.by_person.currentData(),
-                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()))
+                   group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()),
+                   rank_by=self.rank_by.currentData())
 
         def rank(cancel, progress):
             report = p.agreement_report(n_boot=QUEUE_BOOT)
@@ -263,8 +272,10 @@ class ReviewDesk(QWidget):
         self.queue_model.set_rows(rows)
         settled = sum(1 for r in rows if r.settled)
         missing = self.report.not_measured
-        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. Ranked by label disagreement, "
-                             "then segment F1, then caption BLEU (worst first)."
+        order = ("Ranked by label disagreement, then segment F1, then caption BLEU (worst first)."
+                 if self.rank_by.currentData() == "disputed" else
+                 "Ranked by the inferred label's posterior probability (least certain first).")
+        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. {order}"
                              + "".join(f" {part.capitalize()} not measured: {why}."
                                        for part, why in missing.items()))
         self.queue_note.setText(self._ranked_note)
@@ -366,16 +377,42 @@ class ReviewDesk(QWidget):
         self.caption_model.load(cmp, bleu=bleu, flags=flags)
         self.segment_model.load(cmp.gold_segments, self.labels)
         self.settle.show_clip(cmp.labels, cmp.gold_label, cmp.annotators, cmp.comments,
-                              cmp.skipped, cmp.unsure)
+                              cmp.skipped, cmp.unsure, cmp.posterior)
+        self.settle.show_check(self.project.check_clips().get(c.id), cmp.gold_label)
         row = self.queue_model.row_of(c.id)
         if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
             self.reload_queue(keep=True)
 
+    def set_check_clip(self, on: bool) -> None:
+        """Make the clip under review a check clip with its gold label as the answer, or an
+        ordinary clip again."""
+        if self.cmp is None:
+            return
+        clip = self.cmp.clip.id
+        try:
+            if on:
+                answer = self.project.mark_check_clip(clip)
+                self.status.emit(f"Clip {clip} is a check clip, known answer “{answer}”")
+            else:
+                self.project.unmark_check_clip(clip)
+                self.status.emit(f"Clip {clip} is no longer a check clip")
+        except Exception as exc:  # noqa: BLE001 - a refusal is shown, never raised in a slot
+            self.status.emit(f"Not saved: {exc}")
+        self.refresh()
+
     def copy_track(self, annotator: str) -> None:
         if self.cmp is None:
             return
-        segs = [(g.label, g.start, g.end) for g in self.cmp.segments.get(annotator, [])]
-        self.editor.settle_segments(segs, f"Copy {annotator}'s segments to gold")
+        theirs = self.cmp.segments.get(annotator, [])
+        segs = [(g.label, g.start, g.end) for g in theirs if g.label is not None]
+        left_out = len(theirs) - len(segs)
+        if left_out and not segs:  # copying nothing would clear the gold segments
+            self.status.emit(f"Nothing copied: {annotator}'s segments are all unlabelled")
+            return
+        done = self.editor.settle_segments(segs, f"Copy {annotator}'s segments to gold")
+        if done is not None and left_out:
+            self.status.emit(f"Copied {len(segs)} of {annotator}'s segments to gold; "
+                             f"{left_out} unlabelled left out")
 
     def add_segment(self) -> None:
         if self.cmp is None:

@@ -13,13 +13,15 @@ ClipIdRole = Qt.ItemDataRole.UserRole + 1
 SortRole = Qt.ItemDataRole.UserRole + 2
 Index = QModelIndex | QPersistentModelIndex
 
-COLUMNS = ("Clip #", "File", "Disagree", "Seg F1", "BLEU", "Gold", "Labels")
+COLUMNS = ("Clip #", "File", "Disagree", "Inferred", "Seg F1", "BLEU", "Gold", "Labels")
 TIPS = {
     "Clip #": "the clip's number (rows are ordered most disputed first)",
     "Disagree": "label disagreement: 1 − share of the most common label among the annotators (0: all agree)",
     "Seg F1": "mean F1 over annotator pairs of one-to-one segment matches at IoU 0.5",
     "BLEU": "mean leave-one-out sentence BLEU of the clip's captions (0–100)",
     "Gold": "the label the lead settled, if any",
+    "Inferred": "the most probable true label given every annotator's estimated confusion "
+                "(Dawid-Skene), with its posterior probability (1: certain)",
 }
 
 
@@ -79,6 +81,7 @@ class DisputedClipsModel(QAbstractTableModel):
                 "Seg F1": _num(r.segment_f1, "{:.2f}"),
                 "BLEU": _num(r.caption_bleu, "{:.1f}"),
                 "Gold": r.gold_label or "",
+                "Inferred": f"{r.inferred_label} {r.certainty:.2f}" if r.inferred_label else "–",
             }[col]
         if role == Qt.ItemDataRole.ToolTipRole:
             who = "\n".join([f"{a}: {lab}" for a, lab in sorted(r.labels.items())]

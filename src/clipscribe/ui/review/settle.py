@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
-    QAbstractItemView, QComboBox, QGridLayout, QHBoxLayout, QHeaderView, QLabel, QPlainTextEdit,
+    QAbstractItemView, QCheckBox, QComboBox, QGridLayout, QHBoxLayout, QHeaderView, QLabel, QPlainTextEdit,
     QPushButton, QTableView, QVBoxLayout, QWidget,
 )
 
@@ -24,6 +24,7 @@ class SettlePanel(QWidget):
     addSegment = Signal()
     removeSegment = Signal(int)         # row of the gold segment table
     commentSent = Signal(str, object)   # text, addressee or None
+    checkClip = Signal(bool)            # make the clip a check clip (True) or an ordinary one
 
     def __init__(self, labels: list[str], segments: GoldSegmentModel, parent=None) -> None:
         super().__init__(parent)
@@ -52,13 +53,22 @@ class SettlePanel(QWidget):
         row.addWidget(settle)
         row.addWidget(clear)
         lay.addLayout(row)
+        self.check_box = QCheckBox("Check clip: its gold label is the known answer")
+        self.check_box.setObjectName("checkClip")
+        self.check_box.setToolTip(
+            "Check clips are mixed into every annotator's queue at the check rate and score "
+            "each person against the known answer (accuracy and kappa on the board). "
+            "Annotators are not told which clips they are.")
+        self.check_box.clicked.connect(self.checkClip)
+        lay.addWidget(self.check_box)
 
         lay.addWidget(heading("Gold segments"))
         row = QHBoxLayout()
         self.track_of = QComboBox()
         self.track_of.setAccessibleName("Annotator whose segments to copy")
         copy = QPushButton("Copy to gold")
-        copy.setToolTip("Replace the gold segments with this annotator's track")
+        copy.setToolTip("Replace the gold segments with this annotator's labelled segments "
+                        "(unlabelled ones are not copied)")
         copy.clicked.connect(lambda: self.track_of.currentText() and
                              self.copyTrack.emit(self.track_of.currentText()))
         row.addWidget(self.track_of, 1)
@@ -101,13 +111,16 @@ class SettlePanel(QWidget):
         self.history.setTextFormat(Qt.TextFormat.PlainText)
         lay.addWidget(self.history)
         self._vote_buttons: list[QPushButton] = []
+        self._vote_odds: list[QLabel] = []   # the posterior beside each vote button
 
     def show_clip(self, labels: dict[str, str], gold: str | None, annotators: list[str],
                   comments: list, skipped: dict[str, str] | None = None,
-                  unsure: dict[str, str] | None = None) -> None:
+                  unsure: dict[str, str] | None = None,
+                  posterior: dict[str, float] | None = None) -> None:
         """``skipped``: annotator -> reason, shown on their vote button (a skip is no vote);
-        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts)."""
-        skipped, unsure = skipped or {}, unsure or {}
+        ``unsure``: annotator -> note of those who flagged the clip unsure (their vote counts);
+        ``posterior``: label -> inferred probability, shown beside each annotator's answer."""
+        skipped, unsure, posterior = skipped or {}, unsure or {}, posterior or {}
         self.gold_now.setText(f"Settled: {gold}" if gold else "Not settled yet")
         # the list shows this clip's gold, or nothing chosen: never a label left from another
         # clip or decision, which Settle would then write over the gold
@@ -115,9 +128,9 @@ class SettlePanel(QWidget):
         # Alt+1…9 puts the focus on the vote button it clicks; that button is replaced here,
         # and the focus must stay in the desk (its keys, such as Alt+Down, work from there)
         focused = next((i for i, b in enumerate(self._vote_buttons) if b.hasFocus()), None)
-        for b in self._vote_buttons:
+        for b in self._vote_buttons + self._vote_odds:
             b.deleteLater()
-        self._vote_buttons = []
+        self._vote_buttons, self._vote_odds = [], []
         for i, name in enumerate(annotators):
             lab = labels.get(name)
             said = f"skipped ({skipped[name]})" if name in skipped else lab or '—'
@@ -133,6 +146,13 @@ class SettlePanel(QWidget):
             b.clicked.connect(lambda _=False, l=lab: self.labelChosen.emit(l))
             self.votes.addWidget(b, i, 0)
             self._vote_buttons.append(b)
+            odds = QLabel(f"{posterior[lab]:.2f}" if lab in posterior else "")
+            odds.setObjectName("votePosterior")
+            odds.setToolTip(f"inferred probability that the true label is “{lab}” "
+                            "(Dawid-Skene, from every annotator's estimated confusion)"
+                            if lab in posterior else "")
+            self.votes.addWidget(odds, i, 1)
+            self._vote_odds.append(odds)
         if focused is not None:
             live = [b for b in self._vote_buttons if b.isEnabled()]
             target = (self._vote_buttons[focused] if focused < len(self._vote_buttons)
@@ -148,6 +168,14 @@ class SettlePanel(QWidget):
             self.to.addItem(f"To {name}", name)
         self.history.setText("\n".join(f"{lead} → {to or 'everyone'}: {text}"
                                        for _, to, lead, text in comments[-4:]))
+
+    def show_check(self, answer: str | None, gold: str | None) -> None:
+        """Whether the clip is a check clip (``answer``: its known answer) and whether it can
+        become one (it needs a gold label)."""
+        self.check_box.setChecked(answer is not None)
+        self.check_box.setEnabled(answer is not None or gold is not None)
+        self.check_box.setText(f"Check clip, known answer “{answer}”" if answer is not None
+                               else "Check clip: its gold label is the known answer")
 
     def _send(self) -> None:
         text = self.text.toPlainText().strip()

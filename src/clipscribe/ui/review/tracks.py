@@ -11,6 +11,7 @@ from PySide6.QtGui import QColor, QPainter, QPen
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
 from .. import theme
+from ..segment_look import label_text, paint_segment
 
 ROW_H = 24
 GAP = 4
@@ -19,9 +20,9 @@ GOLD = "gold"
 EDGE_PX = 5  # how close to a gold segment's edge a press grabs it
 
 
-def segment_text(label: str, start: int, end: int) -> str:
+def segment_text(label: str | None, start: int, end: int) -> str:
     """A segment as written on a track: first and last frame, both included."""
-    return f"{label} {start}–{end - 1}"
+    return f"{label_text(label)} {start}–{end - 1}"
 
 
 class TrackStack(QWidget):
@@ -79,11 +80,7 @@ class TrackStack(QWidget):
             for label, start, end in segs:
                 r = QRectF(self.x_of(start), y + 2, max(2.0, self.x_of(end) - self.x_of(start)),
                            ROW_H - 4)
-                colour = QColor(self.colours.get(label, "#888888"))
-                p.fillRect(r, colour)
-                p.setPen(QColor(theme.text_colour_on(colour.name())))
-                p.drawText(r.adjusted(4, 0, -2, 0), Qt.AlignmentFlag.AlignVCenter,
-                           segment_text(label, start, end))
+                paint_segment(p, r, label, self.colours, text=segment_text(label, start, end))
             if not segs:
                 p.setPen(QColor(theme.MUTED_TEXT))
                 p.drawText(lane.adjusted(6, 0, 0, 0), Qt.AlignmentFlag.AlignVCenter,

@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
 )
 
 from ...schema.caption_rules import check_caption, count_words
+from ..segment_look import label_text
 from .caption_edit import CaptionEdit
 
 IDLE_SAVE_MS = 600
@@ -156,7 +157,7 @@ class CaptionsPanel(QWidget):
         slot.segment.clear()
         slot.segment.addItem("whole clip", None)
         for g in self._segments:
-            slot.segment.addItem(f"{g.label} {g.start}–{g.end - 1}", g.id)
+            slot.segment.addItem(f"{label_text(g.label)} {g.start}–{g.end - 1}", g.id)
         pos = slot.segment.findData(want)
         slot.segment.setCurrentIndex(max(0, pos))
         slot.segment.blockSignals(False)

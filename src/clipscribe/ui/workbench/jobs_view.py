@@ -1,4 +1,8 @@
-"""The background jobs of the clip on screen: thumbnail strip and motion curve."""
+"""The background jobs of the clip on screen: thumbnail strip and motion curve.
+
+They run as background work (lowered thread priority, one decoder thread), so the viewer's
+decoder keeps the CPU it needs, and share their results through the project's folder beside
+its media when one is given."""
 
 from __future__ import annotations
 
@@ -14,14 +18,16 @@ THUMBS = 24
 THUMB_H = 56
 
 
-def _thumbs(path: Path, *, cancel, progress):
+def _thumbs(path: Path, shared: Path | None, *, cancel, progress):
     # runs on a worker thread: decode, scale and convert to QImage there
-    return [bgr_to_qimage(t) for t in thumbnail_strip(path, THUMBS, height=THUMB_H,
-                                                      cancel=cancel, progress=progress)]
+    return [bgr_to_qimage(t) for t in thumbnail_strip(
+        path, THUMBS, height=THUMB_H, cancel=cancel, progress=progress,
+        shared_cache_dir=shared, background=True)]
 
 
-def _motion(path: Path, *, cancel, progress):
-    return motion_curve(path, method="flow", cancel=cancel, progress=progress)
+def _motion(path: Path, shared: Path | None, *, cancel, progress):
+    return motion_curve(path, method="flow", cancel=cancel, progress=progress,
+                        shared_cache_dir=shared, background=True)
 
 
 class ClipJobs(QObject):
@@ -36,8 +42,9 @@ class ClipJobs(QObject):
         self._generation = 0
         self._progress: dict[str, float] = {}
 
-    def start(self, path: Path) -> None:
-        """Start both jobs for ``path``; results of jobs of an earlier clip are ignored."""
+    def start(self, path: Path, shared: Path | None = None) -> None:
+        """Start both jobs for ``path``; results of jobs of an earlier clip are ignored.
+        ``shared``: the project's shared result folder (see ``media.shared_cache_dir``)."""
         self.cancel()
         self._generation += 1
         gen = self._generation
@@ -45,7 +52,7 @@ class ClipJobs(QObject):
         for name, fn, done in (("thumbnails", _thumbs, self.thumbnailsReady),
                                ("motion", _motion, self.curveReady)):
             job = Job(f"{name} of {path.name}", lambda cancel, progress, f=fn: f(
-                path, cancel=cancel, progress=progress))
+                path, shared, cancel=cancel, progress=progress))
             job.signals.progress.connect(
                 lambda d, t, n=name, g=gen: self._on_progress(g, n, d / max(1, t)))
             job.signals.finished.connect(

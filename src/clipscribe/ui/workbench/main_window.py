@@ -12,6 +12,7 @@ from PySide6.QtWidgets import (
 )
 
 from ...errors import GuidelineNotMet
+from ...media.jobs import shared_cache_dir
 from ..boot import remember_project
 from ..dialogs.help import CautionsNote, ShortcutSheet
 from ..editor import ClipEditor
@@ -238,7 +239,7 @@ class MainWindow(SegmentOps, QMainWindow):
         self.timeline.reset(info.frame_count)
         self.player.open(path, info.frame_count, info.fps, frame)
         self.flow.open(path)
-        self.jobs.start(path)
+        self.jobs.start(path, shared_cache_dir(self.project.media_root))
         self.queue.select_clip(info.id)
         self.refresh()
 

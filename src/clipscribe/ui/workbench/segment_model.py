@@ -7,6 +7,7 @@ from typing import Any
 from PySide6.QtCore import QAbstractListModel, QModelIndex, QPersistentModelIndex, Qt
 
 from ...types import SegmentInfo
+from ..segment_look import label_text
 
 SegmentRole = Qt.ItemDataRole.UserRole + 1
 Index = QModelIndex | QPersistentModelIndex
@@ -41,7 +42,7 @@ class SegmentModel(QAbstractListModel):
             return None
         g = self._rows[index.row()]
         if role == Qt.ItemDataRole.DisplayRole:
-            return f"{g.label}: frames {g.start}–{g.end - 1}"
+            return f"{label_text(g.label)}: frames {g.start}–{g.end - 1}"
         if role == SegmentRole:
             return g
         return None

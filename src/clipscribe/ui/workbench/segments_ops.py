@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from PySide6.QtCore import Slot
 
+from ..segment_look import UNLABELLED
+
 
 class SegmentOps:
     """Mixed into MainWindow; uses ``player``, ``timeline``, ``segment_model``, ``editor``."""
@@ -17,8 +19,9 @@ class SegmentOps:
         return g or self.segment_model.at_frame(self.player.frame)
 
     def _segment_label(self) -> str | None:
-        mine = self.project.my_clip_label(self.clip.id) if self.clip else None
-        return mine or (self.label_infos[0].name if self.label_infos else None)
+        """The label a new segment takes: one's clip label; None (unlabelled) while there is
+        none — setting the clip label then fills it."""
+        return self.project.my_clip_label(self.clip.id) if self.clip else None
 
     @Slot()
     def mark_start(self) -> None:
@@ -34,13 +37,14 @@ class SegmentOps:
             self._say("Mark start (B) first")
             return
         label = self._segment_label()
-        if label is None:
-            self._say("The project has no labels")
-            return
         a, b = sorted((start, self.player.frame))
         if self.editor.add_segment(label, a, b + 1) is not None:
             self.timeline.set_pending_start(None)
-            self._say(f"Segment “{label}” frames {a}–{b}; Shift+label key changes its label")
+            if label is None:
+                self._say(f"Segment frames {a}–{b} marked {UNLABELLED}: setting the clip label "
+                          "fills it, or Shift+label key gives it one")
+            else:
+                self._say(f"Segment “{label}” frames {a}–{b}; Shift+label key changes its label")
 
     @Slot(int)
     def _segment_selected(self, segment_id: int) -> None:

@@ -13,6 +13,7 @@ from PySide6.QtGui import QColor, QPainter, QPen
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
 from .. import theme
+from ..segment_look import label_text, paint_segment
 from .segment_model import SegmentModel
 
 TRACK_H = 34
@@ -150,13 +151,10 @@ class Timeline(QWidget):
             if self._drag and self._drag[0] == g.id:
                 start, end = self._drag[2], self._drag[3]
             r = QRectF(self.x_of(start), top, max(2.0, self.x_of(end) - self.x_of(start)), TRACK_H)
-            colour = QColor(self.colours.get(g.label, "#888888"))
-            p.fillRect(r, colour)
+            paint_segment(p, r, g.label, self.colours, text=label_text(g.label))
             if g.id == self.selected:
                 p.setPen(QPen(QColor(theme.SELECTED), 2))
                 p.drawRect(r.adjusted(1, 1, -1, -1))
-            p.setPen(QColor(theme.text_colour_on(colour.name())))
-            p.drawText(r.adjusted(4, 0, -4, 0), Qt.AlignmentFlag.AlignVCenter, g.label)
         if not self.model.rowCount() and self.pending_start is None:
             p.setPen(QColor(theme.MUTED_TEXT))
             p.drawText(QRectF(8, top, w - 16, TRACK_H), Qt.AlignmentFlag.AlignVCenter,
@@ -185,10 +183,9 @@ class Timeline(QWidget):
             y = y0 + i * OTHER_H
             p.fillRect(QRectF(0, y, self.width(), OTHER_H - 2), QColor(theme.OTHERS_BG))
             for g in segs:
-                c = QColor(self.colours.get(g.label, "#888888"))
-                c.setAlpha(OTHER_ALPHA)
-                p.fillRect(QRectF(self.x_of(g.start), y + 1,
-                                  max(2.0, self.x_of(g.end) - self.x_of(g.start)), OTHER_H - 4), c)
+                paint_segment(p, QRectF(self.x_of(g.start), y + 1,
+                                        max(2.0, self.x_of(g.end) - self.x_of(g.start)), OTHER_H - 4),
+                              g.label, self.colours, alpha=OTHER_ALPHA)
             p.setPen(QColor(theme.MUTED_TEXT))
             p.drawText(QRectF(4, y, 200, OTHER_H - 2), Qt.AlignmentFlag.AlignVCenter, who)
 
