@@ -113,3 +113,29 @@ def test_dump_and_import_carry_check_clips(tmp_path):
     assert q.import_records(dump)["check"] == 0  # the same again changes nothing
     p.close()
     q.close()
+
+
+def test_a_lead_hands_out_a_batch_in_the_given_order(project, uid, monkeypatch):
+    """The hand-out path on both back ends, as a lead who is not the database owner: the
+    batch is reserved in the order given (the suggester's margins are replaced by a fixed
+    order here; tests/features checks the order itself), the annotator's queue gives the
+    batch first, then the rest by clip number, and check clips stay out of a hand-out."""
+    clips = add_clips(project, 7)
+    project.mark_check_clip(clips[6], "stack")
+    project.assign(per_clip=1)
+    lead, ann = f"lee_{uid}", f"ann_{uid}"
+    project.add_annotator(lead, role="lead", password=f"pw-{lead}")
+    project.add_annotator(ann, password=f"pw-{ann}")
+    order = [clips[6], clips[4], clips[1]]  # the check clip would come first, if it were free
+    service = type(project._suggestions)
+    monkeypatch.setattr(service, "least_certain_first",
+                        lambda self, clips=None: [(c, 0.1 * k) for k, c in enumerate(order)])
+    with _open_as(project, lead) as boss:
+        assert boss.hand_out_least_certain(ann, 2) == [clips[4], clips[1]]
+    with _open_as(project, ann) as me:
+        got = []
+        while (c := me.next_clip()) is not None:
+            got.append(c)
+            me.set_clip_label(c, ann, "stack")
+            me.set_clip_state(c, ann, "submitted")
+    assert got == [clips[4], clips[1], clips[0], clips[2], clips[3], clips[5]]
