@@ -95,3 +95,18 @@ def test_queue_least_certain_first(qtbot, open_window, labelled):  # noqa: F811
     assert w.queue.select_clip(ids["new"])  # the clip on screen is found in the new order
     box.setCurrentIndex(box.findData("id"))
     assert [model.row(r).clip.id for r in range(model.rowCount())] == sorted(shown)
+
+
+def test_a_failed_training_is_said_not_learning_for_ever(qtbot, open_window, labelled,  # noqa: F811
+                                                         monkeypatch):
+    folder, ids = labelled
+    _set(folder, "on")
+
+    def broken(self, **kw):
+        raise OSError("cache folder is read-only")
+    monkeypatch.setattr(Project, "train_suggester", broken)
+    w, p = _open(qtbot, open_window, folder, ids["new"])
+    qtbot.waitUntil(lambda: w.suggestions.training is None, timeout=30000)
+    text = w.clip_panel.suggestion.text()
+    assert "read-only" in text and "learning" not in text
+    assert "train_suggester" not in text  # the window trains on its own: no API advice

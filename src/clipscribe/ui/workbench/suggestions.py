@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import QObject, Signal, Slot
 
+from ...project.suggestions import NO_MODEL
 from ..workers import Job, JobRunner
 
 #: retrain after this many new labels in this window
@@ -41,6 +42,7 @@ class SuggestionFeed(QObject):
         self.visibility = project.suggestion_visibility()
         self.training: Job | None = None
         self.has_model = False
+        self.problem = ""  # why the last training failed
         self.looked: set[int] = set()   # clips whose last frame this person has seen
         self.labelled_since = 0
         self.clip: int | None = None
@@ -67,9 +69,10 @@ class SuggestionFeed(QObject):
     def _trained(self, out) -> None:
         self.training = None
         if isinstance(out, str):
+            self.problem = out
             self.trained.emit(out)
         else:
-            self.has_model = True
+            self.has_model, self.problem = True, ""
             self.trained.emit(f"Label suggestions learned from {out.trained_on} labelled clips")
             job = Job("least certain first", lambda cancel, progress: [
                 c for c, _ in self.project.least_certain_first()])
@@ -117,8 +120,12 @@ class SuggestionFeed(QObject):
             return
         if not self.has_model:
             reason = self.project.suggestion_reason(clip)
-            self.shown.emit(clip, [], "No suggestion yet: learning from the labels…"
-                            if self.training is not None else reason[:1].upper() + reason[1:])
+            if self.training is not None:
+                reason = "No suggestion yet: learning from the labels…"
+            elif reason == NO_MODEL:  # the window trains on its own: no API advice here
+                reason = self.problem or ("No suggestion yet: the model learns from the labels "
+                                          f"when the window opens and after every {RETRAIN_EVERY} labels")
+            self.shown.emit(clip, [], reason[:1].upper() + reason[1:])
             return
         job = Job(f"suggestion for clip {clip}",
                   lambda cancel, progress: self.project.suggest(clip))
