@@ -135,10 +135,10 @@ class Suggestions(Service):
         :meth:`suggestion_reason`) or the clip's media cannot be described."""
         if self._model is None:
             return []
-        cid = self.ctx.read(lambda s: self.ctx.clip(s, clip).id)
+        row = self.peers.catalog.clip(clip)
+        cid = row.id
         feats = (self._features or {}).get(cid)
         if feats is None:
-            row = next(c for c in self.peers.catalog.clips() if c.id == cid)
             try:
                 feats = clip_features(self.ctx.media_root / row.path, self.recipe,
                                       sha256=row.sha256, frame_count=row.frame_count)
