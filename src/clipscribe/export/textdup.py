@@ -23,11 +23,13 @@ from typing import Iterable, Sequence
 
 import numpy as np
 
-from .clusters import Clusters, cover_components
+from .clusters import Clusters, cover_components, union
+from .corekeys import core_join
 
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
+_LONG_BATCH = 256  # texts too long for keys, asked through the prefix index at once
 
 
 def normalise_caption(text: str) -> str:
@@ -229,15 +231,44 @@ def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -
     """Clusters of near-identical texts: connected components of "shingle Jaccard >= threshold".
 
     ``texts`` normalised and distinct, as for :func:`similar_pairs`. Exact (the same components
-    as joining every pair :func:`similar_pairs` finds) without listing the pairs; see
-    :mod:`clipscribe.export.clusters`. Jaccard distance ``1 - J`` is a metric, so leaders of two
-    stars that could hold a near pair have ``J >= 1 - 3 (1 - threshold)``. Link distances in the
-    result are ``1 - J``.
+    as joining every pair :func:`similar_pairs` finds) without listing the pairs: texts are
+    joined through keys of the shingles they share (:mod:`clipscribe.export.corekeys`), and
+    the links that joined them are checked on the full shingle sets. Texts too long for keys
+    are asked through the prefix-filtered index; when they are more than a quarter of the
+    texts, or a link fails its check (two subsets whose keys collide), the leader cover of
+    :mod:`clipscribe.export.clusters` does the whole job. Link distances are ``1 - J``.
     """
     texts = list(texts)
     if len(texts) < 2:
         return Clusters(np.arange(len(texts)), *(np.empty(0, dtype=np.int64),) * 2, np.empty(0))
-    index = PrefixIndex(texts, threshold)
+    if not 0.0 < threshold <= 1.0:
+        raise ValueError(f"caption threshold must lie in (0, 1], got {threshold!r}")
+    text, sid = _shingle_table(texts)
+    size = np.bincount(text, minlength=len(texts))
+    first = np.cumsum(size) - size
+    joined = core_join(first, size, sid, threshold, seed=seed)
+    if len(joined.long) * 4 > len(texts):
+        return _cover_clusters(texts, threshold, PrefixIndex(texts, threshold), seed)
+    parent, links = joined.parent, [(joined.link_a, joined.link_b, np.zeros(len(joined.link_a)))]
+    index = None
+    if len(joined.long):
+        index = PrefixIndex(texts, threshold)
+        for at in range(0, len(joined.long), _LONG_BATCH):
+            qi, other, d, _ = index.neighbours(joined.long[at:at + _LONG_BATCH])
+            parent = union(parent, qi, other, d, links)
+    la, lb = (np.concatenate(x) for x in list(zip(*links))[:2])
+    inter = _overlaps(la, lb, first, size, sid) if len(la) else np.empty(0, dtype=np.int64)
+    sim = inter / (size[la] + size[lb] - inter)
+    if not np.all(sim + 1e-12 >= threshold):
+        return _cover_clusters(texts, threshold, index or PrefixIndex(texts, threshold), seed)
+    return Clusters(parent, la, lb, 1.0 - sim, len(joined.long), joined.keys)
+
+
+def _cover_clusters(texts: list[str], threshold: float, index: PrefixIndex,
+                    seed: int) -> Clusters:
+    """The leader cover of :mod:`clipscribe.export.clusters` over the prefix index. Jaccard
+    distance ``1 - J`` is a metric, so leaders of two stars that could hold a near pair have
+    ``J >= 1 - 3 (1 - threshold)``."""
     wide = 1.0 - 3.0 * (1.0 - threshold) - 1e-9
 
     def wide_pairs(items: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
