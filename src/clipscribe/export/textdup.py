@@ -284,4 +284,5 @@ def _cover_clusters(texts: list[str], threshold: float, index: PrefixIndex,
         sim = index.similarity(a, b)
         return sim + 1e-12 >= threshold, 1.0 - sim
 
-    return cover_components(len(texts), index.neighbours, wide_pairs, close, seed=seed)
+    return cover_components(len(texts), index.neighbours, wide_pairs, close,
+                            radius=1.0 - threshold, seed=seed)
