@@ -70,6 +70,13 @@ def allowance(threshold: float, largest: int) -> np.ndarray:
     return m
 
 
+def key_values(n_members: int, n_sizes: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    """Random 64-bit values of the members and of the key sizes ``0..n_sizes - 1``."""
+    rng = np.random.default_rng(seed)
+    return (rng.integers(0, 2**64, n_members, dtype=np.uint64),
+            rng.integers(0, 2**64, n_sizes, dtype=np.uint64))
+
+
 def deletion_plan(sizes: np.ndarray, m: np.ndarray) -> dict[int, list[int]]:
     """Per set size present: the deletion counts its keys need (see the module docstring)."""
     largest = len(m) - 1
@@ -116,9 +123,7 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
     plan = deletion_plan(size, m)
     count = {s: sum(comb(s, d) for d in ds) for s, ds in plan.items()}
     is_long = np.array([count[s] > key_cap for s in size.tolist()], dtype=bool)
-    rng = np.random.default_rng(seed)
-    value = rng.integers(0, 2**64, int(members.max()) + 1, dtype=np.uint64)
-    salt = rng.integers(0, 2**64, len(m), dtype=np.uint64)
+    value, salt = key_values(int(members.max()) + 1, len(m), seed)
     whole = np.add.reduceat(value[members], first) if n else np.empty(0, dtype=np.uint64)
     groups = []  # (texts of one size, deletions, combinations)
     total = 0
