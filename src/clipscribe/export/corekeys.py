@@ -18,9 +18,10 @@ Only a collision of two different subsets' sums could join far sets; the caller 
 links exactly (one per joined item), which makes the result exact whatever the hashes.
 
 The work is the number of keys, the sum over sets of ``C(|x|, d)`` for the allowed ``d``: it
-does not grow with how many sets look alike. At the usual caption threshold 0.9 a set of word
-3-grams from fewer than 12 words has one key, up to 21 words at most 20. Sets that would need more
-than ``KEY_CAP`` keys (long texts at low thresholds) are left to the caller, listed as *long*.
+does not grow with how many sets look alike. At the usual caption threshold 0.9 the word
+3-grams of a caption of fewer than 12 words have one key, up to 21 words at most 20, up to 31
+words at most 436. Sets that would need more than ``KEY_CAP`` keys (longer texts, or lower
+thresholds) are left to the caller, listed as *long*.
 
 Written here with numpy sorts and sums: the libraries that group near sets (MinHash banding)
 are approximate, and this needs no more than the shingle table already built.
@@ -94,7 +95,7 @@ def deletion_plan(sizes: np.ndarray, m: np.ndarray) -> dict[int, list[int]]:
         for d in range(s):
             k = s - d
             if d > m[k]:
-                break  # m falls with k, so no larger d is allowed either
+                break  # m never rises as k falls, so no larger d is allowed either
             if partner(k, k + int(m[k]) - d):
                 ds.append(d)
         plan[s] = ds
@@ -119,20 +120,24 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
         Sets needing more keys are left out and returned as ``long``.
     """
     n = len(size)
+    if n == 0:
+        empty = np.empty(0, dtype=np.int64)
+        return CoreJoin(parent=empty, link_a=empty, link_b=empty, long=empty, keys=0)
     m = allowance(threshold, int(size.max()))
     plan = deletion_plan(size, m)
     count = {s: sum(comb(s, d) for d in ds) for s, ds in plan.items()}
     is_long = np.array([count[s] > key_cap for s in size.tolist()], dtype=bool)
     value, salt = key_values(int(members.max()) + 1, len(m), seed)
-    whole = np.add.reduceat(value[members], first) if n else np.empty(0, dtype=np.uint64)
-    groups = []  # (texts of one size, deletions, combinations)
+    whole = np.add.reduceat(value[members], first)
+    groups = []  # (size, the sets of that size, deletions, which members each key deletes)
     total = 0
     for s, ds in plan.items():
         texts = np.flatnonzero((size == s) & ~is_long)
         if not len(texts):
             continue
         for d in ds:
-            combos = np.array(list(combinations(range(s), d)), dtype=np.int64).reshape(comb(s, d), d)
+            combos = np.array(list(combinations(range(s), d)), dtype=np.int64)
+            combos = combos.reshape(comb(s, d), d)
             groups.append((s, texts, d, combos))
             total += len(texts) * len(combos)
     passes = max(1, -(-total // _PASS_KEYS))
@@ -151,7 +156,7 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
 
 def _keys(groups, first, members, value, salt, whole, passes: int, p: int):
     """Keys of every group whose value falls in pass ``p`` of ``passes``:
-    ``(key with the deletion count in its low bits, set, deletions)``."""
+    ``(key with the deletion count in its low bits, set)``."""
     keys, texts = [], []
     low = np.uint64((1 << _D_BITS) - 1)
     for s, texts_s, d, combos in groups:

@@ -12,7 +12,8 @@ detection", WWW 2008): with every set ordered by rising shingle frequency, two s
 Jaccard >= t share a shingle among the first ``|x| - ceil(t|x|) + 1`` of each, so the search is
 exact without comparing all pairs; the index is built with numpy sorts. Hand-written because
 the libraries that do this (MinHash LSH) are approximate and not among the project's
-dependencies.
+dependencies. Clusters of near-identical texts (:func:`caption_clusters`) are found without
+any pair search, through keys of the shingles two texts share (:mod:`.corekeys`).
 """
 
 from __future__ import annotations
