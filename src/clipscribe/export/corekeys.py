@@ -40,7 +40,7 @@ from .clusters import union
 #: keys one set may list; a set needing more is *long* and left to the caller
 KEY_CAP = 512
 _PASS_KEYS = 1 << 23  # keys sorted at once (about 30 bytes each while sorting)
-_GATHER = 1 << 22  # deleted members gathered at once while making keys
+_GATHER = 1 << 20  # deleted members gathered at once while making keys
 _D_BITS = 6  # the deletion count rides in the low bits of the sorted key (KEY_CAP keeps d < 10)
 
 
