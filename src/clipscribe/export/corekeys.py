@@ -102,8 +102,16 @@ def deletion_plan(sizes: np.ndarray, m: np.ndarray) -> dict[int, list[int]]:
     return plan
 
 
+def key_counts(size: np.ndarray, threshold: float) -> np.ndarray:
+    """How many keys each set lists (sets of sizes ``size``, the module docstring's rule)."""
+    m = allowance(threshold, int(size.max()))
+    count = {s: min(sum(comb(s, d) for d in ds), 2**62)
+             for s, ds in deletion_plan(size, m).items()}
+    return np.array([count[s] for s in size.tolist()], dtype=np.int64)
+
+
 def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshold: float, *,
-              seed: int = 0, key_cap: int = KEY_CAP) -> CoreJoin:
+              seed: int = 0, listed: np.ndarray | None = None) -> CoreJoin:
     """Join near sets through their shared keys (method in the module docstring).
 
     Parameters
@@ -116,8 +124,9 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
         Jaccard threshold in (0, 1].
     seed : int
         Fixes the random values of the keys.
-    key_cap : int
-        Sets needing more keys are left out and returned as ``long``.
+    listed : bool array, shape (n,), optional
+        The sets that may list keys (by default all); those not listed, or needing more than
+        ``KEY_CAP`` keys, are returned as ``long``: their near pairs are for the caller to find.
     """
     n = len(size)
     if n == 0:
@@ -125,8 +134,9 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
         return CoreJoin(parent=empty, link_a=empty, link_b=empty, long=empty, keys=0)
     m = allowance(threshold, int(size.max()))
     plan = deletion_plan(size, m)
-    count = {s: sum(comb(s, d) for d in ds) for s, ds in plan.items()}
-    is_long = np.array([count[s] > key_cap for s in size.tolist()], dtype=bool)
+    is_long = key_counts(size, threshold) > KEY_CAP
+    if listed is not None:
+        is_long |= ~np.asarray(listed, dtype=bool)
     value, salt = key_values(int(members.max()) + 1, len(m), seed)
     whole = np.add.reduceat(value[members], first)
     groups = []  # (size, the sets of that size, deletions, which members each key deletes)
@@ -182,6 +192,8 @@ def _keys(groups, first, members, value, salt, whole, passes: int, p: int):
 def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
                 m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Edges from each key's centre (fewest deletions) to the sets within its bound."""
+    if not len(key):
+        return text, text
     order = np.argsort(key)
     key, text = key[order], text[order]
     dele = (key & np.uint64((1 << _D_BITS) - 1)).astype(np.int64)

@@ -25,12 +25,18 @@ from typing import Iterable, Sequence
 import numpy as np
 
 from .clusters import Clusters, cover_components, union
-from .corekeys import core_join
+from .corekeys import core_join, key_counts
 
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
-_LONG_BATCH = 256  # texts too long for keys, asked through the prefix index at once
+# Keys or queries (caption_clusters): a text lists keys when they are at most _KEY_PRICE
+# times the candidates its query would examine (a candidate costs a few keys' work: filter,
+# then an exact check); when the asked texts would examine more than _ASKED_WORK candidates a
+# text, the leader cover does better.
+_KEY_PRICE = 2
+_ASKED_WORK = 64
+_ASK_BATCH = 256  # texts asked through the prefix index at once
 
 
 def normalise_caption(text: str) -> str:
@@ -179,12 +185,13 @@ class PrefixIndex:
     the prefix filter), pruned by size and verified on the full shingle sets.
     """
 
-    def __init__(self, texts: Sequence[str], threshold: float):
+    def __init__(self, texts: Sequence[str], threshold: float, *,
+                 table: tuple[np.ndarray, np.ndarray] | None = None):
         if not 0.0 < threshold <= 1.0:
             raise ValueError(f"caption threshold must lie in (0, 1], got {threshold!r}")
         self.n = len(texts)
         self.threshold = threshold
-        text, self.sid = _shingle_table(list(texts))
+        text, self.sid = _shingle_table(list(texts)) if table is None else table
         self.size = np.bincount(text, minlength=self.n)
         self.first = np.cumsum(self.size) - self.size
         rank = np.arange(len(text)) - self.first[text]
@@ -195,6 +202,9 @@ class PrefixIndex:
         n_sid = int(self.sid.max()) + 1
         self.post_count = np.bincount(self.sid[keep], minlength=n_sid)
         self.post_start = np.cumsum(self.post_count) - self.post_count
+        #: candidates a query of each text examines (before the positional filter)
+        self.cost = np.bincount(text[keep], weights=self.post_count[self.sid[keep]],
+                                minlength=self.n).astype(np.int64)
 
     def similarity(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
         """Exact shingle Jaccard of the pairs ``(a[k], b[k])``."""
@@ -232,36 +242,33 @@ def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -
     """Clusters of near-identical texts: connected components of "shingle Jaccard >= threshold".
 
     ``texts`` normalised and distinct, as for :func:`similar_pairs`. Exact (the same components
-    as joining every pair :func:`similar_pairs` finds) without listing the pairs: texts are
-    joined through keys of the shingles they share (:mod:`clipscribe.export.corekeys`), and
-    the links that joined them are checked on the full shingle sets. Texts too long for keys
-    are asked through the prefix-filtered index; when they are more than a quarter of the
-    texts, or a link fails its check (two subsets whose keys collide), the leader cover of
-    :mod:`clipscribe.export.clusters` does the whole job. Link distances are ``1 - J``.
+    as joining every pair :func:`similar_pairs` finds) without listing the pairs. Each text is
+    either joined through keys of the shingles it shares (:mod:`clipscribe.export.corekeys`),
+    or asked through the prefix-filtered index, whichever examines less: keys when it looks
+    like many others (a query would examine them all), the index when its rare shingles leave
+    few candidates (long texts, which would need many keys). The links are checked on the full
+    shingle sets. When the asked texts would examine many candidates, or a link fails its check
+    (two subsets whose keys collide), the leader cover of :mod:`clipscribe.export.clusters` does
+    the whole job. Link distances are ``1 - J``; ``queries`` counts the texts asked, ``work``
+    the keys listed.
     """
     texts = list(texts)
     if len(texts) < 2:
         return Clusters(np.arange(len(texts)), *(np.empty(0, dtype=np.int64),) * 2, np.empty(0))
-    if not 0.0 < threshold <= 1.0:
-        raise ValueError(f"caption threshold must lie in (0, 1], got {threshold!r}")
-    text, sid = _shingle_table(texts)
-    size = np.bincount(text, minlength=len(texts))
-    first = np.cumsum(size) - size
-    joined = core_join(first, size, sid, threshold, seed=seed)
-    if len(joined.long) * 4 > len(texts):
-        return _cover_clusters(texts, threshold, PrefixIndex(texts, threshold), seed)
+    index = PrefixIndex(texts, threshold, table=_shingle_table(texts))
+    first, size, sid = index.first, index.size, index.sid
+    listed = key_counts(size, threshold) <= _KEY_PRICE * index.cost
+    if index.cost[~listed].sum() > _ASKED_WORK * len(texts):
+        return _cover_clusters(texts, threshold, index, seed)
+    joined = core_join(first, size, sid, threshold, seed=seed, listed=listed)
     parent, links = joined.parent, [(joined.link_a, joined.link_b, np.zeros(len(joined.link_a)))]
-    index = None
-    if len(joined.long):
-        index = PrefixIndex(texts, threshold)
-        for at in range(0, len(joined.long), _LONG_BATCH):
-            qi, other, d, _ = index.neighbours(joined.long[at:at + _LONG_BATCH])
-            parent = union(parent, qi, other, d, links)
+    for at in range(0, len(joined.long), _ASK_BATCH):
+        qi, other, d, _ = index.neighbours(joined.long[at:at + _ASK_BATCH])
+        parent = union(parent, qi, other, d, links)
     la, lb = (np.concatenate(x) for x in list(zip(*links))[:2])
-    inter = _overlaps(la, lb, first, size, sid) if len(la) else np.empty(0, dtype=np.int64)
-    sim = inter / (size[la] + size[lb] - inter)
+    sim = index.similarity(la, lb)
     if not np.all(sim + 1e-12 >= threshold):
-        return _cover_clusters(texts, threshold, index or PrefixIndex(texts, threshold), seed)
+        return _cover_clusters(texts, threshold, index, seed)
     return Clusters(parent, la, lb, 1.0 - sim, len(joined.long), joined.keys)
 
 
