@@ -112,20 +112,22 @@ def _camera_captions(cameras: int, tails: int, seed: int) -> tuple[list[str], li
     return texts, truth
 
 
-@pytest.mark.parametrize("tails", [20, 60])
-def test_look_alike_captions_form_the_clusters_known_by_construction(tails):
+@pytest.mark.parametrize("tails,method", [(20, "keys"), (60, "keys"), (150, "auto")])
+def test_look_alike_captions_form_the_clusters_known_by_construction(tails, method):
     texts, truth = _camera_captions(4, tails, seed=tails)
     label = np.array([hash(t) for t in truth])
-    cl = caption_clusters(texts, 0.9)
+    cl = caption_clusters(texts, 0.9, method=method)
     assert same_partition(cl.label, label)
     assert len(cl.groups()) == 4 * (1 + 5)
     assert len(cl.link_a) == len(texts) - 24 and np.all(1.0 - cl.link_d + 1e-12 >= 0.9)
     # the work is the keys, at most 21 a caption, however many captions look alike (the
-    # one-tail captions alone are tails * (tails - 1) / 2 near pairs per camera)
+    # one-tail captions alone are tails * (tails - 1) / 2 near pairs per camera); with many
+    # look-alikes per camera "auto" takes keys too: a query would examine the whole camera
     assert cl.queries == 0 and cl.work <= 21 * len(texts)
     if tails == 20:
         want, _ = _all_pairs([shingles(t) for t in texts], 0.9)
         assert np.array_equal(cl.label, want)
+        assert np.array_equal(caption_clusters(texts, 0.9, method="cover").label, want)
 
 
 def _with_long_texts(seed: int) -> list[str]:
@@ -140,16 +142,17 @@ def _with_long_texts(seed: int) -> list[str]:
     return sorted(set(texts))
 
 
-def test_long_texts_are_asked_through_the_index_and_look_alikes_listed_as_keys():
+def test_texts_too_long_for_keys_are_asked_through_the_index():
     texts = _with_long_texts(5)
     want, _ = _all_pairs([shingles(t) for t in texts], 0.9)
-    cl = caption_clusters(texts, 0.9)
+    cl = caption_clusters(texts, 0.9, method="keys")
     assert np.array_equal(cl.label, want)
-    # the 16 long texts are asked: their rare shingles leave a few candidates (their family)
-    # where they would need 36 to over 9,000 keys; the camera captions, each a candidate of
-    # every other of its camera, list at most 21 keys
-    assert cl.queries == 16
-    assert 0 < cl.work <= 21 * (len(texts) - 16)
+    # asked one by one: the 40-, 39- and 38-word texts, which would need 631 keys or more; a
+    # 37-word text (35 shingles) needs only its 36 keys of at most one deletion, as no text has
+    # 33 or 34 shingles
+    assert cl.queries == 12
+    assert 0 < cl.work <= 21 * (len(texts) - 16) + 4 * 36
+    assert np.array_equal(caption_clusters(texts, 0.9).label, want)  # whichever "auto" takes
     assert len(cl.link_a) == len(texts) - len(np.unique(want))
 
 
@@ -165,6 +168,6 @@ def test_colliding_keys_fall_back_to_the_leader_cover_and_stay_exact(monkeypatch
     joined = core_join(*_table(sets), 0.9)
     assert any(jaccard(sets[a], sets[b]) < 0.9
                for a, b in zip(joined.link_a.tolist(), joined.link_b.tolist()))
-    cl = caption_clusters(texts, 0.9)
+    cl = caption_clusters(texts, 0.9, method="keys")
     assert np.array_equal(cl.label, want)
-    assert cl.queries > 16  # the leader cover asked the index
+    assert cl.queries > 12  # the leader cover asked the index

@@ -105,7 +105,7 @@ def deletion_plan(sizes: np.ndarray, m: np.ndarray) -> dict[int, list[int]]:
 def key_counts(size: np.ndarray, threshold: float) -> np.ndarray:
     """How many keys each set lists (sets of sizes ``size``, the module docstring's rule)."""
     m = allowance(threshold, int(size.max()))
-    count = {s: min(sum(comb(s, d) for d in ds), 2**62)
+    count = {s: min(sum(comb(s, d) for d in ds), 2**40)
              for s, ds in deletion_plan(size, m).items()}
     return np.array([count[s] for s in size.tolist()], dtype=np.int64)
 

@@ -30,13 +30,13 @@ from .corekeys import core_join, key_counts
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
-# Keys or queries (caption_clusters): a text lists keys when they are at most _KEY_PRICE
-# times the candidates its query would examine (a candidate costs a few keys' work: filter,
-# then an exact check); when the asked texts would examine more than _ASKED_WORK candidates a
-# text, the leader cover does better.
+# How caption_clusters joins texts. A text lists keys when _KEY_PRICE keys cost no more than
+# the candidates its query would examine; the others are asked. The leader cover is used
+# instead when a sample of queries says it would examine fewer candidates: its query of one
+# text of a tight set of look-alikes covers them all, keys cost the same whatever the set.
 _KEY_PRICE = 2
-_ASKED_WORK = 64
-_ASK_BATCH = 256  # texts asked through the prefix index at once
+_SAMPLE = 256
+_ASK_WORK = 1 << 21  # candidates examined by one batch of asked texts
 
 
 def normalise_caption(text: str) -> str:
@@ -238,38 +238,61 @@ class PrefixIndex:
         return a[hit], b[hit], 1.0 - sim[hit], work
 
 
-def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -> Clusters:
+def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0,
+                     method: str = "auto") -> Clusters:
     """Clusters of near-identical texts: connected components of "shingle Jaccard >= threshold".
 
     ``texts`` normalised and distinct, as for :func:`similar_pairs`. Exact (the same components
-    as joining every pair :func:`similar_pairs` finds) without listing the pairs. Each text is
-    either joined through keys of the shingles it shares (:mod:`clipscribe.export.corekeys`),
-    or asked through the prefix-filtered index, whichever examines less: keys when it looks
-    like many others (a query would examine them all), the index when its rare shingles leave
-    few candidates (long texts, which would need many keys). The links are checked on the full
-    shingle sets. When the asked texts would examine many candidates, or a link fails its check
-    (two subsets whose keys collide), the leader cover of :mod:`clipscribe.export.clusters` does
-    the whole job. Link distances are ``1 - J``; ``queries`` counts the texts asked, ``work``
-    the keys listed.
+    as joining every pair :func:`similar_pairs` finds) without listing the pairs, by one of
+    two methods:
+
+    - ``"keys"``: texts are joined through keys of the shingles they share
+      (:mod:`clipscribe.export.corekeys`); a text whose keys would cost more than asking the
+      prefix-filtered index for its near texts is asked instead. Costs the same however many
+      texts look alike. The links are checked on the full shingle sets; a failed check (two
+      subsets whose keys collide) hands the job to the leader cover.
+    - ``"cover"``: the leader cover of :mod:`clipscribe.export.clusters` over the index, cheap
+      when look-alikes form tight sets (one query covers a set).
+
+    ``"auto"`` estimates both from the index and a sample of queries and takes the cheaper.
+    Link distances are ``1 - J``; ``queries`` counts the texts asked, ``work`` the keys listed
+    (``"keys"``) or the candidates examined (``"cover"``).
     """
+    if method not in ("auto", "keys", "cover"):
+        raise ValueError(f"method must be 'auto', 'keys' or 'cover', got {method!r}")
     texts = list(texts)
     if len(texts) < 2:
         return Clusters(np.arange(len(texts)), *(np.empty(0, dtype=np.int64),) * 2, np.empty(0))
     index = PrefixIndex(texts, threshold, table=_shingle_table(texts))
-    first, size, sid = index.first, index.size, index.sid
-    listed = key_counts(size, threshold) <= _KEY_PRICE * index.cost
-    if index.cost[~listed].sum() > _ASKED_WORK * len(texts):
+    keys = _KEY_PRICE * key_counts(index.size, threshold)
+    if method == "cover" or (method == "auto" and _cover_estimate(index, seed)
+                             <= np.minimum(keys, index.cost).sum()):
         return _cover_clusters(texts, threshold, index, seed)
-    joined = core_join(first, size, sid, threshold, seed=seed, listed=listed)
+    joined = core_join(index.first, index.size, index.sid, threshold, seed=seed,
+                       listed=keys <= index.cost if method == "auto" else None)
     parent, links = joined.parent, [(joined.link_a, joined.link_b, np.zeros(len(joined.link_a)))]
-    for at in range(0, len(joined.long), _ASK_BATCH):
-        qi, other, d, _ = index.neighbours(joined.long[at:at + _ASK_BATCH])
+    # batches of asked texts examining about _ASK_WORK candidates each
+    spent = np.cumsum(index.cost[joined.long])
+    steps = np.arange(1, int(spent[-1]) // _ASK_WORK + 1) * _ASK_WORK if len(spent) else []
+    bounds = np.unique(np.r_[0, np.searchsorted(spent, steps, "right"), len(joined.long)])
+    for lo, hi in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
+        qi, other, d, _ = index.neighbours(joined.long[lo:hi])
         parent = union(parent, qi, other, d, links)
     la, lb = (np.concatenate(x) for x in list(zip(*links))[:2])
     sim = index.similarity(la, lb)
     if not np.all(sim + 1e-12 >= threshold):
         return _cover_clusters(texts, threshold, index, seed)
     return Clusters(parent, la, lb, 1.0 - sim, len(joined.long), joined.keys)
+
+
+def _cover_estimate(index: PrefixIndex, seed: int) -> float:
+    """Candidates the leader cover would examine, from a sample of queries: a text with k near
+    texts is asked about once in k + 1 (exact when near texts form disjoint tight sets)."""
+    rng = np.random.default_rng(seed)
+    sample = np.sort(rng.choice(index.n, min(index.n, _SAMPLE), replace=False))
+    qi, _, _, _ = index.neighbours(sample)
+    near = np.bincount(qi, minlength=index.n)[sample]
+    return float(np.mean(index.cost[sample] / (near + 1))) * index.n
 
 
 def _cover_clusters(texts: list[str], threshold: float, index: PrefixIndex,
