@@ -36,6 +36,7 @@ _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
 # text of a tight set of look-alikes covers them all, keys cost the same whatever the set.
 _KEY_PRICE = 2
 _SAMPLE = 256
+_SAMPLE_WORK = 1 << 19
 _ASK_WORK = 1 << 21  # candidates examined by one batch of asked texts
 
 
@@ -288,8 +289,10 @@ def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0,
 def _cover_estimate(index: PrefixIndex, seed: int) -> float:
     """Candidates the leader cover would examine, from a sample of queries: a text with k near
     texts is asked about once in k + 1 (exact when near texts form disjoint tight sets)."""
-    rng = np.random.default_rng(seed)
-    sample = np.sort(rng.choice(index.n, min(index.n, _SAMPLE), replace=False))
+    order = np.random.default_rng(seed).permutation(index.n)[:_SAMPLE]
+    # at least _SAMPLE // 16 texts, then as many as examine at most _SAMPLE_WORK candidates
+    take = max(_SAMPLE // 16, int(np.searchsorted(np.cumsum(index.cost[order]), _SAMPLE_WORK)))
+    sample = np.sort(order[:take])
     qi, _, _, _ = index.neighbours(sample)
     near = np.bincount(qi, minlength=index.n)[sample]
     return float(np.mean(index.cost[sample] / (near + 1))) * index.n
