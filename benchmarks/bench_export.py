@@ -135,7 +135,7 @@ def run_case(case: str, n: int) -> dict:
             from clipscribe.export.textdup import caption_clusters
             cl = caption_clusters(texts, 0.9)
             out.update(clusters=len(cl.groups()), links=int(len(cl.link_a)), queries=cl.queries,
-                       keys=cl.work)
+                       work=cl.work)
         elif case == "captions-cover":  # the leader cover over the prefix index, as before
             from clipscribe.export.textdup import PrefixIndex, _cover_clusters
             cl = _cover_clusters(texts, 0.9, PrefixIndex(texts, 0.9), 0)
