@@ -20,7 +20,9 @@ square of the clips). The method:
    distance is a metric (Hamming distance; Jaccard distance ``1 - J``), ``d(y, z) <= e`` gives
    ``d(leader(y), leader(z)) <= 3e`` by the triangle inequality. So only leaders within ``3e``
    of each other, whose clusters are still apart, have their covered items compared; one near
-   pair between the two groups is enough to join them.
+   pair between the two groups is enough to join them. Before pairs are formed, each star
+   keeps only its items within ``2e`` of the other leader (a near ``z`` is within ``e`` of it):
+   two look-alike sets that are merely close cost one distance per item, not one per pair.
 
 Union-find is vectorised: every round hooks each root that has an edge to a smaller root onto
 that root, one edge per hooked root, then compresses paths by pointer jumping. The edges used
@@ -113,7 +115,7 @@ def union(parent: np.ndarray, a: np.ndarray, b: np.ndarray, d: np.ndarray,
 
 
 def cover_components(n: int, neighbours: Neighbours, wide_pairs: WidePairs, close: Close, *,
-                     seed: int = 0) -> Clusters:
+                     radius: float, seed: int = 0) -> Clusters:
     """Exact connected components of the near graph (method in the module docstring).
 
     Parameters
@@ -126,6 +128,8 @@ def cover_components(n: int, neighbours: Neighbours, wide_pairs: WidePairs, clos
         Pairs among some items within three times the threshold (a superset is fine).
     close : callable
         Exact check of given pairs.
+    radius : float
+        The distance within which two items are near (as ``close`` measures it).
     seed : int
         Fixes the order in which items are asked (the links, not the clusters, depend on it).
     """
@@ -151,7 +155,7 @@ def cover_components(n: int, neighbours: Neighbours, wide_pairs: WidePairs, clos
         # at most double: a batch of still uncovered items may hold many of one clique
         batch = int(np.clip(_BATCH_WORK * len(q) // max(cost, 1), _FIRST_BATCH,
                             min(2 * len(q), _MAX_BATCH)))
-    parent = _join_stars(parent, leader, asked, wide_pairs, close, links)
+    parent = _join_stars(parent, leader, asked, wide_pairs, close, links, radius)
     if links:
         la, lb, ld = (np.concatenate(x) for x in zip(*links))
     else:
@@ -163,7 +167,8 @@ def cover_components(n: int, neighbours: Neighbours, wide_pairs: WidePairs, clos
 
 def _join_stars(parent: np.ndarray, leader: np.ndarray, asked: np.ndarray,
                 wide_pairs: WidePairs, close: Close,
-                links: list[tuple[np.ndarray, np.ndarray, np.ndarray]]) -> np.ndarray:
+                links: list[tuple[np.ndarray, np.ndarray, np.ndarray]],
+                radius: float) -> np.ndarray:
     """Find the near pairs between covered items of different leaders' stars (see module)."""
     covered = np.flatnonzero(~asked & (leader >= 0))
     if len(covered) < 2:
@@ -173,7 +178,9 @@ def _join_stars(parent: np.ndarray, leader: np.ndarray, asked: np.ndarray,
     covered, lead = covered[by], lead[by]
     heads = np.flatnonzero(np.r_[True, lead[1:] != lead[:-1]])
     stars = lead[heads]
-    bounds = dict(zip(stars.tolist(), zip(heads.tolist(), np.r_[heads[1:], len(lead)].tolist())))
+    start = np.zeros(len(parent), dtype=np.int64)
+    size = np.zeros(len(parent), dtype=np.int64)
+    start[stars], size[stars] = heads, np.diff(np.r_[heads, len(lead)])
     a, b = wide_pairs(stars)
     keep = parent[a] != parent[b]
     a, b = a[keep], b[keep]
@@ -187,44 +194,74 @@ def _join_stars(parent: np.ndarray, leader: np.ndarray, asked: np.ndarray,
         return x
 
     found: list[tuple[int, int, float]] = []
-    size = {k: e - s for k, (s, e) in bounds.items()}
     todo, at = list(zip(a.tolist(), b.tolist())), 0
     while at < len(todo):
-        # leader pairs in chunks of at most _STAR_WORK compared items (or one pair); pairs
+        # leader pairs in chunks of at most _STAR_WORK star members (or one pair); pairs
         # already joined by this step are left out
         chunk: list[tuple[int, int]] = []
         work = 0
-        while at < len(todo) and (not chunk or work + size[todo[at][0]] * size[todo[at][1]]
+        while at < len(todo) and (not chunk or work + size[todo[at][0]] + size[todo[at][1]]
                                   <= _STAR_WORK):
             x, y = todo[at]
             at += 1
             if root(int(parent[x])) != root(int(parent[y])):
                 chunk.append((x, y))
-                work += size[x] * size[y]
+                work += int(size[x] + size[y])
         if not chunk:
             continue
-        sx = np.array([size[x] for x, _ in chunk])
-        sy = np.array([size[y] for _, y in chunk])
-        n_pairs = sx * sy
-        which = np.repeat(np.arange(len(chunk)), n_pairs)
-        k = np.arange(int(n_pairs.sum())) - np.repeat(np.cumsum(n_pairs) - n_pairs, n_pairs)
-        start_x = np.array([bounds[x][0] for x, _ in chunk])
-        start_y = np.array([bounds[y][0] for _, y in chunk])
-        pa = covered[start_x[which] + k // sy[which]]
-        pb = covered[start_y[which] + k % sy[which]]
-        near, dist = close(pa, pb)
-        hit = np.flatnonzero(near)
-        _, first = np.unique(which[hit], return_index=True)
-        for h in hit[first].tolist():
-            x, y = chunk[int(which[h])]
-            rx, ry = root(int(parent[x])), root(int(parent[y]))
-            if rx != ry:
-                found.append((int(pa[h]), int(pb[h]), float(dist[h])))
-                joined[max(rx, ry)] = min(rx, ry)
+        cx, cy = np.array(chunk).T
+        # a member of x's star near a member z of y's star is within 2 radius of y's leader
+        # (d(z, y) <= radius), and the other way round: members farther are left out
+        px, mx = _near_leader(cx, cy, covered, start, size, close, 2.0 * radius)
+        py, my = _near_leader(cy, cx, covered, start, size, close, 2.0 * radius)
+        for pair, pa, pb in _cross(px, mx, py, my, len(chunk)):
+            near, dist = close(pa, pb)
+            hit = np.flatnonzero(near)
+            _, first = np.unique(pair[hit], return_index=True)
+            for h in hit[first].tolist():
+                x, y = chunk[int(pair[h])]
+                rx, ry = root(int(parent[x])), root(int(parent[y]))
+                if rx != ry:
+                    found.append((int(pa[h]), int(pb[h]), float(dist[h])))
+                    joined[max(rx, ry)] = min(rx, ry)
     if found:
         fa, fb, fd = (np.array(v) for v in zip(*found))
         parent = union(parent, fa.astype(np.int64), fb.astype(np.int64), fd, links)
     return parent
+
+
+def _near_leader(own: np.ndarray, other: np.ndarray, covered: np.ndarray, start: np.ndarray,
+                 size: np.ndarray, close: Close, reach: float) -> tuple[np.ndarray, np.ndarray]:
+    """For each pair k: the members of star ``own[k]`` within ``reach`` of leader
+    ``other[k]``, as (pair, member) sorted by pair."""
+    pair = np.repeat(np.arange(len(own)), size[own])
+    at = np.arange(len(pair)) - np.repeat(np.cumsum(size[own]) - size[own], size[own])
+    member = covered[start[own][pair] + at]
+    _, dist = close(member, other[pair])
+    keep = dist <= reach + 1e-9
+    return pair[keep], member[keep]
+
+
+def _cross(px: np.ndarray, mx: np.ndarray, py: np.ndarray, my: np.ndarray, n_pairs: int):
+    """Yield (pair, a, b): every (member of x's list, member of y's list) of each pair k, at
+    most _STAR_WORK at a time (lists as from :func:`_near_leader`)."""
+    nx = np.bincount(px, minlength=n_pairs)
+    ny = np.bincount(py, minlength=n_pairs)
+    sx, sy = np.cumsum(nx) - nx, np.cumsum(ny) - ny
+    cost = nx * ny
+    edge = np.cumsum(cost)
+    lo = 0
+    while lo < n_pairs:
+        # pairs whose products fit one block (at least one pair)
+        hi = max(lo + 1, int(np.searchsorted(edge, edge[lo] - cost[lo] + _STAR_WORK, "right")))
+        ks = np.arange(lo, hi)
+        lo = hi
+        n = cost[ks]
+        if not n.sum():
+            continue
+        which = np.repeat(ks, n)
+        k = np.arange(int(n.sum())) - np.repeat(np.cumsum(n) - n, n)
+        yield which, mx[sx[which] + k // ny[which]], my[sy[which] + k % ny[which]]
 
 
 def components_brute(n: int, a: np.ndarray, b: np.ndarray) -> np.ndarray:

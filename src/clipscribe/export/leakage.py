@@ -341,8 +341,9 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         "caption_threshold": caption_threshold,
         "near_identical_captions": "Jaccard of word 3-gram shingle sets >= threshold; one "
                                    "finding per cluster (connected component of near pairs) "
-                                   "whose clips lie in several splits; exact, prefix-filtered "
-                                   "index with leader cover",
+                                   "whose clips lie in several splits; exact, union-find over "
+                                   "keys of the shingles two texts share or leader cover over a "
+                                   "prefix-filtered index, whichever a sample says is cheaper",
         "require_consent": require_consent,
         "require_licence": require_licence,
     }

@@ -206,7 +206,8 @@ def near_clusters(codes: np.ndarray, radius: int, *, seed: int = 0) -> Clusters:
         d = popcount(codes[a] ^ codes[b]).astype(np.int64)
         return d <= radius, d
 
-    return cover_components(len(codes), index.neighbours, wide_pairs, close, seed=seed)
+    return cover_components(len(codes), index.neighbours, wide_pairs, close, radius=radius,
+                            seed=seed)
 
 
 def near_pairs_brute(codes: np.ndarray, radius: int, *,

@@ -12,7 +12,8 @@ detection", WWW 2008): with every set ordered by rising shingle frequency, two s
 Jaccard >= t share a shingle among the first ``|x| - ceil(t|x|) + 1`` of each, so the search is
 exact without comparing all pairs; the index is built with numpy sorts. Hand-written because
 the libraries that do this (MinHash LSH) are approximate and not among the project's
-dependencies.
+dependencies. Clusters of near-identical texts (:func:`caption_clusters`) are found without
+any pair search, through keys of the shingles two texts share (:mod:`.corekeys`).
 """
 
 from __future__ import annotations
@@ -23,11 +24,20 @@ from typing import Iterable, Sequence
 
 import numpy as np
 
-from .clusters import Clusters, cover_components
+from .clusters import Clusters, cover_components, union
+from .corekeys import core_join, key_counts
 
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
+# How caption_clusters joins texts. A text lists keys when _KEY_PRICE keys cost no more than
+# the candidates its query would examine; the others are asked. The leader cover is used
+# instead when a sample of queries says it would examine fewer candidates: its query of one
+# text of a tight set of look-alikes covers them all, keys cost the same whatever the set.
+_KEY_PRICE = 2
+_SAMPLE = 256
+_SAMPLE_WORK = 1 << 19
+_ASK_WORK = 1 << 21  # candidates examined by one batch of asked texts
 
 
 def normalise_caption(text: str) -> str:
@@ -176,12 +186,13 @@ class PrefixIndex:
     the prefix filter), pruned by size and verified on the full shingle sets.
     """
 
-    def __init__(self, texts: Sequence[str], threshold: float):
+    def __init__(self, texts: Sequence[str], threshold: float, *,
+                 table: tuple[np.ndarray, np.ndarray] | None = None):
         if not 0.0 < threshold <= 1.0:
             raise ValueError(f"caption threshold must lie in (0, 1], got {threshold!r}")
         self.n = len(texts)
         self.threshold = threshold
-        text, self.sid = _shingle_table(list(texts))
+        text, self.sid = _shingle_table(list(texts)) if table is None else table
         self.size = np.bincount(text, minlength=self.n)
         self.first = np.cumsum(self.size) - self.size
         rank = np.arange(len(text)) - self.first[text]
@@ -192,6 +203,9 @@ class PrefixIndex:
         n_sid = int(self.sid.max()) + 1
         self.post_count = np.bincount(self.sid[keep], minlength=n_sid)
         self.post_start = np.cumsum(self.post_count) - self.post_count
+        #: candidates a query of each text examines (before the positional filter)
+        self.cost = np.bincount(text[keep], weights=self.post_count[self.sid[keep]],
+                                minlength=self.n).astype(np.int64)
 
     def similarity(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
         """Exact shingle Jaccard of the pairs ``(a[k], b[k])``."""
@@ -225,19 +239,70 @@ class PrefixIndex:
         return a[hit], b[hit], 1.0 - sim[hit], work
 
 
-def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -> Clusters:
+def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0,
+                     method: str = "auto") -> Clusters:
     """Clusters of near-identical texts: connected components of "shingle Jaccard >= threshold".
 
     ``texts`` normalised and distinct, as for :func:`similar_pairs`. Exact (the same components
-    as joining every pair :func:`similar_pairs` finds) without listing the pairs; see
-    :mod:`clipscribe.export.clusters`. Jaccard distance ``1 - J`` is a metric, so leaders of two
-    stars that could hold a near pair have ``J >= 1 - 3 (1 - threshold)``. Link distances in the
-    result are ``1 - J``.
+    as joining every pair :func:`similar_pairs` finds) without listing the pairs, by one of
+    two methods:
+
+    - ``"keys"``: texts are joined through keys of the shingles they share
+      (:mod:`clipscribe.export.corekeys`); a text whose keys would cost more than asking the
+      prefix-filtered index for its near texts is asked instead. Costs the same however many
+      texts look alike. The links are checked on the full shingle sets; a failed check (two
+      subsets whose keys collide) hands the job to the leader cover.
+    - ``"cover"``: the leader cover of :mod:`clipscribe.export.clusters` over the index, cheap
+      when look-alikes form tight sets (one query covers a set).
+
+    ``"auto"`` estimates both from the index and a sample of queries and takes the cheaper.
+    Link distances are ``1 - J``; ``queries`` counts the texts asked, ``work`` the keys listed
+    (``"keys"``) or the candidates examined (``"cover"``).
     """
+    if method not in ("auto", "keys", "cover"):
+        raise ValueError(f"method must be 'auto', 'keys' or 'cover', got {method!r}")
     texts = list(texts)
     if len(texts) < 2:
         return Clusters(np.arange(len(texts)), *(np.empty(0, dtype=np.int64),) * 2, np.empty(0))
-    index = PrefixIndex(texts, threshold)
+    index = PrefixIndex(texts, threshold, table=_shingle_table(texts))
+    keys = _KEY_PRICE * key_counts(index.size, threshold)
+    if method == "cover" or (method == "auto" and _cover_estimate(index, seed)
+                             <= np.minimum(keys, index.cost).sum()):
+        return _cover_clusters(texts, threshold, index, seed)
+    joined = core_join(index.first, index.size, index.sid, threshold, seed=seed,
+                       listed=keys <= index.cost if method == "auto" else None)
+    parent, links = joined.parent, [(joined.link_a, joined.link_b, np.zeros(len(joined.link_a)))]
+    # batches of asked texts examining about _ASK_WORK candidates each
+    spent = np.cumsum(index.cost[joined.long])
+    steps = np.arange(1, int(spent[-1]) // _ASK_WORK + 1) * _ASK_WORK if len(spent) else []
+    bounds = np.unique(np.r_[0, np.searchsorted(spent, steps, "right"), len(joined.long)])
+    for lo, hi in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
+        qi, other, d, _ = index.neighbours(joined.long[lo:hi])
+        parent = union(parent, qi, other, d, links)
+    la, lb = (np.concatenate(x) for x in list(zip(*links))[:2])
+    sim = index.similarity(la, lb)
+    if not np.all(sim + 1e-12 >= threshold):
+        return _cover_clusters(texts, threshold, index, seed)
+    return Clusters(parent, la, lb, 1.0 - sim, len(joined.long), joined.keys)
+
+
+def _cover_estimate(index: PrefixIndex, seed: int) -> float:
+    """Candidates the leader cover would examine, from a sample of queries: a text with k near
+    texts is asked about once in k + 1 (exact when near texts form disjoint tight sets)."""
+    order = np.random.default_rng(seed).permutation(index.n)[:_SAMPLE]
+    # at least _SAMPLE // 16 texts, then as many as examine at most _SAMPLE_WORK candidates
+    take = max(_SAMPLE // 16, int(np.searchsorted(np.cumsum(index.cost[order]), _SAMPLE_WORK)))
+    sample = np.sort(order[:take])
+    qi, _, _, _ = index.neighbours(sample)
+    near = np.bincount(qi, minlength=index.n)[sample]
+    return float(np.mean(index.cost[sample] / (near + 1))) * index.n
+
+
+def _cover_clusters(texts: list[str], threshold: float, index: PrefixIndex,
+                    seed: int) -> Clusters:
+    """The leader cover of :mod:`clipscribe.export.clusters` over the prefix index. Jaccard
+    distance ``1 - J`` is a metric, so leaders of two stars that could hold a near pair have
+    ``J >= 1 - 3 (1 - threshold)``."""
     wide = 1.0 - 3.0 * (1.0 - threshold) - 1e-9
 
     def wide_pairs(items: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -253,4 +318,5 @@ def caption_clusters(texts: Sequence[str], threshold: float, *, seed: int = 0) -
         sim = index.similarity(a, b)
         return sim + 1e-12 >= threshold, 1.0 - sim
 
-    return cover_components(len(texts), index.neighbours, wide_pairs, close, seed=seed)
+    return cover_components(len(texts), index.neighbours, wide_pairs, close,
+                            radius=1.0 - threshold, seed=seed)
