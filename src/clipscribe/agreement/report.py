@@ -145,6 +145,56 @@ class AgreementReport:
 OVERLAP_CLIPS = 2000
 
 
+@dataclass(frozen=True)
+class CaptionPart:
+    """The caption half of a report, which depends on the captions (and the seed) alone:
+    ``summary`` (None when no clip has captions from two people), per clip mean leave-one-out
+    BLEU and CIDEr-D, everyone who wrote a caption, how many caption rows there were, and
+    whether captions were left out of the report altogether."""
+
+    summary: CaptionSummary | None
+    clip_bleu: dict
+    clip_cider: dict
+    annotators: tuple[str, ...]
+    rows: int
+    left_out: bool = False
+
+
+def caption_part(captions: Iterable[Sequence[Any]] | None, *, seed: int = 0,
+                 overlap_clips: int | None = OVERLAP_CLIPS) -> CaptionPart:
+    """The caption part of :func:`agreement_report` for rows (clip, annotator, text), or the
+    empty part of a report that leaves captions out (``captions`` None)."""
+    seed = _checks.positive_int("seed", seed, minimum=0)
+    if captions is None:
+        return CaptionPart(None, {}, {}, (), 0, left_out=True)
+    by_clip: dict[Any, list] = {}
+    for n, row in enumerate(captions):
+        try:
+            clip, ann, text = row
+        except (TypeError, ValueError):
+            raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
+        by_clip.setdefault(clip, []).append((str(ann), text))
+    rows = sum(len(v) for v in by_clip.values())
+    writers = tuple(sorted({a for v in by_clip.values() for a, _ in v}))
+    if not any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
+        # caption consensus needs a clip captioned by two people; with none it is not measured
+        return CaptionPart(None, {}, {}, writers, rows)
+    loo = leave_one_out_bleu(by_clip)
+    cider = cider_d(by_clip)
+    sample, note = _clip_sample(by_clip, overlap_clips, seed)
+    rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
+    if note:
+        rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
+                       for m in (rouge, chrf))
+    summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
+    acc: dict[Any, list] = {}
+    for one in loo.captions:
+        if not math.isnan(one.bleu):
+            acc.setdefault(one.clip, []).append(one.bleu)
+    return CaptionPart(summary, {k: float(np.mean(v)) for k, v in acc.items()},
+                       cider.per_clip, writers, rows)
+
+
 def agreement_report(labels: Iterable[Sequence[Any]],
                      segments: Iterable[Sequence[Any]] | None = None,
                      captions: Iterable[Sequence[Any]] | None = None, *,
@@ -154,7 +204,8 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                      n_boot: int = 1000, label_set_version: str | None = None,
                      reliability: bool = True, truth_model: str = "full",
                      known_answers: Mapping[Any, Any] | None = None,
-                     overlap_clips: int | None = OVERLAP_CLIPS) -> AgreementReport:
+                     overlap_clips: int | None = OVERLAP_CLIPS,
+                     captions_done: CaptionPart | None = None) -> AgreementReport:
     """Agreement of a whole project: labels, and optionally segments and captions.
 
     Parameters
@@ -176,6 +227,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     overlap_clips : leave-one-out ROUGE-L and chrF are computed on at most this many clips
         captioned by two or more people (a seeded random sample above it, said in their
         recipes' note; default 2,000); None computes them on every clip.
+    captions_done : the :func:`caption_part` of ``captions`` (same ``seed`` and
+        ``overlap_clips``) computed earlier; given, ``captions`` is not read again. The caption
+        part is what costs most in a report, and it depends on the captions alone.
 
     Returns
     -------
@@ -211,34 +265,12 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         pairs, seg_f1 = segment_matching(rows, fps=fps, annotated=worked)
         fa = frame_agreement(rows, frame_count, annotated=worked) if frame_count else None
         seg_summary = SegmentSummary(fa, pairs)
-    cap_summary, cap_bleu, cap_cider = None, {}, {}
-    by_clip: dict[Any, list] = {}
-    if captions is not None:
-        for n, row in enumerate(captions):
-            try:
-                clip, ann, text = row
-            except (TypeError, ValueError):
-                raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
-            by_clip.setdefault(clip, []).append((str(ann), text))
-    if any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
-        # caption consensus needs a clip captioned by two people; with none it is not measured
-        loo = leave_one_out_bleu(by_clip)
-        cider = cider_d(by_clip)
-        sample, note = _clip_sample(by_clip, overlap_clips, seed)
-        rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
-        if note:
-            rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
-                           for m in (rouge, chrf))
-        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
-        acc: dict[Any, list] = {}
-        for one in loo.captions:
-            if not math.isnan(one.bleu):
-                acc.setdefault(one.clip, []).append(one.bleu)
-        cap_bleu = {k: float(np.mean(v)) for k, v in acc.items()}
-        cap_cider = cider.per_clip
+    part = captions_done if captions_done is not None else caption_part(
+        captions, seed=seed, overlap_clips=overlap_clips)
+    cap_summary, cap_bleu, cap_cider = part.summary, part.clip_bleu, part.clip_cider
     clips = _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider)
     everyone = sorted(set(annotators) | {a for s in worked.values() for a in s}
-                      | {a for v in by_clip.values() for a, _ in v})
+                      | set(part.annotators))
     recipe = Recipe.make("report", "agreement", ordinal=ordinal, seed=seed, n_boot=n_boot,
                          n_raters=len(everyone), n_items=len(clips), annotators=everyone,
                          label_set_version=label_set_version)
@@ -250,7 +282,7 @@ def agreement_report(labels: Iterable[Sequence[Any]],
            "segments": None if seg_summary is not None else
            LEFT_OUT if segments is None else NO_SEGMENTS,
            "captions": None if cap_summary is not None else
-           LEFT_OUT if captions is None else ONE_CAPTIONER if by_clip else NO_CAPTIONS}
+           LEFT_OUT if part.left_out else ONE_CAPTIONER if part.rows else NO_CAPTIONS}
     return AgreementReport(summary, seg_summary, cap_summary, clips, recipe, rel,
                            {k: v for k, v in why.items() if v is not None})
 
