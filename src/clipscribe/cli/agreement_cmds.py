@@ -10,7 +10,7 @@ from .common import open_project
 
 def cmd_agreement(args: argparse.Namespace) -> int:
     with open_project(args) as p:
-        rep = p.agreement_report(seed=args.seed, n_boot=args.boot)
+        rep = p.agreement_report(seed=args.seed, n_boot=args.boot, cache=not args.no_cache)
     if args.json:
         print(json.dumps(rep.to_dict(), indent=2, ensure_ascii=False))
     else:
@@ -24,3 +24,5 @@ def register(add) -> None:
     sp.add_argument("--top", type=int, default=10, help="how many most-disputed clips to list")
     sp.add_argument("--seed", type=int, default=0, help="bootstrap seed")
     sp.add_argument("--boot", type=int, default=1000, help="bootstrap resamples for the 95%% intervals")
+    sp.add_argument("--no-cache", action="store_true",
+                    help="compute every part now instead of reusing the project's kept caption part")

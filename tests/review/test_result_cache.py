@@ -1,0 +1,133 @@
+"""The result cache of the agreement report: the caption part is reused while nothing it
+depends on changed, the recipe says so, and a changed label or caption never gets a stale
+number (every report equals the same report computed from scratch)."""
+
+import math
+
+import pytest
+
+from clipscribe import Project
+from clipscribe.cli import main
+from clipscribe.project.results import FOLDER
+
+BOOT = 20
+CACHED = "caption part from the result cache"
+
+
+def numbers(rep) -> dict:
+    """The report as a dict, without the recipe's note (which says where a part came from)."""
+    d = rep.to_dict()
+    for key in ("note", "text"):
+        d["recipe"].pop(key)
+    return d
+
+
+def same(a, b, path="report"):
+    if isinstance(a, dict):
+        assert set(a) == set(b), path
+        for k in a:
+            same(a[k], b[k], f"{path}.{k}")
+    elif isinstance(a, list):
+        assert len(a) == len(b), path
+        for i, (x, y) in enumerate(zip(a, b)):
+            same(x, y, f"{path}[{i}]")
+    elif isinstance(a, float) and isinstance(b, float):
+        assert math.isclose(a, b, rel_tol=0, abs_tol=1e-12) or (math.isnan(a) and math.isnan(b)), path
+    else:
+        assert a == b, path
+
+
+def fresh(p):
+    return p.agreement_report(n_boot=BOOT, cache=False)
+
+
+@pytest.fixture
+def project(sample_copy, sample_lead):
+    with Project.open(sample_copy, user=sample_lead) as p:
+        yield p
+
+
+def test_second_report_reuses_the_caption_part_and_says_what_it_covers(project):
+    first = project.agreement_report(n_boot=BOOT)
+    assert first.recipe.note is None  # computed now
+    second = project.agreement_report(n_boot=BOOT)
+    note = second.recipe.note
+    assert note.startswith(CACHED)
+    n_rows = len(project.caption_rows())
+    assert f"{n_rows} caption rows" in note and "up to edit" in note
+    assert CACHED in second.to_dict()["recipe"]["text"]
+    same(numbers(second), numbers(first))
+    same(numbers(second), numbers(fresh(project)))
+    assert list((project.folder / FOLDER).glob("captions-*.pickle"))
+    assert (project.folder / FOLDER).parent.joinpath(".gitignore").read_text().splitlines()[-1] == "*"
+
+
+def test_a_new_label_keeps_the_caption_part_and_changes_the_label_numbers(project):
+    before = project.agreement_report(n_boot=BOOT)
+    clip, who, label = project.clip_labels()[0]
+    other = next(l.name for l in project.labels() if l.name != label)
+    project.set_clip_label(clip, who, other)
+    after = project.agreement_report(n_boot=BOOT)
+    assert after.recipe.note.startswith(CACHED)  # the captions did not change
+    assert after.labels.alpha != before.labels.alpha
+    same(numbers(after), numbers(fresh(project)))
+
+
+def test_a_changed_caption_is_computed_again(project):
+    before = project.agreement_report(n_boot=BOOT)
+    cap = project.caption_rows()[0]
+    project.update_caption(cap.id, "a completely different sentence about nothing at all")
+    after = project.agreement_report(n_boot=BOOT)
+    assert after.recipe.note is None
+    assert after.captions.bleu.overall.score != before.captions.bleu.overall.score
+    same(numbers(after), numbers(fresh(project)))
+
+
+def test_undone_delete_that_restores_the_row_counts_is_not_served_stale(project):
+    """An undone delete puts the row back with its old id and first version, so the table's
+    count, largest id and version sum equal an earlier state's; the edit log still tells."""
+    cap = project.caption_rows()[1]
+    project.agreement_report(n_boot=BOOT)                       # kept: the caption as it was
+    project.update_caption(cap.id, "the arm lifts nothing and waits")  # version 2
+    with project.recording() as ids:
+        project.delete_caption(cap.id)
+    project.revert(ids)                                          # back, as version 1
+    rep = project.agreement_report(n_boot=BOOT)
+    assert rep.recipe.note is None
+    same(numbers(rep), numbers(fresh(project)))
+    texts = {c.text for c in rep.captions.bleu.captions}
+    assert "the arm lifts nothing and waits" in texts
+
+
+def test_a_new_person_or_role_change_is_computed_again(project):
+    project.agreement_report(n_boot=BOOT)
+    project.add_annotator("annotator-new")
+    rep = project.agreement_report(n_boot=BOOT)
+    assert rep.recipe.note is None
+
+
+def test_an_entry_this_user_did_not_write_is_never_read(project):
+    project.agreement_report(n_boot=BOOT)
+    (entry,) = (project.folder / FOLDER).glob("captions-*.pickle")
+    data = bytearray(entry.read_bytes())
+    data[0] ^= 0xFF  # the signature no longer matches
+    entry.write_bytes(bytes(data))
+    rep = project.agreement_report(n_boot=BOOT)
+    assert rep.recipe.note is None
+    same(numbers(rep), numbers(fresh(project)))
+
+
+def test_other_settings_do_not_share_an_entry(project):
+    project.agreement_report(n_boot=BOOT, seed=0)
+    other = project.agreement_report(n_boot=BOOT, seed=1)
+    assert other.recipe.note is None
+    same(numbers(other), numbers(project.agreement_report(n_boot=BOOT, seed=1, cache=False)))
+
+
+def test_cli_no_cache_computes_now(sample_copy, sample_lead, capsys):
+    args = ["agreement", str(sample_copy), "--user", sample_lead, "--boot", str(BOOT), "--json"]
+    assert main(args) == 0
+    assert main(args) == 0
+    assert CACHED in capsys.readouterr().out
+    assert main(args + ["--no-cache"]) == 0
+    assert CACHED not in capsys.readouterr().out
