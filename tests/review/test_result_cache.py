@@ -131,3 +131,36 @@ def test_cli_no_cache_computes_now(sample_copy, sample_lead, capsys):
     assert CACHED in capsys.readouterr().out
     assert main(args + ["--no-cache"]) == 0
     assert CACHED not in capsys.readouterr().out
+
+
+def test_cli_json_is_the_report_dict_and_summary_leaves_out_only_the_rows(sample_copy, sample_lead, capsys):
+    import json
+
+    args = ["agreement", str(sample_copy), "--user", sample_lead, "--boot", str(BOOT), "--json"]
+    assert main(args) == 0
+    full = json.loads(capsys.readouterr().out)
+    with Project.open(sample_copy, user=sample_lead) as p:
+        want = p.agreement_report(n_boot=BOOT).to_dict()
+    for d in (full, want):
+        d["recipe"].pop("note"), d["recipe"].pop("text")
+    same(full, want)
+    assert main(args + ["--summary"]) == 0
+    short = json.loads(capsys.readouterr().out)
+    assert short["items_left_out"] == ["clips", "captions.flagged", "reliability.inferred.items"]
+    assert "clips" not in short and "flagged" not in short["captions"]
+    assert "items" not in short["reliability"]["inferred"]
+    assert short["captions"]["n_flagged"] == len(full["captions"]["flagged"]) > 0
+    for d in (short, full):
+        d["recipe"].pop("note", None), d["recipe"].pop("text", None)
+        d.pop("clips", None), d.pop("items_left_out", None), d["captions"].pop("flagged", None)
+        d["captions"].pop("n_flagged", None), d["reliability"]["inferred"].pop("items")
+    same(short, full)
+
+
+def test_json_text_equals_plain_json():
+    import json
+
+    from clipscribe.cli.common import json_text
+    value = {"a": [1, {"b": [2.5, None, "é"]}], "c": {}, "d": [], "e": {"f": {"g": {"h": [1]}}}}
+    assert json.loads(json_text(value)) == value
+    assert json.loads(json_text([])) == [] and json_text({"x": 1}) == '{\n  "x": 1\n}'

@@ -42,16 +42,21 @@ class CaptionSummary:
     rouge_l: LooOverlap | None = None
     chrf: LooOverlap | None = None
 
-    def to_dict(self) -> dict:
+    def to_dict(self, *, items: bool = True) -> dict:
+        """JSON-safe dict; ``items=False`` leaves out the list of flagged captions."""
         b = self.bleu
-        return {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
+        out = {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
                 "chrf": None if self.chrf is None else self.chrf.to_dict(),
                 "bleu": {"overall": b.overall.to_dict(),
                          "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
                          "recipe": b.recipe.to_dict()},
                 "flag_rule": FLAG_RULE,
-                "flagged": [c.to_dict() for c in b.flagged],
+                "flagged": [c.to_dict() for c in b.flagged] if items else None,
                 "cider": self.cider.to_dict(), "retrieval": self.retrieval.to_dict()}
+        if not items:
+            del out["flagged"]
+            out["n_flagged"] = sum(c.flagged for c in b.captions)
+        return out
 
 
 @dataclass(frozen=True)
@@ -90,6 +95,17 @@ class ClipTable:
     def __iter__(self):
         return (self.row(i) for i in range(len(self.clips)))
 
+    def to_dicts(self) -> list[dict]:
+        """Every row as :meth:`ClipScore.to_dict` gives it, built column by column."""
+        def plain(v: np.ndarray) -> list:
+            out = v.astype(object)
+            out[np.isnan(v)] = None
+            return out.tolist()
+        cols = [plain(v) for v in (self.label_disagreement, self.segment_f1, self.caption_bleu,
+                                   self.caption_cider)]
+        return [{"clip": str(c), "label_disagreement": a, "segment_f1": b, "caption_bleu": d,
+                 "caption_cider": e} for c, a, b, d, e in zip(self.clips, *cols)]
+
     def worst_first(self) -> np.ndarray:
         """Row order for review: most label disagreement, then lowest segment F1, then lowest
         caption BLEU; NaN sorts last within each key (our ordering)."""
@@ -98,6 +114,9 @@ class ClipTable:
         return np.lexsort((key(self.caption_bleu, 1), key(self.segment_f1, 1),
                            key(self.label_disagreement, -1)))
 
+
+#: what ``to_dict(items=False)`` leaves out (paths into the dict)
+ITEMS = ("clips", "captions.flagged", "reliability.inferred.items")
 
 #: why a part of the report is not measured (the part is None then), in plain words
 NO_LABELS = "no annotator has labelled a clip yet"
@@ -125,15 +144,22 @@ class AgreementReport:
         order = self.clips.worst_first()
         return [self.clips.row(int(i)) for i in (order if top is None else order[:top])]
 
-    def to_dict(self) -> dict:
-        """JSON-safe dict (NaN becomes None)."""
-        return {"recipe": self.recipe.to_dict(), "interpretation_source": CITATION,
-                "labels": None if self.labels is None else self.labels.to_dict(),
-                "segments": None if self.segments is None else self.segments.to_dict(),
-                "captions": None if self.captions is None else self.captions.to_dict(),
-                "not_measured": dict(self.not_measured),
-                "clips": [c.to_dict() for c in self.clips],
-                "reliability": None if self.reliability is None else self.reliability.to_dict()}
+    def to_dict(self, *, items: bool = True) -> dict:
+        """JSON-safe dict (NaN becomes None). ``items=False`` leaves out what grows with the
+        project: the per clip scores (``clips``), the flagged captions and the inferred label
+        of every clip; ``items_left_out`` then names them."""
+        rel = self.reliability
+        out = {"recipe": self.recipe.to_dict(), "interpretation_source": CITATION,
+               "labels": None if self.labels is None else self.labels.to_dict(),
+               "segments": None if self.segments is None else self.segments.to_dict(),
+               "captions": None if self.captions is None else self.captions.to_dict(items=items),
+               "not_measured": dict(self.not_measured),
+               "clips": self.clips.to_dicts() if items else None,
+               "reliability": None if rel is None else rel.to_dict(items=items)}
+        if not items:
+            del out["clips"]
+            out["items_left_out"] = list(ITEMS)
+        return out
 
     def to_text(self, *, top: int = 10) -> str:
         from ._report_text import render
