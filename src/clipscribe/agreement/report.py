@@ -51,11 +51,11 @@ class CaptionSummary:
                          "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
                          "recipe": b.recipe.to_dict()},
                 "flag_rule": FLAG_RULE,
-                "flagged": [c.to_dict() for c in b.flagged] if items else None,
+                "flagged": b.flagged_dicts() if items else None,
                 "cider": self.cider.to_dict(), "retrieval": self.retrieval.to_dict()}
         if not items:
             del out["flagged"]
-            out["n_flagged"] = sum(c.flagged for c in b.captions)
+            out["n_flagged"] = b.n_flagged
         return out
 
 
@@ -214,9 +214,9 @@ def caption_part(captions: Iterable[Sequence[Any]] | None, *, seed: int = 0,
                        for m in (rouge, chrf))
     summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
     acc: dict[Any, list] = {}
-    for one in loo.captions:
-        if not math.isnan(one.bleu):
-            acc.setdefault(one.clip, []).append(one.bleu)
+    for clip, bleu in zip(loo.captions.clips, loo.captions.bleu.tolist()):  # type: ignore[attr-defined]
+        if not math.isnan(bleu):
+            acc.setdefault(clip, []).append(bleu)
     return CaptionPart(summary, {k: float(np.mean(v)) for k, v in acc.items()},
                        cider.per_clip, writers, rows)
 
