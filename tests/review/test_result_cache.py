@@ -164,3 +164,25 @@ def test_json_text_equals_plain_json():
     value = {"a": [1, {"b": [2.5, None, "é"]}], "c": {}, "d": [], "e": {"f": {"g": {"h": [1]}}}}
     assert json.loads(json_text(value)) == value
     assert json.loads(json_text([])) == [] and json_text({"x": 1}) == '{\n  "x": 1\n}'
+
+
+def test_all_clip_labels_come_in_clip_then_name_order_whatever_the_ids(tmp_path, make_video):
+    """The whole-project read of clip labels (three id columns, ordered with numpy) gives the
+    rows, order and names of the per person reads."""
+    with Project.create(tmp_path / "p") as p:
+        p.define_labels(["stack", "push"])
+        clips = [p.add_clip(make_video(p.media_root / f"{i}.mp4", seed=i)) for i in range(3)]
+        for name in ("zoe", "amy", "max"):  # ids in another order than names
+            p.add_annotator(name)
+        for clip in reversed(clips):
+            for name, label in (("max", "push"), ("zoe", "stack"), ("amy", "push")):
+                if (clip, name) != (clips[1], "amy"):
+                    p.set_clip_label(clip, name, label)
+        p.set_clip_label(clips[0], "zoe", "push")  # an update keeps its row
+        p.set_clip_label(clips[2], "max", None)    # a cleared label is no row
+        per_person = sorted((r for n in ("zoe", "amy", "max") for r in p.clip_labels(annotator=n)),
+                            key=lambda r: (r[0], r[1]))
+        rows = p.clip_labels()
+        assert rows == per_person
+        assert rows[:3] == [(clips[0], "amy", "push"), (clips[0], "max", "push"), (clips[0], "zoe", "push")]
+        assert (clips[1], "amy", "push") not in rows and len(rows) == 7

@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, Mapping, Sequence
+from typing import Any, Mapping
 
 import numpy as np
 
@@ -21,15 +22,8 @@ class CiderResult:
     overall: float
     per_annotator: dict[str, float]
     per_clip: dict[Any, float]
-    captions: list[tuple[Any, str, float]]
+    captions: Sequence[tuple[Any, str, float]]
     recipe: Recipe = field(compare=False)
-
-    def __reduce__(self):
-        # a caption per row: stored as three columns, read back far faster than the tuples
-        clips, who, values = zip(*self.captions) if self.captions else ((), (), ())
-        return (_cider_from_columns, (self.overall, self.per_annotator, self.per_clip,
-                                      list(clips), list(who), np.asarray(values, dtype=float),
-                                      self.recipe))
 
     def to_dict(self) -> dict:
         f = (lambda v: None if math.isnan(v) else v)
@@ -38,8 +32,40 @@ class CiderResult:
                 "recipe": self.recipe.to_dict()}
 
 
-def _cider_from_columns(overall, per_annotator, per_clip, clips, who, values, recipe) -> CiderResult:
-    return CiderResult(overall, per_annotator, per_clip, list(zip(clips, who, values.tolist())), recipe)
+class CaptionValues(Sequence[tuple]):
+    """(clip, annotator, value) of every caption, kept as three columns; a row comes out as a
+    tuple when asked for (cheap to build, store and read back for a million captions)."""
+
+    __slots__ = ("clips", "authors", "values")
+
+    def __init__(self, clips: list, authors: list[str], values: np.ndarray) -> None:
+        self.clips, self.authors, self.values = clips, authors, values
+
+    def __len__(self) -> int:
+        return len(self.clips)
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return list(zip(self.clips[i], self.authors[i], self.values[i].tolist()))
+        i = range(len(self))[i]
+        return (self.clips[i], self.authors[i], float(self.values[i]))
+
+    def __iter__(self):
+        return zip(self.clips, self.authors, self.values.tolist())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence):
+            return NotImplemented
+        return len(self) == len(other) and all(a == b for a, b in zip(self, other))
+
+    def __repr__(self) -> str:
+        return f"CaptionValues({len(self)} captions)"
+
+    def __getstate__(self):
+        return (self.clips, self.authors, self.values)
+
+    def __setstate__(self, state) -> None:
+        self.clips, self.authors, self.values = state
 
 
 def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4,
@@ -93,8 +119,8 @@ def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4
     return CiderResult(float(scores[ok].mean()) if ok.any() else float("nan"),
                        {a: float(np.mean(v)) for a, v in sorted(by_ann.items())},
                        {c: float(np.mean(v)) for c, v in by_clip.items()},
-                       [(clip_keys[clip[i]], authors[i], float(scores[i]))
-                        for i in range(len(texts))], recipe)
+                       CaptionValues([clip_keys[c] for c in clip.tolist()], list(authors),
+                                     np.asarray(scores, dtype=float)), recipe)
 
 
 def _scores(index: NgramIndex, clip: np.ndarray, author: np.ndarray, n_clips: int,

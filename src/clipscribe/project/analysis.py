@@ -29,7 +29,7 @@ class Analysis(Service):
         labels = self._voting_labels(leads)
         segs = ([(g.clip, g.annotator, g.label, g.start, g.end) for g in self.peers.annotation.segments()
                  if g.annotator not in leads] if segments else None)
-        fps, frames = self._clip_frames()
+        fps, frames = self._clip_frames() if segs else (None, None)  # used for segments only
         part, covers = self._caption_part(leads, captions, seed, cache)
         rep = agreement_report(
             labels, segs, None, label_order=[l.name for l in self.peers.catalog.labels()],
