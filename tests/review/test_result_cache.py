@@ -160,10 +160,13 @@ def test_cli_json_is_the_report_dict_and_summary_leaves_out_only_the_rows(sample
 def test_json_text_equals_plain_json():
     import json
 
-    from clipscribe.cli.common import json_text
+    from clipscribe.review_report.jsontext import json_text
     value = {"a": [1, {"b": [2.5, None, "é"]}], "c": {}, "d": [], "e": {"f": {"g": {"h": [1]}}}}
     assert json.loads(json_text(value)) == value
     assert json.loads(json_text([])) == [] and json_text({"x": 1}) == '{\n  "x": 1\n}'
+    assert json_text({"a": [{"b": 1.5, "c": "é\n"}]}) == '{\n  "a": [\n    {"b": 1.5, "c": "é\\n"}\n  ]\n}'
+    with pytest.raises(ValueError):
+        json_text({"a": [float("nan")]}, allow_nan=False)
 
 
 def test_all_clip_labels_come_in_clip_then_name_order_whatever_the_ids(tmp_path, make_video):

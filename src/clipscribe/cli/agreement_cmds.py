@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import argparse
 
-from .common import json_text, open_project
+from ..review_report.jsontext import json_text
+from .common import open_project
 
 
 def cmd_agreement(args: argparse.Namespace) -> int:

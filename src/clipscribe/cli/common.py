@@ -89,21 +89,3 @@ def fail(exc: BaseException, project: str | None) -> int:
     print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
     return FAILED
 
-
-def json_text(value: object, *, depth: int = 2) -> str:
-    """``value`` as JSON: objects indented two spaces down to ``depth`` levels, each list item
-    and everything deeper on one line. The same content as ``json.dumps(indent=2)``, but
-    written by json's C encoder (``indent`` alone turns it off), so a report with a row per
-    clip of a 100k-clip project prints in a fraction of the time."""
-    import json
-
-    def text(v: object, level: int, pad: str) -> str:
-        inner = pad + "  "
-        if isinstance(v, dict) and v and level < depth:
-            body = ",\n".join(f"{inner}{json.dumps(str(k), ensure_ascii=False)}: {text(x, level + 1, inner)}"
-                              for k, x in v.items())
-            return "{\n" + body + "\n" + pad + "}"
-        if isinstance(v, list) and v and level <= depth:
-            return "[\n" + ",\n".join(inner + json.dumps(x, ensure_ascii=False) for x in v) + "\n" + pad + "]"
-        return json.dumps(v, ensure_ascii=False)
-    return text(value, 0, "")
