@@ -189,3 +189,17 @@ def test_all_clip_labels_come_in_clip_then_name_order_whatever_the_ids(tmp_path,
         assert rows == per_person
         assert rows[:3] == [(clips[0], "amy", "push"), (clips[0], "max", "push"), (clips[0], "zoe", "push")]
         assert (clips[1], "amy", "push") not in rows and len(rows) == 7
+
+
+def test_kept_caption_part_reads_back_equal(project):
+    import pickle
+
+    rep = project.agreement_report(n_boot=BOOT, cache=False)
+    again = pickle.loads(pickle.dumps(rep.captions))
+    assert list(again.bleu.captions) == list(rep.captions.bleu.captions)
+    assert again.bleu.captions == rep.captions.bleu.captions
+    assert list(again.cider.captions) == list(rep.captions.cider.captions)
+    assert again.bleu.flagged == rep.captions.bleu.flagged and again.bleu.n_flagged > 0
+    assert again.bleu.captions[-1] == list(rep.captions.bleu.captions)[-1]
+    assert again.bleu.captions[1:3] == list(rep.captions.bleu.captions)[1:3]
+    assert again.bleu.flagged_dicts() == [c.to_dict() for c in rep.captions.bleu.flagged]

@@ -12,7 +12,7 @@ import numpy as np
 from . import _checks
 from ._recipe import Recipe
 from .captions import NgramIndex, corpus_index, tokenizer
-from .loo import _flatten
+from .loo import _flatten, pack, unpack
 
 
 @dataclass(frozen=True)
@@ -62,10 +62,11 @@ class CaptionValues(Sequence[tuple]):
         return f"CaptionValues({len(self)} captions)"
 
     def __getstate__(self):
-        return (self.clips, self.authors, self.values)
+        return (pack(self.clips), pack(self.authors), self.values)
 
     def __setstate__(self, state) -> None:
-        self.clips, self.authors, self.values = state
+        clips, authors, self.values = state
+        self.clips, self.authors = unpack(clips), unpack(authors)
 
 
 def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4,

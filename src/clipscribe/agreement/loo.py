@@ -85,11 +85,11 @@ class CaptionScores(Sequence[CaptionScore]):
         return f"CaptionScores({len(self)} captions, {len(self.reasons)} flagged)"
 
     def __getstate__(self):
-        return tuple(getattr(self, k) for k in self.__slots__)
+        return (pack(self.clips), pack(self.authors), self.texts, self.bleu, self.median, self.reasons)
 
     def __setstate__(self, state) -> None:
-        for k, v in zip(self.__slots__, state):
-            setattr(self, k, v)
+        clips, authors, self.texts, self.bleu, self.median, self.reasons = state
+        self.clips, self.authors = unpack(clips), unpack(authors)
 
     def flagged(self) -> list[CaptionScore]:
         return [self._row(i) for i in sorted(self.reasons)]
@@ -101,6 +101,20 @@ class CaptionScores(Sequence[CaptionScore]):
                  "bleu": None if nan(b := float(self.bleu[i])) else b,
                  "clip_median": None if nan(m := float(self.median[i])) else m,
                  "flagged": True, "reason": self.reasons[i]} for i in sorted(self.reasons)]
+
+
+def pack(values: list) -> tuple:
+    """A column with few distinct values (clip ids, annotator names) as its distinct values
+    and one small integer per row: pickled and read back many times faster than the list."""
+    keys: dict = {}
+    codes = np.fromiter((keys.setdefault(v, len(keys)) for v in values), dtype=np.int64,
+                        count=len(values))
+    return list(keys), codes
+
+
+def unpack(packed: tuple) -> list:
+    keys, codes = packed
+    return [keys[i] for i in codes.tolist()]
 
 
 @dataclass(frozen=True)
