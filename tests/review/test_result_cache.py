@@ -203,3 +203,12 @@ def test_kept_caption_part_reads_back_equal(project):
     assert again.bleu.captions[-1] == list(rep.captions.bleu.captions)[-1]
     assert again.bleu.captions[1:3] == list(rep.captions.bleu.captions)[1:3]
     assert again.bleu.flagged_dicts() == [c.to_dict() for c in rep.captions.bleu.flagged]
+
+
+def test_clips_read_as_columns_equal_each_clip_read_alone(project):
+    rows = project.clips()
+    assert rows and rows == [project.clip(c.id) for c in rows]
+    label = project.clip_labels()[0][2]
+    some = project.clips(label=label, offset=1, limit=3)
+    labelled = sorted({c for c, _, l in project.clip_labels() if l == label})
+    assert [c.id for c in some] == labelled[1:4]
