@@ -212,3 +212,14 @@ def test_clips_read_as_columns_equal_each_clip_read_alone(project):
     some = project.clips(label=label, offset=1, limit=3)
     labelled = sorted({c for c, _, l in project.clip_labels() if l == label})
     assert [c.id for c in some] == labelled[1:4]
+
+
+def test_throughput_read_twice_follows_a_new_edit(project):
+    before = project.throughput()
+    assert project.throughput() == before
+    clip, who, label = project.clip_labels()[0]
+    other = next(l.name for l in project.labels() if l.name != label)
+    project.set_clip_label(clip, who, other)
+    after = project.throughput()
+    assert after[who].edits > before[who].edits  # the label, and the clip reopened for them
+    assert all(after[n].edits == before[n].edits for n in before if n != who)

@@ -505,5 +505,5 @@ def _all_clip_labels(s: Session) -> list[tuple[int, str, str]]:
     known = (rank[table[:, 1]] > 0) & np.isin(table[:, 2], list(labels))
     table = table[known]
     table = table[np.lexsort((rank[table[:, 1]], table[:, 0]))]
-    who, what = people.__getitem__, labels.__getitem__
-    return [(c, who(a), what(l)) for c, a, l in table.tolist()]
+    return list(zip(table[:, 0].tolist(), map(people.__getitem__, table[:, 1].tolist()),
+                    map(labels.__getitem__, table[:, 2].tolist())))
