@@ -1,7 +1,7 @@
 """Results kept between runs, keyed by what they depend on.
 
 A result (today: the caption part of the agreement report, the part that costs most) is stored
-in the project folder under ``.cache/results/`` with a key made of
+in the project folder under ``.clipscribe-cache/results/`` with a key made of
 
 * the **recipe**: which result, its settings (seed, sample size), the database it was read
   from, and a digest of the engine's source code (a changed metric never reuses old numbers);
@@ -41,7 +41,7 @@ from .context import Service
 T = TypeVar("T")
 
 #: where results are kept, below the project folder
-FOLDER = Path(".cache") / "results"
+FOLDER = Path(".clipscribe-cache") / "results"
 #: entries kept per kind of result (the newest ones)
 KEEP = 3
 #: per kind of result: the tables its stamp covers, and the edit-log entities that touch them
