@@ -2,13 +2,13 @@
 depends on changed, the recipe says so, and a changed label or caption never gets a stale
 number (every report equals the same report computed from scratch)."""
 
-import math
-
 import pytest
 
 from clipscribe import Project
 from clipscribe.cli import main
 from clipscribe.project.results import FOLDER
+
+from .test_report import same
 
 BOOT = 20
 CACHED = "caption part from the result cache"
@@ -20,21 +20,6 @@ def numbers(rep) -> dict:
     for key in ("note", "text"):
         d["recipe"].pop(key)
     return d
-
-
-def same(a, b, path="report"):
-    if isinstance(a, dict):
-        assert set(a) == set(b), path
-        for k in a:
-            same(a[k], b[k], f"{path}.{k}")
-    elif isinstance(a, list):
-        assert len(a) == len(b), path
-        for i, (x, y) in enumerate(zip(a, b)):
-            same(x, y, f"{path}[{i}]")
-    elif isinstance(a, float) and isinstance(b, float):
-        assert math.isclose(a, b, rel_tol=0, abs_tol=1e-12) or (math.isnan(a) and math.isnan(b)), path
-    else:
-        assert a == b, path
 
 
 def fresh(p):

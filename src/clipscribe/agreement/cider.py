@@ -12,7 +12,7 @@ import numpy as np
 from . import _checks
 from ._recipe import Recipe
 from .captions import NgramIndex, corpus_index, tokenizer
-from .loo import _flatten, pack, unpack
+from .loo import Columns, _flatten
 
 
 @dataclass(frozen=True)
@@ -32,41 +32,21 @@ class CiderResult:
                 "recipe": self.recipe.to_dict()}
 
 
-class CaptionValues(Sequence[tuple]):
+class CaptionValues(Columns):
     """(clip, annotator, value) of every caption, kept as three columns; a row comes out as a
     tuple when asked for (cheap to build, store and read back for a million captions)."""
 
     __slots__ = ("clips", "authors", "values")
+    _packed = ("clips", "authors")
 
     def __init__(self, clips: list, authors: list[str], values: np.ndarray) -> None:
         self.clips, self.authors, self.values = clips, authors, values
 
-    def __len__(self) -> int:
-        return len(self.clips)
-
-    def __getitem__(self, i):  # type: ignore[override]
-        if isinstance(i, slice):
-            return list(zip(self.clips[i], self.authors[i], self.values[i].tolist()))
-        i = range(len(self))[i]
+    def _row(self, i: int) -> tuple:
         return (self.clips[i], self.authors[i], float(self.values[i]))
 
     def __iter__(self):
         return zip(self.clips, self.authors, self.values.tolist())
-
-    def __eq__(self, other: object) -> bool:
-        if not isinstance(other, Sequence):
-            return NotImplemented
-        return len(self) == len(other) and all(a == b for a, b in zip(self, other))
-
-    def __repr__(self) -> str:
-        return f"CaptionValues({len(self)} captions)"
-
-    def __getstate__(self):
-        return (pack(self.clips), pack(self.authors), self.values)
-
-    def __setstate__(self, state) -> None:
-        clips, authors, self.values = state
-        self.clips, self.authors = unpack(clips), unpack(authors)
 
 
 def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4,

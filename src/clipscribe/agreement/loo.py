@@ -44,65 +44,6 @@ class CaptionScore:
                 "flagged": self.flagged, "reason": self.reason}
 
 
-class CaptionScores(Sequence[CaptionScore]):
-    """Every caption's score, kept as columns; an item comes out as a :class:`CaptionScore`
-    when asked for. A 100k-clip project has close to a million captions: as columns they are
-    built, stored and read back in a fraction of the time the objects take."""
-
-    __slots__ = ("clips", "authors", "texts", "bleu", "median", "reasons")
-
-    def __init__(self, clips: list, authors: list[str], texts: list[str], bleu: np.ndarray,
-                 median: np.ndarray, reasons: dict[int, str]) -> None:
-        self.clips, self.authors, self.texts = clips, authors, texts
-        self.bleu, self.median, self.reasons = bleu, median, reasons  # reasons: row -> why flagged
-
-    def __len__(self) -> int:
-        return len(self.texts)
-
-    def _row(self, i: int) -> CaptionScore:
-        why = self.reasons.get(i)
-        return CaptionScore(self.clips[i], self.authors[i], self.texts[i], float(self.bleu[i]),
-                            float(self.median[i]), why is not None, why)
-
-    def __getitem__(self, i):  # type: ignore[override]
-        if isinstance(i, slice):
-            return [self._row(j) for j in range(*i.indices(len(self)))]
-        return self._row(range(len(self))[i])
-
-    def __iter__(self):
-        why = self.reasons.get
-        for i, row in enumerate(zip(self.clips, self.authors, self.texts, self.bleu.tolist(),
-                                    self.median.tolist())):
-            reason = why(i)
-            yield CaptionScore(*row, reason is not None, reason)
-
-    def __eq__(self, other: object) -> bool:
-        if not isinstance(other, Sequence):
-            return NotImplemented
-        return len(self) == len(other) and all(a == b for a, b in zip(self, other))
-
-    def __repr__(self) -> str:
-        return f"CaptionScores({len(self)} captions, {len(self.reasons)} flagged)"
-
-    def __getstate__(self):
-        return (pack(self.clips), pack(self.authors), self.texts, self.bleu, self.median, self.reasons)
-
-    def __setstate__(self, state) -> None:
-        clips, authors, self.texts, self.bleu, self.median, self.reasons = state
-        self.clips, self.authors = unpack(clips), unpack(authors)
-
-    def flagged(self) -> list[CaptionScore]:
-        return [self._row(i) for i in sorted(self.reasons)]
-
-    def flagged_dicts(self) -> list[dict]:
-        """``[c.to_dict() for c in self.flagged()]``, built without the objects."""
-        nan = math.isnan
-        return [{"clip": str(self.clips[i]), "annotator": self.authors[i], "text": self.texts[i],
-                 "bleu": None if nan(b := float(self.bleu[i])) else b,
-                 "clip_median": None if nan(m := float(self.median[i])) else m,
-                 "flagged": True, "reason": self.reasons[i]} for i in sorted(self.reasons)]
-
-
 def pack(values: list) -> tuple:
     """A column with few distinct values (clip ids, annotator names) as its distinct values
     and one small integer per row: pickled and read back many times faster than the list."""
@@ -115,6 +56,79 @@ def pack(values: list) -> tuple:
 def unpack(packed: tuple) -> list:
     keys, codes = packed
     return [keys[i] for i in codes.tolist()]
+
+
+class Columns(Sequence):
+    """Base of per caption results kept as columns (one list or array per field, in
+    ``__slots__``); a row is built when asked for. Columns named in ``_packed`` (few distinct
+    values: clip ids, annotator names) pickle as :func:`pack` gives them."""
+
+    __slots__: tuple[str, ...] = ()
+    _packed: tuple[str, ...] = ()
+
+    def __len__(self) -> int:
+        return len(getattr(self, self.__slots__[0]))
+
+    def _row(self, i: int) -> Any:
+        raise NotImplementedError
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return [self._row(j) for j in range(*i.indices(len(self)))]
+        return self._row(range(len(self))[i])
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence):
+            return NotImplemented
+        return len(self) == len(other) and all(a == b for a, b in zip(self, other))
+
+    def __repr__(self) -> str:
+        return f"{type(self).__name__}({len(self)} captions)"
+
+    def __getstate__(self):
+        return tuple(pack(getattr(self, k)) if k in self._packed else getattr(self, k)
+                     for k in self.__slots__)
+
+    def __setstate__(self, state) -> None:
+        for k, v in zip(self.__slots__, state):
+            setattr(self, k, unpack(v) if k in self._packed else v)
+
+
+class CaptionScores(Columns):
+    """Every caption's score, kept as columns; an item comes out as a :class:`CaptionScore`
+    when asked for. A 100k-clip project has close to a million captions: as columns they are
+    built, stored and read back in a fraction of the time the objects take."""
+
+    __slots__ = ("clips", "authors", "texts", "bleu", "median", "reasons")
+    _packed = ("clips", "authors")
+
+    def __init__(self, clips: list, authors: list[str], texts: list[str], bleu: np.ndarray,
+                 median: np.ndarray, reasons: dict[int, str]) -> None:
+        self.clips, self.authors, self.texts = clips, authors, texts
+        self.bleu, self.median, self.reasons = bleu, median, reasons  # reasons: row -> why flagged
+
+    def _row(self, i: int) -> CaptionScore:
+        why = self.reasons.get(i)
+        return CaptionScore(self.clips[i], self.authors[i], self.texts[i], float(self.bleu[i]),
+                            float(self.median[i]), why is not None, why)
+
+    def __iter__(self):
+        why = self.reasons.get
+        for i, row in enumerate(zip(self.clips, self.authors, self.texts, self.bleu.tolist(),
+                                    self.median.tolist())):
+            reason = why(i)
+            yield CaptionScore(*row, reason is not None, reason)
+
+    def flagged(self) -> list[CaptionScore]:
+        return [self._row(i) for i in sorted(self.reasons)]
+
+    def flagged_dicts(self) -> list[dict]:
+        """``[c.to_dict() for c in self.flagged()]``, built without the objects."""
+        nan = math.isnan
+        return [{"clip": str(self.clips[i]), "annotator": self.authors[i], "text": self.texts[i],
+                 "bleu": None if nan(b := float(self.bleu[i])) else b,
+                 "clip_median": None if nan(m := float(self.median[i])) else m,
+                 "flagged": True, "reason": self.reasons[i]} for i in sorted(self.reasons)]
 
 
 @dataclass(frozen=True)
