@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 
-from ..review_report.jsontext import json_text
 from .common import open_project
 
 
@@ -12,6 +11,7 @@ def cmd_agreement(args: argparse.Namespace) -> int:
     with open_project(args) as p:
         rep = p.agreement_report(seed=args.seed, n_boot=args.boot, cache=not args.no_cache)
     if args.json:
+        from ..review_report.jsontext import json_text
         print(json_text(rep.to_dict(items=not args.summary)))
     else:
         print(rep.to_text(top=args.top))
