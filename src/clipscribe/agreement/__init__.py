@@ -24,7 +24,7 @@ from .loo import LooBleu, leave_one_out_bleu
 from .loo_overlap import LooOverlap, leave_one_out_chrf, leave_one_out_rouge_l
 from .reliability import CheckResult, ReliabilitySummary, reliability_summary
 from .proportion import Proportion, proportion, wilson_interval
-from .report import AgreementReport, agreement_report
+from .report import AgreementReport, CaptionPart, agreement_report, caption_part
 from .retrieval import RetrievalResult, caption_retrieval
 from .rouge import RougeScore, rouge_l
 from .segments import frame_agreement, match_segments, segment_matching, temporal_iou
@@ -39,4 +39,5 @@ __all__ = [
     "ChrfScore", "InferredLabels", "LooOverlap", "Proportion", "RougeScore", "corpus_chrf",
     "dawid_skene", "leave_one_out_chrf", "leave_one_out_rouge_l", "proportion", "rouge_l",
     "wilson_interval", "CheckResult", "ReliabilitySummary", "reliability_summary",
+    "CaptionPart", "caption_part",
 ]

@@ -3,15 +3,16 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, Mapping, Sequence
+from typing import Any, Mapping
 
 import numpy as np
 
 from . import _checks
 from ._recipe import Recipe
 from .captions import NgramIndex, corpus_index, tokenizer
-from .loo import _flatten
+from .loo import Columns, _flatten
 
 
 @dataclass(frozen=True)
@@ -21,7 +22,7 @@ class CiderResult:
     overall: float
     per_annotator: dict[str, float]
     per_clip: dict[Any, float]
-    captions: list[tuple[Any, str, float]]
+    captions: Sequence[tuple[Any, str, float]]
     recipe: Recipe = field(compare=False)
 
     def to_dict(self) -> dict:
@@ -29,6 +30,23 @@ class CiderResult:
         return {"overall": f(self.overall),
                 "per_annotator": {k: f(v) for k, v in self.per_annotator.items()},
                 "recipe": self.recipe.to_dict()}
+
+
+class CaptionValues(Columns):
+    """(clip, annotator, value) of every caption, kept as three columns; a row comes out as a
+    tuple when asked for (cheap to build, store and read back for a million captions)."""
+
+    __slots__ = ("clips", "authors", "values")
+    _packed = ("clips", "authors")
+
+    def __init__(self, clips: list, authors: list[str], values: np.ndarray) -> None:
+        self.clips, self.authors, self.values = clips, authors, values
+
+    def _row(self, i: int) -> tuple:
+        return (self.clips[i], self.authors[i], float(self.values[i]))
+
+    def __iter__(self):
+        return zip(self.clips, self.authors, self.values.tolist())
 
 
 def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4,
@@ -82,8 +100,8 @@ def cider_d(captions_by_clip: Mapping[Any, Sequence[Any]], *, max_order: int = 4
     return CiderResult(float(scores[ok].mean()) if ok.any() else float("nan"),
                        {a: float(np.mean(v)) for a, v in sorted(by_ann.items())},
                        {c: float(np.mean(v)) for c, v in by_clip.items()},
-                       [(clip_keys[clip[i]], authors[i], float(scores[i]))
-                        for i in range(len(texts))], recipe)
+                       CaptionValues([clip_keys[c] for c in clip.tolist()], list(authors),
+                                     np.asarray(scores, dtype=float)), recipe)
 
 
 def _scores(index: NgramIndex, clip: np.ndarray, author: np.ndarray, n_clips: int,

@@ -9,8 +9,10 @@ other annotators" is the top count, or the second one for the annotator who hold
 
 from __future__ import annotations
 
+import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, Mapping, Sequence
+from typing import Any, Mapping
 
 import numpy as np
 
@@ -42,18 +44,115 @@ class CaptionScore:
                 "flagged": self.flagged, "reason": self.reason}
 
 
+def pack(values: list) -> tuple:
+    """A column with few distinct values (clip ids, annotator names) as its distinct values
+    and one small integer per row: pickled and read back many times faster than the list."""
+    keys: dict = {}
+    codes = np.fromiter((keys.setdefault(v, len(keys)) for v in values), dtype=np.int64,
+                        count=len(values))
+    return list(keys), codes
+
+
+def unpack(packed: tuple) -> list:
+    keys, codes = packed
+    return [keys[i] for i in codes.tolist()]
+
+
+class Columns(Sequence):
+    """Base of per caption results kept as columns (one list or array per field, in
+    ``__slots__``); a row is built when asked for. Columns named in ``_packed`` (few distinct
+    values: clip ids, annotator names) pickle as :func:`pack` gives them."""
+
+    __slots__: tuple[str, ...] = ()
+    _packed: tuple[str, ...] = ()
+
+    def __len__(self) -> int:
+        return len(getattr(self, self.__slots__[0]))
+
+    def _row(self, i: int) -> Any:
+        raise NotImplementedError
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return [self._row(j) for j in range(*i.indices(len(self)))]
+        return self._row(range(len(self))[i])
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence):
+            return NotImplemented
+        return len(self) == len(other) and all(a == b for a, b in zip(self, other))
+
+    def __repr__(self) -> str:
+        return f"{type(self).__name__}({len(self)} captions)"
+
+    def __getstate__(self):
+        return tuple(pack(getattr(self, k)) if k in self._packed else getattr(self, k)
+                     for k in self.__slots__)
+
+    def __setstate__(self, state) -> None:
+        for k, v in zip(self.__slots__, state):
+            setattr(self, k, unpack(v) if k in self._packed else v)
+
+
+class CaptionScores(Columns):
+    """Every caption's score, kept as columns; an item comes out as a :class:`CaptionScore`
+    when asked for. A 100k-clip project has close to a million captions: as columns they are
+    built, stored and read back in a fraction of the time the objects take."""
+
+    __slots__ = ("clips", "authors", "texts", "bleu", "median", "reasons")
+    _packed = ("clips", "authors")
+
+    def __init__(self, clips: list, authors: list[str], texts: list[str], bleu: np.ndarray,
+                 median: np.ndarray, reasons: dict[int, str]) -> None:
+        self.clips, self.authors, self.texts = clips, authors, texts
+        self.bleu, self.median, self.reasons = bleu, median, reasons  # reasons: row -> why flagged
+
+    def _row(self, i: int) -> CaptionScore:
+        why = self.reasons.get(i)
+        return CaptionScore(self.clips[i], self.authors[i], self.texts[i], float(self.bleu[i]),
+                            float(self.median[i]), why is not None, why)
+
+    def __iter__(self):
+        why = self.reasons.get
+        for i, row in enumerate(zip(self.clips, self.authors, self.texts, self.bleu.tolist(),
+                                    self.median.tolist())):
+            reason = why(i)
+            yield CaptionScore(*row, reason is not None, reason)
+
+    def flagged(self) -> list[CaptionScore]:
+        return [self._row(i) for i in sorted(self.reasons)]
+
+    def flagged_dicts(self) -> list[dict]:
+        """``[c.to_dict() for c in self.flagged()]``, built without the objects."""
+        nan = math.isnan
+        return [{"clip": str(self.clips[i]), "annotator": self.authors[i], "text": self.texts[i],
+                 "bleu": None if nan(b := float(self.bleu[i])) else b,
+                 "clip_median": None if nan(m := float(self.median[i])) else m,
+                 "flagged": True, "reason": self.reasons[i]} for i in sorted(self.reasons)]
+
+
 @dataclass(frozen=True)
 class LooBleu:
     """Result of :func:`leave_one_out_bleu`."""
 
     overall: BleuScore
     per_annotator: dict[str, BleuScore]
-    captions: list[CaptionScore]
+    captions: Sequence[CaptionScore]
     recipe: Recipe = field(compare=False)
 
     @property
     def flagged(self) -> list[CaptionScore]:
-        return [c for c in self.captions if c.flagged]
+        caps = self.captions
+        return caps.flagged() if isinstance(caps, CaptionScores) else [c for c in caps if c.flagged]
+
+    @property
+    def n_flagged(self) -> int:
+        caps = self.captions
+        return len(caps.reasons) if isinstance(caps, CaptionScores) else sum(c.flagged for c in caps)
+
+    def flagged_dicts(self) -> list[dict]:
+        caps = self.captions
+        return caps.flagged_dicts() if isinstance(caps, CaptionScores) else [c.to_dict() for c in self.flagged]
 
 
 def _flatten(captions_by_clip: Mapping[Any, Sequence[Any]]):
@@ -229,16 +328,13 @@ def _clip_medians(clip: np.ndarray, sent: np.ndarray) -> tuple[np.ndarray, np.nd
     return out_med, out_k
 
 
-def _flag(clip, clip_keys, authors, texts, lengths, sent, margin) -> list[CaptionScore]:
+def _flag(clip, clip_keys, authors, texts, lengths, sent, margin) -> CaptionScores:
     median, scored = _clip_medians(clip, sent)
-    low = (scored >= 3) & (sent < median - margin)
-    out = []
-    for i, (c, a, t, s, med) in enumerate(zip(clip.tolist(), authors, texts, sent.tolist(),
-                                              median.tolist())):
-        reason = None
-        if lengths[i] == 0:
-            reason = "empty caption"
-        elif low[i]:
-            reason = f"BLEU {s:.1f} < clip median {med:.1f} - {margin:g}"
-        out.append(CaptionScore(clip_keys[c], a, t, s, med, reason is not None, reason))
-    return out
+    empty = lengths == 0
+    low = (scored >= 3) & (sent < median - margin) & ~empty
+    reasons = {i: "empty caption" for i in np.flatnonzero(empty).tolist()}
+    at = np.flatnonzero(low)
+    for i, s, med in zip(at.tolist(), sent[at].tolist(), median[at].tolist()):
+        reasons[i] = f"BLEU {s:.1f} < clip median {med:.1f} - {margin:g}"
+    return CaptionScores([clip_keys[c] for c in clip.tolist()], list(authors), list(texts),
+                         np.asarray(sent, dtype=float), np.asarray(median, dtype=float), reasons)

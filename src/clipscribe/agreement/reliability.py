@@ -44,9 +44,10 @@ class ReliabilitySummary:
     checks_reason: str | None = NO_CHECK_CLIPS
     n_check_clips: int = 0
 
-    def to_dict(self) -> dict:
+    def to_dict(self, *, items: bool = True) -> dict:
+        """JSON-safe dict; ``items=False`` leaves out the inferred label of every item."""
         inf = self.inferred
-        return {"inferred": None if inf is None else inf.to_dict(),
+        return {"inferred": None if inf is None else inf.to_dict(items=items),
                 "inferred_reason": self.inferred_reason,
                 "checks": [c.to_dict() for c in self.checks],
                 "checks_reason": self.checks_reason, "n_check_clips": self.n_check_clips}

@@ -42,16 +42,21 @@ class CaptionSummary:
     rouge_l: LooOverlap | None = None
     chrf: LooOverlap | None = None
 
-    def to_dict(self) -> dict:
+    def to_dict(self, *, items: bool = True) -> dict:
+        """JSON-safe dict; ``items=False`` leaves out the list of flagged captions."""
         b = self.bleu
-        return {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
+        out = {"rouge_l": None if self.rouge_l is None else self.rouge_l.to_dict(),
                 "chrf": None if self.chrf is None else self.chrf.to_dict(),
                 "bleu": {"overall": b.overall.to_dict(),
                          "per_annotator": {k: v.to_dict() for k, v in b.per_annotator.items()},
                          "recipe": b.recipe.to_dict()},
                 "flag_rule": FLAG_RULE,
-                "flagged": [c.to_dict() for c in b.flagged],
+                "flagged": b.flagged_dicts() if items else None,
                 "cider": self.cider.to_dict(), "retrieval": self.retrieval.to_dict()}
+        if not items:
+            del out["flagged"]
+            out["n_flagged"] = b.n_flagged
+        return out
 
 
 @dataclass(frozen=True)
@@ -90,6 +95,17 @@ class ClipTable:
     def __iter__(self):
         return (self.row(i) for i in range(len(self.clips)))
 
+    def to_dicts(self) -> list[dict]:
+        """Every row as :meth:`ClipScore.to_dict` gives it, built column by column."""
+        def plain(v: np.ndarray) -> list:
+            out = v.astype(object)
+            out[np.isnan(v)] = None
+            return out.tolist()
+        cols = [plain(v) for v in (self.label_disagreement, self.segment_f1, self.caption_bleu,
+                                   self.caption_cider)]
+        return [{"clip": str(c), "label_disagreement": a, "segment_f1": b, "caption_bleu": d,
+                 "caption_cider": e} for c, a, b, d, e in zip(self.clips, *cols)]
+
     def worst_first(self) -> np.ndarray:
         """Row order for review: most label disagreement, then lowest segment F1, then lowest
         caption BLEU; NaN sorts last within each key (our ordering)."""
@@ -98,6 +114,9 @@ class ClipTable:
         return np.lexsort((key(self.caption_bleu, 1), key(self.segment_f1, 1),
                            key(self.label_disagreement, -1)))
 
+
+#: what ``to_dict(items=False)`` leaves out (paths into the dict)
+ITEMS = ("clips", "captions.flagged", "reliability.inferred.items")
 
 #: why a part of the report is not measured (the part is None then), in plain words
 NO_LABELS = "no annotator has labelled a clip yet"
@@ -125,15 +144,22 @@ class AgreementReport:
         order = self.clips.worst_first()
         return [self.clips.row(int(i)) for i in (order if top is None else order[:top])]
 
-    def to_dict(self) -> dict:
-        """JSON-safe dict (NaN becomes None)."""
-        return {"recipe": self.recipe.to_dict(), "interpretation_source": CITATION,
-                "labels": None if self.labels is None else self.labels.to_dict(),
-                "segments": None if self.segments is None else self.segments.to_dict(),
-                "captions": None if self.captions is None else self.captions.to_dict(),
-                "not_measured": dict(self.not_measured),
-                "clips": [c.to_dict() for c in self.clips],
-                "reliability": None if self.reliability is None else self.reliability.to_dict()}
+    def to_dict(self, *, items: bool = True) -> dict:
+        """JSON-safe dict (NaN becomes None). ``items=False`` leaves out what grows with the
+        project: the per clip scores (``clips``), the flagged captions and the inferred label
+        of every clip; ``items_left_out`` then names them."""
+        rel = self.reliability
+        out = {"recipe": self.recipe.to_dict(), "interpretation_source": CITATION,
+               "labels": None if self.labels is None else self.labels.to_dict(),
+               "segments": None if self.segments is None else self.segments.to_dict(),
+               "captions": None if self.captions is None else self.captions.to_dict(items=items),
+               "not_measured": dict(self.not_measured),
+               "clips": self.clips.to_dicts() if items else None,
+               "reliability": None if rel is None else rel.to_dict(items=items)}
+        if not items:
+            del out["clips"]
+            out["items_left_out"] = list(ITEMS)
+        return out
 
     def to_text(self, *, top: int = 10) -> str:
         from ._report_text import render
@@ -145,6 +171,56 @@ class AgreementReport:
 OVERLAP_CLIPS = 2000
 
 
+@dataclass(frozen=True)
+class CaptionPart:
+    """The caption half of a report, which depends on the captions (and the seed) alone:
+    ``summary`` (None when no clip has captions from two people), per clip mean leave-one-out
+    BLEU and CIDEr-D, everyone who wrote a caption, how many caption rows there were, and
+    whether captions were left out of the report altogether."""
+
+    summary: CaptionSummary | None
+    clip_bleu: dict
+    clip_cider: dict
+    annotators: tuple[str, ...]
+    rows: int
+    left_out: bool = False
+
+
+def caption_part(captions: Iterable[Sequence[Any]] | None, *, seed: int = 0,
+                 overlap_clips: int | None = OVERLAP_CLIPS) -> CaptionPart:
+    """The caption part of :func:`agreement_report` for rows (clip, annotator, text), or the
+    empty part of a report that leaves captions out (``captions`` None)."""
+    seed = _checks.positive_int("seed", seed, minimum=0)
+    if captions is None:
+        return CaptionPart(None, {}, {}, (), 0, left_out=True)
+    by_clip: dict[Any, list] = {}
+    for n, row in enumerate(captions):
+        try:
+            clip, ann, text = row
+        except (TypeError, ValueError):
+            raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
+        by_clip.setdefault(clip, []).append((str(ann), text))
+    rows = sum(len(v) for v in by_clip.values())
+    writers = tuple(sorted({a for v in by_clip.values() for a, _ in v}))
+    if not any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
+        # caption consensus needs a clip captioned by two people; with none it is not measured
+        return CaptionPart(None, {}, {}, writers, rows)
+    loo = leave_one_out_bleu(by_clip)
+    cider = cider_d(by_clip)
+    sample, note = _clip_sample(by_clip, overlap_clips, seed)
+    rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
+    if note:
+        rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
+                       for m in (rouge, chrf))
+    summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
+    acc: dict[Any, list] = {}
+    for clip, bleu in zip(loo.captions.clips, loo.captions.bleu.tolist()):  # type: ignore[attr-defined]
+        if not math.isnan(bleu):
+            acc.setdefault(clip, []).append(bleu)
+    return CaptionPart(summary, {k: float(np.mean(v)) for k, v in acc.items()},
+                       cider.per_clip, writers, rows)
+
+
 def agreement_report(labels: Iterable[Sequence[Any]],
                      segments: Iterable[Sequence[Any]] | None = None,
                      captions: Iterable[Sequence[Any]] | None = None, *,
@@ -154,7 +230,8 @@ def agreement_report(labels: Iterable[Sequence[Any]],
                      n_boot: int = 1000, label_set_version: str | None = None,
                      reliability: bool = True, truth_model: str = "full",
                      known_answers: Mapping[Any, Any] | None = None,
-                     overlap_clips: int | None = OVERLAP_CLIPS) -> AgreementReport:
+                     overlap_clips: int | None = OVERLAP_CLIPS,
+                     captions_done: CaptionPart | None = None) -> AgreementReport:
     """Agreement of a whole project: labels, and optionally segments and captions.
 
     Parameters
@@ -176,6 +253,9 @@ def agreement_report(labels: Iterable[Sequence[Any]],
     overlap_clips : leave-one-out ROUGE-L and chrF are computed on at most this many clips
         captioned by two or more people (a seeded random sample above it, said in their
         recipes' note; default 2,000); None computes them on every clip.
+    captions_done : the :func:`caption_part` of ``captions`` (same ``seed`` and
+        ``overlap_clips``) computed earlier; given, ``captions`` is not read again. The caption
+        part is what costs most in a report, and it depends on the captions alone.
 
     Returns
     -------
@@ -211,34 +291,12 @@ def agreement_report(labels: Iterable[Sequence[Any]],
         pairs, seg_f1 = segment_matching(rows, fps=fps, annotated=worked)
         fa = frame_agreement(rows, frame_count, annotated=worked) if frame_count else None
         seg_summary = SegmentSummary(fa, pairs)
-    cap_summary, cap_bleu, cap_cider = None, {}, {}
-    by_clip: dict[Any, list] = {}
-    if captions is not None:
-        for n, row in enumerate(captions):
-            try:
-                clip, ann, text = row
-            except (TypeError, ValueError):
-                raise ValueError(f"captions[{n}] must be a (clip, annotator, text) tuple") from None
-            by_clip.setdefault(clip, []).append((str(ann), text))
-    if any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
-        # caption consensus needs a clip captioned by two people; with none it is not measured
-        loo = leave_one_out_bleu(by_clip)
-        cider = cider_d(by_clip)
-        sample, note = _clip_sample(by_clip, overlap_clips, seed)
-        rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
-        if note:
-            rouge, chrf = (dataclasses.replace(m, recipe=m.recipe.replace(note=note))
-                           for m in (rouge, chrf))
-        cap_summary = CaptionSummary(loo, cider, caption_retrieval(by_clip, seed=seed), rouge, chrf)
-        acc: dict[Any, list] = {}
-        for one in loo.captions:
-            if not math.isnan(one.bleu):
-                acc.setdefault(one.clip, []).append(one.bleu)
-        cap_bleu = {k: float(np.mean(v)) for k, v in acc.items()}
-        cap_cider = cider.per_clip
+    part = captions_done if captions_done is not None else caption_part(
+        captions, seed=seed, overlap_clips=overlap_clips)
+    cap_summary, cap_bleu, cap_cider = part.summary, part.clip_bleu, part.clip_cider
     clips = _clip_scores(summary, clip_list, seg_f1, cap_bleu, cap_cider)
     everyone = sorted(set(annotators) | {a for s in worked.values() for a in s}
-                      | {a for v in by_clip.values() for a, _ in v})
+                      | set(part.annotators))
     recipe = Recipe.make("report", "agreement", ordinal=ordinal, seed=seed, n_boot=n_boot,
                          n_raters=len(everyone), n_items=len(clips), annotators=everyone,
                          label_set_version=label_set_version)
@@ -250,7 +308,7 @@ def agreement_report(labels: Iterable[Sequence[Any]],
            "segments": None if seg_summary is not None else
            LEFT_OUT if segments is None else NO_SEGMENTS,
            "captions": None if cap_summary is not None else
-           LEFT_OUT if captions is None else ONE_CAPTIONER if by_clip else NO_CAPTIONS}
+           LEFT_OUT if part.left_out else ONE_CAPTIONER if part.rows else NO_CAPTIONS}
     return AgreementReport(summary, seg_summary, cap_summary, clips, recipe, rel,
                            {k: v for k, v in why.items() if v is not None})
 

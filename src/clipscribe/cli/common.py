@@ -88,3 +88,4 @@ def fail(exc: BaseException, project: str | None) -> int:
     kind = "error" if isinstance(exc, (MediaError, OSError)) else f"unexpected {type(exc).__name__}"
     print(f"clipscribe: {kind}: {exc}", file=sys.stderr)
     return FAILED
+

@@ -90,6 +90,7 @@ class Project:
     _suggestions = property(lambda self: self._peers.suggestions)
     _compute = property(lambda self: self._peers.compute)
     _checks = property(lambda self: self._peers.checks)
+    _results = property(lambda self: self._peers.results)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -862,13 +863,15 @@ class Project:
     # ---- analysis (Analysis) ------------------------------------------------------
     def agreement_report(
             self, *, captions: bool = True, segments: bool = True, seed: int = 0, n_boot: int = 1000,
-            truth_model: str = "full") -> AgreementReport:
+            truth_model: str = "full", cache: bool = True) -> AgreementReport:
         """Labels, segments and captions agreement over every annotator's work (leads' gold
         decisions excluded), with bootstrap confidence intervals resampling clips, and the
         annotator reliability section (``.reliability``: inferred labels by Dawid-Skene with
-        ``truth_model`` "full" or "one-coin", and check-clip accuracy)."""
+        ``truth_model`` "full" or "one-coin", and check-clip accuracy). The caption part is
+        kept in the project's result cache and reused while no caption changed (``cache=False``
+        computes everything now); the recipe's note says when a kept part was used."""
         return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot,
-                                               truth_model=truth_model)
+                                               truth_model=truth_model, cache=cache)
 
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""

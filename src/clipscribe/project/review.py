@@ -246,13 +246,23 @@ class Review(Service):
         stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
                 .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
                 .order_by(Edit.id))
-        out = []
-        for at, row_owner, who, clip in self.ctx.read(lambda s: s.execute(stmt).all()):
-            name = ids.get(row_owner) if row_owner is not None else None
-            name = name if name is not None else ids.get(who)
-            if name in workers:
-                out.append((at, name, clip))
-        return out
+        def q(s: Session) -> list[tuple[dt.datetime, str, int]]:
+            # the history only grows: its newest id and its length say whether it changed
+            # since the last read (throughput and the trend both read it for one board)
+            key = (tuple(s.execute(select(func.max(Edit.id), func.count(Edit.id))).one()),
+                   sorted(ids.items()), sorted(workers))
+            kept = getattr(self, "_events_kept", None)
+            if kept is not None and kept[0] == key:
+                return kept[1]
+            out = []
+            for at, row_owner, who, clip in s.execute(stmt):
+                name = ids.get(row_owner) if row_owner is not None else None
+                name = name if name is not None else ids.get(who)
+                if name in workers:
+                    out.append((at, name, clip))
+            self._events_kept = (key, out)
+            return out
+        return list(self.ctx.read(q))
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
         r"""Clips per hour per annotator from the edit history.

@@ -23,6 +23,7 @@ if TYPE_CHECKING:
     from .gold import Gold
     from .history import History
     from .records import Records
+    from .results import Results
     from .review import Review
     from .suggestions import Suggestions
     from .team import Team
@@ -37,7 +38,7 @@ SERVICES = {
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
     "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
-    "checks": ("checks", "Checks"),
+    "checks": ("checks", "Checks"), "results": ("results", "Results"),
 }
 
 
@@ -58,6 +59,7 @@ class Peers:
     suggestions: Suggestions
     compute: Compute
     checks: Checks
+    results: Results
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx

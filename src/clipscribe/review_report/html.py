@@ -13,6 +13,7 @@ from typing import Callable
 
 from . import reliability, tables
 from .board import board_data, board_figures, not_measured
+from .jsontext import json_text
 from .svg import to_svg
 
 CAUTIONS = (
@@ -143,7 +144,7 @@ def render_html(data: dict) -> str:
         "<h2>All numbers (JSON)</h2>",
         '<pre id="clipscribe-numbers" style="white-space: pre-wrap; font-size: 11px; '
         'max-height: 240px; overflow: auto;">'
-        + escape(json.dumps(data, ensure_ascii=False, indent=1, allow_nan=False)) + "</pre>",
+        + escape(json_text(data, allow_nan=False)) + "</pre>",
         "</body></html>",
     ]
     return "\n".join(parts)

@@ -1,0 +1,175 @@
+"""Results kept between runs, keyed by what they depend on.
+
+A result (today: the caption part of the agreement report, the part that costs most) is stored
+in the project folder under ``.clipscribe-cache/results/`` with a key made of
+
+* the **recipe**: which result, its settings (seed, sample size), the database it was read
+  from, and a digest of the engine's source code (a changed metric never reuses old numbers);
+* the **rows it was computed from**, stamped cheaply: for each table it reads, the row count,
+  the largest id and the sum of the row versions. Ids are never reused and every update bumps
+  a row's version, so an insert, an update or a delete moves the stamp;
+* the **edit log**: the entry remembers the newest edit id it saw, and is served only while
+  no later edit touched what it depends on (an undo that puts a deleted row back with its old
+  id is an edit too). Looking that up reads only the edits made since, so one new label does
+  not cost a scan of the log, and does not discard the caption part.
+
+Both are read from the database the project is open on, so two machines sharing a server
+never serve each other's stale numbers: whoever changed a row moved the stamp for everyone.
+Files are signed with a key kept in the user's own cache folder, so an entry copied in from
+elsewhere (a project folder received from someone else) is never unpickled; it is ignored and
+the result computed again. The folder holds its own ``.gitignore``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import json
+import os
+import pickle
+import secrets
+import time
+from pathlib import Path
+from typing import Any, Callable, TypeVar
+
+from sqlalchemy import func, select
+from sqlalchemy.orm import Session
+
+from ..store.models import Annotator, Caption, Edit
+from .context import Service
+
+T = TypeVar("T")
+
+#: where results are kept, below the project folder
+FOLDER = Path(".clipscribe-cache") / "results"
+#: entries kept per kind of result (the newest ones)
+KEEP = 3
+#: per kind of result: the tables its stamp covers, and the edit-log entities that touch them
+DEPENDS = {"captions": ((Caption, Annotator), ("caption", "annotator"))}
+_MAC = 32
+
+
+class Results(Service):
+    """The result cache of one open project (see the module's description)."""
+
+    def cached(self, kind: str, settings: dict[str, Any], compute: Callable[[], T]
+               ) -> tuple[T, dict[str, Any] | None]:
+        """``compute()``'s value for ``kind`` with ``settings``, from the cache when an entry
+        covers the current rows; else computed now and stored. Returns the value and, when it
+        came from the cache, what the entry covers (None when computed now)."""
+        tables, entities = DEPENDS[kind]
+        stamp, newest = self.ctx.read(lambda s: (_stamp(s, tables), _newest_edit(s)))
+        key = _key(kind, settings, stamp, self._database())
+        path = self._folder() / f"{kind}-{key[:32]}.pickle"
+        found = _load(path)
+        if found is not None:
+            covers, value = found
+            since = covers["edit"]
+            if since is not None and not self.ctx.read(lambda s: _edited_since(s, since, entities)):
+                return value, covers
+        value = compute()
+        covers = {"kind": kind, "key": key, "edit": newest, "rows": stamp, "settings": settings,
+                  "computed_at": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())}
+        _store(path, (covers, value))
+        return value, None
+
+    def _folder(self) -> Path:
+        return self.ctx.folder / FOLDER
+
+    def _database(self) -> str:
+        return self.ctx.engine.url.render_as_string(hide_password=True)
+
+
+def _stamp(s: Session, tables: tuple) -> dict[str, list]:
+    """Per table: row count, largest id, sum of versions (small tables: every row)."""
+    out: dict[str, list] = {}
+    for model in tables:
+        if model is Annotator:  # a handful of rows whose names and roles matter
+            out[model.__tablename__] = [list(r) for r in s.execute(
+                select(Annotator.id, Annotator.name, Annotator.role).order_by(Annotator.id))]
+        else:
+            n, top, versions = s.execute(select(func.count(), func.max(model.id),
+                                                func.coalesce(func.sum(model.version), 0))).one()
+            out[model.__tablename__] = [int(n), top, int(versions)]
+    return out
+
+
+def _newest_edit(s: Session) -> int | None:
+    return s.scalar(select(func.max(Edit.id)))
+
+
+def _edited_since(s: Session, edit: int, entities: tuple[str, ...]) -> bool:
+    """Whether an edit after ``edit`` touched one of ``entities`` (reads only newer edits)."""
+    return s.scalar(select(Edit.id).where(Edit.id > edit, Edit.entity.in_(entities)).limit(1)) is not None
+
+
+def _key(kind: str, settings: dict[str, Any], stamp: dict[str, list], database: str) -> str:
+    text = json.dumps({"kind": kind, "settings": settings, "rows": stamp, "database": database,
+                       "code": _code_digest()}, sort_keys=True, default=str)
+    return hashlib.sha256(text.encode()).hexdigest()
+
+
+_CODE: list[str] = []
+
+
+def _code_digest() -> str:
+    """Digest of the agreement engine's source files: new code never reuses old numbers."""
+    if not _CODE:
+        from .. import agreement
+        h = hashlib.sha256()
+        for f in sorted(Path(agreement.__file__).parent.glob("*.py")):
+            h.update(f.name.encode() + b"\0" + f.read_bytes())
+        _CODE.append(h.hexdigest())
+    return _CODE[0]
+
+
+def _secret() -> bytes:
+    """This user's signing key (made on first use, readable by the user alone)."""
+    import platformdirs
+    path = Path(platformdirs.user_cache_dir("clipscribe")) / "result-cache.key"
+    try:
+        return path.read_bytes()
+    except FileNotFoundError:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        key = secrets.token_bytes(32)
+        try:
+            fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        except FileExistsError:  # made meanwhile by another process
+            return path.read_bytes()
+        with os.fdopen(fd, "wb") as f:
+            f.write(key)
+        return key
+
+
+def _load(path: Path) -> Any | None:
+    try:
+        data = path.read_bytes()
+    except OSError:
+        return None
+    mac, body = data[:_MAC], data[_MAC:]
+    if len(mac) < _MAC or not hmac.compare_digest(mac, hmac.new(_secret(), body, "sha256").digest()):
+        return None  # not signed by this user: never unpickled
+    try:
+        return pickle.loads(body)
+    except Exception:  # noqa: BLE001 -- an entry from older code: computed again
+        return None
+
+
+def _store(path: Path, value: Any) -> None:
+    """Write an entry (to a temporary name, then renamed) and drop the oldest beyond KEEP;
+    a folder that cannot be written leaves the result uncached, nothing else."""
+    try:
+        body = pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)
+        path.parent.mkdir(parents=True, exist_ok=True)
+        ignore = path.parent.parent / ".gitignore"
+        if not ignore.exists():
+            ignore.write_text("# results clipscribe keeps between runs; safe to delete\n*\n")
+        tmp = path.with_name(f"{path.name}.{os.getpid()}.tmp")
+        tmp.write_bytes(hmac.new(_secret(), body, "sha256").digest() + body)
+        os.replace(tmp, path)
+        kind = path.name.split("-", 1)[0]
+        old = sorted(path.parent.glob(f"{kind}-*.pickle"), key=lambda p: p.stat().st_mtime)
+        for stale in old[:-KEEP]:
+            stale.unlink(missing_ok=True)
+    except OSError:
+        pass
