@@ -3,7 +3,7 @@ and on a 10-minute 1080p H.264 file (B-frames, GOP 250).
 
 Prints one JSON object. Run: PYTHONPATH=src python benchmarks/bench_media.py [--frames 300]
 [--long-minutes 10 | --long-minutes 0 to leave the long file out]. The long file and its
-reference digests are made once into benchmarks/.cache/ (git-ignored; making them takes minutes).
+reference digests are made once into benchmarks/out/ (git-ignored; making them takes minutes).
 
 The long-file cases (``long``), each beside the alternative:
 - frame index: the packet pass (``build_frame_index``) versus the decode pass;

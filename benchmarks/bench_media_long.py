@@ -1,7 +1,8 @@
 """The long-file cases of bench_media.py: a 1080p H.264 file of some minutes (B-frames, GOP 250).
 
 Run through bench_media.py (``--long-minutes``); the file and the digests of its frames (from
-one sequential ``read()`` pass) are made once into benchmarks/.cache/.
+one sequential ``read()`` pass) are made once into benchmarks/out/ (git-ignored), so repeated
+runs reuse them.
 """
 
 from __future__ import annotations
@@ -20,7 +21,7 @@ from bench_media import _peak_rss, digest, ms_stats, sequential_digests
 from clipscribe.media import open_video
 from clipscribe.media.index import build_frame_index, decode_index
 
-CACHE = Path(__file__).resolve().parent / ".cache"
+CACHE = Path(__file__).resolve().parent / "out"
 FPS = 30
 
 
