@@ -8,6 +8,7 @@ runs reuse them.
 from __future__ import annotations
 
 import json
+import os
 import random
 import statistics
 import subprocess
@@ -124,11 +125,14 @@ def random_cases(path: Path, ref: list[str], tmp: Path, samples: int) -> dict:
             ours.append(min(t for t, _ in got[run_ours]))
             n_exact += all(ok for _, ok in got[run_naive])
             o_exact += all(ok for _, ok in got[run_ours])
+        sparse = v.stats.get("sparse_seeks", 0) / max(v.stats["seeks"], 1)
     cap.release()
     no, nn = ms_stats(ours), ms_stats(naive)
     return {"samples": samples, "ours": no, "naive": nn,
             "p50_ratio": round(no["p50_ms"] / nn["p50_ms"], 3),
-            "exact_fraction": o_exact / samples, "naive_exact_fraction": n_exact / samples}
+            "mean_ratio": round(no["mean_ms"] / nn["mean_ms"], 3),
+            "exact_fraction": o_exact / samples, "naive_exact_fraction": n_exact / samples,
+            "sparse_seek_fraction": round(sparse, 3)}
 
 
 def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300) -> dict:
@@ -205,12 +209,14 @@ def long_cases(minutes: float, tmp: Path) -> dict:
     path = long_file(minutes)
     ref = reference(path)
     result: dict = {"file": {"size": "1920x1080", "codec": "h264", "gop": 250, "bframes": 3,
-                             "frames": len(ref), "bytes": path.stat().st_size}}
+                             "frames": len(ref), "bytes": path.stat().st_size},
+                    "load_average_at_start": [round(x, 2) for x in os.getloadavg()]}
     result["index"] = index_cases(path)
     result["first_far_frame"] = first_far_frame(path, ref, tmp, min(9000, len(ref) - 1))
     result["random_access"] = random_cases(path, ref, tmp, 30)
     result["stepping"] = stepping_cases(path, ref, tmp)
     result["memory"] = memory_cases(path)
+    result["load_average_at_end"] = [round(x, 2) for x in os.getloadavg()]
     i, f, r, s = (result["index"], result["first_far_frame"], result["random_access"],
                   result["stepping"])
     result["goals"] = {

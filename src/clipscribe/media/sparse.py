@@ -115,17 +115,27 @@ class SparseCapture:
     yielded that frame (grabbed, not yet retrieved) and goes on frame by frame."""
 
     def __init__(self, raw: cv2.VideoCapture, feed: PacketFeed, cap: cv2.VideoCapture) -> None:
-        self._raw, self._feed, self._cap = raw, feed, cap
+        # The decoder reads from the feed without holding a reference to it: keep the feed, and
+        # let the decoder go first (attributes are dropped in the order they were set).
+        self._cap = cap
+        self._raw = raw
+        self._feed = feed
 
     @classmethod
-    def open_at(cls, path: Path, index: FrameIndex, i: int,
-                threads: int | None = None) -> SparseCapture | None:
+    def open_at(cls, path: Path, index: FrameIndex, i: int, threads: int | None = None, *,
+                raw: cv2.VideoCapture | None = None) -> SparseCapture | None:
         """Position a decoder on frame ``i`` of ``path``; None when this file or keyframe does not
-        allow it (the caller then seeks the usual way)."""
+        allow it (the caller then seeks the usual way).
+
+        ``raw``: the demux-only capture of this file from a previous one (see
+        :meth:`take_demuxer`), spared opening the file again; released on failure.
+        """
         ts = np.round(index.timestamps_ms, _TS_DECIMALS)
         key = index.keyframe_at_or_before(i)
-        raw = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, [cv2.CAP_PROP_FORMAT, -1])
+        if raw is None:
+            raw = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, [cv2.CAP_PROP_FORMAT, -1])
         if not raw.isOpened():
+            raw.release()
             return None
         sparse = None
         try:
@@ -202,6 +212,11 @@ class SparseCapture:
     def release(self) -> None:
         self._cap.release()
         self._raw.release()
+
+    def take_demuxer(self) -> cv2.VideoCapture:
+        """Stop decoding and hand over the demux-only capture (for the next ``open_at``)."""
+        self._cap.release()
+        return self._raw
 
 
 def sparse_matches(path: str | os.PathLike, index: FrameIndex) -> bool:

@@ -355,7 +355,11 @@ class Video:
 
     def _sparse_seek(self, i: int) -> np.ndarray | None:
         """Frame ``i`` from a decoder given only the pictures it depends on, or None."""
-        sparse = SparseCapture.open_at(self.path, self._index, i, self._threads)
+        raw = None
+        if isinstance(self._cap, SparseCapture):
+            raw = self._cap.take_demuxer()
+            self._cap = self._file_cap
+        sparse = SparseCapture.open_at(self.path, self._index, i, self._threads, raw=raw)
         if sparse is None:
             return None
         self.stats["seeks"] += 1
