@@ -18,6 +18,20 @@ H264_IDR = ["h264-bframes.mp4", "h264.mov", "h264-odd444.mkv", "vfr-h264.mkv", "
 NOT_H264 = ["hevc.mp4", "vp9.webm", "mjpeg.avi", "mpeg4-bframes.mkv"]
 
 
+@pytest.fixture
+def any_size(monkeypatch):
+    """The test clips are small: let sparse seeks be used on them."""
+    monkeypatch.setattr(video_module, "SPARSE_MIN_WORK", 0)
+
+
+def test_small_files_keep_the_usual_seek(make_clip, tmp_path):
+    with open_video(make_clip("h264-bframes.mp4"), index_cache_dir=tmp_path, cache_bytes=0) as v:
+        v.wait_index(30)
+        v.frame(110)
+        v.frame(20)
+        assert v.stats["seeks"] > 0 and v.stats["sparse_seeks"] == 0
+
+
 @pytest.mark.parametrize("name", H264_IDR)
 def test_every_frame_reached_sparsely_equals_sequential_decode(name, make_clip, reference):
     path, ref = make_clip(name), reference(name)
@@ -62,7 +76,7 @@ def test_other_codecs_are_not_reached_sparsely(name, make_clip):
     assert not sparse_matches(path, index)
 
 
-def test_keyframes_that_are_not_idr_pictures_use_the_usual_seek(make_clip, reference, tmp_path):
+def test_keyframes_that_are_not_idr_pictures_use_the_usual_seek(make_clip, reference, tmp_path, any_size):
     """Open GOPs: pictures after a non-IDR keyframe may refer to pictures before it."""
     name = "h264-opengop.mkv"
     path, ref = make_clip(name), reference(name)
@@ -77,7 +91,7 @@ def test_keyframes_that_are_not_idr_pictures_use_the_usual_seek(make_clip, refer
         assert v.stats["seeks"] > v.stats["sparse_seeks"]
 
 
-def test_video_seeks_sparsely_and_stays_exact(make_clip, reference, tmp_path):
+def test_video_seeks_sparsely_and_stays_exact(make_clip, reference, tmp_path, any_size):
     name = "h264-bframes.mp4"
     path, ref = make_clip(name), reference(name)
     with open_video(path, index_cache_dir=tmp_path, cache_bytes=0) as v:
@@ -88,7 +102,7 @@ def test_video_seeks_sparsely_and_stays_exact(make_clip, reference, tmp_path):
         assert v.stats["sparse_seeks"] == v.stats["seeks"]
 
 
-def test_backward_steps_across_keyframes_equal_fresh_exact_seeks(make_clip, reference, tmp_path):
+def test_backward_steps_across_keyframes_equal_fresh_exact_seeks(make_clip, reference, tmp_path, any_size):
     """Stepping back from frame 110 to 0 crosses the keyframes at 100 and 50; each step equals
     the frame a fresh video reaches by one seek."""
     name = "h264-bframes.mp4"
@@ -107,7 +121,7 @@ def test_backward_steps_across_keyframes_equal_fresh_exact_seeks(make_clip, refe
 
 
 def test_a_file_that_fails_the_check_is_seeked_the_usual_way(make_clip, reference, tmp_path,
-                                                             monkeypatch):
+                                                             monkeypatch, any_size):
     """If leaving pictures out changed the pixels (here: pictures that are referenced are taken
     for unreferenced ones), the check finds it and every seek is the usual one."""
     name = "h264-bframes.mp4"
@@ -126,7 +140,7 @@ def test_a_file_that_fails_the_check_is_seeked_the_usual_way(make_clip, referenc
         assert v.stats["seeks"] > 0 and v.stats["sparse_seeks"] == 0
 
 
-def test_forward_decoding_is_kept_for_near_targets(make_clip, tmp_path):
+def test_forward_decoding_is_kept_for_near_targets(make_clip, tmp_path, any_size):
     name = "h264-bframes.mp4"
     with open_video(make_clip(name), index_cache_dir=tmp_path, cache_bytes=0) as v:
         v.wait_index(30)

@@ -50,6 +50,11 @@ FORWARD_LIMIT = 64
 #: while it decodes fewer frames than this share of the way from the keyframe (about the share
 #: of referenced pictures a sparse seek decodes in streams with B-frames).
 SPARSE_SHARE = 0.6
+#: Sparse seeks are used where a seek decodes enough to pay for opening a second decoder and for
+#: the check of the file: pixels per frame x mean keyframe interval of at least this much (a
+#: 640x360 file with keyframes every 4 seconds at 30 frames per second; below it a usual seek
+#: takes milliseconds).
+SPARSE_MIN_WORK = 640 * 360 * 120
 #: How long after opening a far request waits for the packet pass to start (its checks take a
 #: fraction of a second) before it decodes forward from the start instead.
 EARLY_WAIT_S = 1.0
@@ -161,7 +166,7 @@ class Video:
                     self.cache.clear()
                     self._pos = _AT_END  # and the decoder's count: the next request seeks
             self._index = index
-            self._sparse_ok = index.method == "packets" and _sparse_matches(self.path, index)
+            self._sparse_ok = self._sparse_worth_it(index) and _sparse_matches(self.path, index)
         except JobCancelled:
             pass
         except BaseException as exc:  # noqa: BLE001 - kept and re-raised by wait_index
@@ -173,6 +178,11 @@ class Video:
             scan = self._scan
             if scan is not None:
                 scan.publish()
+
+    def _sparse_worth_it(self, index: FrameIndex) -> bool:
+        interval = index.frame_count / max(len(index.keyframes), 1)
+        return (index.method == "packets"
+                and self._size[0] * self._size[1] * interval >= SPARSE_MIN_WORK)
 
     def _use_scan(self, scan: PacketScan | None) -> None:
         self._scan = scan
