@@ -89,6 +89,7 @@ def test_keyframes_that_are_not_idr_pictures_use_the_usual_seek(make_clip, refer
         for i in random.Random(3).sample(range(len(ref)), 40):
             assert np.array_equal(v.frame(i), ref[i])
         assert v.stats["seeks"] > v.stats["sparse_seeks"]
+        assert set(later) <= v._sparse_refused  # remembered: not tried again
 
 
 def test_video_seeks_sparsely_and_stays_exact(make_clip, reference, tmp_path, any_size):

@@ -89,6 +89,7 @@ class Video:
         #: the decoder frames come from: the file's capture, or a SparseCapture after a sparse seek
         self._cap: cv2.VideoCapture | SparseCapture = self._file_cap
         self._sparse_ok = False  # set once the index is ready and sparse seeks proved exact
+        self._sparse_refused: set[int] = set()  # keyframes a sparse seek cannot start from
         ok, first = self._cap.read()
         if not ok or first is None:
             self._cap.release()
@@ -371,6 +372,7 @@ class Video:
             self._cap = self._file_cap
         sparse = SparseCapture.open_at(self.path, self._index, i, self._threads, raw=raw)
         if sparse is None:
+            self._sparse_refused.add(self._index.keyframe_at_or_before(i))
             return None
         self.stats["seeks"] += 1
         self.stats["sparse_seeks"] += 1
@@ -385,7 +387,8 @@ class Video:
 
     def _seek(self, i: int, idx: FrameIndex) -> np.ndarray:
         """Seek near ``i``, learn the landed frame from its timestamp, decode forward to ``i``."""
-        if self._sparse_ok and idx is self._index:
+        if (self._sparse_ok and idx is self._index
+                and idx.keyframe_at_or_before(i) not in self._sparse_refused):
             arr = self._sparse_seek(i)
             if arr is not None:
                 return arr
