@@ -177,7 +177,7 @@ class SparseCapture:
         feed.passed = 1
         params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, int(threads)]
         try:
-            cap = cv2.VideoCapture(feed, cv2.CAP_FFMPEG, params)
+            cap = cv2.VideoCapture(feed, cv2.CAP_FFMPEG, params)  # type: ignore[call-overload]
         except (cv2.error, TypeError):  # an OpenCV that cannot read from a Python stream
             return None
         if not cap.isOpened():
@@ -242,8 +242,8 @@ def sparse_matches(path: str | os.PathLike, index: FrameIndex) -> bool:
         for j in range(target, stop):
             if j > target and not sparse.grab():
                 return False
-            ok, frame = sparse.retrieve()
-            if not ok or frame is None or not np.array_equal(frame, expected[j]):
+            ok, got = sparse.retrieve()
+            if not ok or got is None or not np.array_equal(got, expected[j]):
                 return False
         return True
     finally:

@@ -364,15 +364,15 @@ class Video:
         self._use(self._file_cap)
         self._pos = 0
 
-    def _sparse_seek(self, i: int) -> np.ndarray | None:
+    def _sparse_seek(self, i: int, idx: FrameIndex) -> np.ndarray | None:
         """Frame ``i`` from a decoder given only the pictures it depends on, or None."""
         raw = None
         if isinstance(self._cap, SparseCapture):
             raw = self._cap.take_demuxer()
             self._cap = self._file_cap
-        sparse = SparseCapture.open_at(self.path, self._index, i, self._threads, raw=raw)
+        sparse = SparseCapture.open_at(self.path, idx, i, self._threads, raw=raw)
         if sparse is None:
-            self._sparse_refused.add(self._index.keyframe_at_or_before(i))
+            self._sparse_refused.add(idx.keyframe_at_or_before(i))
             return None
         self.stats["seeks"] += 1
         self.stats["sparse_seeks"] += 1
@@ -389,7 +389,7 @@ class Video:
         """Seek near ``i``, learn the landed frame from its timestamp, decode forward to ``i``."""
         if (self._sparse_ok and idx is self._index
                 and idx.keyframe_at_or_before(i) not in self._sparse_refused):
-            arr = self._sparse_seek(i)
+            arr = self._sparse_seek(i, idx)
             if arr is not None:
                 return arr
         ts = idx.timestamps_ms
@@ -401,7 +401,7 @@ class Video:
             targets.append(int(idx.keyframes[k]))
             k -= 1
         self._use(self._file_cap)
-        cap = self._cap
+        cap = self._file_cap
         for target in targets:
             # OpenCV numbers frames by presentation time x nominal rate (relative to frame 0).
             number = int(round((ts[target] - ts[0]) * fps / 1000.0))
