@@ -233,17 +233,18 @@ def sparse_matches(path: str | os.PathLike, index: FrameIndex) -> bool:
         return False
     plain = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
     try:
-        expected = []
-        for _ in range(stop):
-            ok, frame = plain.read()
+        for j in range(stop):  # frame by frame, holding two frames at a time
+            if j < target:
+                if not plain.grab():
+                    return False
+                continue
+            ok, expected = plain.read()
             if not ok:
                 return False
-            expected.append(frame)
-        for j in range(target, stop):
             if j > target and not sparse.grab():
                 return False
             ok, got = sparse.retrieve()
-            if not ok or got is None or not np.array_equal(got, expected[j]):
+            if not ok or got is None or not np.array_equal(got, expected):
                 return False
         return True
     finally:

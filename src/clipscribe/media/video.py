@@ -48,8 +48,10 @@ from .sparse import SparseCapture, sparse_matches
 FORWARD_LIMIT = 64
 #: Farther ahead in the same keyframe interval, decoding forward is chosen over a sparse seek
 #: while it decodes fewer frames than this share of the way from the keyframe (about the share
-#: of referenced pictures a sparse seek decodes in streams with B-frames).
+#: of referenced pictures a sparse seek decodes in streams with B-frames) plus what opening the
+#: second decoder costs, in frames (measured at 360p to 1080p: 10 to 25).
 SPARSE_SHARE = 0.6
+SPARSE_OPEN_FRAMES = 24
 #: Sparse seeks are used where a seek decodes enough to pay for opening a second decoder and for
 #: the check of the file: pixels per frame x mean keyframe interval of at least this much (a
 #: 640x360 file with keyframes every 4 seconds at 30 frames per second; below it a usual seek
@@ -307,7 +309,8 @@ class Video:
         key = idx.keyframe_at_or_before(i)
         if self._pos < key:
             return False
-        return not (self._sparse_ok and idx is self._index and ahead > SPARSE_SHARE * (i - key))
+        sparse_cost = SPARSE_SHARE * (i - key) + SPARSE_OPEN_FRAMES
+        return not (self._sparse_ok and idx is self._index and ahead > sparse_cost)
 
     def _backward_run(self, i: int, idx: FrameIndex) -> np.ndarray:
         """Stepping backward: decode the frames before ``i`` that the cache can hold, up to and
