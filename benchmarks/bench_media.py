@@ -10,7 +10,8 @@ The long-file cases (``long``), each beside the alternative:
 - frame 9,000 of a never-seen file (fresh index folder, open included) versus opening a capture
   and the naive ``cap.set(CAP_PROP_POS_FRAMES, i); cap.read()``;
 - cold random access (index ready, cache emptied before each frame) versus the naive seek;
-- stepping forward and stepping backward near the end versus a raw ``read()`` loop;
+- stepping forward and stepping backward near the end versus a raw ``read()`` loop, the three
+  alternating in blocks of 20 frames (median and range of three runs);
 - peak memory (VmHWM of a fresh process) of random access plus stepping, ours versus naive.
 
 Measured side by side in the same run:
