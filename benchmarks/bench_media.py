@@ -3,14 +3,15 @@ and on a 10-minute 1080p H.264 file (B-frames, GOP 250).
 
 Prints one JSON object. Run: PYTHONPATH=src python benchmarks/bench_media.py [--frames 300]
 [--long-minutes 10 | --long-minutes 0 to leave the long file out]. The long file and its
-reference digests are made once into benchmarks/.cache/ (git-ignored; making them takes minutes).
+reference digests are made once into benchmarks/out/ (git-ignored; making them takes minutes).
 
 The long-file cases (``long``), each beside the alternative:
 - frame index: the packet pass (``build_frame_index``) versus the decode pass;
 - frame 9,000 of a never-seen file (fresh index folder, open included) versus opening a capture
   and the naive ``cap.set(CAP_PROP_POS_FRAMES, i); cap.read()``;
 - cold random access (index ready, cache emptied before each frame) versus the naive seek;
-- stepping forward and stepping backward near the end versus a raw ``read()`` loop;
+- stepping forward and stepping backward near the end versus a raw ``read()`` loop, the three
+  alternating in blocks of 20 frames (median and range of three runs);
 - peak memory (VmHWM of a fresh process) of random access plus stepping, ours versus naive.
 
 Measured side by side in the same run:

@@ -1,12 +1,14 @@
 """The long-file cases of bench_media.py: a 1080p H.264 file of some minutes (B-frames, GOP 250).
 
 Run through bench_media.py (``--long-minutes``); the file and the digests of its frames (from
-one sequential ``read()`` pass) are made once into benchmarks/.cache/.
+one sequential ``read()`` pass) are made once into benchmarks/out/ (git-ignored), so repeated
+runs reuse them.
 """
 
 from __future__ import annotations
 
 import json
+import os
 import random
 import statistics
 import subprocess
@@ -20,7 +22,7 @@ from bench_media import _peak_rss, digest, ms_stats, sequential_digests
 from clipscribe.media import open_video
 from clipscribe.media.index import build_frame_index, decode_index
 
-CACHE = Path(__file__).resolve().parent / ".cache"
+CACHE = Path(__file__).resolve().parent / "out"
 FPS = 30
 
 
@@ -123,50 +125,74 @@ def random_cases(path: Path, ref: list[str], tmp: Path, samples: int) -> dict:
             ours.append(min(t for t, _ in got[run_ours]))
             n_exact += all(ok for _, ok in got[run_naive])
             o_exact += all(ok for _, ok in got[run_ours])
+        sparse = v.stats.get("sparse_seeks", 0) / max(v.stats["seeks"], 1)
     cap.release()
     no, nn = ms_stats(ours), ms_stats(naive)
     return {"samples": samples, "ours": no, "naive": nn,
             "p50_ratio": round(no["p50_ms"] / nn["p50_ms"], 3),
-            "exact_fraction": o_exact / samples, "naive_exact_fraction": n_exact / samples}
+            "mean_ratio": round(no["mean_ms"] / nn["mean_ms"], 3),
+            "exact_fraction": o_exact / samples, "naive_exact_fraction": n_exact / samples,
+            "sparse_seek_fraction": round(sparse, 3)}
 
 
-def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300) -> dict:
+def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300,
+                   block: int = 20, runs: int = 3) -> dict:
+    """Forward steps from a third of the way in and backward steps from the end, beside a raw
+    ``read()`` loop. The arms alternate in blocks of ``block`` frames within one run, so a
+    change of the machine's load falls on both; each run gives its own ratios, and the median
+    and range of the runs are reported."""
     n = len(ref)
     start = n // 3
-    raws, fwds, bwds, exact = [], [], [], True
-    for _ in range(3):
+    fwd_ratios, bwd_ratios, raw_fps, fwd_fps, bwd_fps, exact, runs_decoded = [], [], [], [], [], True, 0
+
+    def timed(fn, frames) -> float:
+        t = time.perf_counter()
+        for i in frames:
+            fn(i)
+        return time.perf_counter() - t
+
+    for _ in range(runs):
         cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
         cap.set(cv2.CAP_PROP_POS_FRAMES, start)
-        t = time.perf_counter()
-        for _ in range(steps):
-            cap.read()
-        raws.append(steps / (time.perf_counter() - t))
-        cap.release()
-        with open_video(path, index_cache_dir=tmp / "index") as v:
+        raw_s = fwd_s = bwd_s = 0.0
+        with open_video(path, index_cache_dir=tmp / "index") as v, \
+                open_video(path, index_cache_dir=tmp / "index") as back:
             v.wait_index()
+            back.wait_index()
             v.frame(start)
-            t = time.perf_counter()
-            for i in range(start + 1, start + 1 + steps):
-                v.frame(i)
-            fwds.append(steps / (time.perf_counter() - t))
-            v.frame(n - 1)
-            t = time.perf_counter()
-            for i in range(n - 2, n - 2 - steps, -1):
-                v.frame(i)
-            bwds.append(steps / (time.perf_counter() - t))
-            runs = v.stats["back_runs"]
+            back.frame(n - 1)
+            for b in range(0, steps, block):
+                raw_s += timed(lambda i: cap.read(), range(block))
+                fwd_s += timed(v.frame, range(start + 1 + b, start + 1 + b + block))
+                bwd_s += timed(back.frame, range(n - 2 - b, n - 2 - b - block, -1))
+            runs_decoded = back.stats["back_runs"]
             # exactness of both, checked after the timed loops on a fresh cache
             v.cache.clear()
             v.frame(start)
             exact &= all(digest(v.frame(i)) == ref[i] for i in range(start + 1, start + 1 + steps))
-            v.cache.clear()
-            v.frame(n - 1)
-            exact &= all(digest(v.frame(i)) == ref[i] for i in range(n - 2, n - 2 - steps, -1))
-    raw, fwd, bwd = max(raws), max(fwds), max(bwds)
-    return {"steps": steps, "raw_read_fps": round(raw, 1), "forward_fps": round(fwd, 1),
-            "forward_ratio": round(fwd / raw, 3), "backward_fps_near_end": round(bwd, 1),
-            "backward_ratio": round(bwd / raw, 3), "backward_runs_decoded": runs,
-            "exact": exact}
+            back.cache.clear()
+            back.frame(n - 1)
+            exact &= all(digest(back.frame(i)) == ref[i] for i in range(n - 2, n - 2 - steps, -1))
+        cap.release()
+        raw_fps.append(steps / raw_s)
+        fwd_fps.append(steps / fwd_s)
+        bwd_fps.append(steps / bwd_s)
+        fwd_ratios.append(raw_s / fwd_s)
+        bwd_ratios.append(raw_s / bwd_s)
+
+    def spread(values: list[float]) -> dict:
+        return {"median": round(statistics.median(values), 3), "min": round(min(values), 3),
+                "max": round(max(values), 3)}
+
+    return {"steps": steps, "block": block, "runs": runs,
+            "raw_read_fps": round(statistics.median(raw_fps), 1),
+            "forward_fps": round(statistics.median(fwd_fps), 1),
+            "backward_fps_near_end": round(statistics.median(bwd_fps), 1),
+            "forward_ratio": round(statistics.median(fwd_ratios), 3),
+            "forward_ratio_runs": spread(fwd_ratios),
+            "backward_ratio": round(statistics.median(bwd_ratios), 3),
+            "backward_ratio_runs": spread(bwd_ratios),
+            "backward_runs_decoded": runs_decoded, "exact": exact}
 
 
 def memory_child(who: str, path: str) -> None:
@@ -204,12 +230,14 @@ def long_cases(minutes: float, tmp: Path) -> dict:
     path = long_file(minutes)
     ref = reference(path)
     result: dict = {"file": {"size": "1920x1080", "codec": "h264", "gop": 250, "bframes": 3,
-                             "frames": len(ref), "bytes": path.stat().st_size}}
+                             "frames": len(ref), "bytes": path.stat().st_size},
+                    "load_average_at_start": [round(x, 2) for x in os.getloadavg()]}
     result["index"] = index_cases(path)
     result["first_far_frame"] = first_far_frame(path, ref, tmp, min(9000, len(ref) - 1))
     result["random_access"] = random_cases(path, ref, tmp, 30)
     result["stepping"] = stepping_cases(path, ref, tmp)
     result["memory"] = memory_cases(path)
+    result["load_average_at_end"] = [round(x, 2) for x in os.getloadavg()]
     i, f, r, s = (result["index"], result["first_far_frame"], result["random_access"],
                   result["stepping"])
     result["goals"] = {
