@@ -18,13 +18,18 @@ from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
 
+from sqlalchemy import func, select
+
 from .. import agreement, export, media
 from ..errors import RecordError
-from ..store.models import Setting
+from ..store.models import Clip, Setting
 from .context import Service
 
 Progress = Callable[[int, int], None] | None
 ASSIGNMENT_KEY = "export.assignment"
+#: worker processes when a plan is asked to compute missing fingerprints (0: in this process;
+#: ``clipscribe compute`` and :meth:`Project.compute` choose their own)
+FINGERPRINT_WORKERS = 0
 
 
 class Exporting(Service):
@@ -47,6 +52,22 @@ class Exporting(Service):
         if progress:
             progress(len(todo), len(todo))
         return len(todo)
+
+    def missing_fingerprints(self) -> int:
+        """How many clips have no perceptual fingerprint (one count query): the near-duplicate
+        check of an export cannot cover them until they are computed."""
+        return self.ctx.read(lambda s: s.scalar(
+            select(func.count(Clip.id)).where(Clip.fingerprint.is_(None)))) or 0
+
+    def _compute_missing(self, compute_missing: bool, progress: Progress,
+                         cancel: threading.Event | None) -> None:
+        """Fingerprints of the clips that lack one, through the compute path, when asked.
+
+        A check never computes them unasked: a clip without one is reported as not checked for
+        near duplicates (the ``no-fingerprint`` finding, counted in the manifest)."""
+        if compute_missing and self.missing_fingerprints():
+            self.peers.compute.compute(["fingerprint"], workers=FINGERPRINT_WORKERS,
+                                       progress=progress, cancel=cancel)
 
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
@@ -109,8 +130,13 @@ class Exporting(Service):
                     hamming_radius: int = 8, caption_threshold: float = 0.9,
                     progress: Progress = None, captions: str = "gold",
                     segments: str = "gold+best", labels: str = "majority",
-                    min_posterior: float = 0.9) -> export.ExportPlan:
+                    min_posterior: float = 0.9, compute_missing: bool = False,
+                    cancel: threading.Event | None = None) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
+
+        Fingerprints are not computed here unless ``compute_missing`` (then first, with
+        ``progress`` and ``cancel``); clips without one are reported as not checked for near
+        duplicates (see :meth:`missing_fingerprints`).
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
         export manifest (or its folder) uses that manifest's assignment instead. ``captions``
@@ -125,7 +151,7 @@ class Exporting(Service):
         manifest). Gold wins under either rule.
         """
         self._require_lead("export")
-        self.compute_fingerprints(progress=progress)
+        self._compute_missing(compute_missing, progress, cancel)
         if frozen is None:
             frozen = self.ctx.read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
                                            if s.get(Setting, ASSIGNMENT_KEY) else {}))
@@ -168,11 +194,13 @@ class Exporting(Service):
                    min_agreement: float = 0.6, hamming_radius: int = 8,
                    caption_threshold: float = 0.9, progress: Progress = None,
                    captions: str = "gold", segments: str = "gold+best", labels: str = "majority",
-                   min_posterior: float = 0.9) -> list[export.ExportPlan]:
+                   min_posterior: float = 0.9, compute_missing: bool = False,
+                   cancel: threading.Event | None = None) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
-        groups), each planned and leakage-checked like a single export; writes nothing."""
+        groups), each planned and leakage-checked like a single export; writes nothing.
+        Missing fingerprints as in :meth:`plan_export`."""
         self._require_lead("export")
-        self.compute_fingerprints(progress=progress)
+        self._compute_missing(compute_missing, progress, cancel)
         try:
             inputs, inference = self._inputs(labels)
             opts = dict(project=self.ctx.settings.name, seed=seed,

@@ -844,12 +844,18 @@ class Project:
         """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
         return self._exporting.compute_fingerprints(progress=progress, cancel=cancel)
 
+    def missing_fingerprints(self) -> int:
+        """How many clips have no perceptual fingerprint: an export's near-duplicate check
+        cannot cover them (compute them with ``compute(["fingerprint"])`` or
+        ``plan_export(compute_missing=True)``)."""
+        return self._exporting.missing_fingerprints()
+
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
         return self._exporting.export_inputs()
 
     def plan_export(
-            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> export.ExportPlan:
+            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9, compute_missing: bool = False, cancel: threading.Event | None = None) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -864,8 +870,13 @@ class Project:
         ``"majority"`` (``min_agreement``) or ``"inferred"`` (the label Dawid-Skene infers,
         when its posterior is at least ``min_posterior``; recorded with the inference's
         recipe). Gold wins under either rule.
+
+        Fingerprints are never computed inside the check unasked: clips without one are
+        reported as not checked for near duplicates (a ``no-fingerprint`` finding, counted in
+        the manifest). ``compute_missing=True`` computes them first through the compute path,
+        reporting to ``progress`` and stopped by ``cancel`` (see :meth:`missing_fingerprints`).
         """
-        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
+        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior, compute_missing=compute_missing, cancel=cancel)
 
     def write_export(
             self, out_dir: str | os.PathLike, plan: export.ExportPlan, *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, overwrite: bool = False, progress: Progress = None, cancel: threading.Event | None = None):
@@ -874,10 +885,11 @@ class Project:
         return self._exporting.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt, override_reason=override_reason, overwrite=overwrite, progress=progress, cancel=cancel)
 
     def plan_folds(
-            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> list[export.ExportPlan]:
+            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9, compute_missing: bool = False, cancel: threading.Event | None = None) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
-        groups), each planned and leakage-checked like a single export; writes nothing."""
-        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
+        groups), each planned and leakage-checked like a single export; writes nothing.
+        Missing fingerprints as in :meth:`plan_export`."""
+        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior, compute_missing=compute_missing, cancel=cancel)
 
     def write_folds(
             self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, progress: Progress = None, cancel: threading.Event | None = None) -> list:

@@ -87,6 +87,8 @@ def build_sample(folder: str | os.PathLike, *, seed: int = 7) -> dict:
             clip = p.add_clip(dst, group=cell.name, source="rendered sample scene (invented)",
                               licence="CC0-1.0", consent=True)
             actions.append((clip, act))
+        # as a project looks after 'clipscribe compute': exports check near duplicates at once
+        p.compute(["fingerprint"], workers=0)
         pace = _Pace(seed, people)
         for clip, act in actions:
             _annotate(p, rng, clip, act, people, pace)
