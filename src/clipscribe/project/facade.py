@@ -35,6 +35,7 @@ from ..types import (
     CommentNote,
     ComputeReport,
     DisputedClip,
+    DisputedOrder,
     EditInfo,
     GoldCaptionInfo,
     IngestReport,
@@ -90,6 +91,7 @@ class Project:
     _suggestions = property(lambda self: self._peers.suggestions)
     _compute = property(lambda self: self._peers.compute)
     _checks = property(lambda self: self._peers.checks)
+    _disputed = property(lambda self: self._peers.disputed)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -724,7 +726,8 @@ class Project:
 
     def review_queue(
             self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False,
-            rank_by: str = "disputed") -> list[DisputedClip]:
+            rank_by: str = "disputed", provisional: bool = False, order: DisputedOrder | None = None,
+            offset: int = 0, limit: int | None = None) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
@@ -735,9 +738,26 @@ class Project:
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
         clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
-        it. Leads only.
+        it; ``provisional=True`` computes none and orders by label disagreement alone.
+        ``order`` (from :meth:`review_order`, with the ``report`` it was made from) skips
+        ordering again; ``offset``/``limit`` give one page of rows. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by, provisional=provisional, order=order, offset=offset, limit=limit)
+
+    def review_order(
+            self, *, report: Any = None, label: str | None = None, annotator: str | None = None,
+            group: str | None = None, flagged: bool = False, rank_by: str = "disputed") -> DisputedOrder:
+        """The clip ids of :meth:`review_queue` in its order, with their ranks, and no rows
+        built (cheap for 100k clips). Without ``report`` the order is provisional: by label
+        disagreement alone, ties by clip id. Rows of a page: :meth:`review_rows`. Leads only."""
+        return self._disputed.review_order(report=report, label=label, annotator=annotator, group=group, flagged=flagged, rank_by=rank_by)
+
+    def review_rows(self, order: DisputedOrder, start: int = 0, stop: int | None = None, *,
+                    report: Any = None) -> list[DisputedClip]:
+        """The :meth:`review_queue` rows of ``order.clips[start:stop]``, read for those clips
+        alone and scored by ``report`` (the one the order was made from; without one, label
+        disagreement only). Leads only."""
+        return self._disputed.review_rows(order, start, stop, report=report)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""

@@ -19,6 +19,7 @@ if TYPE_CHECKING:
     from .clip_facts import ClipFacts
     from .compute import Compute
     from .context import Context
+    from .disputed import Disputed
     from .exporting import Exporting
     from .gold import Gold
     from .history import History
@@ -37,7 +38,7 @@ SERVICES = {
     "review": ("review", "Review"), "analysis": ("analysis", "Analysis"),
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
     "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
-    "checks": ("checks", "Checks"),
+    "checks": ("checks", "Checks"), "disputed": ("disputed", "Disputed"),
 }
 
 
@@ -58,6 +59,7 @@ class Peers:
     suggestions: Suggestions
     compute: Compute
     checks: Checks
+    disputed: Disputed
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx
