@@ -38,6 +38,11 @@ def _chunks(ids: Sequence[int]):
         yield list(ids[k:k + CHUNK])
 
 
+def _ints(s: Session, stmt) -> np.ndarray:
+    """One integer column as an array, through the session's connection (no ORM row layer)."""
+    return np.fromiter(s.connection().execute(stmt).scalars(), dtype=np.int64)
+
+
 def _disagreement(labels: Sequence[str]) -> float:
     """1 - share of the most common label (NaN without a vote)."""
     if not labels:
@@ -98,44 +103,66 @@ class Disputed(Service):
             return q(None)
         return [v for part in _chunks(clips) for v in q(part)]
 
+    def _vote_arrays(self, s: Session, workers: dict[int, str]) -> tuple[np.ndarray, ...]:
+        """(clip, annotator id, label id) arrays of the votes: the workers' labels, less those
+        left on a clip their annotator skipped. One column per query, in row order, so 300k
+        labels cost no Python object per row beyond the ints."""
+        cols = [_ints(s, select(col).order_by(ClipLabel.id))
+                for col in (ClipLabel.clip_id, ClipLabel.annotator_id, ClipLabel.label_id)]
+        clip, who, lab = cols
+        keep = np.isin(who, np.fromiter(workers, dtype=np.int64, count=len(workers)))
+        skipped = [c * (1 << 32) + a for c, a in s.execute(
+            select(Assignment.clip_id, Assignment.annotator_id).where(
+                Assignment.state == "skipped"))]
+        if skipped:
+            keep &= ~np.isin(clip * (1 << 32) + who, np.asarray(skipped, dtype=np.int64))
+        return clip[keep], who[keep], lab[keep]
+
     def _order(self, s: Session, report: Any, label: str | None, annotator: str | None,
                group: str | None, flagged: bool, rank_by: str) -> DisputedOrder:
         workers = self._workers(s)
-        groups = {c: g for c, g in s.execute(select(Clip.id, Clip.group_key))}
-        votes = self._votes(s, workers)
+        exists = _ints(s, select(Clip.id).order_by(Clip.id))
+        v_clip, v_who, v_lab = self._vote_arrays(s, workers)
         if report is not None:
             table = report.clips
-            ranked = [int(table.clips[i]) for i in table.worst_first()]
-        else:
-            by_clip: dict[int, list[str]] = {}
-            for c, _a, lab in votes:
-                by_clip.setdefault(c, []).append(lab)
-            ranked = sorted(by_clip, key=lambda c: (-_disagreement(by_clip[c]), c))
-        seen = set(ranked)
-        ranked += [c for c in sorted(groups) if c not in seen]  # nobody worked on them: last
-        keep = {c for c in ranked if c in groups}  # clips of the report that still exist
+            ranked = np.asarray([int(table.clips[i]) for i in table.worst_first()],
+                                dtype=np.int64)
+        else:  # most label disagreement first, ties by clip id
+            pair, n_pair = np.unique(v_clip * (1 << 32) + v_lab, return_counts=True)
+            voted, at = np.unique(pair >> 32, return_inverse=True)
+            top = np.zeros(len(voted), dtype=np.int64)
+            np.maximum.at(top, at, n_pair)
+            per_clip = np.bincount(np.searchsorted(voted, v_clip), minlength=len(voted))
+            dis = 1.0 - top / np.maximum(per_clip, 1)
+            ranked = voted[np.lexsort((voted, -dis))]
+        # nobody worked on the rest: last, by id
+        ranked = np.concatenate([ranked, exists[~np.isin(exists, ranked)]])
+        keep = np.isin(ranked, exists)  # clips of the report that still exist
         if label is not None:
-            keep &= {c for c, _a, lab in votes if lab == label}
+            lab_id = s.scalar(select(Label.id).where(Label.name == label))
+            keep &= np.isin(ranked, v_clip[v_lab == (-1 if lab_id is None else lab_id)])
         if annotator is not None:
             who = self.ctx.annotator(s, annotator)
-            worked = {c for c, a, _ in votes if a == who.id}
+            worked = set(v_clip[v_who == who.id].tolist())
             for model in (Segment, Caption):
                 worked.update(s.scalars(select(model.clip_id).where(model.annotator_id == who.id)))
-            keep &= worked
+            keep &= np.isin(ranked, np.fromiter(worked, dtype=np.int64, count=len(worked)))
         if group is not None:
-            keep &= {c for c, g in groups.items() if g == group}
+            keep &= np.isin(ranked, _ints(s, select(Clip.id).where(Clip.group_key == group)))
         if flagged:
-            keep &= set(s.scalars(select(Assignment.clip_id).where(
-                Assignment.state == "skipped"))) | {c for c, a in s.execute(
-                    select(Assignment.clip_id, Assignment.annotator_id).where(
-                        Assignment.state == "unsure")) if a in workers}
-        rows = [(c, i + 1) for i, c in enumerate(ranked) if c in keep]
+            marked = {c for c, a, st in s.execute(
+                select(Assignment.clip_id, Assignment.annotator_id, Assignment.state).where(
+                    Assignment.state.in_(("skipped", "unsure"))))
+                if st == "skipped" or a in workers}
+            keep &= np.isin(ranked, np.fromiter(marked, dtype=np.int64, count=len(marked)))
+        idx = np.flatnonzero(keep)
+        clips, ranks = ranked[idx].tolist(), (idx + 1).tolist()
         if rank_by == "least-certain":
             best = inferred_best(report) if report is not None else {}
-            rows.sort(key=lambda r: (r[0] not in best, best.get(r[0], ("", 0.0))[1]))
-            rows = [(c, i + 1) for i, (c, _) in enumerate(rows)]
-        return DisputedOrder(tuple(c for c, _ in rows), tuple(r for _, r in rows),
-                             provisional=report is None, rank_by=rank_by)
+            clips = sorted(clips, key=lambda c: (c not in best, best.get(c, ("", 0.0))[1]))
+            ranks = list(range(1, len(clips) + 1))
+        return DisputedOrder(tuple(clips), tuple(ranks), provisional=report is None,
+                             rank_by=rank_by)
 
     # ---- the rows of a page ---------------------------------------------------------------
     def review_rows(self, order: DisputedOrder, start: int = 0, stop: int | None = None, *,
