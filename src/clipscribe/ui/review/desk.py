@@ -119,7 +119,9 @@ class ReviewDesk(QWidget):
         self.queue_view.verticalHeader().setVisible(False)
         self.queue_view.setWordWrap(False)
         hh = self.queue_view.horizontalHeader()
-        hh.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        # columns fitted once per new order (see _ranked), not on every change: fitting to
+        # the contents measures every row given to the view
+        hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         hh.setStretchLastSection(True)
         ll.addWidget(self.queue_view, 1)
         self.queue_note = QLabel()
@@ -292,6 +294,7 @@ class ReviewDesk(QWidget):
             self.report, self._caption_scores = report, captions
         current = self.cmp.clip.id if self.cmp else None
         self.queue_model.set_order(order, first, report)
+        self.queue_view.resizeColumnsToContents()
         n = len(order)
         settled = sum(1 for r in first if r.settled)
         if not final:

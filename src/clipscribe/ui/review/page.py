@@ -40,6 +40,7 @@ class ReviewPage(QTabWidget):
     def shutdown(self) -> None:
         self.desk.close_media()
         self.runner.wait()
+        self.board.runner.cancel_all()  # stops between parts; a part under way runs out
         self.board.runner.wait()
 
     def _tab(self, i: int) -> None:
