@@ -48,6 +48,19 @@ def inferred_posteriors(report: Any) -> dict[int, dict[str, float]]:
                                                              inf.posterior_matrix.tolist())}
 
 
+def _posterior_of(report: Any, clip: int) -> dict[str, float]:
+    """{label: posterior} of one clip (as :func:`inferred_posteriors` has it), found without
+    building the others'."""
+    rel = getattr(report, "reliability", None)
+    inf = rel.inferred if rel is not None else None
+    if inf is None:
+        return {}
+    at = next((i for i, it in enumerate(inf.items) if int(it) == clip), None)
+    if at is None:
+        return {}
+    return dict(zip((str(c) for c in inf.label_order), inf.posterior_matrix[at].tolist()))
+
+
 def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[int]]:
     """Clips (in ``order``) grouped by the ISO week of their last label; undated clips left out."""
     out: dict[str, list[int]] = {}
@@ -155,11 +168,11 @@ class Review(Service):
                 caps.setdefault(c.annotator, []).append(c)
         names = sorted(set(labels) | set(segs) | set(caps) | set(skipped) | set(unsure))
         scores: dict[str, float] = {}
-        posterior = inferred_posteriors(report).get(info.id, {}) if report is not None else {}
-        if report is not None:
-            row = next((r for r in report.clips if int(r.clip) == info.id), None)
-            if row is not None:
-                scores = {k: v for k, v in row.to_dict().items() if k != "clip"}
+        posterior = _posterior_of(report, info.id) if report is not None else {}
+        if report is not None:  # one row of the report's table (no row objects for the rest)
+            at = next((i for i, c in enumerate(report.clips.clips) if int(c) == info.id), None)
+            if at is not None:
+                scores = {k: v for k, v in report.clips.row(at).to_dict().items() if k != "clip"}
         return ClipComparison(
             info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
             caps, self.peers.gold.gold_labels().get(info.id),

@@ -18,6 +18,7 @@ from ...review_report.board import (
     BOARD_PARTS, board_data, board_figures, board_parts, confusion_figure, throughput_figure,
     trend_figure,
 )
+from ...review_report.figures import note_figure
 from ..workers import Job, JobRunner
 from .paint import FigureView
 
@@ -28,6 +29,17 @@ LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",
           # annotator reliability panel, and the other caption consensus measures
           (2, 0): ("reliability",), (2, 1): ("check_accuracy",),
           (2, 2): ("caption_rouge_l", "caption_chrf")}
+
+#: panel -> its title while its numbers are on the way
+WAITING = {"label_alpha": "Label agreement", "pairwise": "Pairwise Cohen kappa",
+           "confusion": "Confusion matrix", "trend": "Label agreement over time",
+           "caption_bleu": "Caption consensus: leave-one-out BLEU",
+           "caption_cider": "Caption consensus: CIDEr-D",
+           "throughput": "Throughput: clips per hour of working time",
+           "reliability": "Annotator reliability", "check_accuracy": "Check clips",
+           "caption_rouge_l": "Caption consensus: leave-one-out ROUGE-L",
+           "caption_chrf": "Caption consensus: leave-one-out chrF"}
+WAITING_NOTE = "Waiting for the numbers…"
 
 
 class FocusFigure(FigureView):
@@ -63,6 +75,7 @@ class AgreementBoard(QWidget):
         top.addWidget(self.summary, 1)
         self.pair = QComboBox()
         self.pair.setAccessibleName("Annotator pair of the confusion matrix")
+        self.pair.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.pair.currentIndexChanged.connect(self._pair_changed)
         top.addWidget(QLabel("Confusion of:"))
         top.addWidget(self.pair)
@@ -137,6 +150,10 @@ class AgreementBoard(QWidget):
             self.job.cancel()
         self.refresh_button.setEnabled(False)
         self.summary.setText("Computing agreement…")
+        if self.data is None:  # (a recompute keeps the numbers shown until new ones arrive)
+            for name, view in self.figs.items():
+                view.set_figure(note_figure(WAITING[name], WAITING_NOTE, width=300))
+            self.fit_figures()
         p, n = self.project, self.n_boot
 
         def compute(cancel, progress):  # worker thread

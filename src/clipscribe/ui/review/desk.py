@@ -398,9 +398,15 @@ class ReviewDesk(QWidget):
         self.caption_view.setEnabled(True)
         c = cmp.clip
         sc = cmp.scores
-        missing = self.report.not_measured if self.report is not None else {}
+        missing = ({p: "not measured" for p in self.report.not_measured}
+                   if self.report is not None else {})
+        if self.report is None:  # provisional: the queue's label disagreement, the rest to come
+            at = self.queue_model.row_of(c.id)
+            row = self.queue_model.get(at) if at is not None else None
+            sc = {"label_disagreement": row.label_disagreement} if row is not None else {}
+            missing = {"segments": "computing…", "captions": "computing…"}
         nums = "  ·  ".join(
-            f"{k}: {'not measured' if part in missing else _fmt(sc.get(key), f)}"
+            f"{k}: {missing[part] if part in missing else _fmt(sc.get(key), f)}"
             for k, key, f, part in (
                 ("label disagreement", "label_disagreement", "{:.2f}", "labels"),
                 ("segment F1", "segment_f1", "{:.2f}", "segments"),
