@@ -37,20 +37,9 @@ from .context import Service
 MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
 
 
-def inferred_posteriors(report: Any) -> dict[int, dict[str, float]]:
-    """{clip id: {label: posterior}} from a report's reliability part ({} when not inferred)."""
-    rel = getattr(report, "reliability", None)
-    inf = rel.inferred if rel is not None else None
-    if inf is None:
-        return {}
-    cats = [str(c) for c in inf.label_order]
-    return {int(it): dict(zip(cats, row)) for it, row in zip(inf.items,
-                                                             inf.posterior_matrix.tolist())}
-
-
 def _posterior_of(report: Any, clip: int) -> dict[str, float]:
-    """{label: posterior} of one clip (as :func:`inferred_posteriors` has it), found without
-    building the others'."""
+    """{label: posterior} of one clip from a report's reliability part ({} when not
+    inferred), found without building the other clips'."""
     rel = getattr(report, "reliability", None)
     inf = rel.inferred if rel is not None else None
     if inf is None:
