@@ -41,13 +41,19 @@ def _open(qtbot, open_window, sample, tmp_path, view):
                        settings=QSettings(str(tmp_path / "w.ini"), QSettings.Format.IniFormat))
 
 
-def test_desk_is_usable_on_a_provisional_order_before_the_report(qtbot, open_window, sample,
-                                                                 tmp_path, held_report):
-    gate, calls = held_report
+def _usable_desk(qtbot, open_window, sample, tmp_path):
+    """(window, project, desk) once the desk is usable (the report may still be held)."""
     w, p = _open(qtbot, open_window, sample, tmp_path, "review")
     desk = w.review_desk.desk
     with qtbot.waitSignal(desk.usable, timeout=WAIT):
         pass
+    return w, p, desk
+
+
+def test_desk_is_usable_on_a_provisional_order_before_the_report(qtbot, open_window, sample,
+                                                                 tmp_path, held_report):
+    gate, calls = held_report
+    w, p, desk = _usable_desk(qtbot, open_window, sample, tmp_path)
     assert calls and threading.main_thread() not in calls        # the report: off the UI thread
     assert desk.ranking is not None and desk.report is None       # ... and still held
     m = desk.queue_model
@@ -68,10 +74,7 @@ def test_desk_is_usable_on_a_provisional_order_before_the_report(qtbot, open_win
 def test_a_clip_the_lead_chose_stays_open_when_the_order_arrives(qtbot, open_window, sample,
                                                                  tmp_path, held_report):
     gate, _ = held_report
-    w, p = _open(qtbot, open_window, sample, tmp_path, "review")
-    desk = w.review_desk.desk
-    with qtbot.waitSignal(desk.usable, timeout=WAIT):
-        pass
+    w, p, desk = _usable_desk(qtbot, open_window, sample, tmp_path)
     chosen = desk.queue_model.clip_at(5)
     desk.queue_view.selectRow(5)                                  # as a click on the row
     assert desk.cmp.clip.id == chosen
@@ -83,10 +86,7 @@ def test_a_clip_the_lead_chose_stays_open_when_the_order_arrives(qtbot, open_win
 
 def test_a_superseded_ranking_is_dropped(qtbot, open_window, sample, tmp_path, held_report):
     gate, _ = held_report
-    w, p = _open(qtbot, open_window, sample, tmp_path, "review")
-    desk = w.review_desk.desk
-    with qtbot.waitSignal(desk.usable, timeout=WAIT):
-        pass
+    w, p, desk = _usable_desk(qtbot, open_window, sample, tmp_path)
     old = desk.ranking
     desk.by_group.setCurrentIndex(desk.by_group.findData("cell-east"))  # a newer request
     assert old.cancel_event.is_set() and desk.ranking is not old

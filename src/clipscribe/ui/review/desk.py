@@ -244,12 +244,13 @@ class ReviewDesk(QWidget):
         self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
 
     # ---- the queue ----------------------------------------------------------------------
-    def reload_queue(self, *, keep: bool = False) -> Job:
+    def reload_queue(self, *, keep: bool = False, quick: bool = True) -> Job:
         """Re-rank the clips (on opening, after gold changes, on a filter change) on the worker
         pool, in two steps: a provisional order by label disagreement alone (a fraction of a
-        second on 100k clips) shows its first page at once; the agreement report's order
-        replaces it when the report is ready. A newer request supersedes one still running;
-        its results are dropped."""
+        second on 100k clips) shows its first page at once (unless ``quick`` is False: after
+        a decision the order shown stays until the new one is ready); the agreement report's
+        order replaces it when the report is ready. A newer request supersedes one still
+        running; its results are dropped."""
         p = self.project
         if self.ranking is not None:
             self.ranking.cancel()
@@ -258,12 +259,13 @@ class ReviewDesk(QWidget):
                    rank_by=self.rank_by.currentData())
 
         def rank(cancel, progress):
-            order = p.review_order(**flt)
-            first = p.review_queue(order=order, limit=PAGE)
-            if cancel.is_set():
-                raise JobCancelled("ranking superseded")
-            job.signals.partial.emit((None, order, first, {}))
-            progress(1, 3)
+            if quick:
+                order = p.review_order(**flt)
+                first = p.review_queue(order=order, limit=PAGE)
+                if cancel.is_set():
+                    raise JobCancelled("ranking superseded")
+                job.signals.partial.emit((None, order, first, {}))
+                progress(1, 3)
             report = p.agreement_report(n_boot=QUEUE_BOOT)
             if cancel.is_set():
                 raise JobCancelled("ranking superseded")
@@ -336,6 +338,7 @@ class ReviewDesk(QWidget):
             self.ranking = None
             self.queue_note.setText(f"Could not rank the disputed clips: {msg}")
             self.status.emit(f"Could not rank the disputed clips: {msg}")
+            self._set_usable()
             self._set_ready()
 
     def _set_ready(self) -> None:
@@ -435,7 +438,7 @@ class ReviewDesk(QWidget):
         row = self.queue_model.row_of(c.id)
         shown = self.queue_model.get(row) if row is not None else None
         if shown is not None and shown.gold_label != cmp.gold_label and self.ranking is None:
-            self.reload_queue(keep=True)
+            self.reload_queue(keep=True, quick=False)
 
     def set_check_clip(self, on: bool) -> None:
         """Make the clip under review a check clip with its gold label as the answer, or an
