@@ -22,7 +22,7 @@ from sqlalchemy import func, select
 
 from .. import agreement, export, media
 from ..errors import RecordError
-from ..store.models import Clip, Setting
+from ..store.models import Annotator, Caption, Clip, Setting
 from .context import Service
 
 Progress = Callable[[int, int], None] | None
@@ -85,7 +85,8 @@ class Exporting(Service):
                 skips[clip].append((who, reason))
         segs: dict[int, dict[str, list]] = defaultdict(lambda: defaultdict(list))
         unlabelled: dict[int, int] = defaultdict(int)  # never exported; counted in the manifest
-        for g in self.peers.annotation.segments():  # ordered by clip, then name
+        all_segments = self.peers.annotation.segments()
+        for g in all_segments:  # ordered by clip, then name
             if g.annotator in leads:
                 continue
             if g.label is None:
@@ -94,15 +95,14 @@ class Exporting(Service):
                 segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
-        seg_by_id = {g.id: g for g in self.peers.annotation.segments()}
-        for cap in self.peers.annotation.caption_rows():
-            if cap.annotator in leads:
+        seg_by_id = {g.id: g for g in all_segments}
+        for clip, who, text, segment in self._caption_columns():
+            if who in leads:
                 continue
-            tied = seg_by_id.get(cap.segment) if cap.segment else None
+            tied = seg_by_id.get(segment) if segment else None
             # a skipper's left-over captions are not references
-            caps[cap.clip].append(export.CaptionInput(cap.text, cap.annotator,
-                                                    (cap.clip, cap.annotator) not in skipped,
-                                                    (tied.start, tied.end) if tied else None))
+            caps[clip].append(export.CaptionInput(text, who, (clip, who) not in skipped,
+                                                  (tied.start, tied.end) if tied else None))
         gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)
         for clip, label, start, end in self.peers.gold.gold_segments():
@@ -124,6 +124,15 @@ class Exporting(Service):
                 consent=c.consent, licence=c.licence,
                 source_path=str(self.ctx.media_root / c.path)))
         return out
+
+    def _caption_columns(self) -> list[tuple[int, str, str, int | None]]:
+        """(clip, annotator, text, segment) of every caption in the order of
+        ``caption_rows``, as plain columns: an export reads every caption of the project, and
+        caption objects would cost far more (and record versions no export edits)."""
+        stmt = (select(Caption.clip_id, Annotator.name, Caption.text, Caption.segment_id)
+                .join(Annotator, Annotator.id == Caption.annotator_id)
+                .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
+        return self.ctx.read(lambda s: [(c, a, t, g) for c, a, t, g in s.execute(stmt)])
 
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
