@@ -1,7 +1,9 @@
 """How the project-level commands grow with the project: `stats`, `agreement --json`, `report`,
-`export --dry-run` (fingerprints present) and the review view's first screenshot, on synthetic
-projects of 1k, 10k (and with --big 100k) clips x 3 annotators x 3 captions, each beside the
-1k figure so growth is visible (a ratio of 10 for 10x the clips is linear).
+`export --dry-run` (fingerprints present), the review view's first screenshot, the review view
+usable (a first page of the disputed queue and a clip's frame on screen) and the board complete
+(every panel holds its numbers), on synthetic projects of 1k, 10k (and with --big 100k) clips x
+3 annotators x 3 captions, each beside the 1k figure so growth is visible (a ratio of 10 for 10x
+the clips is linear). The GUI rows time a fresh process from its start to the moment named.
 
 ``agreement_cold`` is the first run on an empty result cache (it computes the caption part and
 keeps it in the project's .clipscribe-cache/results); ``agreement`` and ``agreement_summary``
@@ -11,9 +13,11 @@ part, as ``report`` does. Each command runs in a fresh process; its peak memory 
 by benchmarks/make_big_project.py into benchmarks/out/ and reused.
 
 Goals (issue "A 100k-clip project that answers in seconds"): at 100k clips agreement < 3 s,
-report < 5 s, stats < 0.5 s, review view usable < 2 s, export --dry-run < 10 s.
+report < 5 s, stats < 0.5 s, review view usable < 2 s, board complete < 5 s, export --dry-run
+< 10 s.
 
 usage: python benchmarks/bench_project_scale.py [--sizes 1000,10000] [--big] [--skip-view]
+       [--only ROW,ROW]
 Prints JSON.
 """
 
@@ -37,6 +41,23 @@ RUN = ("import sys\nfrom clipscribe.cli import main\ncode = main(sys.argv[1:])\n
        "peak = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
        "print('VMHWM_KB', peak, file=sys.stderr)\nsys.exit(code)\n")
 
+# opens the window on a view, waits for one moment (a signal of the view), then reports its
+# peak memory and leaves at once (os._exit: no waiting for background work still running)
+GUI = ("import os, sys, tempfile\nfrom PySide6.QtCore import QSettings, QTimer\n"
+       "from clipscribe import Project\nfrom clipscribe.ui.app import application, open_window\n"
+       "folder, view, moment = sys.argv[1:4]\napp = application()\n"
+       "p = Project.open(folder).__enter__()\n"
+       "ini = QSettings(tempfile.mktemp(suffix='.ini'), QSettings.Format.IniFormat)\n"
+       "w = open_window(p, view=view, settings=ini)\nw.resize(1366, 768)\nw.show()\n"
+       "page = w.review_page.page\n"
+       "sig = {'usable': getattr(page.desk, 'usable', page.desk.ready), 'ready': page.desk.ready,"
+       " 'loaded': page.board.loaded}[moment]\n"
+       "def done():\n"
+       "    peak = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
+       "    print('VMHWM_KB', peak, file=sys.stderr, flush=True)\n    os._exit(0)\n"
+       "sig.connect(lambda *a: QTimer.singleShot(0, done))\n"
+       "QTimer.singleShot(600000, lambda: os._exit(3))\napp.exec()\n")
+
 
 def project(n: int) -> Path:
     folder = OUT / f"scale-{n}"
@@ -47,9 +68,9 @@ def project(n: int) -> Path:
     return folder
 
 
-def timed(args: list[str], env: dict[str, str] | None = None) -> dict:
+def timed(args: list[str], env: dict[str, str] | None = None, code: str = RUN) -> dict:
     t = time.perf_counter()
-    done = subprocess.run([sys.executable, "-c", RUN, *args], capture_output=True, text=True,
+    done = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True,
                           env=env or dict(os.environ, PYTHONPATH=str(ROOT / "src")))
     seconds = time.perf_counter() - t
     peak = next((int(line.split()[1]) for line in done.stderr.splitlines()[::-1]
@@ -61,25 +82,34 @@ def timed(args: list[str], env: dict[str, str] | None = None) -> dict:
     return out
 
 
-def measure(folder: Path, skip_view: bool) -> dict:
-    # the first agreement run starts from an empty result cache (cold: it computes the caption
-    # part and keeps it); the next ones reuse it (warm), as does the report after them
-    shutil.rmtree(folder / ".clipscribe-cache" / "results", ignore_errors=True)
+def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict:
+    def cold() -> dict:
+        # the first agreement run starts from an empty result cache (it computes the caption
+        # part and keeps it); the next ones reuse it (warm), as does the report after them
+        shutil.rmtree(folder / ".clipscribe-cache" / "results", ignore_errors=True)
+        return timed(["agreement", str(folder), "--json"])
+
     with tempfile.TemporaryDirectory() as tmp:
-        rows = {
-            "stats": timed(["stats", str(folder), "--json"]),
-            "agreement_cold": timed(["agreement", str(folder), "--json"]),
-            "agreement": timed(["agreement", str(folder), "--json"]),
-            "agreement_summary": timed(["agreement", str(folder), "--json", "--summary"]),
-            "report": timed(["report", str(folder), str(Path(tmp) / "report")]),
-            "export_dry_run": timed(["export", str(folder), str(Path(tmp) / "export"), "--dry-run"]),
+        env = dict(os.environ, PYTHONPATH=str(ROOT / "src"), QT_QPA_PLATFORM="offscreen",
+                   XDG_CONFIG_HOME=str(Path(tmp) / "config"))
+        runs = {
+            "stats": lambda: timed(["stats", str(folder), "--json"]),
+            "agreement_cold": cold,
+            "agreement": lambda: timed(["agreement", str(folder), "--json"]),
+            "agreement_summary": lambda: timed(["agreement", str(folder), "--json", "--summary"]),
+            "report": lambda: timed(["report", str(folder), str(Path(tmp) / "report")]),
+            "export_dry_run": lambda: timed(["export", str(folder), str(Path(tmp) / "export"),
+                                             "--dry-run"]),
         }
         if not skip_view:
-            env = dict(os.environ, PYTHONPATH=str(ROOT / "src"), QT_QPA_PLATFORM="offscreen",
-                       XDG_CONFIG_HOME=str(Path(tmp) / "config"))
-            rows["review_view_screenshot"] = timed(
-                ["open", str(folder), "--view", "review", "--screenshot", str(Path(tmp) / "r.png")], env)
-    return rows
+            runs.update({
+                "review_view_screenshot": lambda: timed(
+                    ["open", str(folder), "--view", "review", "--screenshot",
+                     str(Path(tmp) / "r.png")], env),
+                "review_view_usable": lambda: timed([str(folder), "review", "usable"], env, GUI),
+                "board_complete": lambda: timed([str(folder), "board", "loaded"], env, GUI),
+            })
+        return {name: run() for name, run in runs.items() if only is None or name in only}
 
 
 def main() -> None:
@@ -87,9 +117,11 @@ def main() -> None:
     ap.add_argument("--sizes", default="1000,10000")
     ap.add_argument("--big", action="store_true", help="also 100,000 clips (builds ~1 GB once)")
     ap.add_argument("--skip-view", action="store_true", help="leave out the review view")
+    ap.add_argument("--only", help="these rows alone, e.g. export_dry_run,board_complete")
     a = ap.parse_args()
     sizes = [int(s) for s in a.sizes.split(",")] + ([100_000] if a.big else [])
-    results = {n: measure(project(n), a.skip_view) for n in sizes}
+    only = set(a.only.split(",")) if a.only else None
+    results = {n: measure(project(n), a.skip_view, only) for n in sizes}
     base = results[min(sizes)]
     growth = {n: {k: round(v["seconds"] / base[k]["seconds"], 1) for k, v in r.items()}
               for n, r in results.items() if n != min(sizes)}

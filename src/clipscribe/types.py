@@ -194,6 +194,22 @@ class DisputedClip:
 
 
 @dataclass(frozen=True, slots=True)
+class DisputedOrder:
+    """The review queue's order without its rows: clip ids, queue order, and each one's rank
+    (as :attr:`DisputedClip.rank`). ``provisional``: ordered by label disagreement alone,
+    before the agreement report was ready. Rows come page by page from
+    :meth:`clipscribe.Project.review_rows`."""
+
+    clips: tuple[int, ...]
+    ranks: tuple[int, ...]
+    provisional: bool = False
+    rank_by: str = "disputed"
+
+    def __len__(self) -> int:
+        return len(self.clips)
+
+
+@dataclass(frozen=True, slots=True)
 class GoldCaptionInfo:
     id: int
     position: int

@@ -6,6 +6,7 @@ import argparse
 
 from ..errors import RecordError
 from .common import Bar, open_project
+from .compute_cmds import checked_workers, cluster_options
 
 
 def _ratios(text: str) -> dict[str, float]:
@@ -67,13 +68,35 @@ def _write(fn):
         raise RecordError(str(exc)) from None
 
 
+def _fingerprints(p, args: argparse.Namespace) -> None:
+    """Say how many clips have no fingerprint before the check, and compute them through the
+    compute path when asked (``--compute-missing``); the check itself never computes them."""
+    missing = p.missing_fingerprints()
+    if not missing:
+        return
+    if not args.compute_missing:
+        print(f"fingerprints: {missing} clip(s) have none, so the near-duplicate check will not "
+              "cover them (reported as not checked, counted in the manifest); add "
+              "--compute-missing to compute them first, or run "
+              f"'clipscribe compute {args.project} --what fingerprint'")
+        return
+    rep = p.compute(["fingerprint"], workers=args.workers, scheduler=args.scheduler,
+                    path_map=args.map, progress=Bar("fingerprints"))
+    print(f"fingerprints: computed {rep.computed} of {missing} missing"
+          + (f", {len(rep.failed)} failed (not checked for near duplicates)" if rep.failed
+             else ""))
+    for path, reason in rep.failed:
+        print(f"  failed {path}: {reason}")
+
+
 def cmd_export(args: argparse.Namespace) -> int:
+    checked_workers(args)
     with open_project(args) as p:
+        _fingerprints(p, args)
         if args.folds:
             return _export_folds(p, args)
         plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
-                             frozen=args.frozen, hamming_radius=args.radius,
-                             progress=Bar("fingerprints"), captions=args.captions,
+                             frozen=args.frozen, hamming_radius=args.radius, captions=args.captions,
                              segments=args.segments, labels=args.labels,
                              min_posterior=args.min_posterior)
         print("splits: " + _split_counts(plan))
@@ -93,7 +116,7 @@ def cmd_export(args: argparse.Namespace) -> int:
 def _export_folds(p, args: argparse.Namespace) -> int:
     plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
                          min_agreement=args.min_agreement, hamming_radius=args.radius,
-                         progress=Bar("fingerprints"), captions=args.captions,
+                         captions=args.captions,
                          segments=args.segments, labels=args.labels,
                          min_posterior=args.min_posterior)
     for i, plan in enumerate(plans, start=1):
@@ -147,3 +170,9 @@ def register(add) -> None:
     sp.add_argument("--val-fraction", type=float, default=0.0,
                     help="with --folds: share of each training side held out as val (default 0)")
     sp.add_argument("--dry-run", action="store_true", help="plan and check only; write nothing")
+    sp.add_argument("--compute-missing", action="store_true",
+                    help="first compute the fingerprints clips lack (as 'clipscribe compute "
+                         "--what fingerprint'); without it such clips are reported as not "
+                         "checked for near duplicates")
+    cluster_options(sp, workers_help="with --compute-missing: worker processes (default: "
+                                     "cores - 1; 0: compute in this process, without Dask)")

@@ -331,6 +331,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     findings.sort(key=lambda f: _KIND_ORDER.index(f.kind))
     recipe = {
         "clips_checked": len(clips),
+        # not compared for near duplicates (also the no-fingerprint finding)
+        "clips_without_fingerprint": sum(c.fingerprint is None for c in clips),
         "hamming_radius": hamming_radius,
         "near_duplicate_media": "64-bit perceptual fingerprints with Hamming distance <= radius; "
                                 "one finding per cluster (connected component of near pairs): "

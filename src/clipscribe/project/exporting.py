@@ -18,13 +18,18 @@ from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
 
+from sqlalchemy import func, select
+
 from .. import agreement, export, media
 from ..errors import RecordError
-from ..store.models import Setting
+from ..store.models import Annotator, Caption, Clip, Setting
 from .context import Service
 
 Progress = Callable[[int, int], None] | None
 ASSIGNMENT_KEY = "export.assignment"
+#: worker processes when a plan is asked to compute missing fingerprints (0: in this process;
+#: ``clipscribe compute`` and :meth:`Project.compute` choose their own)
+FINGERPRINT_WORKERS = 0
 
 
 class Exporting(Service):
@@ -48,6 +53,22 @@ class Exporting(Service):
             progress(len(todo), len(todo))
         return len(todo)
 
+    def missing_fingerprints(self) -> int:
+        """How many clips have no perceptual fingerprint (one count query): the near-duplicate
+        check of an export cannot cover them until they are computed."""
+        return self.ctx.read(lambda s: s.scalar(
+            select(func.count(Clip.id)).where(Clip.fingerprint.is_(None)))) or 0
+
+    def _compute_missing(self, compute_missing: bool, progress: Progress,
+                         cancel: threading.Event | None) -> None:
+        """Fingerprints of the clips that lack one, through the compute path, when asked.
+
+        A check never computes them unasked: a clip without one is reported as not checked for
+        near duplicates (the ``no-fingerprint`` finding, counted in the manifest)."""
+        if compute_missing and self.missing_fingerprints():
+            self.peers.compute.compute(["fingerprint"], workers=FINGERPRINT_WORKERS,
+                                       progress=progress, cancel=cancel)
+
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
         with self.ctx.snapshot():  # one state of the database for every read below
@@ -64,7 +85,8 @@ class Exporting(Service):
                 skips[clip].append((who, reason))
         segs: dict[int, dict[str, list]] = defaultdict(lambda: defaultdict(list))
         unlabelled: dict[int, int] = defaultdict(int)  # never exported; counted in the manifest
-        for g in self.peers.annotation.segments():  # ordered by clip, then name
+        all_segments = self.peers.annotation.segments()
+        for g in all_segments:  # ordered by clip, then name
             if g.annotator in leads:
                 continue
             if g.label is None:
@@ -73,15 +95,14 @@ class Exporting(Service):
                 segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
-        seg_by_id = {g.id: g for g in self.peers.annotation.segments()}
-        for cap in self.peers.annotation.caption_rows():
-            if cap.annotator in leads:
+        seg_by_id = {g.id: g for g in all_segments}
+        for clip, who, text, segment in self._caption_columns():
+            if who in leads:
                 continue
-            tied = seg_by_id.get(cap.segment) if cap.segment else None
+            tied = seg_by_id.get(segment) if segment else None
             # a skipper's left-over captions are not references
-            caps[cap.clip].append(export.CaptionInput(cap.text, cap.annotator,
-                                                    (cap.clip, cap.annotator) not in skipped,
-                                                    (tied.start, tied.end) if tied else None))
+            caps[clip].append(export.CaptionInput(text, who, (clip, who) not in skipped,
+                                                  (tied.start, tied.end) if tied else None))
         gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)
         for clip, label, start, end in self.peers.gold.gold_segments():
@@ -104,13 +125,27 @@ class Exporting(Service):
                 source_path=str(self.ctx.media_root / c.path)))
         return out
 
+    def _caption_columns(self) -> list[tuple[int, str, str, int | None]]:
+        """(clip, annotator, text, segment) of every caption in the order of
+        ``caption_rows``, as plain columns: an export reads every caption of the project, and
+        caption objects would cost far more (and record versions no export edits)."""
+        stmt = (select(Caption.clip_id, Annotator.name, Caption.text, Caption.segment_id)
+                .join(Annotator, Annotator.id == Caption.annotator_id)
+                .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
+        return self.ctx.read(lambda s: [(c, a, t, g) for c, a, t, g in s.execute(stmt)])
+
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
                     hamming_radius: int = 8, caption_threshold: float = 0.9,
                     progress: Progress = None, captions: str = "gold",
                     segments: str = "gold+best", labels: str = "majority",
-                    min_posterior: float = 0.9) -> export.ExportPlan:
+                    min_posterior: float = 0.9, compute_missing: bool = False,
+                    cancel: threading.Event | None = None) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
+
+        Fingerprints are not computed here unless ``compute_missing`` (then first, with
+        ``progress`` and ``cancel``); clips without one are reported as not checked for near
+        duplicates (see :meth:`missing_fingerprints`).
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
         export manifest (or its folder) uses that manifest's assignment instead. ``captions``
@@ -125,7 +160,7 @@ class Exporting(Service):
         manifest). Gold wins under either rule.
         """
         self._require_lead("export")
-        self.compute_fingerprints(progress=progress)
+        self._compute_missing(compute_missing, progress, cancel)
         if frozen is None:
             frozen = self.ctx.read(lambda s: (s.get(Setting, ASSIGNMENT_KEY).value
                                            if s.get(Setting, ASSIGNMENT_KEY) else {}))
@@ -168,11 +203,13 @@ class Exporting(Service):
                    min_agreement: float = 0.6, hamming_radius: int = 8,
                    caption_threshold: float = 0.9, progress: Progress = None,
                    captions: str = "gold", segments: str = "gold+best", labels: str = "majority",
-                   min_posterior: float = 0.9) -> list[export.ExportPlan]:
+                   min_posterior: float = 0.9, compute_missing: bool = False,
+                   cancel: threading.Event | None = None) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
-        groups), each planned and leakage-checked like a single export; writes nothing."""
+        groups), each planned and leakage-checked like a single export; writes nothing.
+        Missing fingerprints as in :meth:`plan_export`."""
         self._require_lead("export")
-        self.compute_fingerprints(progress=progress)
+        self._compute_missing(compute_missing, progress, cancel)
         try:
             inputs, inference = self._inputs(labels)
             opts = dict(project=self.ctx.settings.name, seed=seed,

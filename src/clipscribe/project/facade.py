@@ -35,6 +35,7 @@ from ..types import (
     CommentNote,
     ComputeReport,
     DisputedClip,
+    DisputedOrder,
     EditInfo,
     GoldCaptionInfo,
     IngestReport,
@@ -91,6 +92,7 @@ class Project:
     _compute = property(lambda self: self._peers.compute)
     _checks = property(lambda self: self._peers.checks)
     _results = property(lambda self: self._peers.results)
+    _disputed = property(lambda self: self._peers.disputed)
 
     # ---- lifetime and shared state --------------------------------------------------------
     def close(self) -> None:
@@ -725,7 +727,8 @@ class Project:
 
     def review_queue(
             self, *, label: str | None = None, annotator: str | None = None, group: str | None = None, report: Any = None, seed: int = 0, n_boot: int = 200, flagged: bool = False,
-            rank_by: str = "disputed") -> list[DisputedClip]:
+            rank_by: str = "disputed", provisional: bool = False, order: DisputedOrder | None = None,
+            offset: int = 0, limit: int | None = None) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
@@ -736,9 +739,26 @@ class Project:
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
         clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
-        it. Leads only.
+        it; ``provisional=True`` computes none and orders by label disagreement alone.
+        ``order`` (from :meth:`review_order`, with the ``report`` it was made from) skips
+        ordering again; ``offset``/``limit`` give one page of rows. Leads only.
         """
-        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by)
+        return self._review.review_queue(label=label, annotator=annotator, group=group, report=report, seed=seed, n_boot=n_boot, flagged=flagged, rank_by=rank_by, provisional=provisional, order=order, offset=offset, limit=limit)
+
+    def review_order(
+            self, *, report: Any = None, label: str | None = None, annotator: str | None = None,
+            group: str | None = None, flagged: bool = False, rank_by: str = "disputed") -> DisputedOrder:
+        """The clip ids of :meth:`review_queue` in its order, with their ranks, and no rows
+        built (cheap for 100k clips). Without ``report`` the order is provisional: by label
+        disagreement alone, ties by clip id. Rows of a page: :meth:`review_rows`. Leads only."""
+        return self._disputed.review_order(report=report, label=label, annotator=annotator, group=group, flagged=flagged, rank_by=rank_by)
+
+    def review_rows(self, order: DisputedOrder, start: int = 0, stop: int | None = None, *,
+                    report: Any = None) -> list[DisputedClip]:
+        """The :meth:`review_queue` rows of ``order.clips[start:stop]``, read for those clips
+        alone and scored by ``report`` (the one the order was made from; without one, label
+        disagreement only). Leads only."""
+        return self._disputed.review_rows(order, start, stop, report=report)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -883,12 +903,18 @@ class Project:
         """Compute the perceptual fingerprint of every clip that lacks one; returns how many."""
         return self._exporting.compute_fingerprints(progress=progress, cancel=cancel)
 
+    def missing_fingerprints(self) -> int:
+        """How many clips have no perceptual fingerprint: an export's near-duplicate check
+        cannot cover them (compute them with ``compute(["fingerprint"])`` or
+        ``plan_export(compute_missing=True)``)."""
+        return self._exporting.missing_fingerprints()
+
     def export_inputs(self) -> list[export.ClipInput]:
         """Every clip as the export engine's plain input (leads' own labels excluded)."""
         return self._exporting.export_inputs()
 
     def plan_export(
-            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> export.ExportPlan:
+            self, ratios: Mapping[str, float] | None = None, *, seed: int = 0, min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9, compute_missing: bool = False, cancel: threading.Event | None = None) -> export.ExportPlan:
         """Decide labels, assign splits and run every leakage check; writes nothing.
 
         ``frozen`` defaults to the assignment of this project's last export; a path to an
@@ -903,8 +929,13 @@ class Project:
         ``"majority"`` (``min_agreement``) or ``"inferred"`` (the label Dawid-Skene infers,
         when its posterior is at least ``min_posterior``; recorded with the inference's
         recipe). Gold wins under either rule.
+
+        Fingerprints are never computed inside the check unasked: clips without one are
+        reported as not checked for near duplicates (a ``no-fingerprint`` finding, counted in
+        the manifest). ``compute_missing=True`` computes them first through the compute path,
+        reporting to ``progress`` and stopped by ``cancel`` (see :meth:`missing_fingerprints`).
         """
-        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
+        return self._exporting.plan_export(ratios, seed=seed, min_agreement=min_agreement, frozen=frozen, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior, compute_missing=compute_missing, cancel=cancel)
 
     def write_export(
             self, out_dir: str | os.PathLike, plan: export.ExportPlan, *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, overwrite: bool = False, progress: Progress = None, cancel: threading.Event | None = None):
@@ -913,10 +944,11 @@ class Project:
         return self._exporting.write_export(out_dir, plan, media_mode=media_mode, webvtt=webvtt, override_reason=override_reason, overwrite=overwrite, progress=progress, cancel=cancel)
 
     def plan_folds(
-            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9) -> list[export.ExportPlan]:
+            self, k: int, *, seed: int = 0, val_fraction: float = 0.0, min_agreement: float = 0.6, hamming_radius: int = 8, caption_threshold: float = 0.9, progress: Progress = None, captions: str = "gold", segments: str = "gold+best", labels: str = "majority", min_posterior: float = 0.9, compute_missing: bool = False, cancel: threading.Event | None = None) -> list[export.ExportPlan]:
         """k rotating group-exclusive folds (split 1..k, each testing on one k-th of the
-        groups), each planned and leakage-checked like a single export; writes nothing."""
-        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior)
+        groups), each planned and leakage-checked like a single export; writes nothing.
+        Missing fingerprints as in :meth:`plan_export`."""
+        return self._exporting.plan_folds(k, seed=seed, val_fraction=val_fraction, min_agreement=min_agreement, hamming_radius=hamming_radius, caption_threshold=caption_threshold, progress=progress, captions=captions, segments=segments, labels=labels, min_posterior=min_posterior, compute_missing=compute_missing, cancel=cancel)
 
     def write_folds(
             self, out_dir: str | os.PathLike, plans: list[export.ExportPlan], *, media_mode: str | None = None, webvtt: bool = False, override_reason: str | None = None, progress: Progress = None, cancel: threading.Event | None = None) -> list:

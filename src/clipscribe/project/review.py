@@ -3,7 +3,6 @@ annotator throughput and the agreement trend. Writes go through the gold service
 
 from __future__ import annotations
 
-import dataclasses
 import datetime as dt
 import math
 from typing import Any
@@ -20,11 +19,13 @@ from ..types import (  # noqa: F401 (re-exported)
     ClipComparison,
     ClipRef,
     DisputedClip,
+    DisputedOrder,
     GoldCaptionInfo,
     Throughput,
     TrendPoint,
 )
 from .annotate import CaptionInfo, SegmentInfo
+from .disputed import RANKINGS
 
 #: entities whose history rows count as annotation work
 WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
@@ -35,23 +36,18 @@ from .context import Service
 
 MIN_WEEKS = 3  # by="auto" plots weeks once the labels span this many
 
-#: the orders the review queue can be ranked in (value: how the desk describes it)
-RANKINGS = {
-    "disputed": "most disputed first: label disagreement, then segment F1, then caption BLEU",
-    "least-certain": "least certain inferred label first: lowest posterior probability of the "
-                     "label Dawid-Skene infers (clips without an inferred label last)",
-}
 
-
-def inferred_posteriors(report: Any) -> dict[int, dict[str, float]]:
-    """{clip id: {label: posterior}} from a report's reliability part ({} when not inferred)."""
+def _posterior_of(report: Any, clip: int) -> dict[str, float]:
+    """{label: posterior} of one clip from a report's reliability part ({} when not
+    inferred), found without building the other clips'."""
     rel = getattr(report, "reliability", None)
     inf = rel.inferred if rel is not None else None
     if inf is None:
         return {}
-    cats = [str(c) for c in inf.label_order]
-    return {int(it): dict(zip(cats, row)) for it, row in zip(inf.items,
-                                                             inf.posterior_matrix.tolist())}
+    at = next((i for i, it in enumerate(inf.items) if int(it) == clip), None)
+    if at is None:
+        return {}
+    return dict(zip((str(c) for c in inf.label_order), inf.posterior_matrix[at].tolist()))
 
 
 def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[int]]:
@@ -104,7 +100,9 @@ class Review(Service):
     def review_queue(self, *, label: str | None = None, annotator: str | None = None,
                      group: str | None = None, report: Any = None, seed: int = 0,
                      n_boot: int = 200, flagged: bool = False,
-                     rank_by: str = "disputed") -> list[DisputedClip]:
+                     rank_by: str = "disputed", provisional: bool = False,
+                     order: DisputedOrder | None = None, offset: int = 0,
+                     limit: int | None = None) -> list[DisputedClip]:
         """Clips most disputed first, as the agreement report orders them: most label
         disagreement (1 - majority share), then lowest mean pairwise segment F1, then lowest
         leave-one-out caption BLEU (see :meth:`ClipTable.worst_first`).
@@ -116,73 +114,21 @@ class Review(Service):
         ``label`` keeps clips some annotator gave that label; ``annotator`` keeps clips that
         person labelled, segmented or captioned; ``group`` keeps one group; ``flagged`` keeps
         clips someone skipped or flagged unsure. Pass a ready ``report`` to skip recomputing
-        it. Leads only.
+        it; ``provisional=True`` computes none and orders by label disagreement alone.
+        ``order`` (from :meth:`review_order`, with the ``report`` it was made from) skips
+        ordering again; ``offset``/``limit`` give one page of rows. Leads only.
         """
         self.check_reviewer()
-        if rank_by not in RANKINGS:
-            raise RecordError(f"rank by {rank_by!r}: use one of {', '.join(RANKINGS)}")
-        rep = report if report is not None else self.peers.analysis.agreement_report(seed=seed, n_boot=n_boot)
-        clips = {c.id: c for c in self.peers.catalog.clips()}
-        workers = self._workers()
-        by_clip: dict[int, dict[str, str]] = {}
-        skips: dict[int, dict[str, str]] = {}
-        for c, a, why in self.skips():
-            skips.setdefault(c, {})[a] = why
-        unsure: dict[int, dict[str, str]] = {}
-        for c, a, note in self.unsure_flags():
-            if a in workers:
-                unsure.setdefault(c, {})[a] = note
-        for c, a, lab in self.peers.annotation.clip_labels():
-            if a in workers and a not in skips.get(c, {}):  # a skip is no vote
-                by_clip.setdefault(c, {})[a] = lab
-        worked: dict[int, set[str]] = {c: set(v) for c, v in by_clip.items()}
-        if annotator is not None:
-            for g in self.peers.annotation.segments(annotator=annotator):
-                worked.setdefault(g.clip, set()).add(annotator)
-            for c, a, _ in self.peers.annotation.captions(annotator=annotator):
-                worked.setdefault(c, set()).add(a)
-        gold = self.peers.gold.gold_labels()
-        out, seen = [], set()
-        for row in rep.review_queue():
-            cid = int(row.clip)
-            seen.add(cid)
-            out.append(self._disputed(len(out) + 1, clips.get(cid), row, by_clip.get(cid, {}),
-                                      gold.get(cid), skips.get(cid, {}), unsure.get(cid, {})))
-        nan = float("nan")
-        for cid in clips:  # clips nobody worked on come last
-            if cid not in seen:
-                out.append(DisputedClip(len(out) + 1, cid, clips[cid].path, clips[cid].group,
-                                        nan, nan, nan, nan, {}, gold.get(cid),
-                                        skips.get(cid, {}), unsure.get(cid, {})))
-        keep = [r for r in out if r.path is not None
-                and (label is None or label in r.labels.values())
-                and (annotator is None or annotator in worked.get(r.clip, ()))
-                and (group is None or r.group == group)
-                and (not flagged or bool(r.skipped or r.unsure))]
-        return self._with_inferred(keep, inferred_posteriors(rep), rank_by)
-
-    @staticmethod
-    def _with_inferred(rows: list[DisputedClip], post: dict[int, dict[str, float]],
-                       rank_by: str) -> list[DisputedClip]:
-        """The rows with their inferred label and its probability, in ``rank_by`` order."""
-        out = []
-        for r in rows:
-            p = post.get(r.clip)
-            if p:
-                best = max(p, key=p.__getitem__)
-                r = dataclasses.replace(r, inferred_label=best, certainty=p[best])
-            out.append(r)
-        if rank_by == "least-certain":
-            out.sort(key=lambda r: (math.isnan(r.certainty), 0.0 if math.isnan(r.certainty)
-                                    else r.certainty))
-            out = [dataclasses.replace(r, rank=i + 1) for i, r in enumerate(out)]
-        return out
-
-    @staticmethod
-    def _disputed(rank, info, row, labels, gold, skipped, unsure) -> DisputedClip:
-        return DisputedClip(rank, int(row.clip), info.path if info else None,
-                            info.group if info else None, row.label_disagreement, row.segment_f1,
-                            row.caption_bleu, row.caption_cider, labels, gold, skipped, unsure)
+        if order is None:
+            if rank_by not in RANKINGS:
+                raise RecordError(f"rank by {rank_by!r}: use one of {', '.join(RANKINGS)}")
+            if not provisional and report is None:
+                report = self.peers.analysis.agreement_report(seed=seed, n_boot=n_boot)
+            order = self.peers.disputed.review_order(
+                report=None if provisional else report, label=label, annotator=annotator,
+                group=group, flagged=flagged, rank_by=rank_by)
+        stop = None if limit is None else offset + limit
+        return self.peers.disputed.review_rows(order, offset, stop, report=report)
 
     def most_disputed_clip(self) -> int | None:
         """The first clip of :meth:`review_queue`, or None in an empty project. Leads only."""
@@ -211,11 +157,11 @@ class Review(Service):
                 caps.setdefault(c.annotator, []).append(c)
         names = sorted(set(labels) | set(segs) | set(caps) | set(skipped) | set(unsure))
         scores: dict[str, float] = {}
-        posterior = inferred_posteriors(report).get(info.id, {}) if report is not None else {}
-        if report is not None:
-            row = next((r for r in report.clips if int(r.clip) == info.id), None)
-            if row is not None:
-                scores = {k: v for k, v in row.to_dict().items() if k != "clip"}
+        posterior = _posterior_of(report, info.id) if report is not None else {}
+        if report is not None:  # one row of the report's table (no row objects for the rest)
+            at = next((i for i, c in enumerate(report.clips.clips) if int(c) == info.id), None)
+            if at is not None:
+                scores = {k: v for k, v in report.clips.row(at).to_dict().items() if k != "clip"}
         return ClipComparison(
             info, names, labels, {a: sorted(v, key=lambda g: g.start) for a, v in segs.items()},
             caps, self.peers.gold.gold_labels().get(info.id),

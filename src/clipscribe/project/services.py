@@ -19,6 +19,7 @@ if TYPE_CHECKING:
     from .clip_facts import ClipFacts
     from .compute import Compute
     from .context import Context
+    from .disputed import Disputed
     from .exporting import Exporting
     from .gold import Gold
     from .history import History
@@ -39,6 +40,7 @@ SERVICES = {
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
     "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
     "checks": ("checks", "Checks"), "results": ("results", "Results"),
+    "disputed": ("disputed", "Disputed"),
 }
 
 
@@ -60,6 +62,7 @@ class Peers:
     compute: Compute
     checks: Checks
     results: Results
+    disputed: Disputed
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+from collections.abc import Iterator
 from typing import Any
 
 from .._version import __version__
@@ -28,39 +29,59 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
     n_boot=)`` (or of ``report``); throughput, trend and the queue come from
     :class:`~clipscribe.project.review.Review`. Leads only.
     """
+    data: dict = {}
+    for _part, data in board_parts(project, seed=seed, n_boot=n_boot, report=report):
+        pass
+    return data
+
+
+#: the parts of :func:`board_parts`, cheapest first
+BOARD_PARTS = ("meta", "throughput", "trend", "agreement")
+
+
+def board_parts(project, *, seed: int = 0, n_boot: int = 1000,
+                report: Any = None) -> Iterator[tuple[str, dict]]:
+    """:func:`board_data` part by part, cheapest first (:data:`BOARD_PARTS`): yields
+    ``(part, the dict so far)`` after each, so a screen can draw what is there while the
+    agreement report is still being computed. The last dict is :func:`board_data`'s."""
     lead = project.check_reviewer()
-    rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
-    queue = project.review_queue(report=rep)
-    clips = project.clips()
-    paths = {c.id: c.path for c in clips}
     workers = {a.name for a in project.annotators() if a.role != "lead"}
     flags = sorted([(c, a, "skipped", why) for c, a, why in project.skips()]
                    + [(c, a, "unsure", note) for c, a, note in project.unsure_flags()])
-    return {
+    flags = [f for f in flags if f[1] in workers]
+    paths = {c.id: c.path for c in project.clips()} if flags else {}
+    data: dict[str, Any] = {
         "meta": {"project": project.settings.name, "tool": "clipscribe", "version": __version__,
                  "made": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
                  "lead": lead, "seed": seed, "n_boot": n_boot,
                  "label_set_version": str(project.label_set_version()),
-                 "clips": len(clips), "settled": sum(1 for c in clips if c.state == "settled"),
+                 "clips": project.clip_count(), "settled": project.clip_count(state="settled"),
                  "bands_source": CITATION, "bands": [list(b) for b in BANDS]},
-        "agreement": rep.to_dict(),
-        "throughput": [{"annotator": t.annotator, "clips": t.clips, "edits": t.edits,
-                        "active_seconds": t.active_seconds,
-                        "clips_per_hour": _clean(t.clips_per_hour), "recipe": t.recipe.to_dict()}
-                       for t in project.throughput().values()],
-        "trend": [{"window": t.window, "period": t.period, "first": t.first.isoformat(),
-                   "last": t.last.isoformat(), "clips": t.clips, "alpha": _clean(t.alpha),
-                   "recipe": t.recipe.to_dict()}
-                  for t in project.agreement_trend()],
-        "queue": [{"rank": r.rank, "clip": r.clip, "path": r.path, "group": r.group,
-                   "label_disagreement": _clean(r.label_disagreement),
-                   "segment_f1": _clean(r.segment_f1), "caption_bleu": _clean(r.caption_bleu),
-                   "caption_cider": _clean(r.caption_cider), "labels": r.labels,
-                   "gold_label": r.gold_label, "skipped": r.skipped, "unsure": r.unsure}
-                  for r in queue[:QUEUE_TOP]],
         "flags": [{"clip": c, "path": paths.get(c), "annotator": a, "state": st, "reason": why}
-                  for c, a, st, why in flags if a in workers],
+                  for c, a, st, why in flags],
     }
+    yield "meta", data
+    data["throughput"] = [
+        {"annotator": t.annotator, "clips": t.clips, "edits": t.edits,
+         "active_seconds": t.active_seconds, "clips_per_hour": _clean(t.clips_per_hour),
+         "recipe": t.recipe.to_dict()} for t in project.throughput().values()]
+    yield "throughput", data
+    data["trend"] = [{"window": t.window, "period": t.period, "first": t.first.isoformat(),
+                      "last": t.last.isoformat(), "clips": t.clips, "alpha": _clean(t.alpha),
+                      "recipe": t.recipe.to_dict()}
+                     for t in project.agreement_trend()]
+    yield "trend", data
+    rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
+    queue = project.review_queue(report=rep, limit=QUEUE_TOP)
+    data["agreement"] = rep.to_dict()
+    data["queue"] = [{"rank": r.rank, "clip": r.clip, "path": r.path, "group": r.group,
+                      "label_disagreement": _clean(r.label_disagreement),
+                      "segment_f1": _clean(r.segment_f1), "caption_bleu": _clean(r.caption_bleu),
+                      "caption_cider": _clean(r.caption_cider), "labels": r.labels,
+                      "gold_label": r.gold_label, "skipped": r.skipped, "unsure": r.unsure}
+                     for r in queue]
+    yield "agreement", {k: data[k] for k in ("meta", "agreement", "throughput", "trend",
+                                             "queue", "flags")}
 
 
 def not_measured(data: dict, part: str) -> str | None:

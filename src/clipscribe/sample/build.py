@@ -98,6 +98,8 @@ def build_sample(folder: str | os.PathLike, *, seed: int = 7, later_workcells: b
                 place = f" at bay {scene.CELLS[cell_i].name.split('-')[1]}"
                 _annotate(p, more_rng, clip, act, people, pace, place)
         p.user = lead
+        # as a project looks after 'clipscribe compute': exports check near duplicates at once
+        p.compute(["fingerprint"], workers=0)
     return {"folder": str(root), "clips": len(PLAN) + len(more), "annotators": people,
             "lead": lead, "seconds": round(time.perf_counter() - t0, 2)}
 

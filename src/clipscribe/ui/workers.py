@@ -81,6 +81,7 @@ class FrameLoader(QThread):
 
 class JobSignals(QObject):
     progress = Signal(int, int)
+    partial = Signal(object)   # part of the result, before ``finished`` brings the whole
     finished = Signal(object)
     failed = Signal(str)
     cancelled = Signal()

@@ -7,6 +7,10 @@ runs :meth:`Project.write_export` or :meth:`Project.write_folds` (``split-1 .. s
 nothing) with the checked plans. Write stays disabled until a check made with
 the settings now on screen exists, and, when that check found blocking leakage, until the lead
 ticks "Write anyway" and gives a reason (recorded in the manifest as the override).
+
+The check never computes fingerprints: the dialog says how many clips lack one (those are not
+checked for near duplicates, and the manifest counts them) and offers "Compute fingerprints",
+which runs :meth:`Project.compute` on the worker pool with progress and cancel.
 """
 
 from __future__ import annotations
@@ -24,6 +28,8 @@ from ...media import JobCancelled
 from ..workers import Job, JobRunner
 from .export_options import ExportOptions
 from .export_results import CheckResults
+#: worker processes of "Compute fingerprints" (0: on the dialog's worker thread, no Dask)
+FINGERPRINT_WORKERS = 0
 NOTE_STYLE = {"info": "color: palette(text);", "ok": "color: #2e7d32;", "bad": "color: #b3261e;"}
 
 
@@ -64,6 +70,8 @@ class ExportDialog(ExportOptions, QDialog):
         self._plan_key: tuple | None = None
         self._job: Job | None = None
         self._job_name = ""
+        self.missing: int | None = None  # clips without a fingerprint (None: not counted yet)
+        self._counting: Job | None = None
         self.runner = JobRunner(self)
         self.setWindowTitle("Export dataset")
         self.setObjectName("exportDialog")
@@ -73,6 +81,8 @@ class ExportDialog(ExportOptions, QDialog):
         if not self.is_lead:
             self._say(f"Only a lead can export a dataset; {project.user!r} is not a lead.", "bad")
         self._refresh()
+        if self.is_lead:
+            self.count_missing()
 
     # ---- building ----------------------------------------------------------------------
     def _build(self) -> None:
@@ -98,6 +108,17 @@ class ExportDialog(ExportOptions, QDialog):
         row.addWidget(self.progress, 1)
         row.addWidget(self.cancel_btn)
         lay.addLayout(row)
+
+        fp = QHBoxLayout()
+        self.fp_note = QLabel("Counting clips without a fingerprint…")
+        self.fp_note.setObjectName("fingerprintNote")
+        self.fp_note.setWordWrap(True)
+        self.fp_btn = QPushButton("Compute fingerprints")
+        self.fp_btn.setToolTip("Compute the perceptual fingerprint of every clip that lacks one, "
+                               "so the near-duplicate check covers it; check again afterwards")
+        fp.addWidget(self.fp_note, 1)
+        fp.addWidget(self.fp_btn)
+        lay.addLayout(fp)
 
         self.results = CheckResults()
         lay.addWidget(self.results, 1)
@@ -143,6 +164,7 @@ class ExportDialog(ExportOptions, QDialog):
         self.reason.textChanged.connect(self._refresh)
         self.browse.clicked.connect(self.choose_folder)
         self.check_btn.clicked.connect(self.check)
+        self.fp_btn.clicked.connect(self.compute_fingerprints)
         self.write_btn.clicked.connect(self.write)
         self.cancel_btn.clicked.connect(self.cancel)
 
@@ -196,6 +218,8 @@ class ExportDialog(ExportOptions, QDialog):
             w.setEnabled(self.is_lead and not busy and on)
         self.check_btn.setEnabled(self.is_lead and not busy and (total > 0 or self.fold_mode))
         self.cancel_btn.setEnabled(busy)
+        self.fp_btn.setEnabled(self.is_lead and not busy and bool(self.missing))
+        self.fp_btn.setVisible(bool(self.missing))
         blocking = bool(self.checked_current and self.blocking)
         self.override.setEnabled(blocking and not busy)
         self.reason.setEnabled(blocking and not busy and self.override.isChecked())
@@ -254,6 +278,8 @@ class ExportDialog(ExportOptions, QDialog):
             done(out)
         elif cancelled:
             self._say(f"{cancelled} cancelled; nothing was written.", "info")
+            if self._job_name == "Computing fingerprints":
+                self.count_missing()  # those computed before the cancel are kept
         else:
             self._say(str(out).splitlines()[0] if out else "failed", "bad")
         self._refresh()
@@ -270,11 +296,8 @@ class ExportDialog(ExportOptions, QDialog):
         frozen = None if self.keep_splits.isChecked() else {}
         k, val = (self.k.value(), self.val_share.value() / 100) if self.fold_mode else (0, 0.0)
 
-        def work(*, cancel, progress):  # worker thread
+        def work(*, cancel, progress):  # worker thread; fingerprints are not computed here
             progress(0, 0)
-            p.compute_fingerprints(progress=lambda d, t: progress(d, t), cancel=cancel)
-            if cancel.is_set():
-                raise JobCancelled("check cancelled")
             if k:
                 return p.plan_folds(k, seed=seed, val_fraction=val, min_agreement=agree,
                                     hamming_radius=radius, captions=captions, segments=segments,
@@ -286,6 +309,52 @@ class ExportDialog(ExportOptions, QDialog):
         self.plans, self._plan_key = None, None
         self.results.show_plans(None)
         self._start("Check", work, lambda plans: self._checked(plans, key))
+
+    # ---- fingerprints ------------------------------------------------------------------
+    def count_missing(self) -> Job:
+        """Count the clips without a fingerprint in the background; the note and the button
+        follow. Only the newest count is shown."""
+        p = self.project
+        job = self._counting = Job("Counting fingerprints", _plain_errors(
+            lambda cancel, progress: p.missing_fingerprints()))
+        job.signals.finished.connect(lambda n, j=job: self._counted(j, n))
+        job.signals.failed.connect(lambda msg, j=job: j is self._counting and self.fp_note.setText(
+            f"Could not count the clips without a fingerprint: {msg}"))
+        return self.runner.start(job)
+
+    def _counted(self, job: Job, n: int) -> None:
+        if job is not self._counting:
+            return  # an older count
+        self.missing = n
+        self.fp_note.setText(
+            "Every clip has a fingerprint: the near-duplicate check covers them all." if not n
+            else f"{n} clip(s) have no fingerprint: the check will report them as not checked "
+                 "for near duplicates (counted in the manifest). Compute them first to check "
+                 "them too.")
+        self.fp_note.setStyleSheet(NOTE_STYLE["ok" if not n else "bad"])
+        self._refresh()
+
+    @Slot()
+    def compute_fingerprints(self) -> None:
+        """Compute the missing fingerprints through the compute path, with progress and cancel;
+        a check made before is dropped (its near-duplicate findings are out of date)."""
+        if not self.fp_btn.isEnabled():
+            return
+        p = self.project
+
+        def work(*, cancel, progress):  # worker thread
+            return p.compute(["fingerprint"], workers=FINGERPRINT_WORKERS, progress=progress,
+                             cancel=cancel)
+
+        self._start("Computing fingerprints", work, self._fingerprinted)
+
+    def _fingerprinted(self, rep) -> None:
+        failed = f"; {len(rep.failed)} could not be read" if rep.failed else ""
+        self.plans, self._plan_key = None, None
+        self.results.show_plans(None)
+        self._say(f"Computed {rep.computed} fingerprint(s){failed}. Check again.",
+                  "bad" if rep.failed else "ok")
+        self.count_missing()
 
     def _checked(self, plans: list, key: tuple) -> None:
         self.plans, self._plan_key = plans, key

@@ -9,11 +9,15 @@ import time
 
 from PySide6.QtCore import QEvent, Qt, Signal, Slot
 from PySide6.QtWidgets import (
-    QComboBox, QGridLayout, QHBoxLayout, QLabel, QPlainTextEdit, QPushButton, QScrollArea,
-    QVBoxLayout, QWidget,
+    QComboBox, QGridLayout, QHBoxLayout, QLabel, QPlainTextEdit, QProgressBar, QPushButton,
+    QScrollArea, QVBoxLayout, QWidget,
 )
 
-from ...review_report.board import board_data, board_figures, confusion_figure
+from ...media import JobCancelled
+from ...review_report.board import (
+    BOARD_PARTS, board_data, board_figures, board_parts, confusion_figure, throughput_figure,
+    trend_figure,
+)
 from ...review_report.figures import note_figure
 from ..workers import Job, JobRunner
 from .paint import FigureView
@@ -30,6 +34,17 @@ LAYOUT = {(0, 0): ("label_alpha",), (0, 1): ("pairwise",), (0, 2): ("confusion",
 #: the figures of the cues panel: computed by a job of their own, after the board's numbers
 CUE_FIGURES = ("cue_accuracy", "cue_f1", "cue_labels", "cue_accepted")
 
+#: panel -> its title while its numbers are on the way
+WAITING = {"label_alpha": "Label agreement", "pairwise": "Pairwise Cohen kappa",
+           "confusion": "Confusion matrix", "trend": "Label agreement over time",
+           "caption_bleu": "Caption consensus: leave-one-out BLEU",
+           "caption_cider": "Caption consensus: CIDEr-D",
+           "throughput": "Throughput: clips per hour of working time",
+           "reliability": "Annotator reliability", "check_accuracy": "Check clips",
+           "caption_rouge_l": "Caption consensus: leave-one-out ROUGE-L",
+           "caption_chrf": "Caption consensus: leave-one-out chrF"}
+WAITING_NOTE = "Waiting for the numbers…"
+
 
 class FocusFigure(FigureView):
     """A figure that, when it gets keyboard focus, lists all its numbers in the details pane."""
@@ -44,15 +59,17 @@ class FocusFigure(FigureView):
 
 class AgreementBoard(QWidget):
     exportRequested = Signal()
-    loaded = Signal()
-    cuesLoaded = Signal()
+    loaded = Signal()        # every panel but the cues holds its numbers
+    partial = Signal(str)    # a part of the numbers is on screen (see BOARD_PARTS)
+    cuesLoaded = Signal()    # the cues panel holds its numbers too
 
     def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000) -> None:
         super().__init__(parent)
         self.setObjectName("agreementBoard")
         self.project = project
         self.n_boot = n_boot
-        self.data: dict | None = None
+        self.data: dict | None = None   # the numbers once complete (None while computing)
+        self.job: Job | None = None     # the computation whose results are shown, if running
         self.cues: dict | None = None
         self.cues_job: Job | None = None
         self.runner = JobRunner(self)
@@ -65,9 +82,22 @@ class AgreementBoard(QWidget):
         top.addWidget(self.summary, 1)
         self.pair = QComboBox()
         self.pair.setAccessibleName("Annotator pair of the confusion matrix")
+        self.pair.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.pair.currentIndexChanged.connect(self._pair_changed)
         top.addWidget(QLabel("Confusion of:"))
         top.addWidget(self.pair)
+        self.progress = QProgressBar()
+        self.progress.setObjectName("boardProgress")
+        self.progress.setRange(0, len(BOARD_PARTS))
+        self.progress.setFormat("%v of %m parts")
+        self.progress.setFixedWidth(140)
+        self.progress.setVisible(False)
+        self.stop_button = QPushButton("Stop")
+        self.stop_button.setToolTip("Stop computing the board; the panels already filled stay")
+        self.stop_button.clicked.connect(self.stop)
+        self.stop_button.setVisible(False)
+        top.addWidget(self.progress)
+        top.addWidget(self.stop_button)
         self.refresh_button = QPushButton("Recompute")
         self.refresh_button.clicked.connect(self.refresh)
         export = QPushButton("Write agreement report…")
@@ -119,16 +149,72 @@ class AgreementBoard(QWidget):
 
     # ---- numbers -----------------------------------------------------------------------
     @Slot()
-    def refresh(self) -> None:
-        """Recompute the board's numbers in the background."""
+    def refresh(self) -> Job:
+        """Recompute the board's numbers in the background, part by part, cheapest first:
+        each panel is drawn as soon as its part arrives. Results of a computation stopped or
+        superseded meanwhile are dropped."""
+        if self.job is not None:
+            self.job.cancel()
         self.refresh_button.setEnabled(False)
         self.summary.setText("Computing agreement…")
+        if self.data is None:  # (a recompute keeps the numbers shown until new ones arrive)
+            for name, view in self.figs.items():
+                if name not in CUE_FIGURES:  # (they wait for the board, see compare_cues)
+                    view.set_figure(note_figure(WAITING[name], WAITING_NOTE, width=300))
+            self.fit_figures()
         p, n = self.project, self.n_boot
-        job = Job("agreement board", lambda cancel, progress: board_data(p, n_boot=n))
-        job.signals.finished.connect(self.show_data)
-        job.signals.failed.connect(lambda msg: (self.summary.setText(f"Could not compute: {msg}"),
-                                                self.refresh_button.setEnabled(True)))
+
+        def compute(cancel, progress):  # worker thread
+            for i, (part, data) in enumerate(board_parts(p, n_boot=n)):
+                if cancel.is_set():
+                    raise JobCancelled("board stopped")
+                progress(i + 1, len(BOARD_PARTS))
+                if part == BOARD_PARTS[-1]:
+                    return data
+                job.signals.partial.emit((part, dict(data)))
+            raise ValueError("the board's numbers ended early")  # never: the last part returns
+
+        job = self.job = Job("agreement board", compute)
+        job.signals.partial.connect(lambda out, j=job: j is self.job and self._show_part(*out))
+        job.signals.progress.connect(lambda d, _t, j=job: j is self.job and self.progress.setValue(d))
+        job.signals.finished.connect(lambda data, j=job: j is self.job and self.show_data(data))
+        job.signals.failed.connect(lambda msg, j=job: j is self.job and self._ended(
+            f"Could not compute: {msg}"))
+        self._busy(True)
         self.runner.start(job)
+        return job
+
+    @Slot()
+    def stop(self) -> None:
+        """Stop the computation now running; what is on screen stays."""
+        if self.job is not None:
+            self.job.cancel()
+            self._ended("Stopped: the panels still empty were not computed. Press Recompute "
+                        "for all of them.")
+
+    def _busy(self, on: bool) -> None:
+        self.progress.setValue(0)
+        self.progress.setVisible(on)
+        self.stop_button.setVisible(on)
+        self.refresh_button.setEnabled(not on)
+
+    def _ended(self, text: str) -> None:
+        self.job = None
+        self._busy(False)
+        self.summary.setText(text)
+
+    def _show_part(self, part: str, data: dict) -> None:
+        """Draw the panels a part of the numbers fills (the rest keep waiting)."""
+        if part == "meta":
+            m = data["meta"]
+            self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · computing "
+                                 "agreement…")
+        elif part == "throughput":
+            self.figs["throughput"].set_figure(throughput_figure(data))
+        elif part == "trend" and data["trend"]:  # else it says why, once agreement is known
+            self.figs["trend"].set_figure(trend_figure(data))
+        self.fit_figures()
+        self.partial.emit(part)
 
     def load_now(self) -> None:
         """Compute on this thread (tests and screenshots)."""
@@ -137,7 +223,8 @@ class AgreementBoard(QWidget):
     @Slot(object)
     def show_data(self, data: dict) -> None:
         self.data = data
-        self.refresh_button.setEnabled(True)
+        self.job = None
+        self._busy(False)
         figs = board_figures(data)
         for name, view in self.figs.items():
             if name == "confusion" or name in CUE_FIGURES:

@@ -15,13 +15,14 @@ from PySide6.QtWidgets import (
     QTableView, QVBoxLayout, QWidget,
 )
 
+from ...media import JobCancelled
 from ..player import Player, TransportBar
 from ..viewer import FrameView
 from ..workers import Job, JobRunner
 from .caption_model import CaptionGridModel
 from .editor import ReviewEditor
 from .gold_segments import GoldSegmentModel
-from .queue_model import ClipIdRole, DisputedClipsModel
+from .queue_model import PAGE, ClipIdRole, DisputedClipsModel
 from .settle import SettlePanel, heading
 from .tracks import GOLD, TrackStack
 
@@ -48,7 +49,9 @@ class ReviewDesk(QWidget):
     frameReady = Signal()   # the clip under review has a frame on screen
     status = Signal(str)
     ranked = Signal(int)    # the queue is ranked (number of disputed clips) and shown
+    provisional = Signal(int)  # a first order by label disagreement alone is shown
     ready = Signal()        # once: ranked, and the first clip's frame is on screen (or no clip)
+    usable = Signal()       # once: a first page of the queue and a clip's frame are on screen
 
     def __init__(self, project, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -65,6 +68,9 @@ class ReviewDesk(QWidget):
         self.ranking: Job | None = None  # the ranking job running now, if any
         self._ranked_note = ""
         self._ready = False
+        self._usable = False
+        self._picked = False  # the lead chose the open clip (a new order keeps it open)
+        self._caption_scores: dict[str, list] = {}  # clip -> its captions' scores in the report
         self._build()
         self._wire()
         self.reload_queue()
@@ -72,7 +78,7 @@ class ReviewDesk(QWidget):
     # ---- building ----------------------------------------------------------------------
     def _build(self) -> None:
         p = self.project
-        self.queue_model = DisputedClipsModel(self)
+        self.queue_model = DisputedClipsModel(self, p)
         self.caption_model = CaptionGridModel(self.editor.settle_captions, self)
         self.segment_model = GoldSegmentModel(
             lambda segs: self.editor.settle_segments(segs) is not None, self)
@@ -113,7 +119,9 @@ class ReviewDesk(QWidget):
         self.queue_view.verticalHeader().setVisible(False)
         self.queue_view.setWordWrap(False)
         hh = self.queue_view.horizontalHeader()
-        hh.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        # columns fitted once per new order (see _ranked), not on every change: fitting to
+        # the contents measures every row given to the view
+        hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         hh.setStretchLastSection(True)
         ll.addWidget(self.queue_view, 1)
         self.queue_note = QLabel()
@@ -223,7 +231,7 @@ class ReviewDesk(QWidget):
         for box in (self.by_label, self.by_person, self.by_group, self.by_flag, self.rank_by):
             box.currentIndexChanged.connect(lambda _i: self.reload_queue(keep=True))
         self.queue_view.selectionModel().currentRowChanged.connect(
-            lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole)))
+            lambda cur, _prev: cur.isValid() and self.open_clip(cur.data(ClipIdRole), picked=True))
         s = self.settle
         s.labelChosen.connect(self.editor.settle_label)
         s.copyTrack.connect(self.copy_track)
@@ -235,11 +243,14 @@ class ReviewDesk(QWidget):
         self.editor.notSaved.connect(lambda why: self.status.emit(f"Not saved: {why}"))
         self.editor.saved.connect(lambda t: self.status.emit(f"Saved {t}"))
 
-    # ---- the queue ---------------------------------------------------------------------
-    def reload_queue(self, *, keep: bool = False) -> Job:
+    # ---- the queue ----------------------------------------------------------------------
+    def reload_queue(self, *, keep: bool = False, quick: bool = True) -> Job:
         """Re-rank the clips (on opening, after gold changes, on a filter change) on the worker
-        pool: ranking needs the agreement report over the whole project, which takes seconds
-        on a big one. A newer request supersedes one still running; its result is dropped."""
+        pool, in two steps: a provisional order by label disagreement alone (a fraction of a
+        second on 100k clips) shows its first page at once (unless ``quick`` is False: after
+        a decision the order shown stays until the new one is ready); the agreement report's
+        order replaces it when the report is ready. A newer request supersedes one still
+        running; its results are dropped."""
         p = self.project
         if self.ranking is not None:
             self.ranking.cancel()
@@ -248,11 +259,24 @@ class ReviewDesk(QWidget):
                    rank_by=self.rank_by.currentData())
 
         def rank(cancel, progress):
+            if quick:
+                order = p.review_order(**flt)
+                first = p.review_queue(order=order, limit=PAGE)
+                if cancel.is_set():
+                    raise JobCancelled("ranking superseded")
+                job.signals.partial.emit((None, order, first, {}))
+                progress(1, 3)
             report = p.agreement_report(n_boot=QUEUE_BOOT)
-            return report, p.review_queue(report=report, **flt)
+            if cancel.is_set():
+                raise JobCancelled("ranking superseded")
+            progress(2, 3)
+            order = p.review_order(report=report, **flt)
+            return report, order, p.review_queue(report=report, order=order, limit=PAGE), \
+                _captions_by_clip(report)
 
         job = self.ranking = Job("ranking disputed clips", rank)
-        job.signals.finished.connect(lambda out, j=job: self._ranked(j, out, keep))
+        job.signals.partial.connect(lambda out, j=job: self._ranked(j, out, keep, final=False))
+        job.signals.finished.connect(lambda out, j=job: self._ranked(j, out, keep, final=True))
         job.signals.failed.connect(lambda msg, j=job: self._rank_failed(j, msg))
         if self.cmp is None:  # nothing to settle until a clip is open
             self.title.setText("Ranking disputed clips…")
@@ -263,40 +287,58 @@ class ReviewDesk(QWidget):
                                 else "Ranking disputed clips…")
         return self.runner.start(job)
 
-    def _ranked(self, job: Job, out, keep: bool) -> None:
+    def _ranked(self, job: Job, out, keep: bool, *, final: bool) -> None:
         if job is not self.ranking or job.cancel_event.is_set():
             return  # superseded by a newer request
-        self.ranking = None
-        self.report, rows = out
+        report, order, first, captions = out
+        if final:
+            self.ranking = None
+            self.report, self._caption_scores = report, captions
         current = self.cmp.clip.id if self.cmp else None
-        self.queue_model.set_rows(rows)
-        settled = sum(1 for r in rows if r.settled)
-        missing = self.report.not_measured
-        order = ("Ranked by label disagreement, then segment F1, then caption BLEU (worst first)."
-                 if self.rank_by.currentData() == "disputed" else
-                 "Ranked by the inferred label's posterior probability (least certain first).")
-        self._ranked_note = (f"{len(rows)} clip(s), {settled} settled. {order}"
-                             + "".join(f" {part.capitalize()} not measured: {why}."
-                                       for part, why in missing.items()))
+        self.queue_model.set_order(order, first, report)
+        self.queue_view.resizeColumnsToContents()
+        n = len(order)
+        settled = sum(1 for r in first if r.settled)
+        if not final:
+            how = ("Provisional order by label disagreement alone; segment F1, caption BLEU "
+                   "and the inferred labels follow when the agreement report is ready…")
+        elif self.rank_by.currentData() == "disputed":
+            how = "Ranked by label disagreement, then segment F1, then caption BLEU (worst first)."
+        else:
+            how = "Ranked by the inferred label's posterior probability (least certain first)."
+        missing = self.report.not_measured if final and self.report is not None else {}
+        self._ranked_note = (f"{n} clip(s)"
+                             + (f", {settled} settled" if n <= len(first) else
+                                f", {settled} settled among the first {len(first)}")
+                             + f". {how}" + "".join(f" {part.capitalize()} not measured: {why}."
+                                                    for part, why in missing.items()))
         self.queue_note.setText(self._ranked_note)
-        target = current if keep and current in self.queue_model.clips() else (
-            rows[0].clip if rows else None)
+        stay = keep or self._picked  # a clip the lead chose stays open under a new order
+        in_order = current is not None and self.queue_model.row_of(current) is not None
+        target = current if stay and in_order else (order.clips[0] if n else None)
         if target is not None and target == current:
             self._select_row(target)  # the clip stays open where the lead is
+            if final:
+                self.refresh()  # its scores from the report
+                if self.viewer.frame_number is not None:
+                    self._set_ready()
         elif target is not None:
             self.open_clip(target)
         else:
             self.title.setText("No disputed clips")
             self.viewer.clear("No disputed clips")
-        self.ranked.emit(len(rows))
+        (self.ranked if final else self.provisional).emit(n)
         if target is None:
-            self._set_ready()
+            self._set_usable()
+            if final:
+                self._set_ready()
 
     def _rank_failed(self, job: Job, msg: str) -> None:
         if job is self.ranking:
             self.ranking = None
             self.queue_note.setText(f"Could not rank the disputed clips: {msg}")
             self.status.emit(f"Could not rank the disputed clips: {msg}")
+            self._set_usable()
             self._set_ready()
 
     def _set_ready(self) -> None:
@@ -304,18 +346,26 @@ class ReviewDesk(QWidget):
             self._ready = True
             self.ready.emit()
 
+    def _set_usable(self) -> None:
+        if not self._usable:
+            self._usable = True
+            self.usable.emit()
+
     def step(self, delta: int) -> None:
-        if self.cmp is None or not self.queue_model.rowCount():
+        m = self.queue_model
+        if self.cmp is None or not m.total:
             return
-        i = self.queue_model.row_of(self.cmp.clip.id)
-        j = 0 if i is None else min(max(0, i + delta), self.queue_model.rowCount() - 1)
-        self.open_clip(self.queue_model.row(j).clip)
+        i = m.row_of(self.cmp.clip.id)
+        j = 0 if i is None else min(max(0, i + delta), m.total - 1)
+        self.open_clip(m.clip_at(j), picked=True)
 
     # ---- one clip ----------------------------------------------------------------------
     @Slot(int)
-    def open_clip(self, clip_id: int) -> None:
+    def open_clip(self, clip_id: int, *, picked: bool = False) -> None:
+        """Open ``clip_id``; ``picked``: the lead chose it (a new order keeps it open)."""
         if self.cmp is not None and self.cmp.clip.id == clip_id:
             return
+        self._picked = picked
         self.editor.clip = clip_id
         self.editor.undo_stack.clear()  # undo works within one clip at a time
         self.refresh()
@@ -351,9 +401,15 @@ class ReviewDesk(QWidget):
         self.caption_view.setEnabled(True)
         c = cmp.clip
         sc = cmp.scores
-        missing = self.report.not_measured if self.report is not None else {}
+        missing = ({p: "not measured" for p in self.report.not_measured}
+                   if self.report is not None else {})
+        if self.report is None:  # provisional: the queue's label disagreement, the rest to come
+            at = self.queue_model.row_of(c.id)
+            row = self.queue_model.get(at) if at is not None else None
+            sc = {"label_disagreement": row.label_disagreement} if row is not None else {}
+            missing = {"segments": "computing…", "captions": "computing…"}
         nums = "  ·  ".join(
-            f"{k}: {'not measured' if part in missing else _fmt(sc.get(key), f)}"
+            f"{k}: {missing[part] if part in missing else _fmt(sc.get(key), f)}"
             for k, key, f, part in (
                 ("label disagreement", "label_disagreement", "{:.2f}", "labels"),
                 ("segment F1", "segment_f1", "{:.2f}", "segments"),
@@ -366,10 +422,10 @@ class ReviewDesk(QWidget):
                   for a in cmp.annotators]
         self.tracks.set_tracks(tracks + [(GOLD, cmp.gold_segments)], c.frame_count)
         bleu, flags = {}, {}
-        if self.report is not None and self.report.captions is not None:
+        if self._caption_scores:
             ids = {(x.annotator, x.text): x.id for v in cmp.captions.values() for x in v}
-            for s in self.report.captions.bleu.captions:
-                if str(s.clip) == str(c.id) and (s.annotator, s.text) in ids:
+            for s in self._caption_scores.get(str(c.id), ()):
+                if (s.annotator, s.text) in ids:
                     cid = ids[(s.annotator, s.text)]
                     bleu[cid] = s.bleu
                     if s.flagged:
@@ -380,8 +436,9 @@ class ReviewDesk(QWidget):
                               cmp.skipped, cmp.unsure, cmp.posterior)
         self.settle.show_check(self.project.check_clips().get(c.id), cmp.gold_label)
         row = self.queue_model.row_of(c.id)
-        if row is not None and self.queue_model.row(row).gold_label != cmp.gold_label:
-            self.reload_queue(keep=True)
+        shown = self.queue_model.get(row) if row is not None else None
+        if shown is not None and shown.gold_label != cmp.gold_label and self.ranking is None:
+            self.reload_queue(keep=True, quick=False)
 
     def set_check_clip(self, on: bool) -> None:
         """Make the clip under review a check clip with its gold label as the answer, or an
@@ -435,13 +492,25 @@ class ReviewDesk(QWidget):
     def _frame(self, frame: int, image: QImage) -> None:
         self.viewer.show_frame(frame, image)
         self.frameReady.emit()
-        self._set_ready()
+        self._set_usable()
+        if self.report is not None:
+            self._set_ready()
 
     def close_media(self) -> None:
         if self.ranking is not None:
             self.ranking.cancel()
         self.player.close()
         self.runner.wait()
+
+
+def _captions_by_clip(report) -> dict[str, list]:
+    """{clip (as text): its captions' leave-one-out scores} of a report, made once per report
+    (on the worker), so opening a clip never walks every caption of the project."""
+    out: dict[str, list] = {}
+    if report is not None and report.captions is not None:
+        for s in report.captions.bleu.captions:
+            out.setdefault(str(s.clip), []).append(s)
+    return out
 
 
 def _fmt(v, f: str) -> str:

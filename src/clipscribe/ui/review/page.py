@@ -40,7 +40,8 @@ class ReviewPage(QTabWidget):
     def shutdown(self) -> None:
         self.desk.close_media()
         self.runner.wait()
-        self.board.runner.cancel_all()  # the cues comparison may run long: stop it
+        # stops the cues comparison, and the board between parts (a part under way runs out)
+        self.board.runner.cancel_all()
         self.board.runner.wait()
 
     def _tab(self, i: int) -> None:

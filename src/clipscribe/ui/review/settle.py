@@ -129,6 +129,7 @@ class SettlePanel(QWidget):
         # and the focus must stay in the desk (its keys, such as Alt+Down, work from there)
         focused = next((i for i, b in enumerate(self._vote_buttons) if b.hasFocus()), None)
         for b in self._vote_buttons + self._vote_odds:
+            b.hide()  # at once: until deleted, a shown old button would share its Alt key
             b.deleteLater()
         self._vote_buttons, self._vote_odds = [], []
         for i, name in enumerate(annotators):
@@ -145,6 +146,7 @@ class SettlePanel(QWidget):
             b.setChecked(lab is not None and lab == gold)
             b.clicked.connect(lambda _=False, l=lab: self.labelChosen.emit(l))
             self.votes.addWidget(b, i, 0)
+            b.show()  # now, so its Alt key works before the next pass of the event loop
             self._vote_buttons.append(b)
             odds = QLabel(f"{posterior[lab]:.2f}" if lab in posterior else "")
             odds.setObjectName("votePosterior")
@@ -152,6 +154,7 @@ class SettlePanel(QWidget):
                             "(Dawid-Skene, from every annotator's estimated confusion)"
                             if lab in posterior else "")
             self.votes.addWidget(odds, i, 1)
+            odds.show()
             self._vote_odds.append(odds)
         if focused is not None:
             live = [b for b in self._vote_buttons if b.isEnabled()]
