@@ -208,3 +208,30 @@ def test_throughput_read_twice_follows_a_new_edit(project):
     after = project.throughput()
     assert after[who].edits > before[who].edits  # the label, and the clip reopened for them
     assert all(after[n].edits == before[n].edits for n in before if n != who)
+
+
+def test_two_reports_at_once_compute_the_caption_part_once(project, monkeypatch):
+    """The review desk and the board ask for the report at the same moment: the second waits
+    for the first's caption part instead of computing its own beside it."""
+    import threading
+
+    from clipscribe.project import analysis
+    calls = []
+    real = analysis.caption_part
+    started = threading.Event()
+
+    def counted(*args, **kw):
+        calls.append(1)
+        started.set()
+        return real(*args, **kw)
+    monkeypatch.setattr(analysis, "caption_part", counted)
+    results = []
+    threads = [threading.Thread(target=lambda: results.append(project.agreement_report(n_boot=BOOT)))
+               for _ in range(2)]
+    threads[0].start()
+    assert started.wait(60)
+    threads[1].start()
+    for t in threads:
+        t.join(120)
+    assert len(calls) == 1 and len(results) == 2
+    same(numbers(results[0]), numbers(results[1]))

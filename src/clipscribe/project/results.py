@@ -28,6 +28,7 @@ import json
 import os
 import pickle
 import secrets
+import threading
 import time
 from pathlib import Path
 from typing import Any, Callable, TypeVar
@@ -61,16 +62,21 @@ class Results(Service):
         stamp, newest = self.ctx.read(lambda s: (_stamp(s, tables), _newest_edit(s)))
         key = _key(kind, settings, stamp, self._database())
         path = self._folder() / f"{kind}-{key[:32]}.pickle"
-        found = _load(path)
-        if found is not None:
-            covers, value = found
-            since = covers["edit"]
-            if since is not None and not self.ctx.read(lambda s: _edited_since(s, since, entities)):
-                return value, covers
-        value = compute()
-        covers = {"kind": kind, "key": key, "edit": newest, "rows": stamp, "settings": settings,
-                  "computed_at": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())}
-        _store(path, (covers, value))
+        # one computation per entry in this process: the review desk and the board ask for the
+        # same part at once; the second waits and reads what the first kept
+        with _entry_lock(path):
+            found = _load(path)
+            if found is not None:
+                covers, value = found
+                since = covers["edit"]
+                if since is not None and not self.ctx.read(
+                        lambda s: _edited_since(s, since, entities)):
+                    return value, covers
+            value = compute()
+            covers = {"kind": kind, "key": key, "edit": newest, "rows": stamp,
+                      "settings": settings,
+                      "computed_at": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())}
+            _store(path, (covers, value))
         return value, None
 
     def _folder(self) -> Path:
@@ -110,6 +116,13 @@ def _key(kind: str, settings: dict[str, Any], stamp: dict[str, list], database: 
 
 
 _CODE: list[str] = []
+_LOCKS: dict[str, threading.Lock] = {}
+_LOCKS_GUARD = threading.Lock()
+
+
+def _entry_lock(path: Path) -> threading.Lock:
+    with _LOCKS_GUARD:
+        return _LOCKS.setdefault(str(path), threading.Lock())
 
 
 def _code_digest() -> str:
