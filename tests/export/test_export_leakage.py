@@ -184,6 +184,21 @@ def test_ascii_fast_path_matches_the_general_rule():
         assert normalise_caption(t) == general
 
 
+def test_batch_normalisation_equals_one_text_at_a_time():
+    from clipscribe.export.textdup import normalise_captions
+    rng = random.Random(1)
+    # ASCII punctuation and whitespace, the batch separator (NUL) and non-ASCII text mixed
+    alphabet = "abcXYZ019 _-.,;:!?'\"()\t\n\x00\x1f/" + "\u00c9\u00df\ufb01\u2003\u0130"
+    texts = ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 25)))
+             for _ in range(500)] + ["", "  ", "\x00", "A  b", "\u00c9T\u00c9"]
+    rng.shuffle(texts)
+    assert normalise_captions(texts) == [normalise_caption(t) for t in texts]
+    ascii_only = [t for t in texts if t.isascii() and "\x00" not in t]
+    assert len(ascii_only) > 50
+    assert normalise_captions(ascii_only) == [normalise_caption(t) for t in ascii_only]
+    assert normalise_captions([]) == []
+
+
 def test_near_duplicates_of_different_groups_within_one_split_are_a_warning_per_cluster():
     far = _flip(BASE_FP, range(0, 64, 2))  # 32 bits from BASE_FP: another scene
     clips = [_clip("a", fp=BASE_FP), _clip("b", fp=_flip(BASE_FP, [3])),            # 1 bit

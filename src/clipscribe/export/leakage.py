@@ -17,7 +17,7 @@ from .checks import name_files
 from .inputs import ClipInput
 from .neardup import as_uint64, near_clusters
 from .policy import caption_texts
-from .textdup import caption_clusters, normalise_caption
+from .textdup import caption_clusters, normalise_captions
 
 Severity = Literal["blocking", "warning"]
 _KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missing-consent",
@@ -196,12 +196,16 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
               threshold: float, chosen: Mapping[str, Sequence[str]] | None = None) -> list[Finding]:
     by_text: dict[str, set[str]] = defaultdict(set)
     path = _paths(clips)
+    owners: list[str] = []
+    raw: list[str] = []
     for c in clips:
-        for t in (chosen[c.clip_id] if chosen is not None and c.clip_id in chosen
-                  else caption_texts(c)):
-            norm = normalise_caption(t)
-            if norm:
-                by_text[norm].add(c.clip_id)
+        got = (chosen[c.clip_id] if chosen is not None and c.clip_id in chosen
+               else caption_texts(c))
+        owners += [c.clip_id] * len(got)
+        raw += got
+    for clip_id, norm in zip(owners, normalise_captions(raw)):
+        if norm:
+            by_text[norm].add(clip_id)
     texts = sorted(by_text)
     out = []
     for t in texts:

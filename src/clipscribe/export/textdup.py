@@ -30,6 +30,10 @@ from .corekeys import core_join, key_counts
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
+# The same with NUL kept: it separates the texts of one batch in normalise_captions.
+_BATCH_SEP = "\x00"
+_ASCII_NON_WORD_BATCH = {c: v for c, v in _ASCII_NON_WORD.items() if c != ord(_BATCH_SEP)}
+_SPACE_RUNS = re.compile(" {2,}")
 # How caption_clusters joins texts. A text lists keys when _KEY_PRICE keys cost no more than
 # the candidates its query would examine; the others are asked. The leader cover is used
 # instead when a sample of queries says it would examine fewer candidates: its query of one
@@ -46,6 +50,24 @@ def normalise_caption(text: str) -> str:
         return " ".join(text.lower().translate(_ASCII_NON_WORD).split())
     text = unicodedata.normalize("NFKC", text).casefold()
     return _NON_WORD.sub(" ", text).strip()
+
+
+def normalise_captions(texts: Sequence[str]) -> list[str]:
+    """:func:`normalise_caption` of every text, in order; the ASCII texts (without NUL) in one
+    pass over their joined text instead of one call each."""
+    out = [""] * len(texts)
+    batch = [k for k, t in enumerate(texts) if t.isascii() and _BATCH_SEP not in t]
+    if len(batch) < len(texts):
+        done = set(batch)
+        for k, t in enumerate(texts):
+            if k not in done:
+                out[k] = normalise_caption(t)
+    joined = _BATCH_SEP.join([texts[k] for k in batch]).lower().translate(_ASCII_NON_WORD_BATCH)
+    # only letters, digits, spaces and the separators are left: collapse and trim the spaces
+    parts = _SPACE_RUNS.sub(" ", joined).split(_BATCH_SEP) if batch else []
+    for k, part in zip(batch, parts):
+        out[k] = part.strip(" ")
+    return out
 
 
 def shingles(normalised: str, n: int = 3) -> frozenset[str]:

@@ -108,6 +108,7 @@ class Exporting(Service):
         for clip, label, start, end in self.peers.gold.gold_segments():
             gold_segs[clip].append(export.SegmentInput(label, start, end))
         out = []
+        media_root = self.ctx.media_root  # one path for every clip (read from the settings)
         for c in self.peers.catalog.clips():
             votes = labels.get(c.id, [])
             own = tuple((who, tuple(v)) for who, v in segs.get(c.id, {}).items())
@@ -122,7 +123,7 @@ class Exporting(Service):
                 segments=tuple(gold_segs.get(c.id, ())), annotator_segments=own,
                 unlabelled_segments=unlabelled.get(c.id, 0),
                 consent=c.consent, licence=c.licence,
-                source_path=str(self.ctx.media_root / c.path)))
+                source_path=str(media_root / c.path)))
         return out
 
     def _caption_columns(self) -> list[tuple[int, str, str, int | None]]:
