@@ -150,3 +150,43 @@ def test_a_plan_grouped_by_camera_keeps_every_cluster_on_one_side():
     plan = build_plan(clips, {"train": 0.7, "test": 0.3}, seed=3)
     assert len(set(plan.assignment.values())) == 2
     assert [f.kind for f in plan.leakage.findings] == []
+
+
+def _shingle_table_by_hand(texts):
+    """(text, shingle id) rows as _shingle_table defines them, one text and shingle at a time:
+    word ids by first appearance, a shingle the triple of its word ids (padded with one id past
+    the vocabulary), shingle ids the ranks of the distinct triples; rows sorted by text, then
+    the shingle's frequency, then its id."""
+    vocab = {}
+    for t in texts:
+        for word in t.split(" "):
+            vocab.setdefault(word, len(vocab))
+    pad = len(vocab)
+    triples = []
+    for t in texts:
+        ids = [vocab[word] for word in t.split(" ")]
+        if len(ids) < 3:
+            triples.append([tuple(ids + [pad] * (3 - len(ids)))])
+        else:
+            triples.append([tuple(ids[i:i + 3]) for i in range(len(ids) - 2)])
+    rank = {tri: k for k, tri in enumerate(sorted({x for row in triples for x in row}))}
+    freq = {}
+    for row in triples:
+        for x in row:
+            freq[rank[x]] = freq.get(rank[x], 0) + 1
+    rows = sorted({(k, freq[rank[x]], rank[x]) for k, row in enumerate(triples) for x in row})
+    return [k for k, _, _ in rows], [s for _, _, s in rows]
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_shingle_table_equals_the_table_built_by_hand(seed):
+    from clipscribe.export.textdup import _shingle_table
+    rng = random.Random(seed)
+    vocab = ["a", "b", "c", "red", "cube", "take", "1", "22"]
+    # short texts (one and two words, the empty text) among longer ones, repeats within a text
+    texts = sorted({" ".join(rng.choice(vocab) for _ in range(rng.choice([0, 1, 1, 2, 2, 3, 5, 9])))
+                    for _ in range(80)})
+    assert {len(t.split(" ")) for t in texts if t} >= {1, 2, 3} and "" in texts
+    text, sid = _shingle_table(texts)
+    want_text, want_sid = _shingle_table_by_hand(texts)
+    assert text.tolist() == want_text and sid.tolist() == want_sid

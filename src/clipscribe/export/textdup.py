@@ -87,8 +87,9 @@ def jaccard(a: frozenset, b: frozenset) -> float:
 
 
 def _dense_ids(values: np.ndarray) -> np.ndarray:
-    """Rank of each value among the distinct values (a sort-based ``np.unique`` inverse)."""
-    order = np.argsort(values, kind="stable")
+    """Rank of each value among the distinct values (a sort-based ``np.unique`` inverse).
+    Equal values get the same rank whatever their order, so the sort need not be stable."""
+    order = np.argsort(values)
     sv = values[order]
     ids = np.empty(len(values), dtype=np.int64)
     ids[order] = np.cumsum(np.r_[True, sv[1:] != sv[:-1]]) - 1
@@ -113,15 +114,34 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
     base = len(vocab) + 1  # id len(vocab) pads texts shorter than three words
     ends = np.cumsum(lengths)
     n_sh = np.maximum(lengths - 2, 1)
-    text_of, pos = _runs(ends - lengths, n_sh)
+    text_of = np.repeat(np.arange(len(texts)), n_sh)
+    # a shingle starts at every word but the last two of its text; a text shorter than three
+    # words has one shingle, at its first word, padded
+    starts_here = np.ones(int(ends[-1]) if len(texts) else 0, dtype=bool)
+    starts_here[ends - 1] = False
+    starts_here[(ends - 2)[lengths >= 2]] = False
+    short = lengths < 3
+    starts_here[(ends - lengths)[short]] = True
+    pos = np.flatnonzero(starts_here)
     pad = np.append(w, [base - 1, base - 1])
-    end_of = np.repeat(ends, n_sh)
-    tri = np.stack([pad[pos], np.where(pos + 1 < end_of, pad[pos + 1], base - 1),
-                    np.where(pos + 2 < end_of, pad[pos + 2], base - 1)], axis=1)
+    w1, w2 = pad[pos + 1], pad[pos + 2]
+    if short.any():
+        at = (np.cumsum(n_sh) - 1)[short]  # the one shingle of each short text
+        end = ends[short]
+        w1[at] = np.where(pos[at] + 1 < end, w1[at], base - 1)
+        w2[at] = np.where(pos[at] + 2 < end, w2[at], base - 1)
+    w0 = w[pos]
+    del pos, pad, starts_here
     if base < 2**21:  # three ids fit one int64 code
-        sid = _dense_ids((tri[:, 0] * base + tri[:, 1]) * base + tri[:, 2])
+        w0 *= base
+        w0 += w1
+        w0 *= base
+        w0 += w2
+        del w1, w2
+        sid = _dense_ids(w0)
     else:
-        sid = np.unique(tri, axis=0, return_inverse=True)[1].ravel()
+        sid = np.unique(np.stack([w0, w1, w2], axis=1), axis=0, return_inverse=True)[1].ravel()
+    del w0
     n_sid = int(sid.max()) + 1
     df = np.bincount(sid)
     n_df = int(df.max()) + 1
