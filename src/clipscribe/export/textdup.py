@@ -18,6 +18,7 @@ any pair search, through keys of the shingles two texts share (:mod:`.corekeys`)
 
 from __future__ import annotations
 
+import itertools
 import re
 import unicodedata
 from typing import Iterable, Sequence
@@ -108,30 +109,33 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
     (any fixed global order keeps the prefix filter exact; rare-first keeps candidates few).
     """
     all_words = " ".join(texts).split(" ")
-    vocab = {word: k for k, word in enumerate(dict.fromkeys(all_words))}
-    w = np.fromiter(map(vocab.__getitem__, all_words), dtype=np.int64, count=len(all_words))
-    lengths = np.fromiter((t.count(" ") + 1 for t in texts), dtype=np.int64, count=len(texts))
+    vocab = dict(zip(dict.fromkeys(all_words), itertools.count()))
     base = len(vocab) + 1  # id len(vocab) pads texts shorter than three words
+    # word ids, then two pads so that the two words after any word can be read as slices
+    w = np.fromiter(itertools.chain(map(vocab.__getitem__, all_words), (base - 1, base - 1)),
+                    dtype=np.int64, count=len(all_words) + 2)
+    del all_words, vocab
+    lengths = np.fromiter((t.count(" ") + 1 for t in texts), dtype=np.int64, count=len(texts))
     ends = np.cumsum(lengths)
     n_sh = np.maximum(lengths - 2, 1)
     text_of = np.repeat(np.arange(len(texts)), n_sh)
     # a shingle starts at every word but the last two of its text; a text shorter than three
     # words has one shingle, at its first word, padded
-    starts_here = np.ones(int(ends[-1]) if len(texts) else 0, dtype=bool)
+    starts_here = np.ones(len(w) - 2, dtype=bool)
     starts_here[ends - 1] = False
     starts_here[(ends - 2)[lengths >= 2]] = False
     short = lengths < 3
     starts_here[(ends - lengths)[short]] = True
     pos = np.flatnonzero(starts_here)
-    pad = np.append(w, [base - 1, base - 1])
-    w1, w2 = pad[pos + 1], pad[pos + 2]
+    del starts_here
+    w1, w2 = w[1:][pos], w[2:][pos]
     if short.any():
         at = (np.cumsum(n_sh) - 1)[short]  # the one shingle of each short text
         end = ends[short]
         w1[at] = np.where(pos[at] + 1 < end, w1[at], base - 1)
         w2[at] = np.where(pos[at] + 2 < end, w2[at], base - 1)
     w0 = w[pos]
-    del pos, pad, starts_here
+    del pos, w
     if base < 2**21:  # three ids fit one int64 code
         w0 *= base
         w0 += w1
