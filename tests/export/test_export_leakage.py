@@ -242,3 +242,23 @@ def test_look_alikes_of_one_group_in_one_split_are_expected_and_not_reported():
     assert len(f.details["links"]) == 2 and {tuple(x) for x in f.details["links"]} <= near
     same = [_clip("a", group="cam-1", fp=BASE_FP), _clip("b", group="cam-1", fp=_flip(BASE_FP, [3]))]
     assert _kinds(check_leakage(same, {"a": "train", "b": "train"})) == []
+
+
+def test_clips_of_each_caption_text_as_one_set_per_text():
+    from collections import defaultdict
+
+    from clipscribe.export.leakage import _clips_of_text
+    rng = random.Random(3)
+    owners = [rng.choice("abcdefgh") for _ in range(400)]
+    norms = [rng.choice(["", "x", "y z", "w"] + [f"t{k}" for k in range(300)]) for _ in owners]
+    want = defaultdict(set)
+    for clip, text in zip(owners, norms):
+        if text:
+            want[text].add(clip)
+    got = _clips_of_text(owners, norms)
+    assert sorted(got.one) == sorted(want)  # every non-empty text, once
+    assert {t: got[t] for t in want} == dict(want)
+    assert sorted(got) == sorted(t for t, ids in want.items() if len(ids) > 1)
+    assert {t for t, ids in want.items() if len(ids) > 1} and {t for t in want if len(want[t]) == 1}
+    same = _clips_of_text(["a", "a", "b"], ["x", "x", "y"])  # one clip writing a text twice
+    assert dict(same) == {} and same["x"] == {"a"} and sorted(same.one) == ["x", "y"]

@@ -9,7 +9,7 @@ different clips often coincide; the media checks decide whether the same footage
 
 from __future__ import annotations
 
-from collections import defaultdict
+from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 from typing import Literal, Mapping, Sequence
 
@@ -192,9 +192,34 @@ def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
     return sorted(out, key=lambda f: (f.kind, f.clips))
 
 
+class _ClipsOfText(dict):
+    """Clip ids per normalised caption text: the texts of several clips are kept as sets, and
+    every other text gives the set of its one clip when asked."""
+
+    def __init__(self, one: Mapping[str, str], several: dict[str, set[str]]):
+        super().__init__(several)
+        self.one = one
+
+    def __missing__(self, text: str) -> set[str]:
+        return {self.one[text]}
+
+
+def _clips_of_text(owners: Sequence[str], norms: Sequence[str]) -> _ClipsOfText:
+    """The clips of each non-empty normalised text (``owners[k]`` wrote ``norms[k]``)."""
+    one = dict(zip(norms, owners))
+    one.pop("", None)
+    several: dict[str, set[str]] = {}
+    if len(one) < len(norms):  # some text is written more than once (or is empty)
+        repeated = {t for t, n in Counter(norms).items() if n > 1 and t}
+        for clip_id, norm in zip(owners, norms):
+            if norm in repeated:
+                several.setdefault(norm, set()).add(clip_id)
+        several = {t: ids for t, ids in several.items() if len(ids) > 1}
+    return _ClipsOfText(one, several)
+
+
 def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
               threshold: float, chosen: Mapping[str, Sequence[str]] | None = None) -> list[Finding]:
-    by_text: dict[str, set[str]] = defaultdict(set)
     path = _paths(clips)
     owners: list[str] = []
     raw: list[str] = []
@@ -203,16 +228,10 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                else caption_texts(c))
         owners += [c.clip_id] * len(got)
         raw += got
-    for clip_id, norm in zip(owners, normalise_captions(raw)):
-        if norm:
-            by_text[norm].add(clip_id)
-    texts = sorted(by_text)
+    by_text = _clips_of_text(owners, normalise_captions(raw))
     out = []
-    for t in texts:
-        members = by_text[t]
-        if len(members) == 1:
-            continue
-        ids = sorted(members)
+    for t in sorted(by_text):  # the texts of several clips
+        ids = sorted(by_text[t])
         counts = _split_counts(ids, assignment)
         if len(counts) > 1:
             out.append(Finding("duplicate-caption", "warning",
@@ -220,7 +239,7 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                                f"{_where(ids, path, assignment)}", tuple(ids),
                                {"text": t, "splits": counts}, _files(ids, path)))
     if threshold < 1.0:
-        out += _near_captions(texts, by_text, assignment, path, threshold)
+        out += _near_captions(sorted(by_text.one), by_text, assignment, path, threshold)
     return out
 
 
