@@ -86,3 +86,23 @@ def test_agreement_with_and_without_accepted_suggestions_is_in_the_section(label
         assert "1 accepted" in fig.title
         html = write_report(p, tmp_path / "rep", n_boot=100, cues=cues).html.read_text("utf-8")
         assert "Agreement with and without accepted suggestions" in html
+
+
+def test_board_waits_for_features_of_a_big_project(qtbot, labelled, monkeypatch):  # noqa: F811
+    """More labelled clips without features than the background limit: the board says what to
+    run instead of computing them itself (here the limit is set below any count)."""
+    from clipscribe.project import suggestions
+    from clipscribe.ui.app import application
+    from clipscribe.ui.review.board import AgreementBoard
+    monkeypatch.setattr(suggestions, "BACKGROUND_FEATURES", -1)
+    monkeypatch.setattr(Project, "compare_streams", lambda *a, **k: pytest.fail("computed"))
+    folder, _ = labelled
+    application()
+    with Project.open(folder) as p:
+        board = AgreementBoard(p, n_boot=20)
+        qtbot.addWidget(board)
+        with qtbot.waitSignal(board.cuesLoaded, timeout=60_000):
+            board.load_now()
+        assert "clipscribe compute DIR --what features" in board.cues["not_measured"]
+        assert "of 16 labelled clips" in board.cues["not_measured"]
+        board.runner.wait()

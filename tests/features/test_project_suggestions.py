@@ -96,3 +96,16 @@ def test_a_damaged_clip_is_skipped_and_reported(labelled):
         assert p.suggest(odd_id) == []
         assert "odd.avi" in p.suggestion_reason(odd_id)
         assert p.suggest(ids["new"])  # the others still work
+
+
+def test_features_missing_counts_clips_without_cached_features(labelled):
+    folder, ids = labelled
+    with Project.open(folder) as p:
+        p.train_suggester()  # computes every clip's features
+        clips = len(p.clips())
+        assert p.features_missing() == (0, clips)
+        assert p.features_missing(labelled_only=True) == (0, 16)
+        fresh = sliding_clip(folder / "media" / "fresh.avi", dx=0, dy=3, seed=12345)
+        p.add_clip(fresh)  # content never seen: its features are not in the cache
+        assert p.features_missing() == (1, clips + 1)
+        assert p.features_missing(labelled_only=True) == (0, 16)

@@ -110,3 +110,17 @@ def test_a_failed_training_is_said_not_learning_for_ever(qtbot, open_window, lab
     text = w.clip_panel.suggestion.text()
     assert "read-only" in text and "learning" not in text
     assert "train_suggester" not in text  # the window trains on its own: no API advice
+
+
+def test_a_big_project_waits_for_features_instead_of_computing_them(qtbot, open_window,  # noqa: F811
+                                                                    labelled, monkeypatch):
+    from clipscribe.project import suggestions
+    folder, ids = labelled
+    _set(folder, "on")
+    monkeypatch.setattr(suggestions, "BACKGROUND_FEATURES", -1)
+    monkeypatch.setattr(Project, "train_suggester", lambda *a, **k: pytest.fail("trained"))
+    w, p = _open(qtbot, open_window, folder, ids["new"])
+    qtbot.waitUntil(lambda: w.suggestions.training is None, timeout=30000)
+    text = w.clip_panel.suggestion.text()
+    assert "Suggestions wait" in text and "--what features" in text
+    assert not w.suggestions.has_model

@@ -5,13 +5,13 @@ only: no Qt, no database."""
 from .descriptors import (APPEARANCE_DIMS, MOTION_DIMS, appearance, dense_flow, flow_engine, hof,
                           hog, hsv_histogram, mbh, motion)
 from .extract import (FEATURE_VERSION, STREAMS, ClipFeatures, FeatureJob, FeatureRecipe,
-                      clip_features, compute_clip_features, default_feature_cache_dir,
-                      features_for)
+                      cached_features_path, clip_features, compute_clip_features,
+                      default_feature_cache_dir, features_for)
 from .sampling import SnippetPlan, snippet_plan
 
 __all__ = [
     "APPEARANCE_DIMS", "FEATURE_VERSION", "MOTION_DIMS", "STREAMS", "ClipFeatures", "FeatureJob",
-    "FeatureRecipe", "SnippetPlan", "appearance", "clip_features", "compute_clip_features",
-    "default_feature_cache_dir", "dense_flow", "features_for", "flow_engine", "hof", "hog",
+    "FeatureRecipe", "SnippetPlan", "appearance", "cached_features_path", "clip_features",
+    "compute_clip_features", "default_feature_cache_dir", "dense_flow", "features_for", "flow_engine", "hof", "hog",
     "hsv_histogram", "mbh", "motion", "snippet_plan",
 ]

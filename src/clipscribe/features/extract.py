@@ -162,6 +162,14 @@ def compute_clip_features(path: str | os.PathLike, recipe: FeatureRecipe = Featu
     return _describe(true_plan, frames)
 
 
+def cached_features_path(sha256: str, recipe: FeatureRecipe = FeatureRecipe(),
+                         cache_dir: str | os.PathLike | None = None) -> Path:
+    """Where the features of the file with this SHA-256 are kept for ``recipe`` (whether or
+    not they are there yet)."""
+    folder = Path(cache_dir) if cache_dir is not None else default_feature_cache_dir()
+    return folder / f"{sha256}-features-{recipe.key()}.npz"
+
+
 def clip_features(path: str | os.PathLike, recipe: FeatureRecipe = FeatureRecipe(), *,
                   sha256: str | None = None, frame_count: int | None = None,
                   cancel: Cancel = None, progress: Progress = None,
@@ -178,8 +186,8 @@ def clip_features(path: str | os.PathLike, recipe: FeatureRecipe = FeatureRecipe
     if not use_cache:
         return compute_clip_features(p, recipe, frame_count=frame_count, cancel=cancel,
                                      progress=progress)
-    folder = Path(cache_dir) if cache_dir is not None else default_feature_cache_dir()
-    target = folder / f"{sha256 or file_sha256(p)}-features-{recipe.key()}.npz"
+    target = cached_features_path(sha256 or file_sha256(p), recipe, cache_dir)
+    folder = target.parent
     if target.is_file():
         try:
             with np.load(target, allow_pickle=False) as z:

@@ -19,7 +19,8 @@ import numpy as np
 
 from .. import export
 from ..errors import NotEnoughLabels, RecordError
-from ..features import STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, clip_features, features_for
+from ..features import (STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, cached_features_path,
+                        clip_features, features_for)
 from ..types import ClipRef
 from .context import Service, require
 
@@ -32,6 +33,10 @@ NO_MODEL = ("no suggestion model yet: train one (Project.train_suggester, or "
 VISIBILITY = ("off", "after-look", "on")
 VISIBILITY_KEY = "suggestions.shown"
 DEFAULT_VISIBILITY = "after-look"
+#: clips without cached features that work started in the background (the workbench's
+#: training, the board's comparison) computes itself; with more it waits for 'clipscribe
+#: compute', which uses every core (features take about 0.4 s a clip on one core)
+BACKGROUND_FEATURES = 500
 #: the edit-history action of a clip label set by accepting a suggestion
 ACCEPT_ACTION = "accept-suggestion"
 
@@ -75,6 +80,18 @@ class Suggestions(Service):
         if clips is None:
             self._features = feats
         return feats
+
+    def features_missing(self, *, labelled_only: bool = False,
+                         min_agreement: float = 0.6) -> tuple[int, int]:
+        """(clips whose features are not in the cache yet, clips looked at): every clip, or
+        with ``labelled_only`` the clips training would use. Reads no media."""
+        rows = self.peers.catalog.clips()
+        if labelled_only:
+            labels = self.training_labels(min_agreement=min_agreement)
+            rows = [c for c in rows if c.id in labels]
+        missing = sum(not (c.sha256 and cached_features_path(c.sha256, self.recipe).is_file())
+                      for c in rows)
+        return missing, len(rows)
 
     def _matrix(self, feats: dict[int, ClipFeatures], labels: dict[int, str]):
         ids = [i for i in sorted(labels) if i in feats]
@@ -314,3 +331,15 @@ def _share(progress: Progress, start: int, span: int, whole: int) -> Progress:
         frac = done / total if total else 1.0
         progress(int(1000 * (start + span * frac) / whole), 1000)
     return report
+
+
+def features_wait(project: Any, *, labelled_only: bool = False) -> str:
+    """Why work started in the background should not compute clip features now: "" when at
+    most :data:`BACKGROUND_FEATURES` clips lack them, else a sentence that says how many and
+    what to run."""
+    missing, total = project.features_missing(labelled_only=labelled_only)
+    if missing <= BACKGROUND_FEATURES:
+        return ""
+    which = "labelled clips" if labelled_only else "clips"
+    return (f"{missing} of {total} {which} have no clip features yet: compute them first "
+            "with 'clipscribe compute DIR --what features'")

@@ -18,6 +18,7 @@ from ...review_report.board import (
     BOARD_PARTS, board_data, board_figures, board_parts, confusion_figure, throughput_figure,
     trend_figure,
 )
+from ...project.suggestions import features_wait
 from ...review_report.figures import note_figure
 from ..workers import Job, JobRunner
 from .paint import FigureView
@@ -276,8 +277,11 @@ class AgreementBoard(QWidget):
                                                           "background…") if name == CUE_FIGURES[0]
                                        else note_figure("", ""))
         p, n = self.project, self.n_boot
-        job = self.cues_job = Job("which cues carry the labels", lambda cancel, progress: cues_data(
-            p, n_boot=n, cancel=cancel, progress=progress))
+        def compare(cancel, progress):  # worker thread
+            if wait := features_wait(p, labelled_only=True):
+                return {"not_measured": wait}
+            return cues_data(p, n_boot=n, cancel=cancel, progress=progress)
+        job = self.cues_job = Job("which cues carry the labels", compare)
         job.signals.finished.connect(self.show_cues)
         job.signals.failed.connect(lambda msg: self.show_cues({"not_measured": msg}))
         job.signals.cancelled.connect(lambda: setattr(self, "cues_job", None))

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import QObject, Signal, Slot
 
-from ...project.suggestions import NO_MODEL
+from ...project.suggestions import NO_MODEL, features_wait
 from ..workers import Job, JobRunner
 
 #: retrain after this many new labels in this window
@@ -22,6 +22,8 @@ ANCHORING = ("A suggestion can anchor you: look at the clip first, then decide. 
 
 def _train(project, *, cancel, progress):  # worker thread
     from ...errors import NotEnoughLabels
+    if wait := features_wait(project):  # a big project: hours of features on this machine
+        return f"Suggestions wait: {wait}"
     try:
         return project.train_suggester(progress=progress, cancel=cancel)
     except NotEnoughLabels as exc:
