@@ -47,16 +47,22 @@ def test_too_few_labels_is_said_everywhere(tmp_path):
         assert "not enough labels yet" in files.html.read_text(encoding="utf-8")
 
 
-def test_board_panel_fills_in_the_background(qtbot, labelled):  # noqa: F811
+def _loaded_board(qtbot, p, n_boot: int, timeout: int):
+    """An agreement board on ``p`` once its numbers and then its cues panel are in."""
     from clipscribe.ui.app import application
     from clipscribe.ui.review.board import AgreementBoard
-    folder, _ = labelled
     application()
+    board = AgreementBoard(p, n_boot=n_boot)
+    qtbot.addWidget(board)
+    with qtbot.waitSignal(board.cuesLoaded, timeout=timeout):
+        board.load_now()
+    return board
+
+
+def test_board_panel_fills_in_the_background(qtbot, labelled):  # noqa: F811
+    folder, _ = labelled
     with Project.open(folder) as p:
-        board = AgreementBoard(p, n_boot=100)
-        qtbot.addWidget(board)
-        with qtbot.waitSignal(board.cuesLoaded, timeout=180_000):
-            board.load_now()
+        board = _loaded_board(qtbot, p, 100, 180_000)
         assert board.cues["clips"] == 16
         fig = board.figs["cue_accuracy"].fig
         assert fig.title.startswith("Which cues carry the labels")
@@ -92,17 +98,11 @@ def test_board_waits_for_features_of_a_big_project(qtbot, labelled, monkeypatch)
     """More labelled clips without features than the background limit: the board says what to
     run instead of computing them itself (here the limit is set below any count)."""
     from clipscribe.project import suggestions
-    from clipscribe.ui.app import application
-    from clipscribe.ui.review.board import AgreementBoard
     monkeypatch.setattr(suggestions, "BACKGROUND_FEATURES", -1)
     monkeypatch.setattr(Project, "compare_streams", lambda *a, **k: pytest.fail("computed"))
     folder, _ = labelled
-    application()
     with Project.open(folder) as p:
-        board = AgreementBoard(p, n_boot=20)
-        qtbot.addWidget(board)
-        with qtbot.waitSignal(board.cuesLoaded, timeout=60_000):
-            board.load_now()
+        board = _loaded_board(qtbot, p, 20, 60_000)
         assert "clipscribe compute DIR --what features" in board.cues["not_measured"]
         assert "of 16 labelled clips" in board.cues["not_measured"]
         board.runner.wait()
