@@ -109,3 +109,6 @@ def test_features_missing_counts_clips_without_cached_features(labelled):
         p.add_clip(fresh)  # content never seen: its features are not in the cache
         assert p.features_missing() == (1, clips + 1)
         assert p.features_missing(labelled_only=True) == (0, 16)
+        p.add_clip(sliding_clip(folder / "media" / "fresh2.avi", dx=3, dy=0, seed=54321))
+        assert p.features_missing() == (2, clips + 2)
+        assert p.features_missing(stop_after=0) == (1, clips + 2)  # counting stopped early

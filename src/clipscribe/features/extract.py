@@ -170,6 +170,23 @@ def cached_features_path(sha256: str, recipe: FeatureRecipe = FeatureRecipe(),
     return folder / f"{sha256}-features-{recipe.key()}.npz"
 
 
+def count_uncached_features(sha256s: Iterable[str | None], recipe: FeatureRecipe = FeatureRecipe(),
+                            cache_dir: str | os.PathLike | None = None, *,
+                            stop_after: int | None = None) -> int:
+    """How many of the files with these SHA-256s (None: unknown) have no features in the
+    cache for ``recipe``; counting stops once it passes ``stop_after``. Plain string paths:
+    a big project asks this of 100k files."""
+    folder = os.fspath(cached_features_path("", recipe, cache_dir).parent)
+    tail = cached_features_path("", recipe, cache_dir).name
+    missing = 0
+    for sha in sha256s:
+        if not sha or not os.path.isfile(os.path.join(folder, sha + tail)):
+            missing += 1
+            if stop_after is not None and missing > stop_after:
+                break
+    return missing
+
+
 def clip_features(path: str | os.PathLike, recipe: FeatureRecipe = FeatureRecipe(), *,
                   sha256: str | None = None, frame_count: int | None = None,
                   cancel: Cancel = None, progress: Progress = None,

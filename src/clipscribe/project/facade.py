@@ -823,11 +823,14 @@ class Project:
         return self._suggestions.compare_streams(folds, seed, progress=progress, cancel=cancel,
                                                  min_agreement=min_agreement, n_boot=n_boot)
 
-    def features_missing(self, *, labelled_only: bool = False) -> tuple[int, int]:
+    def features_missing(self, *, labelled_only: bool = False,
+                         stop_after: int | None = None) -> tuple[int, int]:
         """``(missing, clips)``: how many clips (or, with ``labelled_only``, labelled clips the
-        suggester would train on) have no clip features in the cache yet. Training and the
-        comparison compute them; ``clipscribe compute DIR --what features`` does it ahead."""
-        return self._suggestions.features_missing(labelled_only=labelled_only)
+        suggester would train on) have no clip features in the cache yet (counting stops once
+        it passes ``stop_after``). Training and the comparison compute them; ``clipscribe
+        compute DIR --what features`` does it ahead."""
+        return self._suggestions.features_missing(labelled_only=labelled_only,
+                                                  stop_after=stop_after)
 
     def suggestion_visibility(self) -> str:
         """Who sees suggestions in the workbench: "off", "after-look" (once the annotator has

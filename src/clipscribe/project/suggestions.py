@@ -19,8 +19,8 @@ import numpy as np
 
 from .. import export
 from ..errors import NotEnoughLabels, RecordError
-from ..features import (STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, cached_features_path,
-                        clip_features, features_for)
+from ..features import (STREAMS, ClipFeatures, FeatureJob, FeatureRecipe, clip_features,
+                        count_uncached_features, features_for)
 from ..types import ClipRef
 from .context import Service, require
 
@@ -81,16 +81,17 @@ class Suggestions(Service):
             self._features = feats
         return feats
 
-    def features_missing(self, *, labelled_only: bool = False,
-                         min_agreement: float = 0.6) -> tuple[int, int]:
+    def features_missing(self, *, labelled_only: bool = False, min_agreement: float = 0.6,
+                         stop_after: int | None = None) -> tuple[int, int]:
         """(clips whose features are not in the cache yet, clips looked at): every clip, or
-        with ``labelled_only`` the clips training would use. Reads no media."""
+        with ``labelled_only`` the clips training would use. Reads no media; counting stops
+        once it passes ``stop_after``."""
         rows = self.peers.catalog.clips()
         if labelled_only:
             labels = self.training_labels(min_agreement=min_agreement)
             rows = [c for c in rows if c.id in labels]
-        missing = sum(not (c.sha256 and cached_features_path(c.sha256, self.recipe).is_file())
-                      for c in rows)
+        missing = count_uncached_features((c.sha256 for c in rows), self.recipe,
+                                          stop_after=stop_after)
         return missing, len(rows)
 
     def _matrix(self, feats: dict[int, ClipFeatures], labels: dict[int, str]):
@@ -337,9 +338,10 @@ def features_wait(project: Any, *, labelled_only: bool = False) -> str:
     """Why work started in the background should not compute clip features now: "" when at
     most :data:`BACKGROUND_FEATURES` clips lack them, else a sentence that says how many and
     what to run."""
-    missing, total = project.features_missing(labelled_only=labelled_only)
+    missing, total = project.features_missing(labelled_only=labelled_only,
+                                              stop_after=BACKGROUND_FEATURES)
     if missing <= BACKGROUND_FEATURES:
         return ""
     which = "labelled clips" if labelled_only else "clips"
-    return (f"{missing} of {total} {which} have no clip features yet: compute them first "
-            "with 'clipscribe compute DIR --what features'")
+    return (f"more than {BACKGROUND_FEATURES} of {total} {which} have no clip features yet: "
+            "compute them first with 'clipscribe compute DIR --what features'")
