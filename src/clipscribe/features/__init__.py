@@ -6,13 +6,13 @@ from .descriptors import (APPEARANCE_DIMS, MOTION_DIMS, appearance, dense_flow, 
                           hog, hsv_histogram, mbh, motion)
 from .extract import (FEATURE_VERSION, STREAMS, ClipFeatures, FeatureJob, FeatureRecipe,
                       cached_features_path, clip_features, compute_clip_features,
-                      count_uncached_features,
-                      default_feature_cache_dir, features_for)
+                      count_uncached_features, default_feature_cache_dir, features_for)
 from .sampling import SnippetPlan, snippet_plan
 
 __all__ = [
     "APPEARANCE_DIMS", "FEATURE_VERSION", "MOTION_DIMS", "STREAMS", "ClipFeatures", "FeatureJob",
     "FeatureRecipe", "SnippetPlan", "appearance", "cached_features_path", "clip_features",
-    "compute_clip_features", "count_uncached_features", "default_feature_cache_dir", "dense_flow", "features_for", "flow_engine", "hof", "hog",
-    "hsv_histogram", "mbh", "motion", "snippet_plan",
+    "compute_clip_features", "count_uncached_features", "default_feature_cache_dir",
+    "dense_flow", "features_for", "flow_engine", "hof", "hog", "hsv_histogram", "mbh", "motion",
+    "snippet_plan",
 ]
