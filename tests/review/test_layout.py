@@ -33,6 +33,9 @@ def test_board_figures_are_never_cut(qtbot, window, fit_check, width, height):
     if board.data is None:
         with qtbot.waitSignal(board.loaded, timeout=30000):
             pass
+    if board.cues is None:   # the cues panel fills later and changes its figures' sizes
+        with qtbot.waitSignal(board.cuesLoaded, timeout=180_000):
+            pass
     assert fit_check(w, width, height, "board") == []
     scroll = board.scroll
     assert scroll.horizontalScrollBar().maximum() == 0        # nothing cut at the right edge
