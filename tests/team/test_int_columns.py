@@ -1,0 +1,49 @@
+"""Integer columns read through the driver's cursor equal what SQLAlchemy's own result gives,
+on both backends: plain selects, a bound parameter, an expanding IN list and an empty result."""
+
+from __future__ import annotations
+
+import pytest
+from sqlalchemy import select
+
+from clipscribe import Project
+from clipscribe.store.columns import int_columns
+from clipscribe.store.models import Clip, ClipLabel
+
+from .conftest import add_clips
+
+BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
+
+
+@pytest.fixture(params=BACKENDS)
+def project(request, tmp_path):
+    if request.param == "postgres":
+        p = request.getfixturevalue("server_project")
+        ann = f"ann_{request.getfixturevalue('uid')}"
+    else:
+        p, ann = Project.create(tmp_path / "solo", user="boss"), "ann_x"
+        p.define_labels(["pick up", "put down", "stack"])
+    add_clips(p, 4)
+    p.add_annotator(ann)
+    for clip, label in ((1, "stack"), (2, "pick up"), (4, "stack")):
+        p.set_clip_label(clip, ann, label)
+    yield p
+    p.close()
+
+
+@pytest.mark.parametrize("stmt,rows", [
+    (select(ClipLabel.clip_id, ClipLabel.annotator_id, ClipLabel.label_id)
+     .order_by(ClipLabel.id), 3),
+    (select(Clip.id).where(Clip.id > 2).order_by(Clip.id), 2),
+    (select(ClipLabel.clip_id, ClipLabel.label_id).where(ClipLabel.clip_id.in_([1, 4, 9]))
+     .order_by(ClipLabel.clip_id), 2),
+    (select(Clip.id).where(Clip.id > 99), 0),
+], ids=["three-columns", "bound-parameter", "in-list", "empty"])
+def test_driver_columns_equal_sqlalchemy_rows(project, stmt, rows):
+    ctx = project._ctx
+    got = ctx.read(lambda s: int_columns(s, stmt))
+    want = ctx.read(lambda s: [tuple(r) for r in s.execute(stmt)])
+    assert got.dtype.name == "int64"
+    assert len(want) == rows
+    assert got.shape == (rows, len(stmt.selected_columns))
+    assert [tuple(r) for r in got.tolist()] == want
