@@ -176,17 +176,11 @@ BEGIN
        WHERE NOT EXISTS (SELECT 1 FROM {SCHEMA}.assignments a WHERE a.clip_id = k.clip_id
                          AND a.annotator_id = p_annotator)
        ORDER BY k.clip_id LIMIT 1;
-      IF v_clip IS NOT NULL THEN
-        INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
-                                          updated_at, version)
-        VALUES (v_clip, p_annotator, 'open', v_now, v_now + v_lease, v_now, 1);
-        UPDATE {SCHEMA}.clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
-        RETURN v_clip;
-      END IF;
     END IF;
   END IF;
 
-  LOOP
+  -- no check clip due (or none left): a clip with a free place in the plan
+  WHILE v_clip IS NULL LOOP
     SELECT c.id INTO v_clip FROM {_FREE_PLACE}
      FOR UPDATE OF c SKIP LOCKED;
     IF v_clip IS NULL THEN
@@ -200,14 +194,16 @@ BEGIN
       END IF;
     END IF;
     IF (SELECT count(*) FROM {SCHEMA}.assignments a WHERE a.clip_id = v_clip AND {_HOLDS})
-       < (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
-      INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
-                                        updated_at, version)
-      VALUES (v_clip, p_annotator, 'open', v_now, v_now + v_lease, v_now, 1);
-      UPDATE {SCHEMA}.clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
-      RETURN v_clip;
+       >= (SELECT coalesce(annotators_wanted, 1) FROM {SCHEMA}.clips WHERE id = v_clip) THEN
+      v_clip := NULL;  -- its last place went to the pull that held it: look again
     END IF;
   END LOOP;
+
+  INSERT INTO {SCHEMA}.assignments (clip_id, annotator_id, state, assigned_at, expires_at,
+                                    updated_at, version)
+  VALUES (v_clip, p_annotator, 'open', v_now, v_now + v_lease, v_now, 1);
+  UPDATE {SCHEMA}.clips SET state = 'in_progress' WHERE id = v_clip AND state = 'new';
+  RETURN v_clip;
 END
 $$;
 REVOKE ALL ON FUNCTION {SCHEMA}.clipscribe_pull(integer, double precision) FROM PUBLIC;
