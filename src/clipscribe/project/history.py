@@ -29,6 +29,8 @@ ENTITIES = {"clip": Clip, "clip_label": ClipLabel, "segment": Segment, "caption"
             "gold_caption": GoldCaption}
 _UNDOABLE = set(ENTITIES)
 _ANNOTATION = {"clip_label", "segment", "caption", "assignment"}  # one's own work on a clip
+#: rows a clip's state is worked out from (its gold label, everyone's assignments)
+_STATE_FROM = {"gold_label", "assignment"}
 
 
 class History(Service):
@@ -53,13 +55,17 @@ class History(Service):
         ``before`` state; redo is reverting the revert. Refuses (StaleWriteError) when a row
         changed since the edit. Returns the ids of the new history rows."""
         def work(s: Session) -> list[int]:
-            out = []
+            out, stated = [], set()
             for eid in sorted(edit_ids, reverse=True):
                 e = s.get(Edit, eid)
                 require(e is not None and e.entity in _UNDOABLE
                         and (e.entity != "clip" or e.action in ("facts", "undo")),
                         f"edit {eid}: cannot be undone")
                 out.append(self._restore(s, e).id)
+                if e.entity in _STATE_FROM and e.clip_id is not None:
+                    stated.add(e.clip_id)
+            for clip_id in sorted(stated):  # e.g. an undone settle leaves the clip unsettled
+                self.peers.annotation._refresh_clip_state(s, s.get(Clip, clip_id))
             return out
         return self.ctx.write(work)
 

@@ -18,6 +18,7 @@ GAP = 4
 NAME_W = 112
 GOLD = "gold"
 EDGE_PX = 5  # how close to a gold segment's edge a press grabs it
+SCRUB_PX = 4  # how far a pressed mouse moves before it drags the playhead (a click stays a click)
 
 
 def segment_text(label: str | None, start: int, end: int) -> str:
@@ -39,6 +40,8 @@ class TrackStack(QWidget):
         self.frame_count = 1
         self.playhead = 0
         self._drag: tuple[int, str, list] | None = None  # (gold index, "start"|"end", before)
+        self._press_x: float | None = None  # a press away from the gold edges, until released
+        self._scrubbing = False  # that press has moved far enough to drag the playhead
         self.setMouseTracking(True)  # the resize cursor over gold edges
 
     def set_tracks(self, tracks: list[tuple[str, list[tuple[str, int, int]]]],
@@ -120,6 +123,12 @@ class TrackStack(QWidget):
 
     def mouseMoveEvent(self, event) -> None:  # noqa: N802
         x, y = event.position().x(), event.position().y()
+        if self._press_x is not None:  # a press away from the gold edges drags the playhead
+            self._scrubbing = self._scrubbing or abs(x - self._press_x) >= SCRUB_PX
+            f = self.frame_at(x)
+            if self._scrubbing and f != self.playhead:
+                self.seekRequested.emit(f)
+            return
         if self._drag is None:
             edge = self.edge_at(x, y)
             self.setCursor(Qt.CursorShape.SizeHorCursor if edge else Qt.CursorShape.ArrowCursor)
@@ -134,6 +143,8 @@ class TrackStack(QWidget):
         self.update()
 
     def mouseReleaseEvent(self, event) -> None:  # noqa: N802
+        if event.button() == Qt.MouseButton.LeftButton:
+            self._press_x, self._scrubbing = None, False
         if self._drag is None or event.button() != Qt.MouseButton.LeftButton:
             return
         before, self._drag = self._drag[2], None
@@ -152,6 +163,7 @@ class TrackStack(QWidget):
         if edge is not None:
             self._drag = (*edge, list(self.tracks[self._gold_row()][1]))
             return
+        self._press_x = x
         if 0 <= row < len(self.tracks):
             for _, start, end in self.tracks[row][1]:
                 if self.x_of(start) <= x < self.x_of(end):
