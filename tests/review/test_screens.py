@@ -4,6 +4,7 @@ import subprocess
 import sys
 
 import pytest
+from PySide6.QtCore import Qt
 from PySide6.QtGui import QImage
 
 
@@ -42,6 +43,16 @@ def test_desk_and_board_widgets_draw(qtbot, window):
     assert "recipe: alpha|krippendorff" in page.board.details.toPlainText()
     figs["pairwise"].setFocus()  # keyboard path: a focused figure lists its numbers
     qtbot.waitUntil(lambda: "recipe: kappa|cohen" in page.board.details.toPlainText())
+    # a click focuses a figure too, and the focused one is framed in the accent colour
+    from PySide6.QtGui import QColor
+
+    from clipscribe.ui import theme
+    conf = figs["confusion"]
+    qtbot.mouseClick(conf, Qt.MouseButton.LeftButton, pos=conf.rect().center())
+    qtbot.waitUntil(conf.hasFocus)
+    edge = QColor(theme.FOCUS_FRAME).rgb()
+    assert conf.grab().toImage().pixel(1, conf.height() // 2) == edge
+    assert figs["pairwise"].grab().toImage().pixel(1, figs["pairwise"].height() // 2) != edge
     grab = page.board.grab()
     assert grab.width() > 600 and grab.height() > 400
 

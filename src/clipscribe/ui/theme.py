@@ -15,6 +15,7 @@ CURVE_FILL = (94, 194, 183, 90)  # r, g, b, alpha
 SELECTED = "#ffffff"
 UNLABELLED_FILL = "#46505c"   # a segment with no label yet: slate, hatched, dashed edge
 UNLABELLED_HATCH = "#8a96a3"
+FOCUS_FRAME = "#0f766e"  # the board figure with keyboard focus: the teal accent
 SAVED_OK = "#2e7d32"
 SAVED_BAD = "#c62828"
 

@@ -12,6 +12,7 @@ from PySide6.QtCore import QPointF, QRectF, QSize, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QPainter, QPen
 from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
 
+from .. import theme
 from ...review_report.figures import Dot, Figure, Line, Rect, Text
 
 _ALIGN = {"start": Qt.AlignmentFlag.AlignLeft, "middle": Qt.AlignmentFlag.AlignHCenter,
@@ -65,7 +66,7 @@ class FigureView(QWidget):
         super().__init__(parent)
         self.setMouseTracking(True)
         self.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Fixed)
-        self.setFocusPolicy(Qt.FocusPolicy.TabFocus)
+        self.setFocusPolicy(Qt.FocusPolicy.StrongFocus)  # Tab or a click lists its numbers
         self.fig = fig or Figure("", 10, 10)
         self.scale = 1.0  # drawn smaller than the figure's own size, to fit a narrow screen
         self.set_figure(self.fig)
@@ -108,6 +109,15 @@ class FigureView(QWidget):
         p.fillRect(self.rect(), QColor("#ffffff"))
         p.scale(self.scale, self.scale)
         paint_figure(p, self.fig)
+        if self.hasFocus():  # which figure the details pane is about, for keyboard users too
+            p.resetTransform()
+            p.setPen(QPen(QColor(theme.FOCUS_FRAME), 2))
+            p.setBrush(Qt.BrushStyle.NoBrush)
+            p.drawRect(QRectF(self.rect()).adjusted(1, 1, -1, -1))
+
+    def focusOutEvent(self, event) -> None:  # noqa: N802
+        super().focusOutEvent(event)
+        self.update()
 
     def mouseMoveEvent(self, event) -> None:  # noqa: N802
         pos = event.position()
