@@ -92,6 +92,7 @@ class CaptionsPanel(QWidget):
         outer.addWidget(area, 1)
         for i in range(g.captions_per_clip):
             self._add_slot(i)
+        self._chain_tab_order()
 
     # ---- building ----------------------------------------------------------------------
     def _add_slot(self, i: int) -> Slot_:
@@ -131,6 +132,14 @@ class CaptionsPanel(QWidget):
         seg.activated.connect(lambda _i, s=slot: self._save(s))
         self._fill_segments(slot)
         return slot
+
+    def _chain_tab_order(self) -> None:
+        """Tab goes from one caption's text to the next, then through the segment boxes: a
+        typist who tabs to the next caption never lands on a box that ignores letters, where
+        they would reach the label and segment keys instead."""
+        chain = [s.edit for s in self.slots] + [s.segment for s in self.slots]
+        for a, b in zip(chain, chain[1:]):
+            QWidget.setTabOrder(a, b)
 
     def _conflict_bar(self, i: int) -> tuple[QWidget, QLabel]:
         bar = QWidget()
@@ -174,6 +183,7 @@ class CaptionsPanel(QWidget):
         held = self._typed_over_deleted(captions) if keep_unsaved else set()
         while len(self.slots) < len(captions) + len(held):
             self._add_slot(len(self.slots))
+            self._chain_tab_order()
         free = [i for i in range(len(self.slots)) if i not in held]
         placed: dict[int, object] = {}
         for c in sorted(captions, key=lambda c: (c.position, c.id)):
