@@ -26,6 +26,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import shutil
 import subprocess
 import sys
@@ -69,13 +70,16 @@ def project(n: int) -> Path:
 
 
 def timed(args: list[str], env: dict[str, str] | None = None, code: str = RUN) -> dict:
-    t = time.perf_counter()
+    t, before = time.perf_counter(), resource.getrusage(resource.RUSAGE_CHILDREN)
     done = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True,
                           env=env or dict(os.environ, PYTHONPATH=str(ROOT / "src")))
     seconds = time.perf_counter() - t
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
     peak = next((int(line.split()[1]) for line in done.stderr.splitlines()[::-1]
                  if line.startswith("VMHWM_KB")), None)
-    out = {"seconds": round(seconds, 2), "peak_mb": round(peak / 1024, 1) if peak else None,
+    out = {"seconds": round(seconds, 2), "cpu_seconds": round(cpu, 2),
+           "peak_mb": round(peak / 1024, 1) if peak else None,
            "exit": done.returncode}
     if done.returncode:
         out["error"] = done.stderr.strip().splitlines()[-2:] if done.stderr.strip() else []
