@@ -79,6 +79,19 @@ class Results(Service):
             _store(path, (covers, value))
         return value, None
 
+    def kept(self, name: str) -> Any | None:
+        """What :meth:`keep` last kept under ``name`` for this database, or None. The caller
+        checks that it still holds (the entry carries what it covers)."""
+        return _load(self._kept_path(name))
+
+    def keep(self, name: str, value: Any) -> None:
+        """Keep ``value`` under ``name`` for this database (signed, like every entry)."""
+        _store(self._kept_path(name), value)
+
+    def _kept_path(self, name: str) -> Path:
+        db = hashlib.sha256(self._database().encode()).hexdigest()[:32]
+        return self._folder() / f"{name}-{db}.pickle"
+
     def _folder(self) -> Path:
         return self.ctx.folder / FOLDER
 

@@ -3,17 +3,14 @@ annotator throughput and the agreement trend. Writes go through the gold service
 
 from __future__ import annotations
 
-import datetime as dt
-import math
 from typing import Any
 
-from sqlalchemy import func, select
+import numpy as np
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from ..agreement import krippendorff_alpha
-from ..agreement._recipe import Recipe
 from ..errors import RecordError
-from ..store.models import Annotator, Assignment, Edit, GoldCaption
+from ..store.models import Annotator, Assignment, GoldCaption
 from ..types import (  # noqa: F401 (re-exported)
     IDLE_SECONDS,
     ClipComparison,
@@ -24,12 +21,10 @@ from ..types import (  # noqa: F401 (re-exported)
     Throughput,
     TrendPoint,
 )
+from . import worktime
 from .annotate import CaptionInfo, SegmentInfo
 from .disputed import RANKINGS
-
-#: entities whose history rows count as annotation work
-WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
-
+from .work_log import WORK_ENTITIES, WorkEvents  # noqa: F401 (re-exported)
 
 from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with every public error)
 from .context import Service
@@ -48,19 +43,6 @@ def _posterior_of(report: Any, clip: int) -> dict[str, float]:
     if at is None:
         return {}
     return dict(zip((str(c) for c in inf.label_order), inf.posterior_matrix[at].tolist()))
-
-
-def _by_week(order: list[int], when: dict[int, dt.datetime]) -> dict[str, list[int]]:
-    """Clips (in ``order``) grouped by the ISO week of their last label; undated clips left out."""
-    out: dict[str, list[int]] = {}
-    for c in order:
-        if c in when:
-            t = when[c].astimezone(dt.timezone.utc) if when[c].tzinfo else when[c]
-            year, week, _ = t.isocalendar()
-            out.setdefault(f"{year}-W{week:02d}", []).append(c)
-    return out
-
-
 
 
 class Review(Service):
@@ -180,35 +162,12 @@ class Review(Service):
         return self.ctx.read(q)
 
     # ---- throughput and trend -------------------------------------------------------------
-    def _work_events(self) -> list[tuple[dt.datetime, str, int]]:
-        """(when, annotator, clip) of every annotation edit, credited to the annotator whose
-        row changed (an import by the lead counts for the annotator it was for)."""
+    def _work(self) -> tuple[WorkEvents, np.ndarray, np.ndarray, np.ndarray, list[str]]:
+        """The work columns, and ``(when, person, clip, names)`` of the edits credited to a
+        worker (see :meth:`WorkEvents.credited`)."""
+        events = self.peers.work_log.events()
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
-        workers = self._workers()
-        # four plain columns of the history, not whole history rows with their JSON: a big
-        # project has hundreds of thousands of them
-        owner = func.coalesce(Edit.after["annotator_id"].as_integer(),
-                              Edit.before["annotator_id"].as_integer())
-        stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
-                .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
-                .order_by(Edit.id))
-        def q(s: Session) -> list[tuple[dt.datetime, str, int]]:
-            # the history only grows: its newest id and its length say whether it changed
-            # since the last read (throughput and the trend both read it for one board)
-            key = (tuple(s.execute(select(func.max(Edit.id), func.count(Edit.id))).one()),
-                   sorted(ids.items()), sorted(workers))
-            kept = getattr(self, "_events_kept", None)
-            if kept is not None and kept[0] == key:
-                return kept[1]
-            out = []
-            for at, row_owner, who, clip in s.execute(stmt):
-                name = ids.get(row_owner) if row_owner is not None else None
-                name = name if name is not None else ids.get(who)
-                if name in workers:
-                    out.append((at, name, clip))
-            self._events_kept = (key, out)
-            return out
-        return list(self.ctx.read(q))
+        return (events, *events.credited(ids, self._workers()))
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
         r"""Clips per hour per annotator from the edit history.
@@ -218,21 +177,8 @@ class Review(Service):
         choice, 5 minutes by default); clips per hour is :math:`3600\,C_a / T_a` with
         :math:`C_a` the distinct clips the annotator edited (NaN when :math:`T_a = 0`).
         """
-        events: dict[str, list[tuple[dt.datetime, int]]] = {}
-        for at, name, clip in self._work_events():
-            events.setdefault(name, []).append((at, clip))
-        out = {}
-        for name in sorted(self._workers()):
-            ev = sorted(events.get(name, []))
-            active = sum(min((b[0] - a[0]).total_seconds(), idle_seconds)
-                         for a, b in zip(ev, ev[1:]))
-            n = len({c for _, c in ev})
-            rate = 3600.0 * n / active if active > 0 else math.nan
-            rec = Recipe.make("throughput", "clips-per-hour", idle_cap_s=idle_seconds,
-                              n_raters=1, n_items=n, annotators=[name],
-                              note=None if active > 0 else "no working time measured")
-            out[name] = Throughput(name, n, len(ev), active, rate, rec)
-        return out
+        _, at, person, clip, names = self._work()
+        return worktime.throughput(at, person, clip, names, idle_seconds)
 
     def agreement_trend(self, *, window: int | None = None, by: str = "auto") -> list[TrendPoint]:
         r"""Krippendorff's alpha (nominal) of the annotators' labels over time, clips ordered by
@@ -244,30 +190,8 @@ class Review(Service):
         ch. 11)."""
         if by not in ("auto", "clips", "week"):
             raise RecordError(f"trend by {by!r}: use auto, clips or week")
-        workers = self._workers()
+        events, at, _, clip, names = self._work()
+        workers = set(names)
         rows = [r for r in self.peers.annotation.clip_labels() if r[1] in workers]
-        when: dict[int, dt.datetime] = {}
-        for at, _, clip in self._work_events():
-            when[clip] = max(when.get(clip, at), at)
-        order = sorted({c for c, _, _ in rows}, key=lambda c: (when.get(c, dt.datetime.min), c))
-        if not order:
-            return []
-        weeks = _by_week(order, when)
-        if by == "week" or (by == "auto" and window is None and len(weeks) >= MIN_WEEKS):
-            parts, how = list(weeks.items()), "ISO week (UTC) of the last label"
-        else:
-            size = window or max(3, math.ceil(len(order) / 6))
-            parts = [("", order[k:k + size]) for k in range(0, len(order), size)]
-            how = f"windows of {size} clips by time of last label"
-        names = sorted({a for _, a, _ in rows})
-        labels = [l.name for l in self.peers.catalog.labels()]
-        cell = {(c, a): lab for c, a, lab in rows}
-        out = []
-        for period, part in parts:
-            data = [[cell.get((c, a)) for c in part] for a in names]
-            val = krippendorff_alpha(data, labels=labels)
-            times = [when[c] for c in part if c in when] or [dt.datetime.min]
-            rec = val.recipe.replace(options={**dict(val.recipe.options), "trend": how})
-            out.append(TrendPoint(len(out) + 1, min(times), max(times), part, float(val), rec,
-                                  period))
-        return out
+        return worktime.trend(events, at, clip, rows, [l.name for l in self.peers.catalog.labels()],
+                              window=window, by=by, min_weeks=MIN_WEEKS)

@@ -28,6 +28,7 @@ if TYPE_CHECKING:
     from .review import Review
     from .suggestions import Suggestions
     from .team import Team
+    from .work_log import WorkLog
     from .workbench import Workbench
 
 #: service name -> (module in this package, class)
@@ -40,7 +41,7 @@ SERVICES = {
     "exporting": ("exporting", "Exporting"), "team": ("team", "Team"),
     "suggestions": ("suggestions", "Suggestions"), "compute": ("compute", "Compute"),
     "checks": ("checks", "Checks"), "results": ("results", "Results"),
-    "disputed": ("disputed", "Disputed"),
+    "disputed": ("disputed", "Disputed"), "work_log": ("work_log", "WorkLog"),
 }
 
 
@@ -63,6 +64,7 @@ class Peers:
     checks: Checks
     results: Results
     disputed: Disputed
+    work_log: WorkLog
 
     def __init__(self, ctx: Context) -> None:
         self._ctx = ctx

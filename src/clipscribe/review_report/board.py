@@ -22,15 +22,19 @@ def _clean(v: Any) -> Any:
     return v
 
 
-def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None) -> dict:
+def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None,
+               items: bool = True) -> dict:
     """Everything the board and the report show, computed once through the project façade.
 
-    ``agreement`` is exactly ``AgreementReport.to_dict()`` of ``project.agreement_report(seed=,
-    n_boot=)`` (or of ``report``); throughput, trend and the queue come from
-    :class:`~clipscribe.project.review.Review`. Leads only.
+    ``agreement`` is exactly ``AgreementReport.to_dict(items=items)`` of
+    ``project.agreement_report(seed=, n_boot=)`` (or of ``report``); throughput, trend and the
+    queue come from :class:`~clipscribe.project.review.Review`. ``items=False`` (the board)
+    leaves out the per clip rows the figures never show (the report's CSV tables need them).
+    Leads only.
     """
     data: dict = {}
-    for _part, data in board_parts(project, seed=seed, n_boot=n_boot, report=report):
+    for _part, data in board_parts(project, seed=seed, n_boot=n_boot, report=report,
+                                   items=items):
         pass
     return data
 
@@ -39,8 +43,8 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
 BOARD_PARTS = ("meta", "throughput", "trend", "agreement")
 
 
-def board_parts(project, *, seed: int = 0, n_boot: int = 1000,
-                report: Any = None) -> Iterator[tuple[str, dict]]:
+def board_parts(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None,
+                items: bool = True) -> Iterator[tuple[str, dict]]:
     """:func:`board_data` part by part, cheapest first (:data:`BOARD_PARTS`): yields
     ``(part, the dict so far)`` after each, so a screen can draw what is there while the
     agreement report is still being computed. The last dict is :func:`board_data`'s."""
@@ -73,7 +77,7 @@ def board_parts(project, *, seed: int = 0, n_boot: int = 1000,
     yield "trend", data
     rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
     queue = project.review_queue(report=rep, limit=QUEUE_TOP)
-    data["agreement"] = rep.to_dict()
+    data["agreement"] = rep.to_dict(items=items)
     data["queue"] = [{"rank": r.rank, "clip": r.clip, "path": r.path, "group": r.group,
                       "label_disagreement": _clean(r.label_disagreement),
                       "segment_f1": _clean(r.segment_f1), "caption_bleu": _clean(r.caption_bleu),

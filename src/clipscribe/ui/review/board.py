@@ -166,7 +166,7 @@ class AgreementBoard(QWidget):
         p, n = self.project, self.n_boot
 
         def compute(cancel, progress):  # worker thread
-            for i, (part, data) in enumerate(board_parts(p, n_boot=n)):
+            for i, (part, data) in enumerate(board_parts(p, n_boot=n, items=False)):
                 if cancel.is_set():
                     raise JobCancelled("board stopped")
                 progress(i + 1, len(BOARD_PARTS))
@@ -219,7 +219,7 @@ class AgreementBoard(QWidget):
 
     def load_now(self) -> None:
         """Compute on this thread (tests and screenshots)."""
-        self.show_data(board_data(self.project, n_boot=self.n_boot))
+        self.show_data(board_data(self.project, n_boot=self.n_boot, items=False))
 
     @Slot(object)
     def show_data(self, data: dict) -> None:
