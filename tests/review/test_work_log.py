@@ -181,3 +181,21 @@ def test_kept_entry_is_json_free_columns(small):
     assert all(isinstance(c, np.ndarray) and c.dtype == np.int64
                for c in (kept.at_us, kept.owner, kept.who, kept.clip))
     assert json.dumps(kept.clip.tolist()) == "[1, 2, 1]"
+
+
+def test_kept_clip_labels_follow_every_change(small):
+    """The clip labels read for the trend are reused by the agreement report only while
+    nothing moved: a label set through the façade, and a row rewritten outside it with its
+    version bumped (as the bulk import does), are both seen."""
+    with Project.open(small, user="lead") as p:
+        first = p.clip_labels()
+        assert p.clip_labels() == first and (2, "ann-a", "sort") in first
+        p.set_clip_label(2, "ann-a", "stack")
+        assert (2, "ann-a", "stack") in p.clip_labels()
+        db = sqlite3.connect(small / "project.sqlite")
+        sort = db.execute("SELECT id FROM labels WHERE name = 'sort'").fetchone()[0]
+        db.execute("UPDATE clip_labels SET label_id = ?, version = version + 1 WHERE clip_id = 1"
+                   " AND annotator_id = (SELECT id FROM annotators WHERE name = 'ann-b')", (sort,))
+        db.commit()
+        db.close()
+        assert (1, "ann-b", "sort") in p.clip_labels()

@@ -19,6 +19,7 @@ from ..store.models import (
     Caption,
     Clip,
     ClipLabel,
+    Edit,
     GoldLabel,
     Label,
     Segment,
@@ -86,11 +87,29 @@ class Annotation(Service):
             stmt = stmt.where(model.annotator_id == self.ctx.annotator(s, annotator).id)
         return stmt
 
+    def _all_clip_labels(self, s: Session) -> list[tuple[int, str, str]]:
+        """Every clip label, kept from the last read while nothing it depends on moved: the
+        board's trend and its agreement report both read them (a second read cost a big
+        project a second). The stamp covers the rows (count, largest id, sum of versions:
+        every update bumps a row's version), the people and labels tables (their names are
+        put in) and the newest edit of the history (every write through clipscribe logs one)."""
+        stamp = (tuple(s.execute(select(func.count(), func.max(ClipLabel.id),
+                                        func.coalesce(func.sum(ClipLabel.version), 0))).one()),
+                 s.scalar(select(func.max(Edit.id))),
+                 tuple(s.execute(select(Annotator.id, Annotator.name).order_by(Annotator.id))),
+                 tuple(s.execute(select(Label.id, Label.name).order_by(Label.id))))
+        kept = getattr(self, "_labels_kept", None)
+        if kept is not None and kept[0] == stamp:
+            return list(kept[1])
+        rows = _all_clip_labels(s)
+        self._labels_kept = (stamp, rows)
+        return list(rows)
+
     def clip_labels(self, *, annotator: Any = None, clip: ClipRef | None = None) -> list[tuple[int, str, str]]:
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         def q(s: Session) -> list[tuple[int, str, str]]:
             if clip is None and annotator is None:
-                return _all_clip_labels(s)
+                return self._all_clip_labels(s)
             stmt = (select(ClipLabel.clip_id, Annotator.name, Label.name)
                     .join(Annotator, Annotator.id == ClipLabel.annotator_id)
                     .join(Label, Label.id == ClipLabel.label_id).order_by(ClipLabel.clip_id, Annotator.name))
