@@ -184,3 +184,32 @@ def test_desk_steps_across_a_page_boundary(qtbot, open_window, sample, tmp_path,
     desk.open_clip(want[4])
     desk.step(1)
     assert desk.cmp.clip.id == want[5] and desk.queue_view.currentIndex().row() == 5
+
+
+def test_opened_on_the_board_the_desk_ranks_after_it(qtbot, open_window, sample, tmp_path,
+                                                      held_report):
+    """The window opened on the board: the desk shows its provisional order but computes no
+    agreement report of its own until the board's numbers are in (one report at a time)."""
+    gate, calls = held_report
+    w, p = _open(qtbot, open_window, sample, tmp_path, "board")
+    board, desk = w.review_desk.board, w.review_desk.desk
+    qtbot.waitUntil(lambda: _drawn(board, "trend") and desk.queue_model.rowCount() > 0,
+                    timeout=WAIT)
+    qtbot.wait(300)
+    assert len(calls) == 1 and desk.report is None                # the board's report alone
+    assert desk.queue_model.order.provisional
+    with qtbot.waitSignal(desk.ranked, timeout=WAIT):
+        gate.set()                                                # board loaded, then the desk
+    assert board.data is not None and desk.report is not None and len(calls) == 2
+
+
+def test_switching_to_the_desk_lets_it_rank_at_once(qtbot, open_window, sample, tmp_path,
+                                                    held_report):
+    gate, calls = held_report
+    w, p = _open(qtbot, open_window, sample, tmp_path, "board")
+    page = w.review_desk
+    qtbot.waitUntil(lambda: len(calls) == 1, timeout=WAIT)
+    page.setCurrentWidget(page.desk)
+    qtbot.waitUntil(lambda: len(calls) == 2, timeout=WAIT)        # the board is still held
+    assert page.board.data is None
+    gate.set()

@@ -63,6 +63,7 @@ class AgreementBoard(QWidget):
     loaded = Signal()        # every panel but the cues holds its numbers
     partial = Signal(str)    # a part of the numbers is on screen (see BOARD_PARTS)
     cuesLoaded = Signal()    # the cues panel holds its numbers too
+    ended = Signal()         # the computation of the numbers ended: loaded, failed or stopped
 
     def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000) -> None:
         super().__init__(parent)
@@ -203,6 +204,7 @@ class AgreementBoard(QWidget):
         self.job = None
         self._busy(False)
         self.summary.setText(text)
+        self.ended.emit()
 
     def _show_part(self, part: str, data: dict) -> None:
         """Draw the panels a part of the numbers fills (the rest keep waiting)."""
@@ -263,6 +265,7 @@ class AgreementBoard(QWidget):
                + (f" — {f['reason']}" if f["reason"] else "") for f in flags[:30]]))
         self.details.setPlainText("\n\n".join(self.figs["label_alpha"].all_tips()[:2]))
         self.loaded.emit()
+        self.ended.emit()
         self.compare_cues()
 
     @Slot()

@@ -7,6 +7,7 @@ each, recorded with the lead's name in the edit history, undoable)."""
 from __future__ import annotations
 
 import math
+import threading
 
 from PySide6.QtCore import QItemSelectionModel, Qt, Signal, Slot
 from PySide6.QtGui import QAction, QImage, QKeySequence
@@ -53,7 +54,10 @@ class ReviewDesk(QWidget):
     ready = Signal()        # once: ranked, and the first clip's frame is on screen (or no clip)
     usable = Signal()       # once: a first page of the queue and a clip's frame are on screen
 
-    def __init__(self, project, parent: QWidget | None = None) -> None:
+    def __init__(self, project, parent: QWidget | None = None, *,
+                 hold_report: bool = False) -> None:
+        """``hold_report``: rank by the agreement report only after :meth:`release_report`
+        (the window opens on the agreement board; see :meth:`hold_report`)."""
         super().__init__(parent)
         self.setObjectName("reviewDesk")
         self.project = project
@@ -71,6 +75,9 @@ class ReviewDesk(QWidget):
         self._usable = False
         self._picked = False  # the lead chose the open clip (a new order keeps it open)
         self._caption_scores: dict[str, list] = {}  # clip -> its captions' scores in the report
+        self._report_gate = threading.Event()  # cleared while the board goes first (hold_report)
+        if not hold_report:
+            self._report_gate.set()
         self._build()
         self._wire()
         self.reload_queue()
@@ -258,6 +265,8 @@ class ReviewDesk(QWidget):
                    group=self.by_group.currentData(), flagged=bool(self.by_flag.currentData()),
                    rank_by=self.rank_by.currentData())
 
+        gate = self._report_gate
+
         def rank(cancel, progress):
             if quick:
                 order = p.review_order(**flt)
@@ -266,6 +275,9 @@ class ReviewDesk(QWidget):
                     raise JobCancelled("ranking superseded")
                 job.signals.partial.emit((None, order, first, {}))
                 progress(1, 3)
+            while not gate.wait(0.05):  # the board goes first (see hold_report)
+                if cancel.is_set():
+                    raise JobCancelled("ranking superseded")
             report = p.agreement_report(n_boot=QUEUE_BOOT)
             if cancel.is_set():
                 raise JobCancelled("ranking superseded")
@@ -286,6 +298,18 @@ class ReviewDesk(QWidget):
         self.queue_note.setText(f"{self._ranked_note} Re-ranking…".lstrip() if self._ranked_note
                                 else "Ranking disputed clips…")
         return self.runner.start(job)
+
+    def hold_report(self) -> None:
+        """Rank by the agreement report only after :meth:`release_report`: the window opened on
+        the agreement board, whose numbers were asked for first, and two agreement reports
+        computed at once on a big project each take twice as long. The provisional order
+        (label disagreement alone) is still shown meanwhile."""
+        self._report_gate.clear()
+
+    @Slot()
+    def release_report(self) -> None:
+        """Let the ranking by the agreement report go on (see :meth:`hold_report`)."""
+        self._report_gate.set()
 
     def _ranked(self, job: Job, out, keep: bool, *, final: bool) -> None:
         if job is not self.ranking or job.cancel_event.is_set():

@@ -22,11 +22,13 @@ REPORT_ACTION = "Write agreement report…"  # one name: menu, board button, mes
 class ReviewPage(QTabWidget):
     """Two tabs: "Review desk" and "Agreement board"."""
 
-    def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000) -> None:
+    def __init__(self, project, parent: QWidget | None = None, *, n_boot: int = 1000,
+                 board_first: bool = False) -> None:
         super().__init__(parent)
         self.setObjectName("reviewPage")
         self.project = project
-        self.desk = ReviewDesk(project)
+        # opened on the board: the desk ranks by the agreement report after the board's
+        self.desk = ReviewDesk(project, hold_report=board_first)
         self.board = AgreementBoard(project, n_boot=n_boot)
         self.addTab(self.desk, "&Review desk")
         self.addTab(self.board, "Agreement &board")
@@ -35,6 +37,7 @@ class ReviewPage(QTabWidget):
                                          self.ask_export)
         self.board.exportRequested.connect(self.ask_export)
         self.currentChanged.connect(self._tab)
+        self.board.ended.connect(self.desk.release_report)
         self._board_started = False
 
     def shutdown(self) -> None:
@@ -45,6 +48,8 @@ class ReviewPage(QTabWidget):
         self.board.runner.wait()
 
     def _tab(self, i: int) -> None:
+        if self.widget(i) is self.desk:
+            self.desk.release_report()
         if self.widget(i) is self.board and not self._board_started:
             self._board_started = True
             self.board.refresh()
@@ -57,6 +62,8 @@ class ReviewPage(QTabWidget):
             self.desk.viewer.setFocus(Qt.FocusReason.OtherFocusReason)
 
     def show_board(self) -> None:
+        if not self._board_started and self.desk.report is None:
+            self.desk.hold_report()  # the board's numbers first; the desk ranks after them
         self.setCurrentWidget(self.board)
 
     def menu_actions(self) -> list[QAction]:
@@ -120,6 +127,7 @@ class ReviewView(QWidget):
         self.project = project
         self.page: ReviewPage | None = None
         self.refusal: QLabel | None = None
+        self.board_first = False  # the page, when built, opens on the agreement board
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
         try:
@@ -135,7 +143,7 @@ class ReviewView(QWidget):
     def build(self) -> ReviewPage | None:
         """The page (made on the first call, for a lead); None for anyone else."""
         if self.page is None and self.is_reviewer:
-            self.page = ReviewPage(self.project)
+            self.page = ReviewPage(self.project, board_first=self.board_first)
             self.layout().addWidget(self.page)
             self.page.show()  # at once, not on the next pass of the event loop
             self.built.emit(self.page)

@@ -441,6 +441,7 @@ class MainWindow(SegmentOps, QMainWindow):
         review = view in ("review", "board")
         if review and self.stack.currentIndex() == 0:
             self._work_state = self.saveState()  # the work view's docks, before they are hidden
+        self.review_page.board_first = view == "board"
         self.stack.setCurrentIndex(1 if review else 0)
         self.actions_["work_view"].setChecked(not review)
         self.actions_["review_view"].setChecked(review)
