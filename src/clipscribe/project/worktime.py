@@ -80,13 +80,13 @@ def trend(events: WorkEvents, at_us: np.ndarray, clip: np.ndarray,
         size = window or max(3, math.ceil(len(order) / 6))
         parts = [("", order[k:k + size]) for k in range(0, len(order), size)]
         how = f"windows of {size} clips by time of last label"
-    names = sorted({a for _, a, _ in rows})
-    cell = {(c, a): lab for c, a, lab in rows}
+    cells = _cells(order, rows, labels)
     times = dict(zip(order[dated].tolist(), when[dated].tolist()))
     out = []
     for period, part in parts:
         ids = part.tolist()
-        val = krippendorff_alpha([[cell.get((c, a)) for c in ids] for a in names], labels=labels)
+        val = krippendorff_alpha(cells(part), labels=labels if cells.strings else
+                                 [float(k) for k in range(len(labels))])
         span = [times[c] for c in ids if c in times]
         first, last_t = ((events.when(min(span)), events.when(max(span))) if span
                          else (dt.datetime.min, dt.datetime.min))
@@ -100,3 +100,31 @@ def _weeks(order: np.ndarray, when: np.ndarray) -> list[tuple[str, np.ndarray]]:
     names = iso_weeks(when)
     starts = [k for k in range(len(names)) if k == 0 or names[k] != names[k - 1]]
     return [(names[a], order[a:b]) for a, b in zip(starts, starts[1:] + [len(names)])]
+
+
+class _cells:
+    """The raters x clips table of the workers' labels for a part of ``order``: label codes
+    (their place in ``labels``, NaN where a worker gave none), which alpha reads as numbers,
+    not one string at a time (nominal alpha depends on which codes agree, not on the names).
+    A label outside ``labels`` keeps the table of names, so alpha says which one."""
+
+    def __init__(self, order: np.ndarray, rows: list[tuple[int, str, str]],
+                 labels: list[str]) -> None:
+        names = sorted({a for _, a, _ in rows})
+        self.at = np.zeros(int(order.max()) + 1, dtype=np.int64)
+        self.at[order] = np.arange(len(order))
+        code = {lab: float(k) for k, lab in enumerate(labels)}
+        self.strings = any(lab not in code for _, _, lab in rows)
+        table = np.full((len(names), len(order)), None if self.strings else np.nan,
+                        dtype=object if self.strings else np.float64)
+        who = {a: k for k, a in enumerate(names)}
+        clips = self.at[np.fromiter((c for c, _, _ in rows), dtype=np.int64, count=len(rows))]
+        people = np.fromiter((who[a] for _, a, _ in rows), dtype=np.int64, count=len(rows))
+        table[people, clips] = ([lab for _, _, lab in rows] if self.strings else
+                                np.fromiter((code[lab] for _, _, lab in rows), dtype=np.float64,
+                                            count=len(rows)))
+        self.table = table
+
+    def __call__(self, part: np.ndarray) -> list | np.ndarray:
+        cols = self.table[:, self.at[part]]
+        return cols.tolist() if self.strings else cols
