@@ -199,3 +199,19 @@ def test_kept_clip_labels_follow_every_change(small):
         db.commit()
         db.close()
         assert (1, "ann-b", "sort") in p.clip_labels()
+
+
+def test_label_table_codes_and_the_names_fallback():
+    """Labels as their place in the label set (NaN where none); a label outside the set
+    keeps the names, so alpha can say which label it does not know."""
+    from clipscribe.project.worktime import _cells
+    order = np.array([7, 3, 5])
+    rows = [(3, "b", "sort"), (5, "a", "stack"), (7, "a", "sort"), (7, "b", "sort")]
+    table = _cells(order, rows, ["stack", "sort"])
+    assert not table.strings
+    np.testing.assert_array_equal(table(order), [[1.0, np.nan, 0.0], [1.0, 1.0, np.nan]])
+    np.testing.assert_array_equal(table(order[1:]), [[np.nan, 0.0], [1.0, np.nan]])
+    odd = _cells(order, rows + [(3, "a", "retired")], ["stack", "sort"])
+    assert odd.strings and odd(order) == [["sort", "retired", "stack"], ["sort", "sort", None]]
+    with pytest.raises(ValueError, match="retired"):
+        krippendorff_alpha(odd(order), labels=["stack", "sort"])
