@@ -167,7 +167,12 @@ class Review(Service):
         worker (see :meth:`WorkEvents.credited`)."""
         events = self.peers.work_log.events()
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
-        return (events, *events.credited(ids, self._workers()))
+        workers = self._workers()
+        key = (sorted(ids.items()), sorted(workers))
+        kept = getattr(self, "_credited", None)  # throughput and the trend of one board
+        if kept is None or kept[0] is not events or kept[1] != key:
+            kept = self._credited = (events, key, events.credited(ids, workers))
+        return (events, *kept[2])
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
         r"""Clips per hour per annotator from the edit history.
