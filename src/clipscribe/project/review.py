@@ -7,6 +7,8 @@ import datetime as dt
 import math
 from typing import Any
 
+import numpy as np
+
 from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
@@ -27,8 +29,7 @@ from ..types import (  # noqa: F401 (re-exported)
 from .annotate import CaptionInfo, SegmentInfo
 from .disputed import RANKINGS
 
-#: entities whose history rows count as annotation work
-WORK_ENTITIES = ("clip_label", "segment", "caption", "assignment")
+from .work_events import WorkEvents, active_seconds, read_work_events
 
 
 from ..errors import NotALeadError  # noqa: E402,F401 (re-exported; defined with every public error)
@@ -180,19 +181,14 @@ class Review(Service):
         return self.ctx.read(q)
 
     # ---- throughput and trend -------------------------------------------------------------
-    def _work_events(self) -> list[tuple[dt.datetime, str, int]]:
-        """(when, annotator, clip) of every annotation edit, credited to the annotator whose
-        row changed (an import by the lead counts for the annotator it was for)."""
+    def _work_events(self) -> WorkEvents:
+        """Every annotation edit of a worker as columns (see :mod:`.work_events`), credited to
+        the annotator whose row changed (an import by the lead counts for the annotator it
+        was for)."""
         ids = {a.id: a.name for a in self.peers.catalog.annotators()}
         workers = self._workers()
-        # four plain columns of the history, not whole history rows with their JSON: a big
-        # project has hundreds of thousands of them
-        owner = func.coalesce(Edit.after["annotator_id"].as_integer(),
-                              Edit.before["annotator_id"].as_integer())
-        stmt = (select(Edit.at, owner, Edit.annotator_id, Edit.clip_id)
-                .where(Edit.entity.in_(sorted(WORK_ENTITIES)), Edit.clip_id.is_not(None))
-                .order_by(Edit.id))
-        def q(s: Session) -> list[tuple[dt.datetime, str, int]]:
+
+        def q(s: Session) -> WorkEvents:
             # the history only grows: its newest id and its length say whether it changed
             # since the last read (throughput and the trend both read it for one board)
             key = (tuple(s.execute(select(func.max(Edit.id), func.count(Edit.id))).one()),
@@ -200,15 +196,10 @@ class Review(Service):
             kept = getattr(self, "_events_kept", None)
             if kept is not None and kept[0] == key:
                 return kept[1]
-            out = []
-            for at, row_owner, who, clip in s.execute(stmt):
-                name = ids.get(row_owner) if row_owner is not None else None
-                name = name if name is not None else ids.get(who)
-                if name in workers:
-                    out.append((at, name, clip))
-            self._events_kept = (key, out)
-            return out
-        return list(self.ctx.read(q))
+            events = read_work_events(s, ids, workers)
+            self._events_kept = (key, events)
+            return events
+        return self.ctx.read(q)
 
     def throughput(self, *, idle_seconds: float = IDLE_SECONDS) -> dict[str, Throughput]:
         r"""Clips per hour per annotator from the edit history.
@@ -218,20 +209,17 @@ class Review(Service):
         choice, 5 minutes by default); clips per hour is :math:`3600\,C_a / T_a` with
         :math:`C_a` the distinct clips the annotator edited (NaN when :math:`T_a = 0`).
         """
-        events: dict[str, list[tuple[dt.datetime, int]]] = {}
-        for at, name, clip in self._work_events():
-            events.setdefault(name, []).append((at, clip))
+        events = self._work_events()
         out = {}
         for name in sorted(self._workers()):
-            ev = sorted(events.get(name, []))
-            active = sum(min((b[0] - a[0]).total_seconds(), idle_seconds)
-                         for a, b in zip(ev, ev[1:]))
-            n = len({c for _, c in ev})
+            times, clips = events.of(name)
+            active = active_seconds(times, idle_seconds)
+            n = len(np.unique(clips))
             rate = 3600.0 * n / active if active > 0 else math.nan
             rec = Recipe.make("throughput", "clips-per-hour", idle_cap_s=idle_seconds,
                               n_raters=1, n_items=n, annotators=[name],
                               note=None if active > 0 else "no working time measured")
-            out[name] = Throughput(name, n, len(ev), active, rate, rec)
+            out[name] = Throughput(name, n, len(times), active, rate, rec)
         return out
 
     def agreement_trend(self, *, window: int | None = None, by: str = "auto") -> list[TrendPoint]:
@@ -246,9 +234,7 @@ class Review(Service):
             raise RecordError(f"trend by {by!r}: use auto, clips or week")
         workers = self._workers()
         rows = [r for r in self.peers.annotation.clip_labels() if r[1] in workers]
-        when: dict[int, dt.datetime] = {}
-        for at, _, clip in self._work_events():
-            when[clip] = max(when.get(clip, at), at)
+        when = self._work_events().last_per_clip()
         order = sorted({c for c, _, _ in rows}, key=lambda c: (when.get(c, dt.datetime.min), c))
         if not order:
             return []

@@ -34,3 +34,17 @@ def int_columns(s: Session, stmt: Select) -> np.ndarray:
     finally:
         cursor.close()
     return flat.reshape(-1, width)
+
+
+def driver_columns(s: Session, stmt: Select) -> np.ndarray:
+    """The rows of ``stmt`` as an object array of shape (rows, columns), each value as the
+    database driver gives it (no SQLAlchemy result conversion: a DATETIME column comes back as
+    SQLite's text but as a datetime from a server), inside ``s``'s transaction. SQLAlchemy runs
+    the statement (its bind conversions, such as JSON paths, apply); only the rows are taken
+    from the driver's cursor."""
+    result = s.connection().execute(stmt)
+    try:
+        cells = np.fromiter(itertools.chain.from_iterable(result.cursor), dtype=object)
+    finally:
+        result.close()
+    return cells.reshape(-1, len(stmt.selected_columns))
