@@ -4,6 +4,7 @@ would run as a formula get a leading ``'``, numbers stay numbers). No Qt."""
 
 from __future__ import annotations
 
+import csv
 import io
 from typing import Any
 
@@ -139,19 +140,22 @@ ALL = {"summary": summary, "pairwise_kappa": pairwise, "confusion": confusion,
 
 
 def _cell(v: Any) -> Any:
-    """Numbers stay numbers (a negative value is not text to escape); the rest is text."""
+    """Numbers stay numbers (a negative value is not text to escape); the rest is text, made
+    safe for a spreadsheet by :func:`~clipscribe.export.csvsafe.safe_cell`."""
     if v is None:
         return ""
     if isinstance(v, (int, float)) and not isinstance(v, bool):
         return v
-    return str(v)
+    return csvsafe.safe_cell(str(v))
 
 
 def to_csv(table: Table) -> str:
+    """The table as CSV text. Every cell passes through :func:`_cell` once and the rows go to
+    the csv module in one call (a 100k-clip report has tables of 200k rows)."""
     header, rows = table
     buf = io.StringIO()
-    w = csvsafe.writer(buf, lineterminator="\n")
-    w.writerow(header)
-    for r in rows:
-        w.writerow([_cell(v) for v in r])
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow([_cell(h) for h in header])
+    cell = _cell
+    w.writerows([cell(v) for v in r] for r in rows)
     return buf.getvalue()
