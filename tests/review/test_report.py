@@ -87,6 +87,9 @@ def test_long_tables_show_their_first_rows_and_name_the_csv():
     assert ">2<" in page and ">3<" not in page
     assert "the first 3 rows of 7 are shown here; all 7 are in flagged_captions.csv" in page
     assert "shown here" not in _table((["clip", "bleu"], rows), 7, csv_name="x.csv")
+    # only the rows shown were built, the count of all comes beside them: the same page
+    assert _table((["clip", "bleu"], rows[:3]), 3, csv_name="flagged_captions.csv",
+                  total=7) == page
 
 
 def test_csv_tables_equal_the_engine(written):
