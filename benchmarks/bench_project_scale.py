@@ -6,9 +6,11 @@ usable (a first page of the disputed queue and a clip's frame on screen) and the
 the clips is linear). The GUI rows time a fresh process from its start to the moment named.
 
 ``agreement_cold`` is the first run on an empty result cache (it computes the caption part and
-keeps it in the project's .clipscribe-cache/results); ``agreement`` and ``agreement_summary``
-(``--json --summary``: no rows per clip or caption) are the runs after it, which reuse that
-part, as ``report`` does. Each command runs in a fresh process; its peak memory is that process's VmHWM (read from
+keeps it in the project's .clipscribe-cache/results); ``agreement`` (``--json``: every number
+and the ten most disputed clips), ``agreement_summary`` (``--json --summary``) and
+``agreement_rows`` (``--json --all-rows``: also every row per clip and per caption, ~100 MB at
+100k clips) are the runs after it, which reuse that part, as ``report`` does. Each row gives
+wall seconds and the process's CPU seconds (user + system). Each command runs in a fresh process; its peak memory is that process's VmHWM (read from
 /proc/self/status at exit, so a parent's peak is never carried over). Projects are built once
 by benchmarks/make_big_project.py into benchmarks/out/ and reused.
 
@@ -70,20 +72,22 @@ def project(n: int) -> Path:
 
 
 def timed(args: list[str], env: dict[str, str] | None = None, code: str = RUN) -> dict:
-    t, before = time.perf_counter(), resource.getrusage(resource.RUSAGE_CHILDREN)
+    t, cpu = time.perf_counter(), _children_cpu()
     done = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True,
                           env=env or dict(os.environ, PYTHONPATH=str(ROOT / "src")))
-    seconds = time.perf_counter() - t
-    after = resource.getrusage(resource.RUSAGE_CHILDREN)
-    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    seconds, cpu = time.perf_counter() - t, _children_cpu() - cpu
     peak = next((int(line.split()[1]) for line in done.stderr.splitlines()[::-1]
                  if line.startswith("VMHWM_KB")), None)
-    out = {"seconds": round(seconds, 2), "cpu_seconds": round(cpu, 2),
-           "peak_mb": round(peak / 1024, 1) if peak else None,
+    out = {"seconds": round(seconds, 2), "cpu_seconds": round(cpu, 2), "peak_mb": round(peak / 1024, 1) if peak else None,
            "exit": done.returncode}
     if done.returncode:
         out["error"] = done.stderr.strip().splitlines()[-2:] if done.stderr.strip() else []
     return out
+
+
+def _children_cpu() -> float:
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
 
 
 def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict:
@@ -101,6 +105,7 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
             "agreement_cold": cold,
             "agreement": lambda: timed(["agreement", str(folder), "--json"]),
             "agreement_summary": lambda: timed(["agreement", str(folder), "--json", "--summary"]),
+            "agreement_rows": lambda: timed(["agreement", str(folder), "--json", "--all-rows"]),
             "report": lambda: timed(["report", str(folder), str(Path(tmp) / "report")]),
             "export_dry_run": lambda: timed(["export", str(folder), str(Path(tmp) / "export"),
                                              "--dry-run"]),

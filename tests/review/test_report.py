@@ -65,9 +65,31 @@ def test_embedded_numbers_equal_the_engine(written):
     html = files.html.read_text(encoding="utf-8")
     data = read_numbers(html)
     want = rep.to_dict()
+    # the parts with a row per clip or caption are in the CSV tables, named in rows_in_csv
+    assert data["rows_in_csv"] == {
+        "agreement.clips": {"csv": "clips.csv", "rows": len(want["clips"])},
+        "agreement.captions.flagged": {"csv": "flagged_captions.csv",
+                                       "rows": len(want["captions"]["flagged"])},
+        "agreement.reliability.inferred.items": {
+            "csv": "inferred_labels.csv", "rows": len(want["reliability"]["inferred"]["items"])}}
+    assert all((files.folder / v["csv"]).exists() for v in data["rows_in_csv"].values())
+    del want["clips"], want["captions"]["flagged"], want["reliability"]["inferred"]["items"]
     want["recipe"].pop("text"), data["agreement"]["recipe"].pop("text")
     same(data["agreement"], want)
     assert data["meta"]["version"] == rep.recipe.version
+
+
+def test_long_tables_show_their_first_rows_and_name_the_csv():
+    from clipscribe.review_report.html import _table
+    rows = [[str(i), float(i)] for i in range(7)]
+    page = _table((["clip", "bleu"], rows), 3, csv_name="flagged_captions.csv")
+    assert page.count("<tr>") == 1 + 3 + 1  # header, three rows, the line naming the CSV
+    assert ">2<" in page and ">3<" not in page
+    assert "the first 3 rows of 7 are shown here; all 7 are in flagged_captions.csv" in page
+    assert "shown here" not in _table((["clip", "bleu"], rows), 7, csv_name="x.csv")
+    # only the rows shown were built, the count of all comes beside them: the same page
+    assert _table((["clip", "bleu"], rows[:3]), 3, csv_name="flagged_captions.csv",
+                  total=7) == page
 
 
 def test_csv_tables_equal_the_engine(written):

@@ -122,15 +122,21 @@ def test_cli_json_is_the_report_dict_and_summary_leaves_out_only_the_rows(sample
     import json
 
     args = ["agreement", str(sample_copy), "--user", sample_lead, "--boot", str(BOOT), "--json"]
-    assert main(args) == 0
+    assert main(args + ["--all-rows"]) == 0
     full = json.loads(capsys.readouterr().out)
     with Project.open(sample_copy, user=sample_lead) as p:
-        want = p.agreement_report(n_boot=BOOT).to_dict()
+        rep = p.agreement_report(n_boot=BOOT)
+        want, worst = rep.to_dict(), [c.to_dict() for c in rep.review_queue(3)]
     for d in (full, want):
         d["recipe"].pop("note"), d["recipe"].pop("text")
     same(full, want)
+    # the default: every number and the most disputed clips, not the rows per clip or caption
+    assert main(args + ["--top", "3"]) == 0
+    default = json.loads(capsys.readouterr().out)
+    assert default.pop("most_disputed") == worst and len(worst) == 3
     assert main(args + ["--summary"]) == 0
     short = json.loads(capsys.readouterr().out)
+    assert short == default
     assert short["items_left_out"] == ["clips", "captions.flagged", "reliability.inferred.items"]
     assert "clips" not in short and "flagged" not in short["captions"]
     assert "items" not in short["reliability"]["inferred"]

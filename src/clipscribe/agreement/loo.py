@@ -55,7 +55,8 @@ def pack(values: list) -> tuple:
 
 def unpack(packed: tuple) -> list:
     keys, codes = packed
-    return [keys[i] for i in codes.tolist()]
+    table = np.fromiter(keys, dtype=object, count=len(keys))  # one take in C, not a loop per row
+    return table[codes].tolist()
 
 
 class Columns(Sequence):

@@ -507,17 +507,14 @@ def _all_clip_labels(s: Session) -> list[tuple[int, str, str]]:
     """Every clip label as (clip id, annotator name, label), ordered by clip then person: the
     rows read as three id columns (no join, no ORDER BY, which cost SQLite most of the time on
     a big project), names put in from the two small tables, the order made with numpy."""
-    import itertools
-
     import numpy as np
+
+    from ..store.columns import int_columns
     people = dict(s.execute(select(Annotator.id, Annotator.name)).all())
     labels = dict(s.execute(select(Label.id, Label.name)).all())
-    rows = s.connection().execute(  # plain rows: the ORM's row handling is not needed here
-        select(ClipLabel.clip_id, ClipLabel.annotator_id, ClipLabel.label_id)).all()
-    if not rows:
+    table = int_columns(s, select(ClipLabel.clip_id, ClipLabel.annotator_id, ClipLabel.label_id))
+    if not len(table):
         return []
-    flat = itertools.chain.from_iterable(rows)  # a Row is slow to hand to numpy whole
-    table = np.fromiter(flat, dtype=np.int64, count=3 * len(rows)).reshape(-1, 3)
     ids = sorted(people, key=people.__getitem__)  # annotator ids in name order
     rank = np.zeros(max([*people, int(table[:, 1].max())]) + 1, dtype=np.int64)
     rank[ids] = np.arange(1, len(ids) + 1)   # 0: a person not (yet) visible, left out as a join would

@@ -3,6 +3,7 @@ links) plus CSV tables, for people who do not run the workbench. No Qt."""
 
 from __future__ import annotations
 
+import heapq
 import json
 import os
 import time
@@ -44,6 +45,13 @@ code { font-size: 12px; color: #3a424d; } .why { color: #5f6b78; font-style: ita
 """
 
 
+#: rows of a per-clip or per-caption table shown on the page (the CSV file holds them all)
+PAGE_ROWS = 200
+#: parts of the numbers with a row per clip or caption -> the CSV table that holds them
+ROWS_IN_CSV = {"agreement.clips": "clips.csv", "agreement.captions.flagged": "flagged_captions.csv",
+               "agreement.reliability.inferred.items": "inferred_labels.csv"}
+
+
 @dataclass(frozen=True)
 class ReportFiles:
     folder: Path
@@ -68,13 +76,21 @@ def _td(head: str, v) -> str:
     return f"<td>{_fmt(v)}</td>"
 
 
-def _table(table: tables.Table, limit: int | None = None, *, empty: str = "nothing to show") -> str:
+def _table(table: tables.Table, limit: int | None = None, *, empty: str = "nothing to show",
+           csv_name: str | None = None, total: int | None = None) -> str:
+    """An HTML table of the first ``limit`` rows (all when None); when rows are left out, a
+    last row says how many and names the CSV file that holds them all. ``total``: how many
+    rows the whole table has, when ``table`` holds only its first ones."""
     header, rows = table
     head = "".join(f"<th>{escape(h)}</th>" for h in header)
     body = ["<tr>" + "".join(_td(h, v) for h, v in zip(header, r)) + "</tr>"
             for r in rows[:limit]]
     if not rows:
         body.append(f'<tr><td colspan="{len(header)}">{escape(empty)}</td></tr>')
+    elif limit is not None and (total := max(total or 0, len(rows))) > limit:
+        where = f"; all {total:,} are in {csv_name}" if csv_name else ""
+        body.append(f'<tr><td colspan="{len(header)}" class="why">the first {limit:,} rows of '
+                    f"{total:,} are shown here{escape(where)}</td></tr>")
     # a table wider than the page scrolls inside its own box instead of running off the page
     return f'<div class="wide"><table><tr>{head}</tr>{"".join(body)}</table></div>'
 
@@ -94,8 +110,10 @@ def render_html(data: dict) -> str:
         text = not_measured(data, part)
         return f'<p class="why">{escape(text)}</p>' if text else ""
 
-    def table(fn, part: str) -> str:
-        return _table(fn(data), empty=not_measured(data, part) or "nothing to show")
+    def table(fn, part: str, limit: int | None = None, csv_name: str | None = None,
+              total: int | None = None) -> str:
+        return _table(fn(data), limit, empty=not_measured(data, part) or "nothing to show",
+                      csv_name=csv_name, total=total)
 
     bands = ", ".join(f"≤ {b:g} {n}" for b, n in m["bands"])
     parts = [
@@ -116,14 +134,15 @@ def render_html(data: dict) -> str:
         "<h2>Captions</h2>", why("captions"), block(["caption_bleu", "caption_cider",
                                                       "caption_rouge_l", "caption_chrf"]),
         table(tables.caption_annotators, "captions"),
-        "<h3>Flagged captions</h3>", table(tables.flagged, "captions"),
+        "<h3>Flagged captions</h3>", table(_first_flagged, "captions", PAGE_ROWS,
+                                           "flagged_captions.csv", _n_flagged(data)),
         "<h2>Annotator reliability</h2>",
         "<p>Inferred labels and each annotator's estimated confusion come from the EM method of "
         "Dawid &amp; Skene (1979), Applied Statistics 28(1):20–28; check-clip intervals are "
         "Wilson (1927) score intervals. Estimates from few clips are rough.</p>",
         block(["reliability", "check_accuracy"]),
         _table(reliability.checks_table(data)),
-        "<h3>Least certain inferred labels</h3>", _table(_least_certain(data), limit=20),
+        "<h3>Least certain inferred labels</h3>", _table(_least_certain(data)),
         "<h2>Throughput and trend</h2>", block(["throughput", "trend"]),
         _table(tables.throughput(data)), _table(tables.trend(data)),
         "<h2>Most disputed clips</h2>", _table(tables.disputed(data)),
@@ -138,16 +157,53 @@ def render_html(data: dict) -> str:
         f"{escape(m['bands_source'])}. The bands were offered as a convention.</p>",
         "<p>Each number's recipe (metric, variant, options, raters, clips, label-set version, "
         "tool version) is in its row and in the JSON block at the end of this file; the same "
-        "tables are in the CSV files beside it.</p>",
+        "tables are in the CSV files beside it, and the tables with a row per clip or per "
+        "caption are there in full (this page shows their first rows and the block names "
+        "them under <code>rows_in_csv</code>).</p>",
         '<div class="note"><b>Cautions</b><ul>' + "".join(f"<li>{escape(c)}</li>"
                                                           for c in CAUTIONS) + "</ul></div>",
         "<h2>All numbers (JSON)</h2>",
         '<pre id="clipscribe-numbers" style="white-space: pre-wrap; font-size: 11px; '
         'max-height: 240px; overflow: auto;">'
-        + escape(json_text(data, allow_nan=False)) + "</pre>",
+        + escape(json_text(page_numbers(data), allow_nan=False)) + "</pre>",
         "</body></html>",
     ]
     return "\n".join(parts)
+
+
+def _first_flagged(data: dict) -> tables.Table:
+    """The flagged-caption table's first :data:`PAGE_ROWS` rows (the page shows no more)."""
+    cap = data["agreement"]["captions"]
+    if not cap:
+        return tables.flagged(data)
+    head = {**cap, "flagged": cap["flagged"][:PAGE_ROWS]}
+    return tables.flagged({**data, "agreement": {**data["agreement"], "captions": head}})
+
+
+def _n_flagged(data: dict) -> int:
+    cap = data["agreement"]["captions"]
+    return len(cap["flagged"]) if cap else 0
+
+
+def page_numbers(data: dict) -> dict:
+    """The numbers for the page's JSON block: ``data`` without the parts that have a row per
+    clip or per caption (:data:`ROWS_IN_CSV`), which the CSV tables beside the page hold in
+    full; ``rows_in_csv`` names, per part left out, its CSV file and its number of rows. On a
+    100k-clip project those parts are ~100 MB of JSON: a page no browser opens comfortably."""
+    out = dict(data)
+    moved = {}
+    for path, csv_name in ROWS_IN_CSV.items():
+        *parents, leaf = path.split(".")
+        node = out
+        for key in parents:  # copied along the path: ``data`` itself is left as it was
+            if not isinstance(node.get(key), dict):
+                break
+            node[key] = node = dict(node[key])
+        else:
+            if leaf in node:
+                moved[path] = {"csv": csv_name, "rows": len(node.pop(leaf) or [])}
+    out["rows_in_csv"] = moved
+    return out
 
 
 def _cues_section(data: dict) -> str:
@@ -162,9 +218,13 @@ def _cues_section(data: dict) -> str:
     return cues.cues_html(data["cues"], block, _table)
 
 
-def _least_certain(data: dict) -> tables.Table:
-    header, rows = reliability.inferred_table(data)
-    return header[:3], sorted((r[:3] for r in rows), key=lambda r: r[2])
+def _least_certain(data: dict, n: int = 20) -> tables.Table:
+    """The ``n`` clips whose inferred label has the lowest posterior (ties in clip order), picked
+    without building and sorting the whole table (100k rows on a big project)."""
+    rel = reliability._rel(data)
+    inf = rel and rel["inferred"]
+    rows = ([it["item"], it["label"], it["posterior"][it["label"]]] for it in (inf or {}).get("items", []))
+    return ["clip", "inferred_label", "posterior"], heapq.nsmallest(n, rows, key=lambda r: r[2])
 
 
 def write_report(project, folder: str | os.PathLike, *, seed: int = 0, n_boot: int = 1000,

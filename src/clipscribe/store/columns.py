@@ -34,3 +34,4 @@ def int_columns(s: Session, stmt: Select) -> np.ndarray:
     finally:
         cursor.close()
     return flat.reshape(-1, width)
+
