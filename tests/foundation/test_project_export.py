@@ -83,3 +83,4 @@ def test_media_file_joins_paths_as_pathlib_does(root, rel):
         assert got == str(Path(root) / rel)
     else:
         assert got is None
+

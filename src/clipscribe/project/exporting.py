@@ -14,7 +14,7 @@ import json
 import os
 import threading
 from collections import defaultdict
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -95,14 +95,14 @@ class Exporting(Service):
                 segs[g.clip][g.annotator].append(export.SegmentInput(g.label, g.start, g.end))
         caps: dict[int, list[export.CaptionInput]] = defaultdict(list)
         skipped = {(c, who) for c, v in skips.items() for who, _ in v}
-        seg_by_id = {g.id: g for g in all_segments}
-        for clip, who, text, segment in self._caption_columns():
+        frames = {g.id: (g.start, g.end) for g in all_segments}
+        caption = export.CaptionInput
+        for clip, who, text, segment in self._caption_columns():  # every caption: kept lean
             if who in leads:
                 continue
-            tied = seg_by_id.get(segment) if segment else None
             # a skipper's left-over captions are not references
-            caps[clip].append(export.CaptionInput(text, who, (clip, who) not in skipped,
-                                                  (tied.start, tied.end) if tied else None))
+            caps[clip].append(caption(text, who, not skipped or (clip, who) not in skipped,
+                                      frames.get(segment) if segment else None))
         gold_labels, gold_caps = self.peers.gold.gold_labels(), self.peers.gold.gold_captions()
         gold_segs: dict[int, list] = defaultdict(list)
         for clip, label, start, end in self.peers.gold.gold_segments():
@@ -127,14 +127,14 @@ class Exporting(Service):
                 source_path=media_file(root, c.path) or str(media_root / c.path)))
         return out
 
-    def _caption_columns(self) -> list[tuple[int, str, str, int | None]]:
+    def _caption_columns(self) -> Sequence[tuple[int, str, str, int | None]]:
         """(clip, annotator, text, segment) of every caption in the order of
         ``caption_rows``, as plain columns: an export reads every caption of the project, and
         caption objects would cost far more (and record versions no export edits)."""
         stmt = (select(Caption.clip_id, Annotator.name, Caption.text, Caption.segment_id)
                 .join(Annotator, Annotator.id == Caption.annotator_id)
                 .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
-        return self.ctx.read(lambda s: [(c, a, t, g) for c, a, t, g in s.execute(stmt)])
+        return self.ctx.read(lambda s: s.execute(stmt).all())
 
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
