@@ -171,3 +171,41 @@ def test_colliding_keys_fall_back_to_the_leader_cover_and_stay_exact(monkeypatch
     cl = caption_clusters(texts, 0.9, method="keys")
     assert np.array_equal(cl.label, want)
     assert cl.queries > 12  # the leader cover asked the index
+
+
+def _star_edges_plain(key, text, size, m):
+    """Reference for corekeys._star_edges: every entry sorted and gathered, none dropped first
+    (entries grouped by the hashed part of their key; the centre is the group's first entry in
+    argsort order; every other entry within the bound gets an edge from it)."""
+    order = np.argsort(key)
+    key, text = key[order], text[order]
+    dele = (key & np.uint64((1 << corekeys._D_BITS) - 1)).astype(np.int64)
+    hashed = key >> np.uint64(corekeys._D_BITS)
+    start = np.r_[True, hashed[1:] != hashed[:-1]]
+    centre = np.flatnonzero(start)[np.cumsum(start) - 1]
+    k = size[text[centre]] - dele[centre]
+    ok = ~start & (dele <= m[k] - dele[centre])
+    return text[centre[ok]], text[ok]
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_star_edges_equal_the_edges_of_every_entry_sorted(seed):
+    rng = np.random.default_rng(seed)
+    n_sets, n_keys = 60, 4000
+    size = rng.integers(3, 30, n_sets)
+    m = allowance(0.8, 40)
+    # keys listed once among hashed values shared by several sets, with equal keys too
+    hashed = np.where(rng.random(n_keys) < 0.5, rng.integers(0, 40, n_keys),
+                      rng.integers(1000, 2**40, n_keys)).astype(np.uint64)
+    key = (hashed << np.uint64(corekeys._D_BITS)) | rng.integers(0, 3, n_keys).astype(np.uint64)
+    text = rng.integers(0, n_sets, n_keys)
+    a, b = corekeys._star_edges(key, text, size, m)
+    want_a, want_b = _star_edges_plain(key, text, size, m)
+    assert len(want_a) > 100
+    assert a.tolist() == want_a.tolist() and b.tolist() == want_b.tolist()
+
+
+def test_star_edges_of_keys_listed_once_are_none():
+    key = np.arange(10, dtype=np.uint64) << np.uint64(corekeys._D_BITS)
+    a, b = corekeys._star_edges(key, np.arange(10), np.full(10, 5), allowance(0.9, 10))
+    assert len(a) == len(b) == 0

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import os
+from pathlib import Path
 
 import pytest
 
@@ -66,3 +68,19 @@ def test_blocked_folds_write_nothing(sample_copy, tmp_path):
             p.write_folds(tmp_path / "folds", plans)
         assert not (tmp_path / "folds").exists()
         assert not list(tmp_path.glob(".folds*"))
+
+
+@pytest.mark.parametrize("root", ["/data/project/media", "/", ".", "media", "/x/y z"])
+@pytest.mark.parametrize("rel", ["cell-01/take-000001.mp4", "a.mp4", "./a.mp4", "a//b.mp4",
+                                 "a/./b.mp4", "a/b/", "a/.", ".", "/abs/a.mp4", "",
+                                 "a/../b.mp4", "dir with space/é.mp4"])
+def test_media_file_joins_paths_as_pathlib_does(root, rel):
+    # reference: pathlib (str(Path(root) / rel)); None hands the odd paths back to it
+    from clipscribe.project.exporting import media_file
+    got = media_file(root, rel)
+    if os.sep == "/" and rel in ("cell-01/take-000001.mp4", "a.mp4", "a/../b.mp4",
+                                 "dir with space/é.mp4"):
+        assert got == str(Path(root) / rel)
+    else:
+        assert got is None
+

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class SegmentInput:
     """A settled temporal segment in frames; ``end`` is exclusive."""
 
@@ -14,7 +14,7 @@ class SegmentInput:
     end: int
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class CaptionInput:
     """One annotator caption. ``accepted`` is the caller's verdict (guideline met, not rejected)."""
 
@@ -24,7 +24,7 @@ class CaptionInput:
     segment: tuple[int, int] | None = None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class ClipInput:
     """Everything the export needs to know about one clip.
 

@@ -18,7 +18,6 @@ any pair search, through keys of the shingles two texts share (:mod:`.corekeys`)
 
 from __future__ import annotations
 
-import itertools
 import re
 import unicodedata
 from typing import Iterable, Sequence
@@ -27,6 +26,7 @@ import numpy as np
 
 from .clusters import Clusters, cover_components, union
 from .corekeys import core_join, key_counts
+from .ranks import dense_ids, text_lengths, word_ids
 
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
@@ -87,16 +87,6 @@ def jaccard(a: frozenset, b: frozenset) -> float:
     return inter / (len(a) + len(b) - inter)
 
 
-def _dense_ids(values: np.ndarray) -> np.ndarray:
-    """Rank of each value among the distinct values (a sort-based ``np.unique`` inverse).
-    Equal values get the same rank whatever their order, so the sort need not be stable."""
-    order = np.argsort(values)
-    sv = values[order]
-    ids = np.empty(len(values), dtype=np.int64)
-    ids[order] = np.cumsum(np.r_[True, sv[1:] != sv[:-1]]) - 1
-    return ids
-
-
 def _distinct_sorted(values: np.ndarray) -> np.ndarray:
     sv = np.sort(values)
     return sv[np.r_[True, sv[1:] != sv[:-1]]] if len(sv) else sv
@@ -108,14 +98,12 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
     Shingles as in :func:`shingles`; the frequency order puts each text's rarest shingles first
     (any fixed global order keeps the prefix filter exact; rare-first keeps candidates few).
     """
-    all_words = " ".join(texts).split(" ")
-    vocab = dict(zip(dict.fromkeys(all_words), itertools.count()))
-    base = len(vocab) + 1  # id len(vocab) pads texts shorter than three words
+    words, n_words = word_ids(texts)
+    base = n_words + 1  # id n_words pads texts shorter than three words
     # word ids, then two pads so that the two words after any word can be read as slices
-    w = np.fromiter(itertools.chain(map(vocab.__getitem__, all_words), (base - 1, base - 1)),
-                    dtype=np.int64, count=len(all_words) + 2)
-    del all_words, vocab
-    lengths = np.fromiter((t.count(" ") + 1 for t in texts), dtype=np.int64, count=len(texts))
+    w = np.r_[words, base - 1, base - 1]
+    del words
+    lengths = text_lengths(texts)
     ends = np.cumsum(lengths)
     n_sh = np.maximum(lengths - 2, 1)
     text_of = np.repeat(np.arange(len(texts)), n_sh)
@@ -142,7 +130,7 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
         w0 *= base
         w0 += w2
         del w1, w2
-        sid = _dense_ids(w0)
+        sid = dense_ids(w0)
     else:
         sid = np.unique(np.stack([w0, w1, w2], axis=1), axis=0, return_inverse=True)[1].ravel()
     del w0
