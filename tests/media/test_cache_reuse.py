@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from clipscribe.media import FrameCache, open_video
-from clipscribe.media.cache import SPARE_POOL
+from clipscribe.media.cache import SPARE_POOL, _SparePool
 
 
 def test_spare_is_the_lru_frame_only_when_nobody_holds_it():
@@ -82,3 +82,12 @@ def test_cleared_frames_are_reused_only_when_nobody_holds_them():
     fresh.clear()
     assert full.spare((10, 10, 3)) is None
     SPARE_POOL.clear()
+
+
+def test_pool_keeps_the_newest_frames_within_its_budget():
+    pool = _SparePool(budget=2 * 300)
+    pool.give([np.zeros((10, 10, 3), np.uint8), np.zeros((10, 10, 3), np.uint8)])
+    pool.give([np.zeros((5, 20, 3), np.uint8)])  # a clip of another size closed last
+    assert pool.take((5, 20, 3)) is not None
+    assert pool.take((10, 10, 3)) is not None
+    assert pool.take((10, 10, 3)) is None  # the oldest one made room

@@ -32,11 +32,15 @@ class _SparePool:
         self._lock = threading.Lock()
 
     def give(self, arrays: list[np.ndarray]) -> None:
+        """Keep ``arrays``, letting the oldest kept ones go beyond the budget (the clip closed
+        last is the likeliest to be followed by one of its size)."""
         with self._lock:
             for arr in arrays:
-                if self._nbytes + arr.nbytes <= self.budget:
+                if arr.nbytes <= self.budget:
                     self._arrays.append(arr)
                     self._nbytes += arr.nbytes
+            while self._nbytes > self.budget:
+                self._nbytes -= self._arrays.pop(0).nbytes
 
     def take(self, shape: tuple[int, ...]) -> np.ndarray | None:
         with self._lock:
