@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import os
 import random
+import resource
 import statistics
 import subprocess
 import sys
@@ -135,26 +136,35 @@ def random_cases(path: Path, ref: list[str], tmp: Path, samples: int) -> dict:
             "sparse_seek_fraction": round(sparse, 3)}
 
 
+def cpu_seconds() -> float:
+    """User + system CPU of this process, every thread (the decoders' too)."""
+    ru = resource.getrusage(resource.RUSAGE_SELF)
+    return ru.ru_utime + ru.ru_stime
+
+
 def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300,
-                   block: int = 20, runs: int = 3) -> dict:
+                   block: int = 20, runs: int = 5) -> dict:
     """Forward steps from a third of the way in and backward steps from the end, beside a raw
     ``read()`` loop. The arms alternate in blocks of ``block`` frames within one run, so a
-    change of the machine's load falls on both; each run gives its own ratios, and the median
-    and range of the runs are reported."""
+    change of the machine's load falls on both; each run gives its own ratios, by wall time and
+    by the CPU time of the process (less sensitive to the neighbours on a shared machine), and
+    the median and range of the runs are reported. Only one arm runs at a time, so the CPU the
+    process spends during an arm is that arm's."""
     n = len(ref)
     start = n // 3
     fwd_ratios, bwd_ratios, raw_fps, fwd_fps, bwd_fps, exact, runs_decoded = [], [], [], [], [], True, 0
+    fwd_cpu, bwd_cpu = [], []
 
-    def timed(fn, frames) -> float:
-        t = time.perf_counter()
+    def timed(fn, frames) -> tuple[float, float]:
+        t, c = time.perf_counter(), cpu_seconds()
         for i in frames:
             fn(i)
-        return time.perf_counter() - t
+        return time.perf_counter() - t, cpu_seconds() - c
 
     for _ in range(runs):
         cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG)
         cap.set(cv2.CAP_PROP_POS_FRAMES, start)
-        raw_s = fwd_s = bwd_s = 0.0
+        raw_s = fwd_s = bwd_s = raw_c = fwd_c = bwd_c = 0.0
         with open_video(path, index_cache_dir=tmp / "index") as v, \
                 open_video(path, index_cache_dir=tmp / "index") as back:
             v.wait_index()
@@ -162,9 +172,12 @@ def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300,
             v.frame(start)
             back.frame(n - 1)
             for b in range(0, steps, block):
-                raw_s += timed(lambda i: cap.read(), range(block))
-                fwd_s += timed(v.frame, range(start + 1 + b, start + 1 + b + block))
-                bwd_s += timed(back.frame, range(n - 2 - b, n - 2 - b - block, -1))
+                w, c = timed(lambda i: cap.read(), range(block))
+                raw_s, raw_c = raw_s + w, raw_c + c
+                w, c = timed(v.frame, range(start + 1 + b, start + 1 + b + block))
+                fwd_s, fwd_c = fwd_s + w, fwd_c + c
+                w, c = timed(back.frame, range(n - 2 - b, n - 2 - b - block, -1))
+                bwd_s, bwd_c = bwd_s + w, bwd_c + c
             runs_decoded = back.stats["back_runs"]
             # exactness of both, checked after the timed loops on a fresh cache
             v.cache.clear()
@@ -179,6 +192,8 @@ def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300,
         bwd_fps.append(steps / bwd_s)
         fwd_ratios.append(raw_s / fwd_s)
         bwd_ratios.append(raw_s / bwd_s)
+        fwd_cpu.append(raw_c / fwd_c)
+        bwd_cpu.append(raw_c / bwd_c)
 
     def spread(values: list[float]) -> dict:
         return {"median": round(statistics.median(values), 3), "min": round(min(values), 3),
@@ -192,6 +207,7 @@ def stepping_cases(path: Path, ref: list[str], tmp: Path, steps: int = 300,
             "forward_ratio_runs": spread(fwd_ratios),
             "backward_ratio": round(statistics.median(bwd_ratios), 3),
             "backward_ratio_runs": spread(bwd_ratios),
+            "forward_cpu_ratio_runs": spread(fwd_cpu), "backward_cpu_ratio_runs": spread(bwd_cpu),
             "backward_runs_decoded": runs_decoded, "exact": exact}
 
 

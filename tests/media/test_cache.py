@@ -58,7 +58,7 @@ def test_video_cache_never_exceeds_budget(frames_in_budget, make_clip, reference
             assert v.cache.nbytes <= budget
             assert len(v.cache) <= frames_in_budget
         v.prefetch(0, 50)
-        v._prefetch_thread.join(30)
+        v._read_ahead.join(30)
         assert v.cache.nbytes <= budget
 
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from clipscribe.media import FrameCache, open_video
+from clipscribe.media.cache import SPARE_POOL, _SparePool
 
 
 def test_spare_is_the_lru_frame_only_when_nobody_holds_it():
@@ -35,3 +36,58 @@ def test_held_frames_stay_intact_while_stepping(make_clip, reference, index_dir)
             assert np.array_equal(v.frame(i), ref[i])
         assert all(np.array_equal(f, ref[i]) for i, f in held.items())
         assert np.array_equal(view, ref[2][:, :10])
+
+
+def test_frames_handed_out_after_a_forward_run_stay_intact(make_clip, reference, index_dir):
+    """Past the first frames every step decodes into a recycled array; a frame returned then
+    must not change while it is held, nor while it stays cached after it was let go."""
+    name = "h264-bframes.mp4"
+    ref = reference(name)
+    budget = 4 * ref[0].nbytes
+    with open_video(make_clip(name), cache_bytes=budget, index_cache_dir=index_dir) as v:
+        v.wait_index(30)
+        for i in range(20):  # the cache is full and recycling from here on
+            v.frame(i)
+        held = v.frame(20)
+        assert v.frame(20) is held  # served from the cache, not decoded again
+        dropped_id = id(v.frame(21))  # handed out, then let go while still cached
+        for i in range(22, 24):
+            assert np.array_equal(v.frame(i), ref[i])
+        again = v.frame(21)
+        assert id(again) == dropped_id and np.array_equal(again, ref[21])
+        del again
+        for i in range(24, 60):
+            assert np.array_equal(v.frame(i), ref[i])
+        assert np.array_equal(held, ref[20])
+        assert not held.flags.writeable
+
+
+def test_cleared_frames_are_reused_only_when_nobody_holds_them():
+    SPARE_POOL.clear()
+    c = FrameCache(budget=3 * 300)
+    kept = np.ones((10, 10, 3), np.uint8)
+    c.put(0, kept)
+    c.put(1, np.full((10, 10, 3), 7, np.uint8))
+    c.clear()
+    fresh = FrameCache(budget=3 * 300)
+    reused = fresh.spare((10, 10, 3))  # room in the new cache: taken from the pool
+    assert reused is not None and reused is not kept and reused.flags.writeable
+    assert reused[0, 0, 0] == 7
+    assert fresh.spare((10, 10, 3)) is None  # the held frame never reached the pool
+    assert fresh.spare((4, 4, 3)) is None
+    assert np.all(kept == 1)
+    full = FrameCache(budget=0)  # a cache that keeps nothing takes nothing from the pool
+    fresh.put(0, reused)
+    del reused
+    fresh.clear()
+    assert full.spare((10, 10, 3)) is None
+    SPARE_POOL.clear()
+
+
+def test_pool_keeps_the_newest_frames_within_its_budget():
+    pool = _SparePool(budget=2 * 300)
+    pool.give([np.zeros((10, 10, 3), np.uint8), np.zeros((10, 10, 3), np.uint8)])
+    pool.give([np.zeros((5, 20, 3), np.uint8)])  # a clip of another size closed last
+    assert pool.take((5, 20, 3)) is not None
+    assert pool.take((10, 10, 3)) is not None
+    assert pool.take((10, 10, 3)) is None  # the oldest one made room

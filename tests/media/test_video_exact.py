@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from clipscribe.media import open_video
-from clipscribe.media import video as video_module
+from clipscribe.media import background_index as background_module
 from .clips import read_code
 from .conftest import CLIP_SPECS, VFR_CLIPS
 
@@ -68,13 +68,13 @@ def test_exact_before_index_is_ready(make_clip, reference, index_dir, monkeypatc
     name = "h264-bframes.mp4"
     ref = reference(name)
     release = threading.Event()
-    real = video_module.load_or_build_index
+    real = background_module.load_or_build_index
 
     def slow_index(*args, **kwargs):
         release.wait(30)
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(video_module, "load_or_build_index", slow_index)
+    monkeypatch.setattr(background_module, "load_or_build_index", slow_index)
     with open_video(make_clip(name), index_cache_dir=index_dir) as v:
         assert not v.index_ready
         assert np.array_equal(v.frame(0), ref[0])  # first frame at once
@@ -117,7 +117,7 @@ def test_prefetch_fills_the_cache_with_exact_frames(make_clip, reference, index_
     with open_video(make_clip(name), index_cache_dir=index_dir) as v:
         v.wait_index(30)
         v.prefetch(40, 20)
-        v._prefetch_thread.join(30)
+        v._read_ahead.join(30)
         assert all(i in v.cache for i in range(40, 60))
         grabs = v.stats["grabs"]
         for i in range(40, 60):

@@ -7,6 +7,7 @@ import threading
 from collections.abc import Callable
 from pathlib import Path
 
+import cv2
 import platformdirs
 
 from .errors import JobCancelled, MediaError
@@ -91,6 +92,17 @@ def check_media_path(path: str | os.PathLike) -> Path:
     except OSError as exc:
         raise MediaError(f"{p}: cannot read the file ({exc.strerror or exc})") from None
     return p
+
+
+def open_capture(path: Path, threads: int | None = None) -> cv2.VideoCapture:
+    """A decoding capture of ``path`` with ``threads`` FFmpeg threads (None: FFmpeg's choice)."""
+    params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, int(threads)]
+    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, params)
+    if not cap.isOpened():
+        cap.release()
+        raise MediaError(f"{path}: not a video OpenCV can open (unknown container or codec, "
+                         "or the file is truncated)")
+    return cap
 
 
 def atomic_write_bytes(target: Path, data: bytes) -> None:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import sys
 import threading
 from collections import OrderedDict
@@ -12,6 +13,52 @@ import numpy as np
 # larger budget makes forward stepping slower while the cache fills (every new frame is fresh
 # memory the kernel must fault in), measured by benchmarks/bench_media.py.
 DEFAULT_CACHE_BYTES = 128 * 1024 * 1024
+
+
+class _SparePool:
+    """Frame arrays of emptied caches that nobody holds, for the next cache to decode into.
+
+    A cache that grows takes fresh memory for every frame, and the kernel faults in and zeroes
+    each page of it on the first write: filling 128 MiB at 1080p costs 25-45 ms of CPU, a few
+    per cent of 300 steps (measured by benchmarks/bench_media.py). Moving to the next clip of the
+    same size reuses the arrays of the previous one instead. Process-wide and bounded by
+    ``budget`` bytes; arrays of another shape than the one asked for are never handed out.
+    """
+
+    def __init__(self, budget: int) -> None:
+        self.budget = budget
+        self._arrays: list[np.ndarray] = []
+        self._nbytes = 0
+        self._lock = threading.Lock()
+
+    def give(self, arrays: list[np.ndarray]) -> None:
+        """Keep ``arrays``, letting the oldest kept ones go beyond the budget (the clip closed
+        last is the likeliest to be followed by one of its size)."""
+        with self._lock:
+            for arr in arrays:
+                if arr.nbytes <= self.budget:
+                    self._arrays.append(arr)
+                    self._nbytes += arr.nbytes
+            while self._nbytes > self.budget:
+                self._nbytes -= self._arrays.pop(0).nbytes
+
+    def take(self, shape: tuple[int, ...]) -> np.ndarray | None:
+        with self._lock:
+            for k in range(len(self._arrays) - 1, -1, -1):
+                if self._arrays[k].shape == shape:
+                    arr = self._arrays.pop(k)
+                    self._nbytes -= arr.nbytes
+                    return arr
+        return None
+
+    def clear(self) -> None:
+        """Let the memory go (tests, or a process done with video for a while)."""
+        with self._lock:
+            self._arrays.clear()
+            self._nbytes = 0
+
+
+SPARE_POOL = _SparePool(DEFAULT_CACHE_BYTES)
 
 
 class FrameCache:
@@ -70,19 +117,27 @@ class FrameCache:
             self._nbytes += size
 
     def spare(self, like: np.ndarray | tuple[int, ...]) -> np.ndarray | None:
-        """Take out the frame the next :meth:`put` of a frame shaped ``like`` would evict, to be
-        decoded into again, when nothing outside the cache still holds it; else None.
+        """An array shaped ``like`` for the next frame to be decoded into, or None (then the
+        decoder allocates one): while the cache has room, one from :data:`SPARE_POOL`; when it
+        is full, the frame the next :meth:`put` would evict, when nothing outside the cache
+        still holds it (so a frame handed out never changes while anyone holds it).
 
         Decoding into an array the process already has spares the kernel faulting in fresh
         memory for every new frame (measured in benchmarks/bench_media.py: stepping).
         """
         shape = like if isinstance(like, tuple) else like.shape
-        size = int(np.prod(shape))
+        size = math.prod(shape)
         with self._lock:
-            if not self._items or self._nbytes + size <= self.budget:
+            if self._nbytes + size <= self.budget:
+                arr = SPARE_POOL.take(shape)
+                if arr is not None:
+                    arr.flags.writeable = True
+                return arr
+            if not self._items:
                 return None
             key, arr = next(iter(self._items.items()))
-            # references: the cache's, ``arr`` and getrefcount's own argument
+            # references: the cache's, ``arr`` and getrefcount's argument; a numpy view of the
+            # frame holds one more, so a held view counts as holding the frame
             if arr.shape != shape or arr.dtype != np.uint8 or sys.getrefcount(arr) > 3:
                 return None
             del self._items[key]
@@ -91,6 +146,15 @@ class FrameCache:
         return arr
 
     def clear(self) -> None:
+        """Forget every frame; the ones nobody holds go to :data:`SPARE_POOL`."""
         with self._lock:
+            arrays = list(self._items.values())
             self._items.clear()
             self._nbytes = 0
+        free = []
+        while arrays:
+            arr = arrays.pop()
+            # references: ``arr`` and getrefcount's argument, as in :meth:`spare`
+            if arr.dtype == np.uint8 and sys.getrefcount(arr) <= 2:
+                free.append(arr)
+        SPARE_POOL.give(free)

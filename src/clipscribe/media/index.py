@@ -31,7 +31,6 @@ from __future__ import annotations
 import hashlib
 import io
 import os
-import struct
 import threading
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -41,6 +40,7 @@ import cv2
 import numpy as np
 
 from ._common import Cancel, Progress, atomic_write_bytes, check_cancel, default_cache_dir, report
+from .edits import edit_list_problem
 from .errors import MediaError
 
 INDEX_VERSION = 2
@@ -49,7 +49,6 @@ HEAD_FRAMES = 12  # frames decoded to check the packet index against the decoder
 #: A packet's frame is final once this many later packets have been read (deeper reordering
 #: than this does not occur in the codecs OpenCV decodes).
 REORDER_WINDOW = 32
-_ISO_SUFFIXES = frozenset({".mp4", ".mov", ".m4v", ".3gp", ".3g2"})
 
 
 def default_index_dir() -> Path:
@@ -95,6 +94,19 @@ class FrameIndex:
         """The last keyframe number ``<= i``."""
         pos = int(np.searchsorted(self.keyframes, i, side="right")) - 1
         return int(self.keyframes[max(pos, 0)])
+
+    def seek_targets(self, i: int) -> list[int]:
+        """Frames to aim an OpenCV seek at to reach ``i``, nearest first: ``i`` itself, its
+        keyframe and the two keyframes before that (a seek may land after its target)."""
+        key = self.keyframe_at_or_before(i)
+        k = int(np.searchsorted(self.keyframes, key))
+        return [i, key] + [int(f) for f in self.keyframes[max(k - 2, 0):k][::-1]]
+
+    def opencv_number(self, i: int, fps: float) -> int:
+        """The number OpenCV's ``CAP_PROP_POS_FRAMES`` gives frame ``i``: its presentation time
+        (relative to frame 0) times the nominal rate."""
+        ts = self.timestamps_ms
+        return int(round((ts[i] - ts[0]) * fps / 1000.0))
 
     def locate(self, timestamp_ms: float) -> int | None:
         """The frame number with this timestamp, or None (unknown or ambiguous)."""
@@ -224,112 +236,6 @@ def head_problem(head: list[float], ts: np.ndarray) -> str | None:
     n = min(len(head), len(ts))
     if n == 0 or head[:n] != np.round(ts[:n], _TS_DECIMALS).tolist():
         return "the decoder's first frames do not match the packets"
-    return None
-
-
-# -- MP4/MOV edit lists ------------------------------------------------------------------------
-def _boxes(f, start: int, end: int):
-    """(type, payload start, box end) of the ISO BMFF boxes between ``start`` and ``end``."""
-    pos = start
-    while pos + 8 <= end:
-        f.seek(pos)
-        head = f.read(8)
-        if len(head) < 8:
-            return
-        size, kind = struct.unpack(">I4s", head)
-        body = pos + 8
-        if size == 1:
-            size = struct.unpack(">Q", f.read(8))[0]
-            body += 8
-        elif size == 0:
-            size = end - pos
-        if size < body - pos:
-            return
-        yield kind, body, pos + size
-        pos += size
-
-
-def _child(f, start: int, end: int, path: list[bytes]) -> tuple[int, int] | None:
-    for kind, body, stop in _boxes(f, start, end):
-        if kind == path[0]:
-            return (body, stop) if len(path) == 1 else _child(f, body, stop, path[1:])
-    return None
-
-
-def _read(f, at: int, n: int) -> bytes:
-    f.seek(at)
-    return f.read(n)
-
-
-def edit_list_problem(path: Path) -> str | None:
-    """Why the MP4/MOV edit list of the video track drops frames, or None.
-
-    The one harmless edit list is the usual single entry that only moves the first frame to time
-    zero (its media time equals the first frame's composition offset) and runs to the end.
-    """
-    if path.suffix.lower() not in _ISO_SUFFIXES:
-        return None
-    try:
-        with open(path, "rb") as f:
-            size = os.fstat(f.fileno()).st_size
-            moov = _child(f, 0, size, [b"moov"])
-            if moov is None:
-                return None
-            mvhd = _child(f, *moov, [b"mvhd"])
-            movie_scale = _timescale(f, mvhd) if mvhd else 0
-            for kind, body, stop in _boxes(f, *moov):
-                if kind != b"trak":
-                    continue
-                hdlr = _child(f, body, stop, [b"mdia", b"hdlr"])
-                if hdlr is None or _read(f, hdlr[0] + 8, 4) != b"vide":
-                    continue
-                elst = _child(f, body, stop, [b"edts", b"elst"])
-                if elst is None:
-                    return None
-                return _judge_edits(f, elst, body, stop, movie_scale)
-    except (OSError, struct.error):
-        return "its edit list could not be read"
-    return None
-
-
-def _timescale(f, box: tuple[int, int]) -> int:
-    version = _read(f, box[0], 1)[0]
-    at = box[0] + (20 if version == 1 else 12)
-    return struct.unpack(">I", _read(f, at, 4))[0]
-
-
-def _judge_edits(f, elst: tuple[int, int], trak: int, trak_end: int,
-                 movie_scale: int) -> str | None:
-    version = _read(f, elst[0], 1)[0]
-    count = struct.unpack(">I", _read(f, elst[0] + 4, 4))[0]
-    fmt, width = (">QqI", 20) if version == 1 else (">IiI", 12)
-    entries = [struct.unpack(fmt, _read(f, elst[0] + 8 + k * width, width))
-               for k in range(min(count, 4))]
-    entries = [e for e in entries if e[1] != -1 or e[0] > 0]
-    if count != 1 or len(entries) != 1:
-        return "an edit list with several entries"
-    seg, media_time, rate = entries[0]
-    if rate != 0x10000:
-        return "an edit list that changes the playback rate"
-    mdhd = _child(f, trak, trak_end, [b"mdia", b"mdhd"])
-    ctts = _child(f, trak, trak_end, [b"mdia", b"minf", b"stbl", b"ctts"])
-    first_offset = 0
-    if ctts is not None and struct.unpack(">I", _read(f, ctts[0] + 4, 4))[0] > 0:
-        first_offset = struct.unpack(">i", _read(f, ctts[0] + 12, 4))[0]
-    if media_time != first_offset:
-        return "an edit list that starts inside the video"
-    if mdhd is not None and movie_scale > 0 and seg > 0:
-        media_scale = _timescale(f, mdhd)
-        v = _read(f, mdhd[0], 1)[0]
-        dur_at = mdhd[0] + (24 if v == 1 else 16)
-        media_dur = (struct.unpack(">Q", _read(f, dur_at, 8))[0] if v == 1
-                     else struct.unpack(">I", _read(f, dur_at, 4))[0])
-        stts = _child(f, trak, trak_end, [b"mdia", b"minf", b"stbl", b"stts"])
-        delta = (struct.unpack(">I", _read(f, stts[0] + 12, 4))[0]
-                 if stts is not None and struct.unpack(">I", _read(f, stts[0] + 4, 4))[0] else 0)
-        shown_dur = seg * media_scale / movie_scale
-        if shown_dur + delta < media_dur - first_offset:
-            return "an edit list that ends before the video does"
     return None
 
 

@@ -119,7 +119,7 @@ def wait_for_index(video: Video, cancel: Cancel) -> int:
     """Wait for the video's frame index, checking ``cancel``; return the true frame count."""
     while not video.wait_index(0.05):
         check_cancel(cancel, f"{video.path}: waiting for the frame index")
-        if video._index_done.is_set():  # noqa: SLF001 - finished without an index: cancelled
+        if video.index_finished:  # finished without an index: cancelled
             raise MediaError(f"{video.path}: frame index could not be built")
     return video.frame_count
 

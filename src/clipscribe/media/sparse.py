@@ -130,7 +130,6 @@ class SparseCapture:
         ``raw``: the demux-only capture of this file from a previous one (see
         :meth:`take_demuxer`), spared opening the file again; released on failure.
         """
-        ts = np.round(index.timestamps_ms, _TS_DECIMALS)
         key = index.keyframe_at_or_before(i)
         if raw is None:
             raw = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, [cv2.CAP_PROP_FORMAT, -1])
@@ -139,22 +138,23 @@ class SparseCapture:
             return None
         sparse = None
         try:
-            sparse = cls._start(raw, ts, key, i, threads)
+            sparse = cls._start(raw, index, key, i, threads)
         finally:
             if sparse is None:
                 raw.release()
         return sparse
 
     @classmethod
-    def _start(cls, raw: cv2.VideoCapture, ts: np.ndarray, key: int, i: int,
+    def _start(cls, raw: cv2.VideoCapture, index: FrameIndex, key: int, i: int,
                threads: int | None) -> SparseCapture | None:
         tag = int(raw.get(cv2.CAP_PROP_FOURCC)).to_bytes(4, "little")
         fps = raw.get(cv2.CAP_PROP_FPS)
         if tag not in _H264_TAGS or fps <= 0:
             return None
+        ts = np.round(index.timestamps_ms, _TS_DECIMALS)
         # Raw-packet mode seeks the demuxer to the keyframe at or before a frame number
         # (presentation time x nominal rate); read on to the keyframe's own packet.
-        raw.set(cv2.CAP_PROP_POS_FRAMES, int(round((ts[key] - ts[0]) * fps / 1000.0)))
+        raw.set(cv2.CAP_PROP_POS_FRAMES, index.opencv_number(key, fps))
         for _ in range(8):
             if not raw.grab():
                 return None

@@ -21,9 +21,10 @@ the cache instead of decoding from the keyframe again for each.
 
 Threading: every method may be called from any thread. One re-entrant lock guards the decoder
 (the ``cv2.VideoCapture`` and the count of frames it has yielded); ``frame()`` holds it while it
-decodes one requested frame, so a UI thread and a worker thread (or the read-ahead thread) take
-turns frame by frame. The frame index is built in a background ``threading.Thread`` with its own
-demuxer, so it never holds that lock.
+decodes one requested frame, so a UI thread and a worker thread (or the read-ahead thread of
+:mod:`clipscribe.media.read_ahead`) take turns frame by frame. The frame index is built on a
+thread of its own with its own demuxer (:mod:`clipscribe.media.background_index`), never
+holding that lock.
 """
 
 from __future__ import annotations
@@ -31,17 +32,18 @@ from __future__ import annotations
 import operator
 import os
 import threading
-import time
 from collections.abc import Iterator
 from pathlib import Path
 
 import cv2
 import numpy as np
 
-from ._common import check_media_path
+from ._common import check_media_path, open_capture
+from .background_index import BackgroundIndex
 from .cache import DEFAULT_CACHE_BYTES, FrameCache
-from .errors import JobCancelled, MediaError
-from .index import FrameIndex, PacketScan, load_or_build_index
+from .errors import MediaError
+from .index import FrameIndex
+from .read_ahead import ReadAhead
 from .sparse import SparseCapture, sparse_matches
 
 #: Targets at most this many frames ahead of the decoder are reached by decoding forward.
@@ -57,20 +59,7 @@ SPARSE_OPEN_FRAMES = 24
 #: 640x360 file with keyframes every 4 seconds at 30 frames per second; below it a usual seek
 #: takes milliseconds).
 SPARSE_MIN_WORK = 640 * 360 * 120
-#: How long after opening a far request waits for the packet pass to start (its checks take a
-#: fraction of a second) before it decodes forward from the start instead.
-EARLY_WAIT_S = 1.0
 _AT_END = 1 << 62  # decoder position after it ran off the end: any request needs a seek
-
-
-def _open_capture(path: Path, threads: int | None = None) -> cv2.VideoCapture:
-    params = [] if threads is None else [cv2.CAP_PROP_N_THREADS, int(threads)]
-    cap = cv2.VideoCapture(str(path), cv2.CAP_FFMPEG, params)
-    if not cap.isOpened():
-        cap.release()
-        raise MediaError(f"{path}: not a video OpenCV can open (unknown container or codec, "
-                         "or the file is truncated)")
-    return cap
 
 
 class Video:
@@ -78,7 +67,9 @@ class Video:
 
     Use :func:`open_video` to make one; close it (or use ``with``) to stop its threads.
     Frames are returned as read-only uint8 BGR arrays of shape (height, width, 3) shared with the
-    cache; ``.copy()`` one before drawing on it.
+    cache; ``.copy()`` one before drawing on it. A frame never changes while anything holds the
+    array or a numpy view of it; once nothing outside the cache does, its memory may be decoded
+    into again, so keep the array (not only a raw pointer to its data) while using the pixels.
     """
 
     def __init__(self, path: str | os.PathLike, *, cache_bytes: int | None = None,
@@ -87,7 +78,7 @@ class Video:
         self.path = check_media_path(path)
         self._lock = threading.RLock()
         self._threads = decoder_threads
-        self._file_cap = _open_capture(self.path, decoder_threads)
+        self._file_cap = open_capture(self.path, decoder_threads)
         #: the decoder frames come from: the file's capture, or a SparseCapture after a sparse seek
         self._cap: cv2.VideoCapture | SparseCapture = self._file_cap
         self._sparse_ok = False  # set once the index is ready and sparse seeks proved exact
@@ -104,20 +95,10 @@ class Video:
         self.cache = FrameCache(DEFAULT_CACHE_BYTES if cache_bytes is None else cache_bytes)
         self.cache.put(0, first)
         self._closed = False
-        self._index: FrameIndex | None = None
-        self._index_error: BaseException | None = None
-        self._index_done = threading.Event()
-        self._stop = threading.Event()
-        self._scan: PacketScan | None = None  # the packet pass, once its checks passed
-        self._scan_decided = threading.Event()  # set once it is known whether there is one
-        self._opened_at = time.monotonic()
-        self._provisional: FrameIndex | None = None
-        self._index_dir = Path(index_cache_dir) if index_cache_dir is not None else None
-        self._index_thread = threading.Thread(target=self._index_worker, daemon=True,
-                                              name=f"frame-index {self.path.name}")
-        self._index_thread.start()
-        self._prefetch_thread: threading.Thread | None = None
-        self._prefetch_stop = threading.Event()
+        self._bg = BackgroundIndex(
+            self.path, index_dir=Path(index_cache_dir) if index_cache_dir is not None else None,
+            untrusted=self._forget_early_frames, ready=self._check_sparse)
+        self._read_ahead = ReadAhead(self.frame, self.cache, lambda: self._closed)
         #: Counters for tests and benchmarks: seeks tried, reopen-and-decode fallbacks, grabs,
         #: seeks made with the partial index of the packet pass, backward runs decoded.
         #: ``sparse_seeks`` counts the seeks (among ``seeks``) that decoded referenced pictures only.
@@ -138,85 +119,49 @@ class Video:
     @property
     def frame_count(self) -> int:
         """The true frame count once the index is ready; the header's estimate before that."""
-        idx = self._index
+        idx = self._bg.index
         return idx.frame_count if idx is not None else self._header_count
 
     @property
     def index(self) -> FrameIndex | None:
         """The frame index, or None while it is being built."""
-        return self._index
+        return self._bg.index
 
     @property
     def index_ready(self) -> bool:
-        return self._index is not None
+        return self._bg.index is not None
+
+    @property
+    def index_finished(self) -> bool:
+        """True once the background build ended, with an index or without one (cancelled or
+        failed: :meth:`wait_index` then raises or returns False)."""
+        return self._bg.done.is_set()
 
     def wait_index(self, timeout: float | None = None) -> bool:
         """Block until the index is built (True) or ``timeout`` seconds pass (False).
 
         Raises the :class:`MediaError` that stopped the index build, if one did.
         """
-        self._index_done.wait(timeout)
-        if isinstance(self._index_error, MediaError):
-            raise self._index_error
-        return self._index is not None
+        return self._bg.wait(timeout)
 
-    def _index_worker(self) -> None:
-        try:
-            index = load_or_build_index(self.path, index_dir=self._index_dir, cancel=self._stop,
-                                        scan=PacketScan(), on_trusted=self._use_scan)
-            if index.method != "packets" and self._scan is not None:
-                with self._lock:  # frames numbered from packets that proved untrustworthy
-                    self.cache.clear()
-                    self._pos = _AT_END  # and the decoder's count: the next request seeks
-            self._index = index
-            self._sparse_ok = self._sparse_worth_it(index) and _sparse_matches(self.path, index)
-        except JobCancelled:
-            pass
-        except BaseException as exc:  # noqa: BLE001 - kept and re-raised by wait_index
-            self._index_error = exc if isinstance(exc, MediaError) else MediaError(
-                f"{self.path}: frame index failed: {exc}")
-        finally:
-            self._index_done.set()
-            self._scan_decided.set()
-            scan = self._scan
-            if scan is not None:
-                scan.publish()
+    def _forget_early_frames(self) -> None:
+        """The packets that numbered frames before the index was ready proved untrustworthy:
+        drop the frames cached under those numbers and the decoder's count (the next request
+        seeks)."""
+        with self._lock:
+            self.cache.clear()
+            self._pos = _AT_END
 
-    def _sparse_worth_it(self, index: FrameIndex) -> bool:
+    def _check_sparse(self, index: FrameIndex) -> None:
+        """On the index thread, once the index is ready: whether sparse seeks pay for themselves
+        here (:data:`SPARSE_MIN_WORK`) and give the same pixels as a plain decode."""
         interval = index.frame_count / max(len(index.keyframes), 1)
-        return (index.method == "packets"
-                and self._size[0] * self._size[1] * interval >= SPARSE_MIN_WORK)
-
-    def _use_scan(self, scan: PacketScan | None) -> None:
-        self._scan = scan
-        self._scan_decided.set()
-
-    def _early_index(self, i: int) -> FrameIndex | None:
-        """Before the index is ready: an index of the frames the packet pass has settled, once
-        it covers frame ``i`` (waiting for the pass to get there), or None when the packets
-        cannot be used (then the caller decodes forward)."""
-        while not self._stop.is_set():
-            if self._index is not None:
-                return self._index
-            scan = self._scan
-            if scan is None:
-                left = EARLY_WAIT_S - (time.monotonic() - self._opened_at)
-                if self._scan_decided.is_set() or left <= 0:
-                    return None
-                self._scan_decided.wait(min(left, 0.05))
-                continue
-            with scan.changed:
-                ts, keys = scan.settled()
-                if scan.problem is not None or (scan.done and not scan.usable(ts)):
-                    return None
-                if scan.usable(ts) and (len(ts) > i or scan.done):
-                    old = self._provisional
-                    if old is None or old.frame_count != len(ts):
-                        old = FrameIndex(timestamps_ms=ts, keyframes=keys, method="packets")
-                        self._provisional = old
-                    return old
-                scan.changed.wait(0.05)
-        return None
+        worth = (index.method == "packets"
+                 and self._size[0] * self._size[1] * interval >= SPARSE_MIN_WORK)
+        try:
+            self._sparse_ok = worth and sparse_matches(self.path, index)
+        except Exception:  # noqa: BLE001 - any trouble only means the usual seeks are used
+            self._sparse_ok = False
 
     # -- frames --------------------------------------------------------------------------------
     def frame(self, i: int) -> np.ndarray:
@@ -257,36 +202,14 @@ class Video:
         A new call replaces the previous read-ahead. It takes the decoder lock frame by frame, so
         :meth:`frame` calls from other threads wait at most one frame's decode.
         """
-        self._cancel_prefetch()
-        stop = threading.Event()
-        self._prefetch_stop = stop
-
-        def work() -> None:
-            for i in range(max(start, 0), start + count):
-                if stop.is_set() or self._closed:
-                    return
-                if i in self.cache:
-                    continue
-                try:
-                    self.frame(i)
-                except (IndexError, MediaError):
-                    return
-
-        self._prefetch_thread = threading.Thread(target=work, daemon=True, name="frame read-ahead")
-        self._prefetch_thread.start()
-
-    def _cancel_prefetch(self) -> None:
-        self._prefetch_stop.set()
-        t = self._prefetch_thread
-        if t is not None and t is not threading.current_thread():
-            t.join(timeout=10)
+        self._read_ahead.start(start, count)
 
     # -- decoding (caller holds the lock) ------------------------------------------------------
     def _decode(self, i: int) -> np.ndarray:
-        idx = self._index
+        idx = self._bg.index
         if idx is None and not self._pos <= i <= self._pos + FORWARD_LIMIT:
-            idx = self._early_index(i)
-            if idx is not None and idx is not self._index and i < idx.frame_count:
+            idx = self._bg.early(i)
+            if idx is not None and idx is not self._bg.index and i < idx.frame_count:
                 self.stats["early_seeks"] += 1
         if idx is not None and i >= idx.frame_count:  # the packet pass has read every packet
             raise IndexError(f"frame {i} out of range: {self.path} has {idx.frame_count} frames")
@@ -310,7 +233,7 @@ class Video:
         if self._pos < key:
             return False
         sparse_cost = SPARSE_SHARE * (i - key) + SPARSE_OPEN_FRAMES
-        return not (self._sparse_ok and idx is self._index and ahead > sparse_cost)
+        return not (self._sparse_ok and idx is self._bg.index and ahead > sparse_cost)
 
     def _backward_run(self, i: int, idx: FrameIndex) -> np.ndarray:
         """Stepping backward: decode the frames before ``i`` that the cache can hold, up to and
@@ -331,24 +254,26 @@ class Video:
         """Grab without colour conversion up to frame ``i``, then retrieve it."""
         cap = self._cap
         self.stats["grabs"] += i - self._pos + 1
-        while self._pos < i:
+        while self._pos <= i:
             if not cap.grab():
                 self._ran_off_end(i)
             self._pos += 1
-        if not cap.grab():
-            self._ran_off_end(i)
-        self._pos += 1
+        arr = self._retrieve(cap)
+        if arr is None:
+            raise MediaError(f"{self.path}: frame {i} could not be decoded")
+        return arr
+
+    def _retrieve(self, cap: cv2.VideoCapture | SparseCapture) -> np.ndarray | None:
+        """The grabbed frame, decoded into an array the cache gives up where it has one."""
         w, h = self._size
         spare = self.cache.spare((h, w, 3))
         ok, arr = cap.retrieve() if spare is None else cap.retrieve(spare)
-        if not ok or arr is None:
-            raise MediaError(f"{self.path}: frame {i} could not be decoded")
-        return arr
+        return arr if ok else None
 
     def _ran_off_end(self, i: int) -> None:
         count = self._pos
         self._pos = _AT_END
-        idx = self._index
+        idx = self._bg.index
         if idx is not None and i < idx.frame_count:
             raise MediaError(f"{self.path}: decoding stopped at frame {count}, but the index "
                              f"has {idx.frame_count} frames (file changed or damaged?)")
@@ -363,7 +288,7 @@ class Video:
     def _reopen(self) -> None:
         self.stats["reopens"] += 1
         self._file_cap.release()
-        self._file_cap = _open_capture(self.path, self._threads)
+        self._file_cap = open_capture(self.path, self._threads)
         self._use(self._file_cap)
         self._pos = 0
 
@@ -381,8 +306,8 @@ class Video:
         self.stats["sparse_seeks"] += 1
         self._use(sparse)
         self._pos = i + 1
-        ok, arr = sparse.retrieve()
-        if not ok or arr is None:
+        arr = self._retrieve(sparse)
+        if arr is None:
             self._use(self._file_cap)
             self._pos = _AT_END
             return None
@@ -390,26 +315,16 @@ class Video:
 
     def _seek(self, i: int, idx: FrameIndex) -> np.ndarray:
         """Seek near ``i``, learn the landed frame from its timestamp, decode forward to ``i``."""
-        if (self._sparse_ok and idx is self._index
+        if (self._sparse_ok and idx is self._bg.index
                 and idx.keyframe_at_or_before(i) not in self._sparse_refused):
             arr = self._sparse_seek(i, idx)
             if arr is not None:
                 return arr
-        ts = idx.timestamps_ms
-        fps = self.fps
-        key = idx.keyframe_at_or_before(i)
-        targets = [i, key]
-        k = int(np.searchsorted(idx.keyframes, key)) - 1
-        while k >= 0 and len(targets) < 4:
-            targets.append(int(idx.keyframes[k]))
-            k -= 1
         self._use(self._file_cap)
         cap = self._file_cap
-        for target in targets:
-            # OpenCV numbers frames by presentation time x nominal rate (relative to frame 0).
-            number = int(round((ts[target] - ts[0]) * fps / 1000.0))
+        for target in idx.seek_targets(i):
             self.stats["seeks"] += 1
-            cap.set(cv2.CAP_PROP_POS_FRAMES, number)
+            cap.set(cv2.CAP_PROP_POS_FRAMES, idx.opencv_number(target, self.fps))
             if not cap.grab():
                 continue
             landed = idx.locate(cap.get(cv2.CAP_PROP_POS_MSEC))
@@ -417,8 +332,8 @@ class Video:
                 continue
             self._pos = landed + 1
             if landed == i:
-                ok, arr = cap.retrieve()
-                if ok and arr is not None:
+                arr = self._retrieve(cap)
+                if arr is not None:
                     return arr
                 break
             return self._forward(i)
@@ -428,9 +343,9 @@ class Video:
     # -- lifetime ------------------------------------------------------------------------------
     def close(self) -> None:
         """Stop the index and read-ahead threads and release the decoder. Safe to call twice."""
-        self._stop.set()
-        self._cancel_prefetch()
-        self._index_thread.join(timeout=10)
+        self._bg.stopping.set()  # first: a read-ahead may be waiting for the packet pass
+        self._read_ahead.cancel()
+        self._bg.stop()
         with self._lock:
             if not self._closed:
                 self._closed = True
@@ -449,13 +364,6 @@ class Video:
         return f"Video({str(self.path)!r}, {w}x{h}, {self.frame_count} frames, {self.fps:g} fps)"
 
 
-def _sparse_matches(path: Path, index: FrameIndex) -> bool:
-    try:
-        return sparse_matches(path, index)
-    except Exception:  # noqa: BLE001 - any trouble only means the usual seeks are used
-        return False
-
-
 def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
                index_cache_dir: str | os.PathLike | None = None,
                decoder_threads: int | None = None) -> Video:
@@ -466,7 +374,8 @@ def open_video(path: str | os.PathLike, *, cache_bytes: int | None = None,
     path : path-like
         The video file (any container and codec the OpenCV FFmpeg backend decodes).
     cache_bytes : int, optional
-        Byte budget of the decoded-frame cache (default 128 MiB: about 48 frames of 720p or 21 of 1080p); the cache never exceeds it.
+        Byte budget of the decoded-frame cache (default 128 MiB: about 48 frames of 720p or
+        21 of 1080p); the cache never exceeds it.
     index_cache_dir : path-like, optional
         Folder for cached frame indexes, keyed by the file's SHA-256 (default
         ``platformdirs.user_cache_dir("clipscribe")/frame-index``).
