@@ -70,3 +70,18 @@ def server_project(pg, tmp_path):
     p.define_labels(["pick up", "put down", "stack"])
     yield p
     p.close()
+
+
+@pytest.fixture(params=["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
+def either_backend(request, tmp_path):
+    """(project, annotator name) on a SQLite file and on a server: lead ``boss``, the labels
+    pick up / put down / stack, one annotator, no clips yet."""
+    if request.param == "postgres":
+        p = request.getfixturevalue("server_project")
+        ann = f"ann_{request.getfixturevalue('uid')}"
+    else:
+        p, ann = Project.create(tmp_path / "solo", user="boss"), "ann_x"
+        p.define_labels(["pick up", "put down", "stack"])
+    p.add_annotator(ann)
+    yield p, ann
+    p.close()

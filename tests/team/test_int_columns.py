@@ -6,29 +6,18 @@ from __future__ import annotations
 import pytest
 from sqlalchemy import select
 
-from clipscribe import Project
 from clipscribe.store.columns import int_columns
 from clipscribe.store.models import Clip, ClipLabel
 
 from .conftest import add_clips
 
-BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
-
-
-@pytest.fixture(params=BACKENDS)
-def project(request, tmp_path):
-    if request.param == "postgres":
-        p = request.getfixturevalue("server_project")
-        ann = f"ann_{request.getfixturevalue('uid')}"
-    else:
-        p, ann = Project.create(tmp_path / "solo", user="boss"), "ann_x"
-        p.define_labels(["pick up", "put down", "stack"])
+@pytest.fixture
+def project(either_backend):
+    p, ann = either_backend
     add_clips(p, 4)
-    p.add_annotator(ann)
     for clip, label in ((1, "stack"), (2, "pick up"), (4, "stack")):
         p.set_clip_label(clip, ann, label)
-    yield p
-    p.close()
+    return p
 
 
 @pytest.mark.parametrize("stmt,rows", [

@@ -7,25 +7,14 @@ from __future__ import annotations
 
 import pytest
 
-from clipscribe import Project
 
 from .conftest import add_clips
 
-BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
-
-
-@pytest.fixture(params=BACKENDS)
-def project(request, tmp_path):
-    if request.param == "postgres":
-        p = request.getfixturevalue("server_project")
-        ann = f"ann_{request.getfixturevalue('uid')}"
-    else:
-        p, ann = Project.create(tmp_path / "solo", user="boss"), "ann_x"
-        p.define_labels(["pick up", "put down", "stack"])
+@pytest.fixture
+def project(either_backend):
+    p, ann = either_backend
     add_clips(p, 2)
-    p.add_annotator(ann)
-    yield p, ann
-    p.close()
+    return p, ann
 
 
 def test_undoing_a_settle_unsettles_the_clip_and_redo_settles_it(project):
