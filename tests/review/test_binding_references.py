@@ -25,9 +25,10 @@ pytestmark = pytest.mark.skipif(
            "nothing to lose and nothing this test could see")
 
 ROUNDS = 25
-#: garbage and caches may settle a few references either way; a faulty binding loses one per
-#: void call, i.e. dozens per widget per paint, thousands over the loop
-TOLERANCE = 20
+#: garbage, caches and threads may settle some references either way (CI once saw 21); a
+#: faulty binding loses one per void call, i.e. dozens per widget per paint, thousands over
+#: the loop
+TOLERANCE = 200
 
 
 def _give_back(lost: int) -> None:
@@ -53,6 +54,12 @@ def test_painting_the_real_widgets_keeps_every_reference_to_none(window, qtbot):
     with qtbot.waitSignal(page.board.loaded, timeout=30000, raising=False):
         page.setCurrentWidget(page.board)
     qtbot.waitUntil(lambda: page.board.data is not None, timeout=30000)
+    # background work (the cues panel, the desk's ranking after the board, suggestions) moves
+    # the count of references to None from other threads: let all of it end first
+    from clipscribe.ui.workers import JobRunner
+    runners = w.findChildren(JobRunner)
+    qtbot.waitUntil(lambda: page.board.cues is not None and all(r.idle() for r in runners),
+                    timeout=180_000)
     frames = max(2, w.scrub.frame_count)
     w.scrub.set_curve(np.abs(np.sin(np.linspace(0, 12, 400))))  # a long QPainterPath
     widgets = [w.scrub, w.timeline, desk.tracks, *page.board.figs.values()]

@@ -138,3 +138,7 @@ class JobRunner(QObject):
 
     def wait(self, msecs: int = 10000) -> bool:
         return self.pool.waitForDone(msecs)
+
+    def idle(self) -> bool:
+        """No job started here is still queued or running (their end signals delivered)."""
+        return not self._jobs
