@@ -87,7 +87,7 @@ class Annotation(Service):
             stmt = stmt.where(model.annotator_id == self.ctx.annotator(s, annotator).id)
         return stmt
 
-    def _all_clip_labels(self, s: Session) -> list[tuple[int, str, str]]:
+    def _kept_clip_labels(self, s: Session) -> list[tuple[int, str, str]]:
         """Every clip label, kept from the last read while nothing it depends on moved: the
         board's trend and its agreement report both read them (a second read cost a big
         project a second). The stamp covers the rows (count, largest id, sum of versions:
@@ -109,7 +109,7 @@ class Annotation(Service):
         """``(clip id, annotator name, label)`` for every clip label, ordered by clip then person."""
         def q(s: Session) -> list[tuple[int, str, str]]:
             if clip is None and annotator is None:
-                return self._all_clip_labels(s)
+                return self._kept_clip_labels(s)
             stmt = (select(ClipLabel.clip_id, Annotator.name, Label.name)
                     .join(Annotator, Annotator.id == ClipLabel.annotator_id)
                     .join(Label, Label.id == ClipLabel.label_id).order_by(ClipLabel.clip_id, Annotator.name))
