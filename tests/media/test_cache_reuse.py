@@ -91,3 +91,45 @@ def test_pool_keeps_the_newest_frames_within_its_budget():
     assert pool.take((5, 20, 3)) is not None
     assert pool.take((10, 10, 3)) is not None
     assert pool.take((10, 10, 3)) is None  # the oldest one made room
+
+
+def test_warming_readies_a_full_cache_that_the_first_steps_then_use(make_clip, reference, index_dir):
+    name = "h264-bframes.mp4"
+    ref = reference(name)
+    shape, size = ref[0].shape, ref[0].nbytes
+    SPARE_POOL.clear()
+    with open_video(make_clip(name), cache_bytes=4 * size, index_cache_dir=index_dir) as v:
+        calls = 1
+        while v.warm_cache(most=1):
+            calls += 1
+        assert calls == 4 and not v.warm_cache()          # one frame per call, then done
+        pooled = [a for a in SPARE_POOL._arrays if a.shape == shape]
+        assert len(pooled) == 4
+        # frame 0 is cached at open: three more steps take three pooled arrays, the 4th
+        # step recycles the evicted frame, and nothing is allocated afresh
+        pooled_ids = {id(a) for a in pooled}
+        del pooled
+        got = [v.frame(i) for i in range(1, 4)]
+        assert {id(a) for a in got} <= pooled_ids
+        assert all(np.array_equal(f, ref[i]) for i, f in enumerate(got, 1))
+        assert [a for a in SPARE_POOL._arrays if a.shape == shape] != []  # one left: 4 made, 3 used
+    SPARE_POOL.clear()
+
+
+def test_warming_never_readies_more_than_the_clip_holds(make_clip, reference, index_dir):
+    name = "h264-bframes.mp4"
+    ref = reference(name)
+    SPARE_POOL.clear()
+    with open_video(make_clip(name), cache_bytes=10 * len(ref) * ref[0].nbytes,
+                    index_cache_dir=index_dir) as v:
+        assert not v.warm_cache()
+        assert len([a for a in SPARE_POOL._arrays if a.shape == ref[0].shape]) == len(ref)
+    SPARE_POOL.clear()
+
+
+def test_top_up_keeps_to_the_pool_budget():
+    pool = _SparePool(budget=1000)
+    assert not pool.top_up((10, 10, 3), 10_000)       # 3 arrays of 300 bytes fit in 1000
+    assert len(pool._arrays) == 3 and all(not a.any() for a in pool._arrays)
+    assert not pool.top_up((10, 10, 3), 10_000)       # already full: nothing made
+    assert len(pool._arrays) == 3

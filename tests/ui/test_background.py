@@ -115,3 +115,26 @@ def test_screenshot_mode_writes_png(sample, tmp_path):
     assert run.returncode == 0, run.stderr
     image = QImage(str(out))
     assert not image.isNull() and image.width() >= 1280 and image.height() >= 800
+
+
+def test_the_loader_readies_cache_memory_while_idle_and_still_answers(qtbot, tmp_path):
+    """After a frame is shown and nothing is asked, the loader makes the video's cache memory
+    ready (one frame's worth at a time, so a request is never kept waiting behind all of it)."""
+    from clipscribe.media.cache import SPARE_POOL
+    SPARE_POOL.clear()
+    clip = moving_square(tmp_path / "warm.mp4", frames=60)
+    loader = FrameLoader(clip)
+    shown = []
+    loader.frameReady.connect(lambda i, img: shown.append(i))
+    loader.start()
+    try:
+        loader.request(0)
+        qtbot.waitUntil(lambda: shown == [0], timeout=10000)
+        shape = (480, 640, 3)
+        qtbot.waitUntil(lambda: sum(a.shape == shape for a in SPARE_POOL._arrays) >= 30,
+                        timeout=20000)
+        loader.request(30)
+        qtbot.waitUntil(lambda: shown == [0, 30], timeout=10000)
+    finally:
+        loader.stop()
+        SPARE_POOL.clear()

@@ -51,6 +51,29 @@ class _SparePool:
                     return arr
         return None
 
+    def top_up(self, shape: tuple[int, ...], nbytes: int, *, most: int | None = None) -> bool:
+        """Make arrays shaped ``shape`` (written once, so their pages are the process's) until
+        the pool holds ``nbytes`` of that shape, or its budget; at most ``most`` now. True
+        while more remain to be made.
+
+        A viewer calls this while idle after opening a video (:meth:`Video.warm_cache`): the
+        first video of a process otherwise pays for its cache's fresh pages during its first
+        steps (forward stepping at 1080p 0.6-0.7x a raw read loop in that case, ~1.0x once the
+        pool holds them; benchmarks/bench_media.py).
+        """
+        size = math.prod(shape)
+        with self._lock:
+            have = sum(a.nbytes for a in self._arrays if a.shape == shape)
+            want = min(nbytes, self.budget)
+        n = max((want - have) // size, 0) if size else 0
+        made = []
+        for _ in range(n if most is None else min(n, most)):
+            arr = np.empty(shape, np.uint8)
+            arr.fill(0)
+            made.append(arr)
+        self.give(made)
+        return len(made) < n
+
     def clear(self) -> None:
         """Let the memory go (tests, or a process done with video for a while)."""
         with self._lock:

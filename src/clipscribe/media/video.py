@@ -29,6 +29,7 @@ holding that lock.
 
 from __future__ import annotations
 
+import math
 import operator
 import os
 import threading
@@ -40,7 +41,7 @@ import numpy as np
 
 from ._common import check_media_path, open_capture
 from .background_index import BackgroundIndex
-from .cache import DEFAULT_CACHE_BYTES, FrameCache
+from .cache import DEFAULT_CACHE_BYTES, SPARE_POOL, FrameCache
 from .errors import MediaError
 from .index import FrameIndex
 from .read_ahead import ReadAhead
@@ -185,6 +186,12 @@ class Video:
                 arr = self._decode(i)
                 self.cache.put(i, arr)
             return arr
+
+    def warm_cache(self, *, most: int | None = None) -> bool:
+        """Ready a full cache's memory for first steps (see ``SPARE_POOL.top_up``)."""
+        shape = (self._size[1], self._size[0], 3)
+        room = min(self.cache.budget, self.frame_count * math.prod(shape))
+        return SPARE_POOL.top_up(shape, room, most=most)
 
     def frames(self, start: int = 0, stop: int | None = None) -> Iterator[np.ndarray]:
         """Yield frames ``start, start+1, ...`` up to ``stop`` (exclusive) or the end, for playback."""

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from PySide6.QtCore import QObject, Qt, QTimer, Signal, Slot
+from PySide6.QtCore import QObject, QSize, Qt, QTimer, Signal, Slot
 from PySide6.QtGui import QImage
 from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QToolButton, QWidget
 
@@ -144,7 +144,7 @@ class TransportBar(QWidget):
         self.speed.activated.connect(lambda i: player.set_speed(self.speed.itemData(i)))
         lay.addWidget(self.speed)
         lay.addStretch(1)
-        self.readout = QLabel()
+        self.readout = FittingLabel()
         self.readout.setObjectName("readout")
         self.readout.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         lay.addWidget(self.readout)
@@ -156,14 +156,53 @@ class TransportBar(QWidget):
         p = self.player
         t = frame / p.fps
         total = p.frame_count / p.fps
-        self.readout.setText(f"frame {frame} / {p.frame_count - 1}    "
-                             f"{_clock(t)} / {_clock(total)}")
+        last = p.frame_count - 1
+        self.readout.set_forms([f"frame {frame} / {last}    {_clock(t)} / {_clock(total)}",
+                                f"{frame} / {last}  {_clock(t)}", f"{frame}"])
 
     @Slot()
     def _state(self) -> None:
         i = self.speed.findData(self.player.speed)
         if i >= 0:
             self.speed.setCurrentIndex(i)
+
+
+class FittingLabel(QLabel):
+    """A label given its text in several forms, longest first, that shows the longest form its
+    width holds (the whole of it in the tooltip), so a narrow window shortens the readout
+    instead of cutting it mid-number."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._forms: list[str] = [""]
+
+    def set_forms(self, forms: list[str]) -> None:
+        changed = len(forms[0]) != len(self._forms[0])
+        self._forms = forms
+        self.setToolTip(forms[0])
+        self._fit()
+        if changed:
+            self.updateGeometry()
+
+    def _fit(self) -> None:
+        room = self.contentsRect().width()
+        fm = self.fontMetrics()
+        self.setText(next((f for f in self._forms if fm.horizontalAdvance(f) <= room), self._forms[-1]))
+
+    def sizeHint(self) -> QSize:
+        return self._hint(self._forms[0])
+
+    def minimumSizeHint(self) -> QSize:
+        return self._hint(self._forms[-1])
+
+    def _hint(self, text: str) -> QSize:
+        m = self.contentsMargins()
+        return QSize(self.fontMetrics().horizontalAdvance(text) + m.left() + m.right() + 2,
+                     super().sizeHint().height())
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        self._fit()
 
 
 def _clock(seconds: float) -> str:

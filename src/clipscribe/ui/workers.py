@@ -60,13 +60,17 @@ class FrameLoader(QThread):
         try:
             w, h = video.size
             self.opened.emit(video.frame_count, video.fps, w, h)
+            warming = True  # while idle, one frame's memory at a time (see Video.warm_cache)
             while True:
                 with self._cond:
-                    while self._wanted is None and not self._stop:
+                    while self._wanted is None and not self._stop and not warming:
                         self._cond.wait()
                     if self._stop:
                         return
                     i, ahead, self._wanted = self._wanted, self._ahead, None
+                if i is None:
+                    warming = video.warm_cache(most=1)
+                    continue
                 try:
                     image = bgr_to_qimage(video.frame(i))
                 except (MediaError, IndexError, ValueError) as exc:
