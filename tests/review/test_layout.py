@@ -1,5 +1,6 @@
 """The review desk and the agreement board fit laptop screens: nothing outside the window at
-1366×768 and 1440×900, and the board's figures reachable whole (scrolled, never cut)."""
+1366×768 and 1440×900 (the desk also at 1024×640), and the board's figures reachable whole
+(scrolled, never cut)."""
 
 import pytest
 from PySide6.QtCore import QRect
@@ -8,7 +9,7 @@ from PySide6.QtWidgets import QPushButton, QScrollArea
 SCREENS = [(1366, 768), (1440, 900)]
 
 
-@pytest.mark.parametrize("width,height", SCREENS)
+@pytest.mark.parametrize("width,height", [*SCREENS, (1024, 640)])
 def test_review_desk_fits_with_nothing_outside(qtbot, window, fit_check, width, height):
     w, p = window()
     desk = w.review_desk.desk
@@ -24,6 +25,8 @@ def test_review_desk_fits_with_nothing_outside(qtbot, window, fit_check, width, 
         assert w.rect().contains(QRect(top_left, part.size())), part
     for part in (w.statusBar(), w.save_state, desk.caption_view, desk.tracks, desk.queue_view):
         assert part.visibleRegion().boundingRect() == part.rect(), part
+    readout = desk.transport.readout    # shortened to fit, never cut
+    assert readout.fontMetrics().horizontalAdvance(readout.text()) <= readout.contentsRect().width()
 
 
 @pytest.mark.parametrize("width,height", SCREENS)

@@ -165,8 +165,10 @@ class ReviewDesk(QWidget):
         self.tracks = TrackStack()
         self.tracks.colours = self.colours
         cl.addWidget(self.tracks)
-        cl.addWidget(heading("Captions side by side — tick to accept into gold, edit to "
-                             "accept a changed text (A toggles)"))
+        hint = heading("Captions side by side — tick to accept into gold, edit to accept a "
+                       "changed text (A toggles)")
+        hint.setWordWrap(True)  # wraps on a narrow screen instead of widening the window
+        cl.addWidget(hint)
         self.caption_view = QTableView()
         self.caption_view.setObjectName("captionGrid")
         self.caption_view.setModel(self.caption_model)
