@@ -101,3 +101,23 @@ def test_retrieval_gallery_sampled_and_too_small():
     assert math.isnan(caption_retrieval({"a": ["x", "y"], "b": ["z"]}).r_at_1)
     with pytest.raises(ValueError, match="max_gallery"):
         caption_retrieval(data, max_gallery=1)
+
+
+@pytest.mark.parametrize("limit", [1, 7, 50])
+def test_cider_d_by_runs_of_clips_is_the_one_pass_bit_for_bit(monkeypatch, limit):
+    """The pairs are expanded a run of whole clips at a time to bound memory; every caption's
+    sum then adds the same terms in the same order, so the scores are identical, not close."""
+    from clipscribe.agreement import cider
+    rng = np.random.default_rng(7)
+    words = "a b c d the arm lifts red block".split()
+    data = {f"c{c}": [(f"ann{rng.integers(0, 3)}", " ".join(rng.choice(words, rng.integers(1, 9))))
+                      for _ in range(rng.integers(0, 7))] for c in range(40)}
+    whole = [s for *_, s in cider_d(data).captions]
+    monkeypatch.setattr(cider, "PAIRS_PER_RUN", limit)
+    runs = []
+    real = cider._runs
+    monkeypatch.setattr(cider, "_runs", lambda *a: runs.append(list(real(*a))) or iter(runs[-1]))
+    parts = [s for *_, s in cider_d(data).captions]
+    assert max(len(r) for r in runs) > 1                     # really cut into several runs
+    assert np.array_equal(np.array(parts), np.array(whole), equal_nan=True)
+    assert _cider_by_the_formula(data, 4) == pytest.approx(whole, rel=1e-12, nan_ok=True)

@@ -15,7 +15,7 @@ import re
 from collections import Counter
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import Sequence
+from typing import Iterable, Iterator, Sequence
 
 import numpy as np
 
@@ -97,31 +97,45 @@ class NgramIndex:
     vocabulary: dict
 
 
-def ngram_index(token_lists: Sequence[Sequence[str]], max_order: int) -> NgramIndex:
-    """Build an :class:`NgramIndex`; an n-gram's key is a dense id shared across documents."""
+def ngram_index(token_lists: Iterable[Sequence[str]], max_order: int) -> NgramIndex:
+    """Build an :class:`NgramIndex`; an n-gram's key is a dense id shared across documents.
+
+    ``token_lists`` may be a generator: each document's tokens are turned into word ids as they
+    come and then let go, so a corpus of a million captions never holds all of its token
+    tuples at once (they cost more than the index). The index keeps 32-bit integers."""
     vocab: dict = {}
-    lengths = np.fromiter((len(t) for t in token_lists), dtype=np.int64, count=len(token_lists))
-    ids = np.fromiter((vocab.setdefault(w, len(vocab)) for t in token_lists for w in t),
-                      dtype=np.int64, count=int(lengths.sum()))
+    sizes: list[int] = []
+
+    def words() -> Iterator[str]:
+        for tokens in token_lists:
+            sizes.append(len(tokens))
+            yield from tokens
+
+    ids = np.fromiter((vocab.setdefault(w, len(vocab)) for w in words()), dtype=np.int64)
+    lengths = np.array(sizes, dtype=np.int64)
     doc = np.repeat(np.arange(len(lengths)), lengths)
     starts = np.concatenate([[0], np.cumsum(lengths)[:-1]]) if len(lengths) else lengths
     remaining = lengths[doc] - (np.arange(len(ids)) - starts[doc]) if len(ids) else ids
+    del starts
     orders = []
     prev = ids  # dense key of the (n-1)-gram starting at each position, where valid
     n_vocab = max(len(vocab), 1)
     for n in range(1, max_order + 1):
         valid = np.flatnonzero(remaining >= n)
-        if n == 1:
-            raw = ids[valid]
+        if n == 1:  # word ids are dense already, numbered in order of first appearance
+            dense, n_keys = ids, n_vocab
         else:
-            raw = prev[valid] * n_vocab + ids[valid + n - 1]
-        keys, dense = np.unique(raw, return_inverse=True)
-        n_keys = max(len(keys), 1)
+            keys, dense = np.unique(prev[valid] * n_vocab + ids[valid + n - 1], return_inverse=True)
+            n_keys = max(len(keys), 1)
+            del keys
         full = np.full(len(ids), -1, dtype=np.int64)
         full[valid] = dense
-        prev = full
         pair, cnt = np.unique(doc[valid] * n_keys + dense, return_counts=True)
-        orders.append(NgramOrder(pair // n_keys, pair % n_keys, cnt.astype(np.int64), n_keys))
+        del dense, valid
+        prev = full
+        orders.append(NgramOrder((pair // n_keys).astype(np.int32), (pair % n_keys).astype(np.int32),
+                                 cnt.astype(np.int32), n_keys))
+        del pair, cnt
     return NgramIndex(lengths, tuple(orders), vocab)
 
 
@@ -131,4 +145,4 @@ def corpus_index(texts: tuple[str, ...], tokenize: str, max_order: int) -> Ngram
     kept, so the caption metrics of one report (leave-one-out BLEU, CIDEr-D) tokenize and count
     each caption once between them; the texts themselves are the key, so it is never stale."""
     tok = tokenizer(tokenize)
-    return ngram_index([tok(t) for t in texts], max_order)
+    return ngram_index((tok(t) for t in texts), max_order)

@@ -134,16 +134,38 @@ def _scores(index: NgramIndex, clip: np.ndarray, author: np.ndarray, n_clips: in
         idf = log_n - np.log(np.maximum(df, 1.0))
         value = order.count[sort] * idf[g % order.n_keys]
         norm = np.sqrt(np.bincount(doc, weights=value * value, minlength=n_docs))
-        # every ordered pair of entries within a group
-        size_of = np.repeat(sizes, sizes)
-        left = np.repeat(np.arange(len(g)), size_of)
-        offset = np.arange(len(left)) - np.repeat(np.cumsum(size_of) - size_of, size_of)
-        right = np.repeat(np.repeat(starts, sizes), size_of) + offset
-        a, b = doc[left], doc[right]
-        keep = (author[a] != author[b]) & (norm[a] > 0) & (norm[b] > 0)
-        a, b, left, right = a[keep], b[keep], left[keep], right[keep]
-        penalty = np.exp(-((length[a] - length[b]) ** 2) / (2.0 * sigma * sigma))
-        term = np.minimum(value[left], value[right]) * value[right] / (norm[a] * norm[b])
-        total += np.bincount(a, weights=penalty * term / max_order, minlength=n_docs)
+        # every ordered pair of entries within a group, a run of whole clips at a time (a
+        # caption's pairs all lie in its clip's run, so its sum is the same as in one pass)
+        group_clip = g[starts] // order.n_keys
+        for lo, hi in _runs(group_clip, sizes * sizes, PAIRS_PER_RUN):
+            st, sz = starts[lo:hi], sizes[lo:hi]
+            size_of = np.repeat(sz, sz)
+            left = np.repeat(np.arange(st[0], st[-1] + sz[-1]), size_of)
+            offset = np.arange(len(left)) - np.repeat(np.cumsum(size_of) - size_of, size_of)
+            right = np.repeat(np.repeat(st, sz), size_of) + offset
+            a, b = doc[left], doc[right]
+            keep = (author[a] != author[b]) & (norm[a] > 0) & (norm[b] > 0)
+            a, b, left, right = a[keep], b[keep], left[keep], right[keep]
+            penalty = np.exp(-((length[a] - length[b]) ** 2) / (2.0 * sigma * sigma))
+            term = np.minimum(value[left], value[right]) * value[right] / (norm[a] * norm[b])
+            total += np.bincount(a, weights=penalty * term / max_order, minlength=n_docs)
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(refs > 0, scale * total / np.maximum(refs, 1), np.nan)
+
+
+# pairs expanded at once: ~8 arrays of this many 8-byte entries (about 0.2 GB) live together
+PAIRS_PER_RUN = 4_000_000
+
+
+def _runs(group_clip: np.ndarray, pairs: np.ndarray, limit: int):
+    """``(lo, hi)`` ranges of groups (sorted by clip) that cover whole clips, each holding at
+    most ``limit`` pairs, or one clip when that alone holds more."""
+    bounds = np.r_[np.flatnonzero(np.r_[True, group_clip[1:] != group_clip[:-1]]),
+                   len(group_clip)] if len(group_clip) else np.zeros(1, np.int64)
+    before = np.r_[0, np.cumsum(pairs)][bounds]  # pairs in the groups before each bound
+    cur, last = 0, len(bounds) - 1
+    while cur < last:
+        nxt = int(np.searchsorted(before, before[cur] + limit, side="right")) - 1
+        nxt = min(max(nxt, cur + 1), last)
+        yield int(bounds[cur]), int(bounds[nxt])
+        cur = nxt

@@ -187,16 +187,21 @@ def loo_stats(clip: np.ndarray, author: np.ndarray, index: NgramIndex, max_order
     for n, o in enumerate(index.orders):
         if len(o.doc) == 0:
             continue
-        c, a = clip[o.doc], author[o.doc]
-        group = c * o.n_keys + o.key            # (clip, n-gram)
+        # (the ``del``s keep the peak down: each array holds an entry per caption n-gram,
+        # ~14 M at 100k clips)
+        a = author[o.doc]
+        group = clip[o.doc] * o.n_keys + o.key  # (clip, n-gram)
         # per (clip, n-gram): annotators sorted by their count, largest first
         order = np.lexsort((-o.count, a, group))
         g_s, a_s, n_s = group[order], a[order], o.count[order]
-        first_of_author = np.ones(len(order), bool)
+        del order
+        first_of_author = np.ones(len(g_s), bool)
         first_of_author[1:] = (g_s[1:] != g_s[:-1]) | (a_s[1:] != a_s[:-1])
         g_u, a_u, n_u = g_s[first_of_author], a_s[first_of_author], n_s[first_of_author]
+        del g_s, a_s, n_s, first_of_author
         order2 = np.lexsort((-n_u, g_u))
         g_u, a_u, n_u = g_u[order2], a_u[order2], n_u[order2]
+        del order2
         head = np.ones(len(g_u), bool)
         head[1:] = g_u[1:] != g_u[:-1]
         heads = np.flatnonzero(head)

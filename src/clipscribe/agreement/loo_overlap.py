@@ -89,7 +89,7 @@ def _pair_char_stats(texts: list[str], clip: np.ndarray, author: np.ndarray, hyp
     one clip that share an n-gram are paired by one sort, and each pair's matches are summed
     into a slot numbered within its clip (captions of a clip are contiguous)."""
     chars = ["".join(t.split()) for t in texts]
-    index = ngram_index([tuple(c) for c in chars], char_order)
+    index = ngram_index((tuple(c) for c in chars), char_order)
     length = index.lengths
     n_docs = len(chars)
     per_clip = np.bincount(clip, minlength=int(clip.max(initial=-1)) + 1)

@@ -11,6 +11,7 @@ import numpy as np
 
 from . import _checks
 from ._recipe import Recipe
+from .captions import corpus_index
 from .cider import CiderResult, cider_d
 from .interpret import CITATION
 from .label_summary import LabelSummary, collect, summarize
@@ -205,8 +206,11 @@ def caption_part(captions: Iterable[Sequence[Any]] | None, *, seed: int = 0,
     if not any(len({a for a, _ in v}) > 1 for v in by_clip.values()):
         # caption consensus needs a clip captioned by two people; with none it is not measured
         return CaptionPart(None, {}, {}, writers, rows)
-    loo = leave_one_out_bleu(by_clip)
-    cider = cider_d(by_clip)
+    try:
+        loo = leave_one_out_bleu(by_clip)
+        cider = cider_d(by_clip)
+    finally:  # the n-gram index the two share (~0.6 GB at 100k clips) is not kept past them
+        corpus_index.cache_clear()
     sample, note = _clip_sample(by_clip, overlap_clips, seed)
     rouge, chrf = leave_one_out_rouge_l(sample), leave_one_out_chrf(sample)
     if note:
