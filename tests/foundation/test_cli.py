@@ -155,3 +155,25 @@ def test_the_installed_command_is_the_cli_main(sample_master):
     assert json.loads(r.stdout)["clips"] == 12
     r = subprocess.run([str(exe), "frobnicate"], capture_output=True, text=True, timeout=120, env=env)
     assert r.returncode == 2 and "invalid choice: 'frobnicate'" in r.stderr
+
+
+def test_the_cycle_collector_pause_always_puts_the_collector_back():
+    import gc
+
+    import pytest
+
+    from clipscribe.cli.common import cycle_collector_paused
+    assert gc.isenabled()
+    with pytest.raises(RuntimeError):
+        with cycle_collector_paused():
+            assert not gc.isenabled()
+            raise RuntimeError("a command failed")
+    assert gc.isenabled()
+    gc.disable()
+    try:
+        with cycle_collector_paused():
+            pass
+        assert not gc.isenabled()          # left as it was found
+    finally:
+        gc.enable()
+

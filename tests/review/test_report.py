@@ -189,3 +189,16 @@ def test_every_table_scrolls_in_its_own_box_instead_of_overflowing_the_page(writ
     css = re.search(r"<style>(.*?)</style>", html, re.S).group(1)
     assert re.search(r"\.wide\s*\{[^}]*overflow-x:\s*auto", css)
     assert re.search(r"\.fig\s*\{[^}]*max-width:\s*100%", css)
+
+
+def test_the_report_command_runs_with_the_collector_paused(sample, tmp_path, monkeypatch):
+    import gc
+
+    from clipscribe.review_report import html
+    seen = []
+    real = html.board_data
+    monkeypatch.setattr(html, "board_data", lambda *a, **k: seen.append(gc.isenabled()) or real(*a, **k))
+    from clipscribe.cli import main
+    folder, lead = sample
+    assert main(["report", str(folder), str(tmp_path / "r"), "--boot", "50", "--user", lead]) == 0
+    assert seen == [False] and gc.isenabled()

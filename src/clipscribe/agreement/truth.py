@@ -123,8 +123,8 @@ class InferredLabels:
                "accuracy": self.accuracy, "iterations": self.iterations,
                "converged": self.converged, "recipe": self.recipe.to_dict()}
         if items:
-            out["items"] = [{"item": str(it), "label": str(self.label_order[k]),
-                             "posterior": {str(c): p for c, p in zip(self.label_order, row)}}
+            names = [str(c) for c in self.label_order]
+            out["items"] = [{"item": str(it), "label": names[k], "posterior": dict(zip(names, row))}
                             for it, k, row in zip(self.items, self.label_codes.tolist(),
                                                   self.posterior_matrix.tolist())]
         return out

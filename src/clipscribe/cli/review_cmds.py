@@ -5,12 +5,12 @@ from __future__ import annotations
 import argparse
 import sys
 
-from .common import open_project
+from .common import cycle_collector_paused, open_project
 
 
 def cmd_report(args: argparse.Namespace) -> int:
     from ..review_report import write_report
-    with open_project(args) as p:
+    with cycle_collector_paused(), open_project(args) as p:
         cues = None
         if args.cues:  # computes (or reads cached) clip features and cross-validates: slower
             from ..review_report.cues import cues_data

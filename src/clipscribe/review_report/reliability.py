@@ -4,6 +4,7 @@ as a small matrix, check-clip accuracy with Wilson intervals, and its CSV tables
 
 from __future__ import annotations
 
+import operator
 from typing import Any
 
 from . import colours as C
@@ -123,9 +124,11 @@ def inferred_table(data: dict) -> tuple[list[str], list[list[Any]]]:
     rows: list[list[Any]] = []
     if inf:
         cats = inf["labels_order"]
-        for it in inf["items"]:
-            rows.append([it["item"], it["label"], it["posterior"][it["label"]],
-                         *[it["posterior"][c] for c in cats]])
+        each = operator.itemgetter(*cats)
+        if len(cats) == 1:
+            each = (lambda get: lambda post: (get(post),))(each)
+        rows = [[it["item"], it["label"], post[it["label"]], *each(post)]
+                for it in inf["items"] for post in (it["posterior"],)]
         return (["clip", "inferred_label", "posterior", *[f"p_{c}" for c in cats]], rows)
     return (["clip", "inferred_label", "posterior"], rows)
 
