@@ -36,3 +36,18 @@ def test_driver_columns_equal_sqlalchemy_rows(project, stmt, rows):
     assert len(want) == rows
     assert got.shape == (rows, len(stmt.selected_columns))
     assert [tuple(r) for r in got.tolist()] == want
+
+
+def test_plain_rows_equal_sqlalchemy_rows_with_text_and_null(project):
+    """Captions: text (with quotes and non-ASCII), an integer, and a NULL segment id."""
+    from clipscribe.store.columns import plain_rows
+    from clipscribe.store.models import Caption
+    ann = project.annotators()[0].name
+    project.add_caption(1, ann, "the arm's \"grip\" — déjà vu")
+    project.add_caption(3, ann, "a plain one")
+    stmt = select(Caption.clip_id, Caption.text, Caption.segment_id).order_by(Caption.id)
+    ctx = project._ctx
+    got = ctx.read(lambda s: plain_rows(s, stmt))
+    want = ctx.read(lambda s: [tuple(r) for r in s.execute(stmt)])
+    assert got == want and len(want) == 2 and want[0][2] is None
+    assert got[0][1] == "the arm's \"grip\" — déjà vu"

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import argparse
 
-from .common import open_project
+from .common import cycle_collector_paused, open_project
 
 
 def cmd_agreement(args: argparse.Namespace) -> int:
-    with open_project(args) as p:
+    with cycle_collector_paused(), open_project(args) as p:
         rep = p.agreement_report(seed=args.seed, n_boot=args.boot, cache=not args.no_cache)
     if args.json:
         from ..review_report.jsontext import json_text

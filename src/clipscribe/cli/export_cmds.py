@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 
 from ..errors import RecordError
-from .common import Bar, open_project
+from .common import Bar, cycle_collector_paused, open_project
 from .compute_cmds import checked_workers, cluster_options
 
 
@@ -95,10 +95,11 @@ def cmd_export(args: argparse.Namespace) -> int:
         _fingerprints(p, args)
         if args.folds:
             return _export_folds(p, args)
-        plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
-                             frozen=args.frozen, hamming_radius=args.radius, captions=args.captions,
-                             segments=args.segments, labels=args.labels,
-                             min_posterior=args.min_posterior)
+        with cycle_collector_paused():  # the plan: ~1M small objects at 100k clips, no cycles
+            plan = p.plan_export(args.ratios, seed=args.seed, min_agreement=args.min_agreement,
+                                 frozen=args.frozen, hamming_radius=args.radius,
+                                 captions=args.captions, segments=args.segments,
+                                 labels=args.labels, min_posterior=args.min_posterior)
         print("splits: " + _split_counts(plan))
         print_warnings(plan)
         _print_left_out(plan.left_out, media=plan.left_out_media)
@@ -114,11 +115,11 @@ def cmd_export(args: argparse.Namespace) -> int:
 
 
 def _export_folds(p, args: argparse.Namespace) -> int:
-    plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
-                         min_agreement=args.min_agreement, hamming_radius=args.radius,
-                         captions=args.captions,
-                         segments=args.segments, labels=args.labels,
-                         min_posterior=args.min_posterior)
+    with cycle_collector_paused():
+        plans = p.plan_folds(args.folds, seed=args.seed, val_fraction=args.val_fraction,
+                             min_agreement=args.min_agreement, hamming_radius=args.radius,
+                             captions=args.captions, segments=args.segments,
+                             labels=args.labels, min_posterior=args.min_posterior)
     for i, plan in enumerate(plans, start=1):
         print(f"split {i}: " + _split_counts(plan))
         print_warnings(plan, f" (split {i})")

@@ -22,6 +22,7 @@ from sqlalchemy import func, select
 
 from .. import agreement, export, media
 from ..errors import RecordError
+from ..store.columns import plain_rows
 from ..store.models import Annotator, Caption, Clip, Setting
 from .context import Service
 
@@ -134,8 +135,7 @@ class Exporting(Service):
         stmt = (select(Caption.clip_id, Annotator.name, Caption.text, Caption.segment_id)
                 .join(Annotator, Annotator.id == Caption.annotator_id)
                 .order_by(Caption.clip_id, Annotator.name, Caption.position, Caption.id))
-        # through the connection: the ORM session's result handling costs a third more here
-        return self.ctx.read(lambda s: [tuple(r) for r in s.connection().execute(stmt)])
+        return self.ctx.read(lambda s: plain_rows(s, stmt))
 
     def plan_export(self, ratios: Mapping[str, float] | None = None, *, seed: int = 0,
                     min_agreement: float = 0.6, frozen: Mapping[str, str] | str | os.PathLike | None = None,
