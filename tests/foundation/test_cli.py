@@ -160,20 +160,18 @@ def test_the_installed_command_is_the_cli_main(sample_master):
 def test_the_cycle_collector_pause_always_puts_the_collector_back():
     import gc
 
-    import pytest
-
     from clipscribe.cli.common import cycle_collector_paused
-    assert gc.isenabled()
-    with pytest.raises(RuntimeError):
-        with cycle_collector_paused():
-            assert not gc.isenabled()
-            raise RuntimeError("a command failed")
-    assert gc.isenabled()
-    gc.disable()
+    before = gc.isenabled()  # a Qt test before this one leaves it off (ui/gc_guard.py)
     try:
+        gc.enable()
+        with pytest.raises(RuntimeError):
+            with cycle_collector_paused():
+                assert not gc.isenabled()
+                raise RuntimeError("a command failed")
+        assert gc.isenabled()
+        gc.disable()
         with cycle_collector_paused():
             pass
         assert not gc.isenabled()          # left as it was found
     finally:
-        gc.enable()
-
+        (gc.enable if before else gc.disable)()

@@ -200,5 +200,10 @@ def test_the_report_command_runs_with_the_collector_paused(sample, tmp_path, mon
     monkeypatch.setattr(html, "board_data", lambda *a, **k: seen.append(gc.isenabled()) or real(*a, **k))
     from clipscribe.cli import main
     folder, lead = sample
-    assert main(["report", str(folder), str(tmp_path / "r"), "--boot", "50", "--user", lead]) == 0
-    assert seen == [False] and gc.isenabled()
+    before = gc.isenabled()  # a Qt test before this one leaves it off (ui/gc_guard.py)
+    gc.enable()
+    try:
+        assert main(["report", str(folder), str(tmp_path / "r"), "--boot", "50", "--user", lead]) == 0
+        assert seen == [False] and gc.isenabled()
+    finally:
+        (gc.enable if before else gc.disable)()

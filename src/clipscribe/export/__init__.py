@@ -21,7 +21,7 @@ from .policy import (
     decide_label,
 )
 from .splits import SplitResult, assign_folds, assign_splits, normalise_ratios, split_clips
-from .textdup import normalise_caption
+from .textdup import caption_clusters, normalise_caption
 from .writers import remove_stale_partials, write_export
 
 __all__ = [
@@ -30,7 +30,7 @@ __all__ = [
     "decide_inferred", "apply_policy",
     "SplitResult", "assign_splits", "assign_folds", "split_clips", "normalise_ratios",
     "Finding", "LeakageReport", "check_leakage", "near_pairs", "near_pairs_brute",
-    "normalise_caption",
+    "normalise_caption", "caption_clusters",
     "ExportPlan", "Override", "build_plan", "ExportError", "ExportBlocked", "ExportCancelled",
     "write_export", "remove_stale_partials", "ExportRecord", "ExportManifest", "export_schemas",
 ]

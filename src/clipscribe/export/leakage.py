@@ -11,9 +11,10 @@ from __future__ import annotations
 
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
-from typing import Literal, Mapping, Sequence
+from typing import Callable, Literal, Mapping, Sequence
 
 from .checks import name_files
+from .clusters import Clusters
 from .inputs import ClipInput
 from .neardup import as_uint64, near_clusters
 from .policy import caption_texts
@@ -219,7 +220,8 @@ def _clips_of_text(owners: Sequence[str], norms: Sequence[str]) -> _ClipsOfText:
 
 
 def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
-              threshold: float, chosen: Mapping[str, Sequence[str]] | None = None) -> list[Finding]:
+              threshold: float, chosen: Mapping[str, Sequence[str]] | None = None,
+              cluster: Callable[[list[str], float], Clusters] = caption_clusters) -> list[Finding]:
     path = _paths(clips)
     owners: list[str] = []
     raw: list[str] = []
@@ -239,16 +241,17 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                                f"{_where(ids, path, assignment)}", tuple(ids),
                                {"text": t, "splits": counts}, _files(ids, path)))
     if threshold < 1.0:
-        out += _near_captions(sorted(by_text.one), by_text, assignment, path, threshold)
+        out += _near_captions(sorted(by_text.one), by_text, assignment, path, threshold, cluster)
     return out
 
 
 def _near_captions(texts: list[str], by_text: Mapping[str, set[str]],
                    assignment: Mapping[str, str], path: Mapping[str, str],
-                   threshold: float) -> list[Finding]:
+                   threshold: float, cluster: Callable[[list[str], float], Clusters]
+                   ) -> list[Finding]:
     """One warning per cluster of near-identical texts (a connected component of "Jaccard >=
     threshold") whose clips lie in several splits."""
-    clusters = caption_clusters(texts, threshold)
+    clusters = cluster(texts, threshold)
     links = clusters.links_of()
     out = []
     for members in clusters.groups():
@@ -309,7 +312,9 @@ def _unchecked(clips: Sequence[ClipInput]) -> list[Finding]:
 def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
                   require_consent: bool = False, require_licence: bool = False,
                   hamming_radius: int = 8, caption_threshold: float = 0.9,
-                  captions: Mapping[str, Sequence[str]] | None = None) -> LeakageReport:
+                  captions: Mapping[str, Sequence[str]] | None = None,
+                  cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters
+                  ) -> LeakageReport:
     """Look for leakage between splits.
 
     Only clips present in ``assignment`` are checked. Messages name the clips' media files
@@ -337,6 +342,10 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     captions : mapping of clip id to caption texts, optional
         The captions each clip is exported with (the plan's caption policy); by default
         :func:`clipscribe.export.policy.caption_texts`.
+    cluster_captions : callable, optional
+        ``(distinct normalised texts, threshold) -> Clusters``, by default
+        :func:`clipscribe.export.textdup.caption_clusters`; a project passes one that keeps
+        its answer for the same texts (the clusters depend on nothing else).
 
     Returns
     -------
@@ -350,7 +359,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     findings = (_groups(clips, assignment) + _identical_media(clips, assignment)
                 + _near_media(clips, assignment, hamming_radius)
                 + _consent(clips, require_consent, require_licence)
-                + _captions(clips, assignment, caption_threshold, captions) + _unchecked(clips))
+                + _captions(clips, assignment, caption_threshold, captions, cluster_captions)
+                + _unchecked(clips))
     findings.sort(key=lambda f: _KIND_ORDER.index(f.kind))
     recipe = {
         "clips_checked": len(clips),

@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
-from typing import Iterable, Mapping
+from typing import Callable, Iterable, Mapping
 
 from ..errors import ClipscribeError
 from .checks import PlanWarning, few_references, split_balance
+from .clusters import Clusters
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
 from .policy import (
@@ -14,6 +15,7 @@ from .policy import (
 )
 from .segment_choice import SegmentChoice, choose_segments
 from .splits import SplitResult, split_clips
+from .textdup import caption_clusters
 
 
 class ExportError(ClipscribeError, RuntimeError):
@@ -120,7 +122,9 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
                project: str = "untitled", policy: LabelPolicy | None = None, seed: int = 0,
                frozen: Mapping[str, str] | None = None, require_consent: bool = False,
                require_licence: bool = False, hamming_radius: int = 8,
-               caption_threshold: float = 0.9, captions_wanted: int | None = None) -> ExportPlan:
+               caption_threshold: float = 0.9, captions_wanted: int | None = None,
+               cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters
+               ) -> ExportPlan:
     """Decide labels, assign splits to the clips that are kept, and check for leakage.
 
     The label policy runs first (:func:`clipscribe.export.policy.decide_label`); splits are
@@ -140,7 +144,7 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     frozen : mapping of clip id to split, optional
         Usually the ``assignment`` of an earlier manifest. Frozen clips that the policy leaves
         out this time still hold their group's place.
-    require_consent, require_licence, hamming_radius, caption_threshold
+    require_consent, require_licence, hamming_radius, caption_threshold, cluster_captions
         Passed to :func:`clipscribe.export.leakage.check_leakage`.
     captions_wanted : int, optional
         Reference captions per clip the guideline asks for; fewer is a ``few-captions``
@@ -173,7 +177,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     report = check_leakage(kept, split.assignment, require_consent=require_consent,
                            require_licence=require_licence, hamming_radius=hamming_radius,
                            caption_threshold=caption_threshold,
-                           captions={k: tuple(t for t, _ in v.captions) for k, v in chosen.items()})
+                           captions={k: tuple(t for t, _ in v.captions) for k, v in chosen.items()},
+                           cluster_captions=cluster_captions)
     files = {c.clip_id: c.media_path for c in kept}
     warnings = (split_balance(split.assignment, split.ratios, {c.clip_id: c.group for c in kept})
                 + few_references({k: len(v.captions) for k, v in chosen.items()}, captions_wanted,

@@ -25,6 +25,7 @@ from ..errors import RecordError
 from ..store.columns import plain_rows
 from ..store.models import Annotator, Caption, Clip, Setting
 from .context import Service
+from .results import content_key
 
 Progress = Callable[[int, int], None] | None
 ASSIGNMENT_KEY = "export.assignment"
@@ -297,7 +298,22 @@ class Exporting(Service):
         return dict(policy=policy,
                     require_consent=self.ctx.settings.require_consent, hamming_radius=hamming_radius,
                     caption_threshold=caption_threshold,
-                    captions_wanted=self.ctx.settings.caption_guideline.captions_per_clip)
+                    captions_wanted=self.ctx.settings.caption_guideline.captions_per_clip,
+                    cluster_captions=self._cluster_captions)
+
+    def _cluster_captions(self, texts: list[str], threshold: float) -> Any:
+        """:func:`clipscribe.export.caption_clusters` of ``texts``, kept in the result cache
+        under a key made of the texts themselves, the threshold and the export engine's code.
+        The clusters depend on nothing else, so a second plan of the same captions (other
+        ratios, another seed, the folds of a cross-validation) reuses them: at 100k clips they
+        are half of a dry run. Any changed caption changes the key; one entry is kept."""
+        key = content_key("caption-clusters", texts, {"threshold": threshold}, "export")
+        kept = self.peers.results.kept("caption-clusters")
+        if isinstance(kept, tuple) and len(kept) == 2 and kept[0] == key:
+            return kept[1]
+        clusters = export.caption_clusters(texts, threshold)
+        self.peers.results.keep("caption-clusters", (key, clusters))
+        return clusters
 
     def _require_lead(self, what: str) -> None:
         self.peers.team.require_export_right()  # on a server the database decides by the login too

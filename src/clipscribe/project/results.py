@@ -128,7 +128,7 @@ def _key(kind: str, settings: dict[str, Any], stamp: dict[str, list], database: 
     return hashlib.sha256(text.encode()).hexdigest()
 
 
-_CODE: list[str] = []
+_CODE: dict[str, str] = {}
 _LOCKS: dict[str, threading.Lock] = {}
 _LOCKS_GUARD = threading.Lock()
 
@@ -138,15 +138,27 @@ def _entry_lock(path: Path) -> threading.Lock:
         return _LOCKS.setdefault(str(path), threading.Lock())
 
 
-def _code_digest() -> str:
-    """Digest of the agreement engine's source files: new code never reuses old numbers."""
-    if not _CODE:
-        from .. import agreement
+def _code_digest(package: str = "agreement") -> str:
+    """Digest of an engine's source files (``agreement`` or ``export``): new code never
+    reuses old numbers."""
+    if package not in _CODE:
+        import importlib
         h = hashlib.sha256()
-        for f in sorted(Path(agreement.__file__).parent.glob("*.py")):
+        folder = Path(importlib.import_module(f"clipscribe.{package}").__file__).parent
+        for f in sorted(folder.glob("*.py")):
             h.update(f.name.encode() + b"\0" + f.read_bytes())
-        _CODE.append(h.hexdigest())
-    return _CODE[0]
+        _CODE[package] = h.hexdigest()
+    return _CODE[package]
+
+
+def content_key(kind: str, parts: list[str], settings: dict[str, Any], package: str) -> str:
+    """A key made of the inputs themselves (``parts``, e.g. the texts a result is computed
+    from), ``settings`` and the engine's code: an entry under it can never be stale."""
+    h = hashlib.sha256(json.dumps({"kind": kind, "settings": settings,
+                                   "code": _code_digest(package)}, sort_keys=True).encode())
+    h.update("\0".join(parts).encode("utf-8", "surrogatepass"))
+    h.update(str(len(parts)).encode())
+    return h.hexdigest()
 
 
 def _secret() -> bytes:

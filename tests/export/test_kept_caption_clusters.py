@@ -1,0 +1,55 @@
+"""The clusters of near-identical captions are kept in the project's result cache under a key
+made of the texts themselves: a second plan of the same captions reuses them, any changed
+caption computes them again, and the plan is the same either way."""
+
+import shutil
+
+import pytest
+
+from clipscribe import Project, export
+
+
+@pytest.fixture
+def counted(monkeypatch):
+    """The texts each call of the clustering engine was given."""
+    calls = []
+    real = export.caption_clusters
+    monkeypatch.setattr(export, "caption_clusters",
+                        lambda texts, threshold: calls.append(list(texts)) or real(texts, threshold))
+    return calls
+
+
+def _caption_findings(plan):
+    return [(f.kind, f.clips, f.details.get("texts")) for f in plan.leakage.findings
+            if "caption" in f.kind]
+
+
+def test_a_second_plan_of_the_same_captions_reuses_the_clusters(sample_copy, counted):
+    with Project.open(sample_copy) as p:
+        p.plan_export(seed=0)
+        again = p.plan_export(seed=1)                 # other splits, the same captions
+        assert len(counted) == 1
+        shutil.rmtree(sample_copy / ".clipscribe-cache" / "results")
+        fresh = p.plan_export(seed=1)                 # nothing kept: computed again
+        assert len(counted) == 2 and counted[0] == counted[1]
+    assert _caption_findings(again) == _caption_findings(fresh)
+    assert again.assignment == fresh.assignment
+
+
+def test_a_changed_caption_computes_them_again_and_is_seen(sample_copy, counted):
+    with Project.open(sample_copy) as p:
+        p.plan_export()
+        clip = p.clips()[0].id
+        p.add_caption(clip, "annotator-1", "a caption nobody wrote before, about a blue block")
+        p.plan_export()
+    assert len(counted) == 2
+    assert "a caption nobody wrote before about a blue block" in counted[1]
+    assert "a caption nobody wrote before about a blue block" not in counted[0]
+
+
+def test_the_caption_policy_is_part_of_the_key(sample_copy, counted):
+    with Project.open(sample_copy) as p:
+        p.plan_export(captions="gold")
+        p.plan_export(captions="gold+agreeing")       # other texts: computed for them
+        p.plan_export(captions="gold+agreeing")       # the same again: kept
+    assert len(counted) == 2 and counted[0] != counted[1]
