@@ -11,7 +11,8 @@ and the ten most disputed clips), ``agreement_summary`` (``--json --summary``) a
 ``agreement_rows`` (``--json --all-rows``: also every row per clip and per caption, ~100 MB at
 100k clips) are the runs after it, which reuse that part, as ``report`` does. Likewise
 ``export_dry_run_first`` plans with no caption clusters kept (the first plan after the captions
-changed) and ``export_dry_run`` plans again, reusing them. Each row gives
+changed) and ``export_dry_run`` plans again, reusing them; ``report_first`` runs with no work
+columns of the edit history kept (read whole) and ``report`` again (only new edits read). Each row gives
 wall seconds and the process's CPU seconds (user + system). Each command runs in a fresh process; its peak memory is that process's VmHWM (read from
 /proc/self/status at exit, so a parent's peak is never carried over). Projects are built once
 by benchmarks/make_big_project.py into benchmarks/out/ and reused.
@@ -99,6 +100,14 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
         shutil.rmtree(folder / ".clipscribe-cache" / "results", ignore_errors=True)
         return timed(["agreement", str(folder), "--json"])
 
+    def report(first: bool) -> dict:
+        # first: no work columns of the edit history kept (a project whose board and report
+        # were never opened: the whole history is read); then again, reading only new edits
+        if first:
+            for kept in (folder / ".clipscribe-cache" / "results").glob("workevents*"):
+                kept.unlink()
+        return timed(["report", str(folder), str(Path(tmp) / "report")])
+
     def dry_run(first: bool) -> dict:
         # first: no caption clusters kept (the first plan after the captions changed); then
         # the plan again, reusing them, as every later dry run of the same captions does
@@ -116,7 +125,8 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
             "agreement": lambda: timed(["agreement", str(folder), "--json"]),
             "agreement_summary": lambda: timed(["agreement", str(folder), "--json", "--summary"]),
             "agreement_rows": lambda: timed(["agreement", str(folder), "--json", "--all-rows"]),
-            "report": lambda: timed(["report", str(folder), str(Path(tmp) / "report")]),
+            "report_first": lambda: report(first=True),
+            "report": lambda: report(first=False),
             "export_dry_run_first": lambda: dry_run(first=True),
             "export_dry_run": lambda: dry_run(first=False),
         }

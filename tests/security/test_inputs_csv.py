@@ -107,3 +107,19 @@ def test_escape_round_trips(value):
     written = csvsafe.safe_cell(value)
     assert not written.startswith(FORMULA_START)
     assert csvsafe.read_cell(written) == value
+
+
+@pytest.mark.parametrize("column", [
+    ("plain", "text"), ("=1+1", "ok"), ("ok", "-3"), ("'=x", "y"), ("\tz",), ("\r=1",),
+    ("a\0=b", "c"), ("@x", "y"), ("'quoted", "z"), ("", "+"), tuple(HOSTILE),
+])
+def test_a_report_column_is_escaped_as_each_cell_alone(column):
+    """The report's CSV tables escape a whole column at a time (one scan of the joined column
+    decides whether any cell needs a look); each cell must come out as ``safe_cell`` makes it."""
+    from clipscribe.review_report import tables
+    assert list(tables._column(column)) == [csvsafe.safe_cell(v) for v in column]
+    rows = [[v, 1.5] for v in column]
+    text = tables.to_csv((["text", "number"], rows))
+    cells = [r[0] for r in csv.reader(text.splitlines()[1:])] if "\r" not in "".join(column) else None
+    if cells is not None:
+        assert cells == [csvsafe.safe_cell(v) for v in column]
