@@ -123,3 +123,22 @@ def test_a_report_column_is_escaped_as_each_cell_alone(column):
     cells = [r[0] for r in csv.reader(text.splitlines()[1:])] if "\r" not in "".join(column) else None
     if cells is not None:
         assert cells == [csvsafe.safe_cell(v) for v in column]
+
+
+@pytest.mark.parametrize("rows", [
+    [["a", 1, 2.5, None, True], ["b", -3, float("nan"), 0.1, False]],          # nothing to escape
+    [["=a", 1, 2.5, None, True], ["b", -3, 1e300, 0.1, False]],                # one to escape
+    [["a", 1], ["b", 2, "extra"]],                                             # ragged
+    [],
+])
+def test_report_tables_are_each_cell_as_cell_makes_it(rows):
+    """Whichever way a table is written (rows as they are when no cell needs escaping, column
+    by column, or row by row), the text is the csv module's rows of ``_cell`` values."""
+    import io
+
+    from clipscribe.review_report import tables
+    want = io.StringIO()
+    w = csv.writer(want, lineterminator="\n")
+    w.writerow(["h"])
+    w.writerows([[tables._cell(v) for v in r] for r in rows])
+    assert tables.to_csv((["h"], rows)) == want.getvalue()
