@@ -188,10 +188,10 @@ class Video:
             return arr
 
     def warm_cache(self, *, most: int | None = None) -> bool:
-        """Ready a full cache's memory for first steps (see ``SPARE_POOL.top_up``)."""
+        """Ready the memory the cache has yet to fill (see ``SPARE_POOL.top_up``)."""
         shape = (self._size[1], self._size[0], 3)
-        room = min(self.cache.budget, self.frame_count * math.prod(shape))
-        return SPARE_POOL.top_up(shape, room, most=most)
+        room = min(self.cache.budget, self.frame_count * math.prod(shape)) - self.cache.nbytes
+        return SPARE_POOL.top_up(shape, max(room, 0), most=most)
 
     def frames(self, start: int = 0, stop: int | None = None) -> Iterator[np.ndarray]:
         """Yield frames ``start, start+1, ...`` up to ``stop`` (exclusive) or the end, for playback."""
