@@ -168,6 +168,13 @@ class FrameCache:
         arr.flags.writeable = True
         return arr
 
+    def warm(self, shape: tuple[int, ...], frames: int, *, most: int | None = None) -> bool:
+        """Ready in :data:`SPARE_POOL` the memory this cache has yet to fill with frames shaped
+        ``shape`` (of a clip of ``frames`` frames: never more than it holds); ``most`` frames
+        now. True while more remain. A full cache wants nothing more."""
+        room = min(self.budget, frames * math.prod(shape)) - self._nbytes
+        return SPARE_POOL.top_up(shape, max(room, 0), most=most)
+
     def clear(self) -> None:
         """Forget every frame; the ones nobody holds go to :data:`SPARE_POOL`."""
         with self._lock:

@@ -16,8 +16,7 @@ decoding from the keyframe only the pictures the target depends on (see
 decoder so positioned then steps forward as usual.
 
 Stepping backward decodes a run of frames ending at the requested one (as many as the cache
-holds) from the keyframe before it once, and keeps them, so the steps after it are served from
-the cache instead of decoding from the keyframe again for each.
+holds) from the keyframe before it once, and keeps them for the steps after it.
 
 Threading: every method may be called from any thread. One re-entrant lock guards the decoder
 (the ``cv2.VideoCapture`` and the count of frames it has yielded); ``frame()`` holds it while it
@@ -29,7 +28,6 @@ holding that lock.
 
 from __future__ import annotations
 
-import math
 import operator
 import os
 import threading
@@ -41,7 +39,7 @@ import numpy as np
 
 from ._common import check_media_path, open_capture
 from .background_index import BackgroundIndex
-from .cache import DEFAULT_CACHE_BYTES, SPARE_POOL, FrameCache
+from .cache import DEFAULT_CACHE_BYTES, FrameCache
 from .errors import MediaError
 from .index import FrameIndex
 from .read_ahead import ReadAhead
@@ -188,10 +186,8 @@ class Video:
             return arr
 
     def warm_cache(self, *, most: int | None = None) -> bool:
-        """Ready the memory the cache has yet to fill (see ``SPARE_POOL.top_up``)."""
-        shape = (self._size[1], self._size[0], 3)
-        room = min(self.cache.budget, self.frame_count * math.prod(shape)) - self.cache.nbytes
-        return SPARE_POOL.top_up(shape, max(room, 0), most=most)
+        """Ready the memory the cache has yet to fill (see :meth:`FrameCache.warm`)."""
+        return self.cache.warm((self._size[1], self._size[0], 3), self.frame_count, most=most)
 
     def frames(self, start: int = 0, stop: int | None = None) -> Iterator[np.ndarray]:
         """Yield frames ``start, start+1, ...`` up to ``stop`` (exclusive) or the end, for playback."""
