@@ -176,8 +176,8 @@ def test_colliding_keys_fall_back_to_the_leader_cover_and_stay_exact(monkeypatch
 def _star_edges_plain(key, text, size, m):
     """Reference for corekeys._star_edges: every entry sorted and gathered, none dropped first
     (entries grouped by the hashed part of their key; the centre is the group's first entry in
-    argsort order; every other entry within the bound gets an edge from it)."""
-    order = np.argsort(key)
+    listed order; every other entry within the bound gets an edge from it)."""
+    order = np.argsort(key, kind="stable")
     key, text = key[order], text[order]
     dele = (key & np.uint64((1 << corekeys._D_BITS) - 1)).astype(np.int64)
     hashed = key >> np.uint64(corekeys._D_BITS)
@@ -203,6 +203,44 @@ def test_star_edges_equal_the_edges_of_every_entry_sorted(seed):
     want_a, want_b = _star_edges_plain(key, text, size, m)
     assert len(want_a) > 100
     assert a.tolist() == want_a.tolist() and b.tolist() == want_b.tolist()
+
+
+def _star_edges_python(key, text, size, m):
+    """Pure-Python reference: entries ordered by key with ties in listed order (``sorted`` is
+    stable, Python documentation "Sorting Techniques"); each group of one hashed value is led
+    by its first entry; every other entry within the bound gets an edge from it."""
+    bits = corekeys._D_BITS
+    order = sorted(range(len(key)), key=lambda i: int(key[i]))
+    a, b = [], []
+    centre = None
+    for j, i in enumerate(order):
+        if j == 0 or int(key[i]) >> bits != int(key[order[j - 1]]) >> bits:
+            centre = i
+            continue
+        d_c, d_i = int(key[centre]) & ((1 << bits) - 1), int(key[i]) & ((1 << bits) - 1)
+        if d_i <= m[size[text[centre]] - d_c] - d_c:
+            a.append(int(text[centre]))
+            b.append(int(text[i]))
+    return a, b
+
+
+def test_star_edges_break_ties_in_listed_order():
+    # many entries share one key (as at 100k clips, where ~520k entries are tied): the centre
+    # of each key must be the first listed, so the edges do not depend on numpy's sort kernel
+    rng = np.random.default_rng(7)
+    n_sets, n_keys = 50, 3000
+    size = rng.integers(3, 20, n_sets)
+    m = allowance(0.8, 30)
+    hashed = rng.integers(0, 12, n_keys).astype(np.uint64)
+    key = (hashed << np.uint64(corekeys._D_BITS)) | rng.integers(0, 2, n_keys).astype(np.uint64)
+    text = rng.permutation(np.resize(np.arange(n_sets), n_keys))
+    a, b = corekeys._star_edges(key, text, size, m)
+    want_a, want_b = _star_edges_python(key, text, size, m)
+    assert len(want_a) > 1000
+    assert a.tolist() == want_a and b.tolist() == want_b
+    # a different tie order gives different edges, so the check above can fail
+    flip = np.argsort(key, kind="stable")[::-1]
+    assert corekeys._star_edges(key[flip], text[flip], size, m)[0].tolist() != want_a
 
 
 def test_star_edges_of_keys_listed_once_are_none():

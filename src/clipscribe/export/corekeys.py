@@ -194,13 +194,14 @@ def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
     """Edges from each key's centre (fewest deletions) to the sets within its bound.
 
     Most keys are listed once and give no edge: they are dropped right after the sort, before
-    their sets are gathered, which at 100k clips halves the time of this step. The order of
-    the sort is kept as it is (equal keys in argsort's order), so the edges, and the links a
-    report shows, stay the same.
+    their sets are gathered, which at 100k clips halves the time of this step. The sort is
+    stable (equal keys keep the order they were listed in), so which entry is a key's centre,
+    hence the edges and the links a report shows, is the same on every machine whatever sort
+    kernel numpy picks.
     """
     if not len(key):
         return text, text
-    order = np.argsort(key)
+    order = np.argsort(key, kind="stable")
     key = key[order]
     hashed = key >> np.uint64(_D_BITS)
     new = hashed[1:] != hashed[:-1]
