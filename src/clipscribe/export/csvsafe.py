@@ -15,7 +15,8 @@ No Qt, no database.
 from __future__ import annotations
 
 import csv
-from collections.abc import Iterable
+import re
+from collections.abc import Iterable, Sequence
 from typing import IO, Any
 
 #: first characters that make a spreadsheet treat a text cell as a formula
@@ -34,6 +35,21 @@ def safe_cell(value: Any) -> Any:
     if isinstance(value, str) and _formula_like(value):
         return "'" + value
     return value
+
+
+# a cell start (a text's start, or after the NUL the cells of a column are joined with) that
+# safe_cell may change: a formula character or a quote
+_RISKY_START = re.compile("(?:^|\0)[" + re.escape("".join(FORMULA_STARTS) + "'") + "]")
+
+
+def safe_texts(texts: Sequence[str]) -> Sequence[str]:
+    """:func:`safe_cell` of every text of a column: one scan of the joined column decides
+    whether any cell needs a look (most columns have none, and then come back as they are),
+    and only cells that start like a formula or with a quote are looked at."""
+    if _RISKY_START.search("\0".join(texts)) is None:
+        return texts
+    risky = FORMULA_STARTS + ("'",)
+    return [safe_cell(v) if v.startswith(risky) else v for v in texts]
 
 
 def read_cell(text: str) -> str:

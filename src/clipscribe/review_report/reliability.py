@@ -124,9 +124,8 @@ def inferred_table(data: dict) -> tuple[list[str], list[list[Any]]]:
     rows: list[list[Any]] = []
     if inf:
         cats = inf["labels_order"]
-        each = operator.itemgetter(*cats)
-        if len(cats) == 1:
-            each = (lambda get: lambda post: (get(post),))(each)
+        # itemgetter of one key gives the value itself, of several a tuple
+        each = operator.itemgetter(*cats) if len(cats) > 1 else (lambda post: (post[cats[0]],))
         rows = [[it["item"], it["label"], post[it["label"]], *each(post)]
                 for it in inf["items"] for post in (it["posterior"],)]
         return (["clip", "inferred_label", "posterior", *[f"p_{c}" for c in cats]], rows)

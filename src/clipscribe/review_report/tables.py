@@ -7,7 +7,6 @@ from __future__ import annotations
 import csv
 import io
 import operator
-import re
 from typing import Any
 
 from ..export import csvsafe
@@ -151,11 +150,6 @@ def _cell(v: Any) -> Any:
     return csvsafe.safe_cell(str(v))
 
 
-# a cell start (the text's start, or after the NUL the cells are joined with) that
-# csvsafe.safe_cell may change: a formula character or a quote
-_RISKY_START = re.compile("(?:^|\0)[" + re.escape("".join(csvsafe.FORMULA_STARTS) + "'") + "]")
-
-
 def _column(values: tuple) -> Any:
     """One column's cells as :func:`_cell` makes them, a whole column at a time: a column of
     numbers (most cells of the big tables) passes as it is, with no call per cell."""
@@ -164,11 +158,8 @@ def _column(values: tuple) -> Any:
         return values
     if kinds <= {int, float, type(None)}:
         return ["" if v is None else v for v in values]
-    if kinds == {str}:  # only a cell that starts like a formula (or with a quote) is looked at
-        if _RISKY_START.search("\0".join(values)) is None:  # one scan: most columns have none
-            return values
-        safe, risky = csvsafe.safe_cell, csvsafe.FORMULA_STARTS + ("'",)
-        return [safe(v) if v.startswith(risky) else v for v in values]
+    if kinds == {str}:
+        return csvsafe.safe_texts(values)
     return [_cell(v) for v in values]
 
 
