@@ -42,8 +42,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 OUT = ROOT / "benchmarks" / "out"
 
-# runs the CLI in this process, then reports its peak memory on stderr's last line
-RUN = ("import sys\nfrom clipscribe.cli import main\ncode = main(sys.argv[1:])\n"
+# runs the CLI in this process as the installed command does (main() reads sys.argv), then
+# reports its peak memory on stderr's last line
+RUN = ("import sys\nfrom clipscribe.cli import main\ncode = main()\n"
        "peak = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
        "print('VMHWM_KB', peak, file=sys.stderr)\nsys.exit(code)\n")
 

@@ -11,14 +11,20 @@ from __future__ import annotations
 import os
 import sys
 
-from .common import expected, fail
+from .common import expected, fail, skip_final_collection
 from .parser import build_parser
 
 __all__ = ["build_parser", "main"]
 
 
 def main(argv: list[str] | None = None) -> int:
-    argv = sys.argv[1:] if argv is None else list(argv)
+    """Run one command. With no ``argv`` this is the program itself (the installed script,
+    ``python -m clipscribe.cli``): it reads ``sys.argv`` and ends the process without the
+    collector's last walk (:func:`~clipscribe.cli.common.skip_final_collection`)."""
+    if argv is None:
+        argv = sys.argv[1:]
+        skip_final_collection()
+    argv = list(argv)
     if not argv and not sys.stdout.isatty():
         # started with no command and no terminal (a double-click on the app in a file
         # manager): open the window, as the menu entry does; in a terminal, show the usage

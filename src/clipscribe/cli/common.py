@@ -9,6 +9,7 @@ the machine); 2 the command line itself is wrong (argparse's own errors, and
 from __future__ import annotations
 
 import argparse
+import atexit
 import contextlib
 import gc
 import os
@@ -60,6 +61,29 @@ def cycle_collector_paused():
     finally:
         if was:
             gc.enable()
+
+
+_exit_hook = False
+
+
+def skip_final_collection() -> None:
+    """Let the process end without the cyclic collector's last walks over every object left.
+
+    At exit the interpreter clears its modules and runs the collector over all that remains:
+    0.13-0.19 s after merely importing the project code (measured here, against 0.01 s with
+    this hook), more after a command that built a large result, and often more than the
+    command's own work for ``stats``. ``gc.freeze()`` at exit moves what is left into the
+    permanent generation, which the collector never walks. Everything is still freed by
+    reference counting or by the operating system. Python never promised ``__del__`` for
+    objects alive at exit (the language reference, "Data model", ``object.__del__``), and
+    nothing here needs it: the project is closed by its ``with`` block, files are closed by
+    theirs, and the standard streams are flushed by the interpreter itself after this.
+    Registered once per process, by the command only, so a test calling :func:`main` keeps
+    its collector."""
+    global _exit_hook
+    if not _exit_hook:
+        atexit.register(gc.freeze)
+        _exit_hook = True
 
 
 def open_project(args: argparse.Namespace):
