@@ -71,12 +71,23 @@ def _page_count_and_size(path):
         con.close()
 
 
-def _damage_middle(path):
-    """Overwrite one b-tree page in the middle of the file with garbage (a bad sector)."""
+def _damage_middle(path, table=None):
+    """Overwrite one b-tree page in the middle of the file with garbage (a bad sector); with
+    ``table``, the middle one of the pages that hold that table's rows."""
     pages, size = _page_count_and_size(path)
     assert pages >= 6
+    page = pages // 2 + 1  # pages are numbered from 1
+    if table is not None:
+        con = sqlite3.connect(path)
+        try:  # the table's b-tree, walked from its root by the dbstat table
+            held = [r[0] for r in con.execute("SELECT pageno FROM dbstat WHERE name = ? "
+                                              "ORDER BY pageno", (table,))]
+        finally:
+            con.close()
+        assert len(held) >= 3, held
+        page = held[len(held) // 2]
     with open(path, "r+b") as f:
-        f.seek((pages // 2) * size)
+        f.seek((page - 1) * size)
         f.write(b"\x0d\xff\xff\xff" + os.urandom(size - 4))
 
 
@@ -94,7 +105,7 @@ def test_damage_in_the_middle_is_found_and_no_write_goes_in(proj, capsys):
 
 
 def test_reading_a_damaged_file_says_so_in_one_line(proj, capsys):
-    _damage_middle(proj / DB)
+    _damage_middle(proj / DB, table="captions")
     rc, err = _cli(capsys, "dump", str(proj), str(proj.parent / "all.jsonl"))  # reads every caption
     assert rc == 1 and "damaged" in one_error_line(err) and ".recover" in err
     assert not (proj.parent / "all.jsonl").exists() and not (proj.parent / "all.jsonl.tmp").exists()

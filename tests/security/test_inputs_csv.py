@@ -9,6 +9,8 @@ import json
 import re
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from clipscribe import Project
 from clipscribe.export import csvsafe
@@ -142,3 +144,27 @@ def test_report_tables_are_each_cell_as_cell_makes_it(rows):
     w.writerow(["h"])
     w.writerows([[tables._cell(v) for v in r] for r in rows])
     assert tables.to_csv((["h"], rows)) == want.getvalue()
+
+
+_cell_values = st.one_of(
+    st.none(), st.booleans(), st.integers(-10**20, 10**20),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.text(alphabet=st.sampled_from(list('ab =+-@\'",;\n\r\t\0é☃ ')), max_size=8),
+    st.text(max_size=6))
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.integers(1, 5).flatmap(lambda width: st.lists(
+    st.lists(_cell_values, min_size=width, max_size=width), max_size=12)))
+def test_report_tables_written_by_column_are_what_the_csv_module_writes(rows):
+    """Tables of one width are joined column by column by the report's own code; the text
+    must be exactly the csv module's (minimal quoting, "\\n" line ends) rows of ``_cell``
+    values: quotes doubled, commas, quotes and line breaks quoted, numbers as repr."""
+    import io
+
+    from clipscribe.review_report import tables
+    want = io.StringIO()
+    w = csv.writer(want, lineterminator="\n")
+    w.writerow(["h", "i"])
+    w.writerows([[tables._cell(v) for v in r] for r in rows])
+    assert tables.to_csv((["h", "i"], rows)) == want.getvalue()

@@ -163,19 +163,52 @@ def _column(values: tuple) -> Any:
     return [_cell(v) for v in values]
 
 
+def _quoted_by_csv() -> tuple[str, ...]:
+    """The characters that make the csv module (minimal quoting, "\n" line ends) quote a
+    text cell, asked of the module itself: "\r" is among them only in some Python versions."""
+    def written(c: str) -> str:
+        buf = io.StringIO()
+        csv.writer(buf, lineterminator="\n").writerow(["a" + c, "b"])
+        return buf.getvalue()
+    return tuple(c for c in (",", '"', "\n", "\r") if written(c).startswith('"'))
+
+
+_QUOTED = _quoted_by_csv()
+
+
+def _csv_cells(values: tuple) -> list[str] | Any:
+    """A column as the csv module writes its :func:`_column` cells (minimal quoting): numbers
+    as their repr, text as it is unless it holds a comma, a quote or a line break, then in
+    quotes with its quotes doubled. Whether a column needs any quoting at all is one look at
+    the joined column (a rare character is found at memory speed)."""
+    if set(map(type, values)) <= {int, float}:
+        return list(map(repr, values))  # a number's repr never needs quoting
+    out = [c if type(c) is str else repr(c) for c in _column(values)]
+    joined = "\0".join(out)
+    if not any(q in joined for q in _QUOTED):
+        return out
+    return ['"' + c.replace('"', '""') + '"' if any(q in c for q in _QUOTED) else c
+            for c in out]
+
+
 def to_csv(table: Table) -> str:
-    """The table as CSV text, every cell as :func:`_cell` makes it. Rows of one width are
-    handled column by column and handed to the csv module in one call (a 100k-clip report
-    has tables of 200k rows)."""
+    """The table as CSV text, every cell as :func:`_cell` makes it, exactly as the csv module
+    writes it. Rows of one width (two or more cells) are made column by column and joined
+    here: the csv module looks at every character of every cell from Python's side of its C
+    loop, 0.8 s for the 233k flagged captions of a 100k-clip report, against 0.25 s for a
+    column at a time. Tests compare both ways on generated tables."""
     header, rows = table
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow([_cell(h) for h in header])
     widths = set(map(len, rows))
-    if len(widths) == 1:
-        # columns taken one at a time (zip(*rows) would unpack 200k rows as arguments)
-        w.writerows(zip(*[_column(tuple(map(operator.itemgetter(k), rows)))
-                          for k in range(widths.pop())]))
-    else:  # rows of different widths (or none): row by row
+    if len(widths) == 1 and (width := widths.pop()) > 1:
+        # columns taken one at a time (zip(*rows) would unpack 200k rows as arguments); a
+        # row of one empty cell is written '""' by the csv module, hence width > 1 only
+        columns = [_csv_cells(tuple(map(operator.itemgetter(k), rows)))
+                   for k in range(width)]
+        buf.write("\n".join(map(",".join, zip(*columns))))
+        buf.write("\n")
+    else:  # rows of different widths, of one cell, or none: row by row
         w.writerows([_cell(v) for v in r] for r in rows)
     return buf.getvalue()

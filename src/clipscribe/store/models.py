@@ -128,7 +128,8 @@ class Assignment(Base):
     id: Mapped[intpk]
     clip_id: Mapped[clip_fk]
     annotator_id: Mapped[annotator_fk]
-    state: Mapped[str] = mapped_column(String(20), default="open")
+    # indexed: the few skipped or unsure rows are read on their own (migration 0011)
+    state: Mapped[str] = mapped_column(String(20), default="open", index=True)
     reason: Mapped[Optional[str]] = mapped_column(Text)
     assigned_at: Mapped[when]
     expires_at: Mapped[Optional[dt.datetime]] = mapped_column(DateTime(timezone=True))

@@ -40,6 +40,9 @@ def recovery_advice(path: Path) -> str:
 
 
 def damaged(path: Path, detail: str) -> ProjectError:
+    # SQLite's own report may span lines ("*** in database main ***" then "Page 33: ..."):
+    # an error is one line
+    detail = " ".join(detail.split())
     return ProjectError(f"{path}: the project database is damaged ({detail}); nothing was "
                         f"changed. To go on, {recovery_advice(path)}")
 
