@@ -300,3 +300,21 @@ def test_no_single_key_command_fires_while_typing_in_any_text_field(qtbot, sampl
         assert fired == [], (field.objectName(), fired)
         assert len(field.text()) == len(before) + len(single)    # every key became text
     w.clip_panel.hide_skip_prompt()
+
+
+def test_a_caption_set_before_its_field_narrows_is_shown_whole(qtbot):
+    # at start-up the first clip's captions are set while the panel is still wide; when the
+    # layout narrows the field, the text wraps onto more lines and the field must grow with it
+    from clipscribe.ui.workbench.caption_edit import CaptionEdit
+    edit = CaptionEdit()
+    qtbot.addWidget(edit)
+    edit.resize(2000, edit.height())
+    edit.show()
+    qtbot.waitExposed(edit)
+    edit.setText("the robot arm lowers the red block onto the bench slowly next to the blue "
+                 "block under the lamp")
+    one_line = edit.height()
+    edit.resize(260, one_line)
+    qtbot.waitUntil(lambda: edit.height() >= one_line + edit.fontMetrics().lineSpacing(),
+                    timeout=2000)
+    assert not edit.verticalScrollBar().isVisible()

@@ -82,6 +82,14 @@ class CaptionEdit(QPlainTextEdit):
         doc_margin = int(self.document().documentMargin())
         self.setFixedHeight(lines * fm.lineSpacing() + 2 * doc_margin + m.top() + m.bottom() + 2)
 
+    def resizeEvent(self, e) -> None:  # noqa: N802
+        # a caption set before the panel had its final width was wrapped for the width it had
+        # then; at the new width it may take more lines (seen at start-up: the first clip's
+        # caption cut after one line), so the height follows the width
+        super().resizeEvent(e)
+        if e.size().width() != e.oldSize().width():
+            self._fit()
+
     def sizeHint(self) -> QSize:  # noqa: N802
         return QSize(200, self.height())
 
