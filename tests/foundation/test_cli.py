@@ -177,33 +177,33 @@ def test_the_cycle_collector_pause_always_puts_the_collector_back():
         (gc.enable if before else gc.disable)()
 
 
+def _stats_then_exit_hooks(folder, call: str) -> tuple[dict, bool]:
+    """Run ``stats`` in a fresh interpreter by ``call``; its JSON, and whether what was left
+    at exit was frozen. The checker is registered before the command, so it runs after the
+    command's own exit hook (atexit runs last-in first-out)."""
+    code = ("import atexit, gc, sys\n"
+            "atexit.register(lambda: print('FROZEN', gc.get_freeze_count() > 0))\n"
+            "from clipscribe.cli import main\n"
+            f"sys.exit({call})\n")
+    r = subprocess.run([sys.executable, "-c", code, "stats", str(folder), "--json"],
+                       capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stderr
+    out, frozen = r.stdout.rsplit("FROZEN", 1)
+    return json.loads(out), frozen.strip() == "True"
+
+
 def test_the_command_ends_without_the_collectors_last_walk_and_leaves_the_project_closed(
         sample_master, tmp_path):
-    # run as the program (main() reads sys.argv): at exit what is left is frozen, so the
-    # interpreter's final collections skip it; a checker registered before the command runs
-    # after the command's own exit hook (atexit runs last-in first-out)
     import shutil
     folder = tmp_path / "p"
     shutil.copytree(sample_master, folder)
-    code = ("import atexit, gc, sys\n"
-            "atexit.register(lambda: print('frozen', gc.get_freeze_count() > 0))\n"
-            "from clipscribe.cli import main\n"
-            "sys.argv = ['clipscribe', 'stats', sys.argv[1], '--json']\n"
-            "code = main()\nprint('first-line')\nsys.exit(code)\n")
-    r = subprocess.run([sys.executable, "-c", code, str(folder)], capture_output=True,
-                       text=True, timeout=120)
-    assert r.returncode == 0, r.stderr
-    assert r.stdout.splitlines()[-1] == "frozen True"
-    assert json.loads(r.stdout.split("first-line")[0])["clips"] == 12
+    # run as the program (main() reads sys.argv): what is left at exit is frozen, so the
+    # interpreter's final collections skip it
+    out, frozen = _stats_then_exit_hooks(folder, "main()")
+    assert out["clips"] == 12 and frozen
     # the database was closed by the command, not left to the collector: no write-ahead log
     # or lock file of an open SQLite connection remains
     assert sorted(p.name for p in folder.glob("project.sqlite*")) == ["project.sqlite"]
     # a library call (argv given, as tests and scripts do) keeps the process's collector
-    code = ("import atexit, gc, sys\n"
-            "atexit.register(lambda: print('frozen', gc.get_freeze_count() > 0))\n"
-            "from clipscribe.cli import main\n"
-            "sys.exit(main(['stats', sys.argv[1], '--json']))\n")
-    r = subprocess.run([sys.executable, "-c", code, str(folder)], capture_output=True,
-                       text=True, timeout=120)
-    assert r.returncode == 0, r.stderr
-    assert r.stdout.splitlines()[-1] == "frozen False"
+    out, frozen = _stats_then_exit_hooks(folder, "main(sys.argv[1:])")
+    assert out["clips"] == 12 and not frozen
