@@ -184,7 +184,9 @@ def _load(path: Path) -> Any | None:
         data = path.read_bytes()
     except OSError:
         return None
-    mac, body = data[:_MAC], data[_MAC:]
+    # a view, not a copy: the caption part of a 100k-clip project is 139 MB, and copying it
+    # costs fresh pages (0.05-0.5 s on the development machine)
+    mac, body = data[:_MAC], memoryview(data)[_MAC:]
     if len(mac) < _MAC or not hmac.compare_digest(mac, hmac.new(_secret(), body, "sha256").digest()):
         return None  # not signed by this user: never unpickled
     try:
