@@ -14,8 +14,13 @@ WAIT = 20000
 
 
 @pytest.fixture
-def held_report(monkeypatch):
-    """Project.agreement_report waits for the returned event (on whatever thread calls it)."""
+def held_report(monkeypatch, sample):
+    """Project.agreement_report waits for the returned event (on whatever thread calls it).
+    The sample's caption part is kept first, so the board asks for one report (with the
+    captions changed it shows a label-only report first: see the test of that case)."""
+    folder, lead = sample
+    with Project.open(folder, user=lead) as p:
+        p.agreement_report()
     gate, calls = threading.Event(), []
     real = Project.agreement_report
 
@@ -213,3 +218,29 @@ def test_switching_to_the_desk_lets_it_rank_at_once(qtbot, open_window, sample, 
     qtbot.waitUntil(lambda: len(calls) == 2, timeout=WAIT)        # the board is still held
     assert page.board.data is None
     gate.set()
+
+
+def test_with_the_captions_changed_the_board_shows_the_label_numbers_first(
+        qtbot, open_window, sample, tmp_path, monkeypatch):
+    """The caption part is not kept (a fresh project, or the captions changed): it takes
+    about a minute at 100k clips, so the label numbers are drawn from a report without
+    captions while it is computed, and the caption panels say what they wait for."""
+    from clipscribe.project import analysis
+    gate, real = threading.Event(), analysis.caption_part
+
+    def held(*a, **kw):
+        gate.wait(timeout=15)
+        return real(*a, **kw)
+    monkeypatch.setattr(analysis, "caption_part", held)
+    w, p = _open(qtbot, open_window, sample, tmp_path, "board")
+    assert not p.caption_part_kept()
+    board = w.review_desk.board
+    qtbot.waitUntil(lambda: _drawn(board, "label_alpha"), timeout=WAIT)
+    assert board.data is None and _drawn(board, "pairwise") and _drawn(board, "confusion")
+    waiting = [t.text for t in board.figs["caption_bleu"].fig.items if type(t).__name__ == "Text"]
+    assert any("captions changed" in t for t in waiting)
+    assert "computing caption consensus" in board.summary.text()
+    with qtbot.waitSignal(board.loaded, timeout=WAIT):
+        gate.set()
+    assert _drawn(board, "caption_bleu") and "Krippendorff alpha" in board.summary.text()
+    assert p.caption_part_kept()

@@ -241,3 +241,19 @@ def test_two_reports_at_once_compute_the_caption_part_once(project, monkeypatch)
         t.join(120)
     assert len(calls) == 1 and len(results) == 2
     same(numbers(results[0]), numbers(results[1]))
+
+
+def test_the_board_shows_labels_first_only_while_the_caption_part_is_not_kept(project):
+    from clipscribe.review_report.board import board_parts
+    assert not project.caption_part_kept()
+    parts = {k: dict(d) for k, d in board_parts(project, n_boot=BOOT)}  # (one dict, filled in)
+    assert list(parts) == ["meta", "throughput", "trend", "labels", "agreement"]
+    early, whole = parts["labels"]["agreement"], parts["agreement"]["agreement"]
+    assert early["captions"] is None and "captions" in early["not_measured"]
+    same(early["labels"], whole["labels"])          # the label numbers shown first are final
+    assert project.caption_part_kept()
+    assert [k for k, _ in board_parts(project, n_boot=BOOT)] == ["meta", "throughput", "trend",
+                                                                 "agreement"]
+    clip, who, _text = project.captions()[0]
+    project.add_caption(clip, who, "one more caption of this clip by the same person")
+    assert not project.caption_part_kept()

@@ -43,6 +43,11 @@ class Analysis(Service):
                 f"up to edit {covers['edit']}, computed {covers['computed_at']}")
         return dataclasses.replace(rep, recipe=rep.recipe.replace(note=note))
 
+    def caption_part_kept(self, seed: int = 0) -> bool:
+        """Whether :meth:`agreement_report` (with this ``seed``) would find its caption part
+        kept, at a quick look: a screen can show the label numbers first when it will not."""
+        return self.peers.results.has("captions", _caption_settings(seed))
+
     def _caption_part(self, leads: set[str], captions: bool, seed: int, cache: bool
                       ) -> tuple[CaptionPart, dict | None]:
         """The caption part of the report, and what the cache entry covers when it came from
@@ -52,8 +57,7 @@ class Analysis(Service):
             return caption_part(rows, seed=seed, overlap_clips=OVERLAP_CLIPS)
         if not (captions and cache):
             return compute(), None
-        return self.peers.results.cached("captions", {"seed": seed, "overlap_clips": OVERLAP_CLIPS},
-                                         compute)
+        return self.peers.results.cached("captions", _caption_settings(seed), compute)
 
     def _clip_frames(self) -> tuple[dict[int, float], dict[int, int]]:
         """{clip: fps} and {clip: frame count} of every clip, read as two plain columns."""
@@ -82,3 +86,8 @@ class Analysis(Service):
                          if g.annotator not in leads],
             "captions": [r for r in self.peers.annotation.captions() if r[1] not in leads],
         }
+
+
+def _caption_settings(seed: int) -> dict[str, Any]:
+    """What the kept caption part depends on besides the captions (its result-cache settings)."""
+    return {"seed": seed, "overlap_clips": OVERLAP_CLIPS}

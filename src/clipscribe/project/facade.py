@@ -902,6 +902,12 @@ class Project:
         return self._analysis.agreement_report(captions=captions, segments=segments, seed=seed, n_boot=n_boot,
                                                truth_model=truth_model, cache=cache)
 
+    def caption_part_kept(self, seed: int = 0) -> bool:
+        """Whether :meth:`agreement_report` with this ``seed`` would reuse a kept caption part
+        (a quick look; a screen shows the label numbers first when it would not: computing
+        the caption part takes about a minute at 100k clips)."""
+        return self._analysis.caption_part_kept(seed)
+
     def agreement_inputs(self) -> dict[str, Any]:
         """The rows the report is computed from (for scripts that call the engine directly)."""
         return self._analysis.agreement_inputs()

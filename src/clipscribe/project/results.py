@@ -60,8 +60,7 @@ class Results(Service):
         came from the cache, what the entry covers (None when computed now)."""
         tables, entities = DEPENDS[kind]
         stamp, newest = self.ctx.read(lambda s: (_stamp(s, tables), _newest_edit(s)))
-        key = _key(kind, settings, stamp, self._database())
-        path = self._folder() / f"{kind}-{key[:32]}.pickle"
+        key, path = self._entry(kind, settings, stamp)
         # one computation per entry in this process: the review desk and the board ask for the
         # same part at once; the second waits and reads what the first kept
         with _entry_lock(path):
@@ -78,6 +77,18 @@ class Results(Service):
                       "computed_at": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())}
             _store(path, (covers, value))
         return value, None
+
+    def has(self, kind: str, settings: dict[str, Any]) -> bool:
+        """Whether an entry for ``kind`` with ``settings`` is kept for the current rows: a quick
+        look (the rows' stamp and the file), for a screen deciding what to show first.
+        :meth:`cached` still checks the edit log and the signature before it serves one."""
+        tables, _ = DEPENDS[kind]
+        return self._entry(kind, settings, self.ctx.read(lambda s: _stamp(s, tables)))[1].exists()
+
+    def _entry(self, kind: str, settings: dict[str, Any], stamp: dict[str, list]
+               ) -> tuple[str, Path]:
+        key = _key(kind, settings, stamp, self._database())
+        return key, self._folder() / f"{kind}-{key[:32]}.pickle"
 
     def kept(self, name: str) -> Any | None:
         """What :meth:`keep` last kept under ``name`` for this database, or None. The caller

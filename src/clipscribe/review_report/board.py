@@ -34,20 +34,23 @@ def board_data(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None
     """
     data: dict = {}
     for _part, data in board_parts(project, seed=seed, n_boot=n_boot, report=report,
-                                   items=items):
+                                   items=items, labels_first=False):
         pass
     return data
 
 
-#: the parts of :func:`board_parts`, cheapest first
-BOARD_PARTS = ("meta", "throughput", "trend", "agreement")
+#: the parts of :func:`board_parts`, cheapest first ("labels" only when the caption part of
+#: the report is not kept and must be computed)
+BOARD_PARTS = ("meta", "throughput", "trend", "labels", "agreement")
 
 
 def board_parts(project, *, seed: int = 0, n_boot: int = 1000, report: Any = None,
-                items: bool = True) -> Iterator[tuple[str, dict]]:
+                items: bool = True, labels_first: bool = True) -> Iterator[tuple[str, dict]]:
     """:func:`board_data` part by part, cheapest first (:data:`BOARD_PARTS`): yields
     ``(part, the dict so far)`` after each, so a screen can draw what is there while the
-    agreement report is still being computed. The last dict is :func:`board_data`'s."""
+    agreement report is still being computed. The last dict is :func:`board_data`'s. The
+    "labels" part (its ``agreement`` leaves captions out) comes only with ``labels_first``
+    and when the caption part is to be computed (it costs a second label report)."""
     lead = project.check_reviewer()
     workers = {a.name for a in project.annotators() if a.role != "lead"}
     flags = sorted([(c, a, "skipped", why) for c, a, why in project.skips()]
@@ -75,6 +78,13 @@ def board_parts(project, *, seed: int = 0, n_boot: int = 1000, report: Any = Non
                       "recipe": t.recipe.to_dict()}
                      for t in project.agreement_trend()]
     yield "trend", data
+    if labels_first and report is None and not project.caption_part_kept(seed=seed):
+        # the captions changed since their part was kept: it takes a while (about a minute
+        # at 100k clips), so the label and segment numbers come first, from a report that
+        # leaves captions out, and then the whole report
+        early = project.agreement_report(seed=seed, n_boot=n_boot, captions=False)
+        data["agreement"] = early.to_dict(items=items)
+        yield "labels", data
     rep = report if report is not None else project.agreement_report(seed=seed, n_boot=n_boot)
     queue = project.review_queue(report=rep, limit=QUEUE_TOP)
     data["agreement"] = rep.to_dict(items=items)

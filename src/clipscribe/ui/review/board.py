@@ -45,6 +45,8 @@ WAITING = {"label_alpha": "Label agreement", "pairwise": "Pairwise Cohen kappa",
            "caption_rouge_l": "Caption consensus: leave-one-out ROUGE-L",
            "caption_chrf": "Caption consensus: leave-one-out chrF"}
 WAITING_NOTE = "Waiting for the numbers…"
+CAPTIONS_NOTE = ("Computing: the captions changed since these numbers were kept, so they are "
+                 "worked out again (the label numbers come first)…")
 
 
 class FocusFigure(FigureView):
@@ -216,6 +218,17 @@ class AgreementBoard(QWidget):
             self.figs["throughput"].set_figure(throughput_figure(data))
         elif part == "trend" and data["trend"]:  # else it says why, once agreement is known
             self.figs["trend"].set_figure(trend_figure(data))
+        elif part == "labels":  # label and segment numbers; the caption ones are on the way
+            figs = board_figures(data)
+            for name, view in self.figs.items():
+                if name.startswith("caption_"):
+                    view.set_figure(note_figure(WAITING[name], CAPTIONS_NOTE, width=300))
+                elif name in figs:
+                    view.set_figure(figs[name])
+            self.figs["confusion"].set_figure(confusion_figure(data, 0))
+            m = data["meta"]
+            self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · label numbers "
+                                 "shown · computing caption consensus…")
         self.fit_figures()
         self.partial.emit(part)
 
