@@ -190,3 +190,21 @@ def test_shingle_table_equals_the_table_built_by_hand(seed):
     text, sid = _shingle_table(texts)
     want_text, want_sid = _shingle_table_by_hand(texts)
     assert text.tolist() == want_text and sid.tolist() == want_sid
+
+
+@pytest.mark.parametrize("code_bits,block", [(63, 1 << 20), (63, 7), (8, 5)])
+def test_shingle_table_built_by_blocks_or_by_the_wide_paths_equals_the_one_by_hand(
+        monkeypatch, code_bits, block):
+    # blocks of a few words, and codes too narrow for three ids (or for the table's key), give
+    # the same table: the blockwise loops and the wide fallbacks are exact
+    from clipscribe.export import ranks, textdup
+    monkeypatch.setattr(textdup, "_CODE_BITS", code_bits)
+    monkeypatch.setattr(textdup, "BLOCK", block)
+    monkeypatch.setattr(ranks, "BLOCK", block)
+    rng = random.Random(code_bits + block)
+    vocab = ["a", "b", "red", "cube", "é", "日本", "x" * 20, "take", "7"]
+    texts = sorted({" ".join(rng.choice(vocab) for _ in range(rng.choice([1, 1, 2, 3, 4, 8])))
+                    for _ in range(120)} | {""})
+    text, sid = textdup._shingle_table(texts)
+    want_text, want_sid = _shingle_table_by_hand(texts)
+    assert text.tolist() == want_text and sid.tolist() == want_sid

@@ -247,3 +247,19 @@ def test_star_edges_of_keys_listed_once_are_none():
     key = np.arange(10, dtype=np.uint64) << np.uint64(corekeys._D_BITS)
     a, b = corekeys._star_edges(key, np.arange(10), np.full(10, 5), allowance(0.9, 10))
     assert len(a) == len(b) == 0
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_shared_entries_are_the_values_listed_more_than_once(seed):
+    # reference: collections.Counter over the values; many values agree in their low bits
+    # (the bit table's index), so the table passes entries the binary search must reject
+    from collections import Counter
+    rng = np.random.default_rng(seed)
+    low = rng.integers(0, 64, 5000).astype(np.uint64)
+    high = rng.integers(0, 800, 5000).astype(np.uint64) << np.uint64(40)
+    values = high | low
+    count = Counter(values.tolist())
+    want = [i for i, v in enumerate(values.tolist()) if count[v] > 1]
+    got = corekeys._shared_entries(values)
+    assert 100 < len(want) < 4000 and got.tolist() == want
+    assert corekeys._shared_entries(np.arange(5, dtype=np.uint64)).tolist() == []

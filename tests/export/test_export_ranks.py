@@ -47,3 +47,55 @@ def test_dense_ids_of_nothing_and_of_one_value():
 
 def test_text_lengths_count_words_at_single_spaces():
     assert ranks.text_lengths(["a", "a b", "", "red cube on the bench"]).tolist() == [1, 2, 1, 5]
+
+
+def _numbered_by_hand(texts):
+    want: dict[str, int] = {}
+    for t in texts:
+        for w in t.split(" "):
+            want.setdefault(w, len(want))
+    return [want[w] for t in texts for w in t.split(" ")], len(want)
+
+
+# words the packed form must tell apart: 8 and 16 bytes exactly, one byte more, a NUL inside
+# (zero padding must not hide it), multi-byte UTF-8, a lone surrogate, empty words
+TRICKY = ["", " ", "a  b", "ab", "ab\x00", "ab\x00 ab", "é e\u0301 É", "日本語 テキスト 日本",
+          "x" * 8, "x" * 9, "x" * 16, "x" * 17, "x" * 16 + "y", "x" * 17 + " " + "x" * 16 + "z",
+          "\ud800 a", "take 10469 take 1046", "a" * 300 + " " + "a" * 301]
+
+
+@pytest.mark.parametrize("chunk", [1, 2, 1 << 15])
+def test_word_ids_of_tricky_words_equal_numbering_by_hand(monkeypatch, chunk):
+    monkeypatch.setattr(ranks, "_WORD_CHUNK", chunk)
+    for texts in (TRICKY, TRICKY[::-1], TRICKY * 3):
+        want, n = _numbered_by_hand(texts)
+        ids, got_n = ranks.word_ids(texts)
+        assert got_n == n and ids.tolist() == want
+        assert ranks.word_ids_plain(texts)[0].tolist() == want
+
+
+def test_word_ids_hand_a_hash_collision_to_the_plain_numbering(monkeypatch):
+    # every word hashed alike: the check on the packed bytes sees different words under one
+    # hash, and the plain numbering answers (with the same ids)
+    monkeypatch.setattr(ranks, "_MIX", (0, 0, 0))
+    calls = []
+    plain = ranks.word_ids_plain
+    monkeypatch.setattr(ranks, "word_ids_plain", lambda *a: calls.append(a) or plain(*a))
+    ids, n = ranks.word_ids(TRICKY)
+    assert calls and (ids.tolist(), n) == _numbered_by_hand(TRICKY)
+
+
+def test_word_ids_pads_follow_the_ids():
+    ids, n = ranks.word_ids(["red cube", "cube"], pads=2)
+    assert n == 2 and ids.tolist() == [0, 1, 1, 2, 2]
+    assert ranks.word_ids([], pads=2)[0].tolist() == [0, 0]  # no word: the pad is id 0
+
+
+@pytest.mark.parametrize("block", [1, 7, 1 << 20])
+def test_dense_ids_by_blocks_and_in_place_equal_numpy_unique(monkeypatch, block):
+    monkeypatch.setattr(ranks, "BLOCK", block)
+    values = np.random.default_rng(block).integers(0, 50, 300, dtype=np.int64)
+    want = np.unique(values, return_inverse=True)[1].ravel().tolist()
+    assert ranks.dense_ids(values).tolist() == want
+    same = values.copy()
+    assert ranks.dense_ids(same, out=same) is same and same.tolist() == want

@@ -26,7 +26,7 @@ import numpy as np
 
 from .clusters import Clusters, cover_components, union
 from .corekeys import core_join, key_counts
-from .ranks import dense_ids, text_lengths, word_ids
+from .ranks import BLOCK, dense_ids, distinct_sorted, text_lengths, word_ids
 
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
@@ -35,6 +35,7 @@ _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
 _BATCH_SEP = "\x00"
 _ASCII_NON_WORD_BATCH = {c: v for c, v in _ASCII_NON_WORD.items() if c != ord(_BATCH_SEP)}
 _SPACE_RUNS = re.compile(" {2,}")
+_CODE_BITS = 63  # bits of a non-negative int64: several ids packed into one sort key
 # How caption_clusters joins texts. A text lists keys when _KEY_PRICE keys cost no more than
 # the candidates its query would examine; the others are asked. The leader cover is used
 # instead when a sample of queries says it would examine fewer candidates: its query of one
@@ -87,63 +88,70 @@ def jaccard(a: frozenset, b: frozenset) -> float:
     return inter / (len(a) + len(b) - inter)
 
 
-def _distinct_sorted(values: np.ndarray) -> np.ndarray:
-    sv = np.sort(values)
-    return sv[np.r_[True, sv[1:] != sv[:-1]]] if len(sv) else sv
-
-
 def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
     """Distinct (text index, shingle id) entries sorted by text, then shingle frequency, then id.
 
     Shingles as in :func:`shingles`; the frequency order puts each text's rarest shingles first
     (any fixed global order keeps the prefix filter exact; rare-first keeps candidates few).
+    Built a block at a time into arrays made once: at 100k clips the first touch of fresh
+    memory costs as much as the arithmetic on it.
     """
-    words, n_words = word_ids(texts)
-    base = n_words + 1  # id n_words pads texts shorter than three words
-    # word ids, then two pads so that the two words after any word can be read as slices
-    w = np.r_[words, base - 1, base - 1]
-    del words
     lengths = text_lengths(texts)
-    ends = np.cumsum(lengths)
     n_sh = np.maximum(lengths - 2, 1)
-    text_of = np.repeat(np.arange(len(texts)), n_sh)
-    # a shingle starts at every word but the last two of its text; a text shorter than three
-    # words has one shingle, at its first word, padded
+    sid = _shingle_ids(texts, lengths, n_sh)
+    df = np.bincount(sid)
+    s_bits, d_bits = int(sid.max()).bit_length(), int(df.max()).bit_length()
+    text_of = np.repeat(np.arange(len(texts), dtype=np.int32 if len(texts) < 2**31 else np.int64), n_sh)
+    if (len(texts) - 1).bit_length() + d_bits + s_bits > _CODE_BITS:
+        order = np.lexsort((sid, df[sid], text_of))
+        text_of, sid = text_of[order].astype(np.int64), sid[order]
+        keep = np.r_[True, (text_of[1:] != text_of[:-1]) | (sid[1:] != sid[:-1])]
+        return text_of[keep], sid[keep]
+    key = sid  # one int64 key (text, df, sid), made in place of the ids
+    for at in range(0, len(key), BLOCK):
+        s = key[at:at + BLOCK]
+        s |= (text_of[at:at + BLOCK].astype(np.int64) << (d_bits + s_bits)) | (df[s] << s_bits)
+    del text_of, sid
+    key.sort()
+    key = key[np.r_[True, key[1:] != key[:-1]]]
+    text = key >> (d_bits + s_bits)
+    key &= (1 << s_bits) - 1
+    return text, key
+
+
+def _shingle_ids(texts: list[str], lengths: np.ndarray, n_sh: np.ndarray) -> np.ndarray:
+    """Id of every shingle of the texts (``n_sh`` per text): the rank of its three word ids
+    among the distinct triples. A shingle starts at every word but the last two of its text; a
+    text shorter than three words has one shingle, at its first word, with a pad id for the
+    words it lacks."""
+    # word ids, then two pads, so that the two words after any word can be read as slices
+    w, pad = word_ids(texts, pads=2)
+    ends = np.cumsum(lengths)
+    short = lengths < 3
+    first_short = (ends - lengths)[short]
     starts_here = np.ones(len(w) - 2, dtype=bool)
     starts_here[ends - 1] = False
     starts_here[(ends - 2)[lengths >= 2]] = False
-    short = lengths < 3
-    starts_here[(ends - lengths)[short]] = True
-    pos = np.flatnonzero(starts_here)
-    del starts_here
-    w1, w2 = w[1:][pos], w[2:][pos]
-    if short.any():
-        at = (np.cumsum(n_sh) - 1)[short]  # the one shingle of each short text
-        end = ends[short]
-        w1[at] = np.where(pos[at] + 1 < end, w1[at], base - 1)
-        w2[at] = np.where(pos[at] + 2 < end, w2[at], base - 1)
-    w0 = w[pos]
-    del pos, w
-    if base < 2**21:  # three ids fit one int64 code
-        w0 *= base
-        w0 += w1
-        w0 *= base
-        w0 += w2
-        del w1, w2
-        sid = dense_ids(w0)
-    else:
-        sid = np.unique(np.stack([w0, w1, w2], axis=1), axis=0, return_inverse=True)[1].ravel()
-    del w0
-    n_sid = int(sid.max()) + 1
-    df = np.bincount(sid)
-    n_df = int(df.max()) + 1
-    if len(texts) * n_df * n_sid < 2**62:  # one int64 sort key: (text, df, sid)
-        key = _distinct_sorted((text_of * n_df + df[sid]) * n_sid + sid)
-        return key // (n_df * n_sid), key % n_sid
-    order = np.lexsort((sid, df[sid], text_of))
-    text_of, sid = text_of[order], sid[order]
-    keep = np.r_[True, (text_of[1:] != text_of[:-1]) | (sid[1:] != sid[:-1])]
-    return text_of[keep], sid[keep]
+    starts_here[first_short] = True
+    second = np.where(lengths[short] > 1, w[first_short + 1], pad)
+    at_short = (np.cumsum(n_sh) - 1)[short]  # the one shingle of each short text
+    bits = pad.bit_length()
+    if 3 * bits > _CODE_BITS:  # three ids do not fit one code
+        triple = np.stack([w[:-2][starts_here], w[1:-1][starts_here], w[2:][starts_here]], 1)
+        triple[at_short, 1], triple[at_short, 2] = second, pad
+        return np.unique(triple, axis=0, return_inverse=True)[1].ravel()
+    # (w0, w1, w2) as bits of one code: codes sort as the triples do
+    code = np.empty(int(n_sh.sum()), dtype=np.int64)
+    done = 0
+    for at in range(0, len(w) - 2, BLOCK):
+        c = w[at:at + BLOCK + 2]
+        c = (c[:-2] << (2 * bits)) | (c[1:-1] << bits) | c[2:]
+        c = c[starts_here[at:at + BLOCK]]
+        code[done:done + len(c)] = c
+        done += len(c)
+    code[at_short] = (w[first_short] << (2 * bits)) | (second << bits) | pad
+    del w, starts_here
+    return dense_ids(code, out=code)
 
 
 def _runs(starts: np.ndarray, lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -198,7 +206,7 @@ def similar_pairs(texts: Iterable[str], threshold: float, *,
     left = np.repeat(np.arange(len(p_sid)), later)
     right = left + 1 + (np.arange(total) - np.repeat(np.cumsum(later) - later, later))
     a, b = p_text[left], p_text[right]
-    cand = _distinct_sorted(np.minimum(a, b) * len(texts) + np.maximum(a, b))
+    cand = distinct_sorted(np.minimum(a, b) * len(texts) + np.maximum(a, b))
     a, b = cand // len(texts), cand % len(texts)
     small, big = np.minimum(size[a], size[b]), np.maximum(size[a], size[b])
     ok = small + 1e-9 >= threshold * big  # size filter: J <= |small| / |big|
@@ -229,16 +237,18 @@ class PrefixIndex:
         text, self.sid = _shingle_table(list(texts)) if table is None else table
         self.size = np.bincount(text, minlength=self.n)
         self.first = np.cumsum(self.size) - self.size
-        rank = np.arange(len(text)) - self.first[text]
+        del text
         self.prefix = self.size - np.ceil(threshold * self.size - 1e-9).astype(np.int64) + 1
-        keep = rank < self.prefix[text]
-        by = np.lexsort((text[keep], self.sid[keep]))  # postings: by shingle, then text
-        self.post_text, self.post_rank = text[keep][by], rank[keep][by]
+        # the prefix entries, read as runs: no array as long as the table is made
+        p_text, at = _runs(self.first, np.minimum(self.prefix, self.size))
+        p_sid, p_rank = self.sid[at], at - self.first[p_text]
+        by = np.lexsort((p_text, p_sid))  # postings: by shingle, then text
+        self.post_text, self.post_rank = p_text[by], p_rank[by]
         n_sid = int(self.sid.max()) + 1
-        self.post_count = np.bincount(self.sid[keep], minlength=n_sid)
+        self.post_count = np.bincount(p_sid, minlength=n_sid)
         self.post_start = np.cumsum(self.post_count) - self.post_count
         #: candidates a query of each text examines (before the positional filter)
-        self.cost = np.bincount(text[keep], weights=self.post_count[self.sid[keep]],
+        self.cost = np.bincount(p_text, weights=self.post_count[p_sid],
                                 minlength=self.n).astype(np.int64)
 
     def similarity(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -266,7 +276,7 @@ class PrefixIndex:
         need = np.ceil(self.threshold * (self.size[a] + self.size[b]) / (1 + self.threshold)
                        - 1e-9)
         ok = (a != b) & (room >= need)
-        pair = _distinct_sorted(a[ok] * self.n + b[ok])
+        pair = distinct_sorted(a[ok] * self.n + b[ok])
         a, b = pair // self.n, pair % self.n
         sim = self.similarity(a, b)
         hit = sim + 1e-12 >= self.threshold
