@@ -6,6 +6,8 @@ import hashlib
 import random
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from nltk.metrics.distance import jaccard_distance
 from nltk.util import ngrams
 
@@ -262,3 +264,20 @@ def test_clips_of_each_caption_text_as_one_set_per_text():
     assert {t for t, ids in want.items() if len(ids) > 1} and {t for t in want if len(want[t]) == 1}
     same = _clips_of_text(["a", "a", "b"], ["x", "x", "y"])  # one clip writing a text twice
     assert dict(same) == {} and same["x"] == {"a"} and sorted(same.one) == ["x", "y"]
+
+
+@pytest.mark.parametrize("chunk", [1, 2, 5, 1 << 15])
+def test_batch_normalisation_of_tricky_ascii_equals_one_text_at_a_time(monkeypatch, chunk):
+    # every text ASCII without NUL: the whole-chunk path (bytes and numpy) answers alone
+    from clipscribe.export import textdup
+    monkeypatch.setattr(textdup, "_NORMALISE_CHUNK", chunk)
+    texts = ["", " ", "   \t\n ", "...", "A", " Robot ARM, picks up the RED block. ",
+             "a\x1fb", "x" * 5000 + "  !  " + "y" * 3000, "take 0", "Take_0--TAKE 0 ", "9"]
+    assert textdup.normalise_captions(texts) == [normalise_caption(t) for t in texts]
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.text(alphabet=st.characters(max_codepoint=0x2FFF), max_size=30), max_size=12))
+def test_batch_normalisation_equals_one_text_at_a_time_on_any_text(texts):
+    from clipscribe.export.textdup import normalise_captions
+    assert normalise_captions(texts) == [normalise_caption(t) for t in texts]

@@ -31,10 +31,13 @@ from .ranks import BLOCK, dense_ids, distinct_sorted, text_lengths, word_ids
 _NON_WORD = re.compile(r"[\W_]+")
 # For ASCII text the same mapping as _NON_WORD, done by str.translate (several times faster).
 _ASCII_NON_WORD = {c: " " for c in range(128) if not chr(c).isalnum()}
-# The same with NUL kept: it separates the texts of one batch in normalise_captions.
+# NUL separates the texts of one batch in normalise_captions.
 _BATCH_SEP = "\x00"
-_ASCII_NON_WORD_BATCH = {c: v for c, v in _ASCII_NON_WORD.items() if c != ord(_BATCH_SEP)}
-_SPACE_RUNS = re.compile(" {2,}")
+# The same for bytes, in one table: letters folded, NUL kept, every other byte a space.
+_ASCII_BYTES = bytes(c if c == 0 or (c < 128 and chr(c).isalnum()) else 32
+                     for c in range(256)).lower()
+_SPACE = 32
+_NORMALISE_CHUNK = 1 << 15  # texts normalised at once
 _CODE_BITS = 63  # bits of a non-negative int64: several ids packed into one sort key
 # How caption_clusters joins texts. A text lists keys when _KEY_PRICE keys cost no more than
 # the candidates its query would examine; the others are asked. The leader cover is used
@@ -56,20 +59,43 @@ def normalise_caption(text: str) -> str:
 
 def normalise_captions(texts: Sequence[str]) -> list[str]:
     """:func:`normalise_caption` of every text, in order; the ASCII texts (without NUL) in one
-    pass over their joined text instead of one call each."""
+    pass over their joined text instead of one call each, a chunk of texts at a time (a chunk
+    fits the processor's cache, and no copy of every text is made at once)."""
+    texts = list(texts)
+    out: list[str] = []
+    for at in range(0, len(texts), _NORMALISE_CHUNK):
+        out += _normalised_chunk(texts[at:at + _NORMALISE_CHUNK])
+    return out
+
+
+def _normalised_chunk(texts: list[str]) -> list[str]:
+    joined = _BATCH_SEP.join(texts)
+    if joined.isascii() and joined.count(_BATCH_SEP) == len(texts) - 1:  # every text at once
+        return _ascii_batch(joined)
     out = [""] * len(texts)
     batch = [k for k, t in enumerate(texts) if t.isascii() and _BATCH_SEP not in t]
-    if len(batch) < len(texts):
-        done = set(batch)
-        for k, t in enumerate(texts):
-            if k not in done:
-                out[k] = normalise_caption(t)
-    joined = _BATCH_SEP.join([texts[k] for k in batch]).lower().translate(_ASCII_NON_WORD_BATCH)
-    # only letters, digits, spaces and the separators are left: collapse and trim the spaces
-    parts = _SPACE_RUNS.sub(" ", joined).split(_BATCH_SEP) if batch else []
+    done = set(batch)
+    for k, t in enumerate(texts):
+        if k not in done:
+            out[k] = normalise_caption(t)
+    parts = _ascii_batch(_BATCH_SEP.join([texts[k] for k in batch])) if batch else []
     for k, part in zip(batch, parts):
-        out[k] = part.strip(" ")
+        out[k] = part
     return out
+
+
+def _ascii_batch(joined: str) -> list[str]:
+    """The normalised texts of ``joined`` (ASCII texts separated by NUL), as bytes with numpy:
+    one table look-up per byte folds case and turns what is not a letter or digit into a
+    space; a space is kept only after a letter or digit and before another (a regular
+    expression and a strip per text cost several times more)."""
+    b = np.frombuffer(joined.encode("ascii").translate(_ASCII_BYTES), dtype=np.uint8)
+    keep = b != _SPACE  # letters, digits, separators
+    keep[1:] |= keep[:-1] & (b[:-1] != 0)  # and the first space after a letter or digit
+    b = b[keep]
+    space = b == _SPACE
+    space[:-1] &= b[1:] == 0  # such a space before a separator, or at the end, is trailing
+    return b[~space].tobytes().decode("ascii").split(_BATCH_SEP)
 
 
 def shingles(normalised: str, n: int = 3) -> frozenset[str]:
