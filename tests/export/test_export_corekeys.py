@@ -249,8 +249,8 @@ def test_star_edges_of_keys_listed_once_are_none():
     assert len(a) == len(b) == 0
 
 
-@pytest.mark.parametrize("seed", range(3))
-def test_shared_entries_are_the_values_listed_more_than_once(seed):
+@pytest.mark.parametrize("seed,block", [(0, 1 << 20), (1, 7), (2, 1000)])
+def test_shared_entries_are_the_values_listed_more_than_once(monkeypatch, seed, block):
     # reference: collections.Counter over the values; many values agree in their low bits
     # (the bit table's index), so the table passes entries the binary search must reject
     from collections import Counter
@@ -260,6 +260,9 @@ def test_shared_entries_are_the_values_listed_more_than_once(seed):
     values = high | low
     count = Counter(values.tolist())
     want = [i for i, v in enumerate(values.tolist()) if count[v] > 1]
-    got = corekeys._shared_entries(values)
+    # the values as keys (three low bits of other data), looked at in blocks of a few keys
+    monkeypatch.setattr(corekeys, "BLOCK", block)
+    keys = (values << np.uint64(3)) | rng.integers(0, 8, 5000).astype(np.uint64)
+    got = corekeys._shared_entries(keys, np.uint64(3))
     assert 100 < len(want) < 4000 and got.tolist() == want
-    assert corekeys._shared_entries(np.arange(5, dtype=np.uint64)).tolist() == []
+    assert corekeys._shared_entries(np.arange(5, dtype=np.uint64), np.uint64(0)).tolist() == []

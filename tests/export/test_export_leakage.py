@@ -249,7 +249,7 @@ def test_look_alikes_of_one_group_in_one_split_are_expected_and_not_reported():
 def test_clips_of_each_caption_text_as_one_set_per_text():
     from collections import defaultdict
 
-    from clipscribe.export.leakage import _clips_of_text
+    from clipscribe.export.caption_groups import _clips_of_text
     rng = random.Random(3)
     owners = [rng.choice("abcdefgh") for _ in range(400)]
     norms = [rng.choice(["", "x", "y z", "w"] + [f"t{k}" for k in range(300)]) for _ in owners]

@@ -36,12 +36,14 @@ from math import comb
 import numpy as np
 
 from .clusters import union
+from .ranks import BLOCK
 
 #: keys one set may list; a set needing more is *long* and left to the caller
 KEY_CAP = 512
 _PASS_KEYS = 1 << 23  # keys sorted at once (about 30 bytes each while sorting)
 _GATHER = 1 << 20  # deleted members gathered at once while making keys
 _D_BITS = 6  # the deletion count rides in the low bits of the sorted key (KEY_CAP keeps d < 10)
+_SET = np.int32  # set numbers of the keys (half the memory of int64; sets are texts, < 2**31)
 
 
 @dataclass(frozen=True)
@@ -178,14 +180,14 @@ def _keys(groups, first, members, value, salt, whole, passes: int, p: int):
                 gone = value[members[first[t][:, None, None] + combos[None]]]
                 k = k - gone.sum(axis=2, dtype=np.uint64)
             k = k.ravel()
-            tt = np.repeat(t, len(combos))
+            tt = np.repeat(t.astype(_SET), len(combos))
             if passes > 1:
                 pick = k % np.uint64(passes) == np.uint64(p)
                 k, tt = k[pick], tt[pick]
             keys.append((k & ~low) | np.uint64(d))
             texts.append(tt)
     if not keys:
-        return np.empty(0, dtype=np.uint64), np.empty(0, dtype=np.int64)
+        return np.empty(0, dtype=np.uint64), np.empty(0, dtype=_SET)
     return np.concatenate(keys), np.concatenate(texts)
 
 
@@ -201,8 +203,8 @@ def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
     hashed values and one look-up per entry in a table of the few shared ones, where a stable
     argsort of every entry costs several times more.
     """
-    shared = _shared_entries(key >> np.uint64(_D_BITS))
-    key, text = key[shared], text[shared]
+    shared = _shared_entries(key, np.uint64(_D_BITS))
+    key, text = key[shared], text[shared].astype(np.int64)
     if not len(key):
         return text, text
     order = np.argsort(key, kind="stable")
@@ -216,12 +218,15 @@ def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
     return text[centre[ok]], text[ok]
 
 
-def _shared_entries(hashed: np.ndarray) -> np.ndarray:
-    """Positions, in order, of the values that occur more than once in ``hashed`` (uint64).
+def _shared_entries(key: np.ndarray, shift: np.uint64) -> np.ndarray:
+    """Positions, in order, of the keys whose value ``key >> shift`` (uint64) occurs more than
+    once.
 
     A bit table over the low bits of the repeated values passes every entry of them and few
-    others (the values are random sums); a binary search settles those few."""
-    sv = np.sort(hashed)
+    others (the values are random sums); a binary search settles those few. A block of keys at
+    a time: no array as long as the keys is made but one sorted copy of the values."""
+    sv = key >> shift
+    sv.sort()
     repeated = sv[1:][sv[1:] == sv[:-1]]
     del sv
     if not len(repeated):
@@ -231,7 +236,11 @@ def _shared_entries(hashed: np.ndarray) -> np.ndarray:
     low = np.uint64((1 << bits) - 1)
     table = np.zeros(1 << bits, dtype=bool)
     table[repeated & low] = True
-    maybe = np.flatnonzero(table[hashed & low])
-    at = np.searchsorted(repeated, hashed[maybe])
-    at[at == len(repeated)] = 0
-    return maybe[repeated[at] == hashed[maybe]]
+    out = []
+    for at in range(0, len(key), BLOCK):
+        value = key[at:at + BLOCK] >> shift
+        maybe = np.flatnonzero(table[value & low])
+        found = np.searchsorted(repeated, value[maybe])
+        found[found == len(repeated)] = 0
+        out.append(maybe[repeated[found] == value[maybe]] + at)
+    return np.concatenate(out)

@@ -9,16 +9,16 @@ different clips often coincide; the media checks decide whether the same footage
 
 from __future__ import annotations
 
-from collections import Counter, defaultdict
+from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Callable, Literal, Mapping, Sequence
 
+from .caption_groups import CaptionGroups, caption_groups
 from .checks import name_files
 from .clusters import Clusters
 from .inputs import ClipInput
 from .neardup import as_uint64, near_clusters
-from .policy import caption_texts
-from .textdup import caption_clusters, normalise_captions
+from .textdup import caption_clusters
 
 Severity = Literal["blocking", "warning"]
 _KIND_ORDER = ["group-split", "duplicate-media", "near-duplicate-media", "missing-consent",
@@ -193,44 +193,10 @@ def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
     return sorted(out, key=lambda f: (f.kind, f.clips))
 
 
-class _ClipsOfText(dict):
-    """Clip ids per normalised caption text: the texts of several clips are kept as sets, and
-    every other text gives the set of its one clip when asked."""
-
-    def __init__(self, one: Mapping[str, str], several: dict[str, set[str]]):
-        super().__init__(several)
-        self.one = one
-
-    def __missing__(self, text: str) -> set[str]:
-        return {self.one[text]}
-
-
-def _clips_of_text(owners: Sequence[str], norms: Sequence[str]) -> _ClipsOfText:
-    """The clips of each non-empty normalised text (``owners[k]`` wrote ``norms[k]``)."""
-    one = dict(zip(norms, owners))
-    one.pop("", None)
-    several: dict[str, set[str]] = {}
-    if len(one) < len(norms):  # some text is written more than once (or is empty)
-        repeated = {t for t, n in Counter(norms).items() if n > 1 and t}
-        for clip_id, norm in zip(owners, norms):
-            if norm in repeated:
-                several.setdefault(norm, set()).add(clip_id)
-        several = {t: ids for t, ids in several.items() if len(ids) > 1}
-    return _ClipsOfText(one, several)
-
-
 def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
-              threshold: float, chosen: Mapping[str, Sequence[str]] | None = None,
-              cluster: Callable[[list[str], float], Clusters] = caption_clusters) -> list[Finding]:
+              groups: CaptionGroups) -> list[Finding]:
     path = _paths(clips)
-    owners: list[str] = []
-    raw: list[str] = []
-    for c in clips:
-        got = (chosen[c.clip_id] if chosen is not None and c.clip_id in chosen
-               else caption_texts(c))
-        owners += [c.clip_id] * len(got)
-        raw += got
-    by_text = _clips_of_text(owners, normalise_captions(raw))
+    by_text = groups.by_text
     out = []
     for t in sorted(by_text):  # the texts of several clips
         ids = sorted(by_text[t])
@@ -240,18 +206,17 @@ def _captions(clips: Sequence[ClipInput], assignment: Mapping[str, str],
                                f"caption {t!r} is written for clips in several splits: "
                                f"{_where(ids, path, assignment)}", tuple(ids),
                                {"text": t, "splits": counts}, _files(ids, path)))
-    if threshold < 1.0:
-        out += _near_captions(sorted(by_text.one), by_text, assignment, path, threshold, cluster)
+    if groups.clusters is not None:
+        out += _near_captions(groups, assignment, path)
     return out
 
 
-def _near_captions(texts: list[str], by_text: Mapping[str, set[str]],
-                   assignment: Mapping[str, str], path: Mapping[str, str],
-                   threshold: float, cluster: Callable[[list[str], float], Clusters]
-                   ) -> list[Finding]:
+def _near_captions(groups: CaptionGroups, assignment: Mapping[str, str],
+                   path: Mapping[str, str]) -> list[Finding]:
     """One warning per cluster of near-identical texts (a connected component of "Jaccard >=
     threshold") whose clips lie in several splits."""
-    clusters = cluster(texts, threshold)
+    texts, by_text, clusters = groups.texts, groups.by_text, groups.clusters
+    assert clusters is not None
     links = clusters.links_of()
     out = []
     for members in clusters.groups():
@@ -267,7 +232,8 @@ def _near_captions(texts: list[str], by_text: Mapping[str, set[str]],
         else:
             a, b, sim = max(lk, key=lambda x: x[2])
             what = (f"{len(members)} captions are near-identical, each within Jaccard "
-                    f"{threshold:.2f} of another (e.g. {a!r} and {b!r}, Jaccard {sim:.2f})")
+                    f"{groups.threshold:.2f} of another (e.g. {a!r} and {b!r}, "
+                    f"Jaccard {sim:.2f})")
         out.append(Finding("near-duplicate-caption", "warning",
                            f"{what} across splits: {_where(ids, path, assignment)}", tuple(ids),
                            {"texts": sorted(texts[k] for k in members.tolist()),
@@ -313,7 +279,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
                   require_consent: bool = False, require_licence: bool = False,
                   hamming_radius: int = 8, caption_threshold: float = 0.9,
                   captions: Mapping[str, Sequence[str]] | None = None,
-                  cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters
+                  cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters,
+                  caption_groups_of: Callable[[], CaptionGroups] | None = None
                   ) -> LeakageReport:
     """Look for leakage between splits.
 
@@ -346,6 +313,10 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         ``(distinct normalised texts, threshold) -> Clusters``, by default
         :func:`clipscribe.export.textdup.caption_clusters`; a project passes one that keeps
         its answer for the same texts (the clusters depend on nothing else).
+    caption_groups_of : callable, optional
+        Returns the :func:`caption_groups` of the checked clips when they are already being
+        found (e.g. a worker's ``Future.result``); by default they are found here, from
+        ``captions`` and ``cluster_captions``.
 
     Returns
     -------
@@ -359,7 +330,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
     findings = (_groups(clips, assignment) + _identical_media(clips, assignment)
                 + _near_media(clips, assignment, hamming_radius)
                 + _consent(clips, require_consent, require_licence)
-                + _captions(clips, assignment, caption_threshold, captions, cluster_captions)
+                + _captions(clips, assignment, caption_groups_of() if caption_groups_of else
+                            caption_groups(clips, caption_threshold, captions, cluster_captions))
                 + _unchecked(clips))
     findings.sort(key=lambda f: _KIND_ORDER.index(f.kind))
     recipe = {

@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Callable, Iterable, Mapping
 
 from ..errors import ClipscribeError
 from .checks import PlanWarning, few_references, split_balance
 from .clusters import Clusters
+from .caption_groups import caption_groups
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
 from .policy import (
@@ -166,19 +168,23 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     # lands where the group already is; they are dropped from the assignment afterwards.
     anchors = [(c.clip_id, c.group, None) for c, d in zip(clips, decisions)
                if not d.included and c.clip_id in frozen and c.group is not None]
-    split = split_clips([(c.clip_id, c.group, by_id[c.clip_id].label) for c in kept] + anchors,
-                        ratios, seed=seed, frozen=frozen)
-    if anchors:
-        split = replace(split, assignment={k: v for k, v in split.assignment.items()
-                                           if k in by_id})
     chosen = {c.clip_id: choose_captions(c, by_id[c.clip_id].label, policy) for c in kept}
-    segments = {c.clip_id: choose_segments(c, agreeing_annotators(c, by_id[c.clip_id].label),
-                                           policy.segments) for c in kept}
-    report = check_leakage(kept, split.assignment, require_consent=require_consent,
-                           require_licence=require_licence, hamming_radius=hamming_radius,
-                           caption_threshold=caption_threshold,
-                           captions={k: tuple(t for t, _ in v.captions) for k, v in chosen.items()},
-                           cluster_captions=cluster_captions)
+    texts = {k: tuple(t for t, _ in v.captions) for k, v in chosen.items()}
+    # the captions' groups need no splits: found in a worker thread meanwhile (mostly numpy,
+    # which lets the splits and the media checks run beside it)
+    with ThreadPoolExecutor(1, thread_name_prefix="caption-groups") as pool:
+        groups = pool.submit(caption_groups, kept, caption_threshold, texts, cluster_captions)
+        split = split_clips([(c.clip_id, c.group, by_id[c.clip_id].label) for c in kept]
+                            + anchors, ratios, seed=seed, frozen=frozen)
+        if anchors:
+            split = replace(split, assignment={k: v for k, v in split.assignment.items()
+                                               if k in by_id})
+        segments = {c.clip_id: choose_segments(c, agreeing_annotators(c, by_id[c.clip_id].label),
+                                               policy.segments) for c in kept}
+        report = check_leakage(kept, split.assignment, require_consent=require_consent,
+                               require_licence=require_licence, hamming_radius=hamming_radius,
+                               caption_threshold=caption_threshold, captions=texts,
+                               cluster_captions=cluster_captions, caption_groups_of=groups.result)
     files = {c.clip_id: c.media_path for c in kept}
     warnings = (split_balance(split.assignment, split.ratios, {c.clip_id: c.group for c in kept})
                 + few_references({k: len(v.captions) for k, v in chosen.items()}, captions_wanted,

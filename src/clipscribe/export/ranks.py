@@ -30,7 +30,8 @@ BLOCK = 1 << 20
 def word_ids(texts: list[str], pads: int = 0) -> tuple[np.ndarray, int]:
     """Id of every word of the texts (split at single spaces), in text order, numbered by first
     appearance, then ``pads`` times the id after the last (room the caller would otherwise
-    copy the ids to get); and the number of distinct words.
+    copy the ids to get), as int32 (int64 beyond 2**31 distinct words); and the number of
+    distinct words.
 
     The same ids as splitting ``" ".join(texts)`` and numbering the words with a dict
     (:func:`word_ids_plain`), found with numpy a chunk of texts at a time: each word is its
@@ -47,7 +48,7 @@ def word_ids(texts: list[str], pads: int = 0) -> tuple[np.ndarray, int]:
         if ids is None:
             return word_ids_plain(texts, pads)
         parts.append(ids)
-    return np.concatenate(parts + [np.full(pads, vocab.size, dtype=np.int64)]), vocab.size
+    return _joined(parts, pads, vocab.size), vocab.size
 
 
 def word_ids_plain(texts: list[str], pads: int = 0) -> tuple[np.ndarray, int]:
@@ -61,7 +62,14 @@ def word_ids_plain(texts: list[str], pads: int = 0) -> tuple[np.ndarray, int]:
                 vocab[w] = len(vocab)
         parts.append(np.fromiter(map(vocab.__getitem__, words), dtype=np.int64,
                                  count=len(words)))
-    return np.concatenate(parts + [np.full(pads, len(vocab), dtype=np.int64)]), len(vocab)
+    return _joined(parts, pads, len(vocab)), len(vocab)
+
+
+def _joined(parts: list[np.ndarray], pads: int, size: int) -> np.ndarray:
+    """The ids of every chunk and the pads in one array, int32 when every id fits (half the
+    memory of the largest array of a caption check)."""
+    dtype = np.int32 if size < 2**31 else np.int64
+    return np.concatenate(parts + [np.full(pads, size, dtype=dtype)], dtype=dtype)
 
 
 def _packed_words(texts: list[str], long_words: dict[bytes, int]

@@ -159,7 +159,7 @@ def _shingle_ids(texts: list[str], lengths: np.ndarray, n_sh: np.ndarray) -> np.
     starts_here[ends - 1] = False
     starts_here[(ends - 2)[lengths >= 2]] = False
     starts_here[first_short] = True
-    second = np.where(lengths[short] > 1, w[first_short + 1], pad)
+    second = np.where(lengths[short] > 1, w[first_short + 1], pad).astype(np.int64)
     at_short = (np.cumsum(n_sh) - 1)[short]  # the one shingle of each short text
     bits = pad.bit_length()
     if 3 * bits > _CODE_BITS:  # three ids do not fit one code
@@ -170,12 +170,12 @@ def _shingle_ids(texts: list[str], lengths: np.ndarray, n_sh: np.ndarray) -> np.
     code = np.empty(int(n_sh.sum()), dtype=np.int64)
     done = 0
     for at in range(0, len(w) - 2, BLOCK):
-        c = w[at:at + BLOCK + 2]
+        c = w[at:at + BLOCK + 2].astype(np.int64)
         c = (c[:-2] << (2 * bits)) | (c[1:-1] << bits) | c[2:]
         c = c[starts_here[at:at + BLOCK]]
         code[done:done + len(c)] = c
         done += len(c)
-    code[at_short] = (w[first_short] << (2 * bits)) | (second << bits) | pad
+    code[at_short] = (w[first_short].astype(np.int64) << (2 * bits)) | (second << bits) | pad
     del w, starts_here
     return dense_ids(code, out=code)
 
