@@ -263,6 +263,10 @@ def test_shared_entries_are_the_values_listed_more_than_once(monkeypatch, seed, 
     # the values as keys (three low bits of other data), looked at in blocks of a few keys
     monkeypatch.setattr(corekeys, "BLOCK", block)
     keys = (values << np.uint64(3)) | rng.integers(0, 8, 5000).astype(np.uint64)
-    got = corekeys._shared_entries(keys, np.uint64(3))
-    assert 100 < len(want) < 4000 and got.tolist() == want
-    assert corekeys._shared_entries(np.arange(5, dtype=np.uint64), np.uint64(0)).tolist() == []
+    at = np.arange(5000)
+    got_key, got_at = corekeys._shared_entries([(keys[:3000], at[:3000]), (keys[3000:], at[3000:])],
+                                               np.uint64(3))
+    assert 100 < len(want) < 4000 and got_at.tolist() == want
+    assert got_key.tolist() == keys[want].tolist()
+    alone = [(np.arange(5, dtype=np.uint64), np.arange(5))]
+    assert corekeys._shared_entries(alone, np.uint64(0))[1].tolist() == []

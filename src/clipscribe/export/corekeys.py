@@ -155,9 +155,10 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
     passes = max(1, -(-total // _PASS_KEYS))
     parent = np.arange(n, dtype=np.int64)
     links: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+    by_pass = _keys(groups, first, members, value, salt, whole, passes)
     for p in range(passes):
-        key, text = _keys(groups, first, members, value, salt, whole, passes, p)
-        a, b = _star_edges(key, text, size, m)
+        a, b = _star_edges_of(by_pass[p], size, m)
+        by_pass[p] = []  # its keys are done with
         parent = union(parent, a, b, np.zeros(len(a)), links)
     if links:
         la, lb = (np.concatenate(x) for x in list(zip(*links))[:2])
@@ -166,10 +167,10 @@ def core_join(first: np.ndarray, size: np.ndarray, members: np.ndarray, threshol
     return CoreJoin(parent, la, lb, np.flatnonzero(is_long), total)
 
 
-def _keys(groups, first, members, value, salt, whole, passes: int, p: int):
-    """Keys of every group whose value falls in pass ``p`` of ``passes``:
-    ``(key with the deletion count in its low bits, set)``."""
-    keys, texts = [], []
+def _keys(groups, first, members, value, salt, whole, passes: int) -> list[list]:
+    """Keys of every group, computed once and dealt to ``passes`` passes by their value:
+    per pass, parts ``(key with the deletion count in its low bits, set)`` in listed order."""
+    by_pass: list[list] = [[] for _ in range(passes)]
     low = np.uint64((1 << _D_BITS) - 1)
     for s, texts_s, d, combos in groups:
         rows = max(1, _GATHER // max(1, len(combos) * max(d, 1)))
@@ -181,19 +182,27 @@ def _keys(groups, first, members, value, salt, whole, passes: int, p: int):
                 k = k - gone.sum(axis=2, dtype=np.uint64)
             k = k.ravel()
             tt = np.repeat(t.astype(_SET), len(combos))
-            if passes > 1:
-                pick = k % np.uint64(passes) == np.uint64(p)
-                k, tt = k[pick], tt[pick]
-            keys.append((k & ~low) | np.uint64(d))
-            texts.append(tt)
-    if not keys:
-        return np.empty(0, dtype=np.uint64), np.empty(0, dtype=_SET)
-    return np.concatenate(keys), np.concatenate(texts)
+            which = k % np.uint64(passes) if passes > 1 else None
+            k &= ~low
+            k |= np.uint64(d)
+            if which is None:
+                by_pass[0].append((k, tt))
+                continue
+            for p in range(passes):
+                pick = which == np.uint64(p)
+                by_pass[p].append((k[pick], tt[pick]))
+    return by_pass
 
 
 def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
                 m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Edges from each key's centre (fewest deletions) to the sets within its bound.
+    """:func:`_star_edges_of` the keys ``key`` listed by the sets ``text``."""
+    return _star_edges_of([(key, text)], size, m)
+
+
+def _star_edges_of(parts: list, size: np.ndarray, m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Edges from each key's centre (fewest deletions) to the sets within its bound; the keys
+    are listed in ``parts``, ``(key, set)`` arrays in order.
 
     Most keys are listed once and give no edge (at 100k clips, 0.5M of 15M entries share their
     key with another): the entries of shared keys are picked out first, in listed order, and
@@ -203,8 +212,7 @@ def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
     hashed values and one look-up per entry in a table of the few shared ones, where a stable
     argsort of every entry costs several times more.
     """
-    shared = _shared_entries(key, np.uint64(_D_BITS))
-    key, text = key[shared], text[shared].astype(np.int64)
+    key, text = _shared_entries(parts, np.uint64(_D_BITS))
     if not len(key):
         return text, text
     order = np.argsort(key, kind="stable")
@@ -218,29 +226,35 @@ def _star_edges(key: np.ndarray, text: np.ndarray, size: np.ndarray,
     return text[centre[ok]], text[ok]
 
 
-def _shared_entries(key: np.ndarray, shift: np.uint64) -> np.ndarray:
-    """Positions, in order, of the keys whose value ``key >> shift`` (uint64) occurs more than
-    once.
+def _shared_entries(parts: list, shift: np.uint64) -> tuple[np.ndarray, np.ndarray]:
+    """``(key, set)`` of the entries of ``parts`` whose value ``key >> shift`` (uint64) occurs
+    more than once, in listed order (sets as int64).
 
     A bit table over the low bits of the repeated values passes every entry of them and few
-    others (the values are random sums); a binary search settles those few. A block of keys at
-    a time: no array as long as the keys is made but one sorted copy of the values."""
-    sv = key >> shift
+    others (the values are random sums); a binary search settles those few. No array as long
+    as all the keys is made but one sorted copy of the values."""
+    none = np.empty(0, dtype=np.uint64), np.empty(0, dtype=np.int64)
+    if not parts:
+        return none
+    sv = np.concatenate([k >> shift for k, _ in parts])
     sv.sort()
     repeated = sv[1:][sv[1:] == sv[:-1]]
     del sv
     if not len(repeated):
-        return np.empty(0, dtype=np.int64)
+        return none
     repeated = repeated[np.r_[True, repeated[1:] != repeated[:-1]]]
     bits = min(max(len(repeated).bit_length() + 6, 10), 26)
     low = np.uint64((1 << bits) - 1)
     table = np.zeros(1 << bits, dtype=bool)
     table[repeated & low] = True
-    out = []
-    for at in range(0, len(key), BLOCK):
-        value = key[at:at + BLOCK] >> shift
-        maybe = np.flatnonzero(table[value & low])
-        found = np.searchsorted(repeated, value[maybe])
-        found[found == len(repeated)] = 0
-        out.append(maybe[repeated[found] == value[maybe]] + at)
-    return np.concatenate(out)
+    keys, sets = [], []
+    for key, text in parts:
+        for at in range(0, len(key), BLOCK):
+            value = key[at:at + BLOCK] >> shift
+            maybe = np.flatnonzero(table[value & low])
+            found = np.searchsorted(repeated, value[maybe])
+            found[found == len(repeated)] = 0
+            pick = maybe[repeated[found] == value[maybe]] + at
+            keys.append(key[pick])
+            sets.append(text[pick])
+    return np.concatenate(keys), np.concatenate(sets).astype(np.int64)
