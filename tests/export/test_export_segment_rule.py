@@ -120,3 +120,15 @@ def test_manifest_and_records_say_how_segments_and_references_were_chosen(tmp_pa
             assert [s["end"] for s in recs["1"]["segments"]] == [30]
         else:
             assert recs["1"]["segments"] == [] and recs["1"].get("segment_source") is None
+
+
+@pytest.mark.parametrize("rule", ["gold", "gold+best"])
+def test_a_clip_without_segments_gets_what_the_rule_gives_it(rule):
+    # build_plan skips the rule for a clip with no gold and no annotator segments: the choice
+    # it uses instead must be the rule's own answer
+    from clipscribe.export.segment_choice import NO_SEGMENTS, choose_segments
+    clip = ClipInput("9", "c9.mp4", fps=10.0, frame_count=50, labels=("stack",),
+                     annotator_labels=(("ann-1", "stack"),), skipped=(("ann-2", "unclear"),))
+    assert choose_segments(clip, {"ann-1", "ann-2"}, rule) == NO_SEGMENTS
+    plan = build_plan([clip], {"train": 1.0}, policy=LabelPolicy(min_agreement=0.5, segments=rule))
+    assert plan.segments["9"] == NO_SEGMENTS == plan.segments_of(clip)

@@ -15,7 +15,7 @@ from .leakage import LeakageReport, check_leakage
 from .policy import (
     CaptionChoice, LabelDecision, LabelPolicy, agreeing_annotators, apply_policy, choose_captions,
 )
-from .segment_choice import SegmentChoice, choose_segments
+from .segment_choice import NO_SEGMENTS, SegmentChoice, choose_segments
 from .splits import SplitResult, split_clips
 from .textdup import caption_clusters
 
@@ -180,7 +180,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
             split = replace(split, assignment={k: v for k, v in split.assignment.items()
                                                if k in by_id})
         segments = {c.clip_id: choose_segments(c, agreeing_annotators(c, by_id[c.clip_id].label),
-                                               policy.segments) for c in kept}
+                                               policy.segments)
+                    if c.segments or c.annotator_segments else NO_SEGMENTS for c in kept}
         report = check_leakage(kept, split.assignment, require_consent=require_consent,
                                require_licence=require_licence, hamming_radius=hamming_radius,
                                caption_threshold=caption_threshold, captions=texts,

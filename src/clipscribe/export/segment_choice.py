@@ -28,6 +28,10 @@ class SegmentChoice:
     annotator: str | None = None
 
 
+#: what a clip without any segment (gold or annotator) is exported with under either rule
+NO_SEGMENTS = SegmentChoice()
+
+
 def describe_segment_rule(rule: str) -> str:
     """The segment rule in words, for the manifest."""
     if rule == "gold":
