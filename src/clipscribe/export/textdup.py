@@ -119,18 +119,20 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
 
     Shingles as in :func:`shingles`; the frequency order puts each text's rarest shingles first
     (any fixed global order keeps the prefix filter exact; rare-first keeps candidates few).
-    Built a block at a time into arrays made once: at 100k clips the first touch of fresh
-    memory costs as much as the arithmetic on it.
+    Both columns are int32 (int64 from 2**31 texts or shingles on). Built a block at a time
+    into arrays made once: at 100k clips the first touch of fresh memory costs as much as the
+    arithmetic on it.
     """
     lengths = text_lengths(texts)
     n_sh = np.maximum(lengths - 2, 1)
     sid = _shingle_ids(texts, lengths, n_sh)
     df = np.bincount(sid)
+    ids = np.int32 if max(len(texts), len(df)) < 2**31 else np.int64
     s_bits, d_bits = int(sid.max()).bit_length(), int(df.max()).bit_length()
-    text_of = np.repeat(np.arange(len(texts), dtype=np.int32 if len(texts) < 2**31 else np.int64), n_sh)
+    text_of = np.repeat(np.arange(len(texts), dtype=ids), n_sh)
     if (len(texts) - 1).bit_length() + d_bits + s_bits > _CODE_BITS:
         order = np.lexsort((sid, df[sid], text_of))
-        text_of, sid = text_of[order].astype(np.int64), sid[order]
+        text_of, sid = text_of[order], sid[order].astype(ids)
         keep = np.r_[True, (text_of[1:] != text_of[:-1]) | (sid[1:] != sid[:-1])]
         return text_of[keep], sid[keep]
     key = sid  # one int64 key (text, df, sid), made in place of the ids
@@ -139,10 +141,15 @@ def _shingle_table(texts: list[str]) -> tuple[np.ndarray, np.ndarray]:
         s |= (text_of[at:at + BLOCK].astype(np.int64) << (d_bits + s_bits)) | (df[s] << s_bits)
     del text_of, sid
     key.sort()
-    key = key[np.r_[True, key[1:] != key[:-1]]]
-    text = key >> (d_bits + s_bits)
-    key &= (1 << s_bits) - 1
-    return text, key
+    first = np.r_[True, key[1:] != key[:-1]]
+    text, sid = np.empty(int(first.sum()), dtype=ids), np.empty(int(first.sum()), dtype=ids)
+    done = 0
+    for at in range(0, len(key), BLOCK):
+        k = key[at:at + BLOCK][first[at:at + BLOCK]]
+        text[done:done + len(k)] = k >> (d_bits + s_bits)
+        sid[done:done + len(k)] = k & ((1 << s_bits) - 1)
+        done += len(k)
+    return text, sid
 
 
 def _shingle_ids(texts: list[str], lengths: np.ndarray, n_sh: np.ndarray) -> np.ndarray:
@@ -212,7 +219,7 @@ def similar_pairs(texts: Iterable[str], threshold: float, *,
     texts = list(texts)
     if len(texts) < 2:
         return []
-    text, sid = _shingle_table(texts)
+    text, sid = (c.astype(np.int64) for c in _shingle_table(texts))  # products of ids below
     size = np.bincount(text, minlength=len(texts))
     first = np.cumsum(size) - size
     rank = np.arange(len(text)) - first[text]
