@@ -53,3 +53,21 @@ def test_the_caption_policy_is_part_of_the_key(sample_copy, counted):
         p.plan_export(captions="gold+agreeing")       # other texts: computed for them
         p.plan_export(captions="gold+agreeing")       # the same again: kept
     assert len(counted) == 2 and counted[0] != counted[1]
+
+
+@pytest.mark.parametrize("chunk", [1, 2, 1 << 15])
+def test_content_key_hashed_by_chunks_is_the_digest_of_the_texts_joined_at_once(monkeypatch, chunk):
+    # reference: hashlib.sha256 over the texts joined by NUL in one piece, as the key is defined
+    import hashlib
+    import json
+
+    from clipscribe.project import results
+    monkeypatch.setattr(results, "_HASH_CHUNK", chunk)
+    texts = ["red cube", "", "arm \u00e9", "lone \ud800 half", "x" * 300, "take 7"]
+    head = json.dumps({"kind": "k", "settings": {"threshold": 0.9},
+                       "code": results._code_digest("export")}, sort_keys=True).encode()
+    for parts in ([], texts[:1], texts, texts * 3):
+        want = hashlib.sha256(head)
+        want.update("\0".join(parts).encode("utf-8", "surrogatepass"))
+        want.update(str(len(parts)).encode())
+        assert results.content_key("k", parts, {"threshold": 0.9}, "export") == want.hexdigest()

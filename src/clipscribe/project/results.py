@@ -167,9 +167,16 @@ def content_key(kind: str, parts: list[str], settings: dict[str, Any], package: 
     from), ``settings`` and the engine's code: an entry under it can never be stale."""
     h = hashlib.sha256(json.dumps({"kind": kind, "settings": settings,
                                    "code": _code_digest(package)}, sort_keys=True).encode())
-    h.update("\0".join(parts).encode("utf-8", "surrogatepass"))
+    # the parts joined by NUL, hashed a chunk at a time: the same digest as one join, without
+    # a copy of every part at once (64 MB of text for the captions of 100k clips)
+    for at in range(0, len(parts), _HASH_CHUNK):
+        h.update(("\0" if at else "").encode())
+        h.update("\0".join(parts[at:at + _HASH_CHUNK]).encode("utf-8", "surrogatepass"))
     h.update(str(len(parts)).encode())
     return h.hexdigest()
+
+
+_HASH_CHUNK = 1 << 15  # parts hashed at once by content_key
 
 
 def _secret() -> bytes:
