@@ -26,3 +26,17 @@ def test_plan_stratifies_on_the_decided_label_and_checks_exported_captions():
     assert {d.label for d in plan.decisions.values()} == {"x"}
     assert sorted(plan.assignment.values()).count("test") == 5
     assert plan.leakage.recipe["clips_checked"] == 10
+
+
+def test_bad_ratios_are_refused_before_the_caption_check_starts(monkeypatch):
+    # the caption check runs in a worker beside the splits; a plan the splits would refuse
+    # must not first wait for it (seconds at 100k clips)
+    import pytest
+
+    from clipscribe.export import plan as plan_module
+    started = []
+    monkeypatch.setattr(plan_module, "caption_groups", lambda *a, **k: started.append(1))
+    clips = [ClipInput("a", "a.mp4", labels=("x",))]
+    with pytest.raises(ValueError, match="ratios"):
+        build_plan(clips, {"train": -1})
+    assert not started

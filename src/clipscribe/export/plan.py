@@ -16,7 +16,7 @@ from .policy import (
     CaptionChoice, LabelDecision, LabelPolicy, agreeing_annotators, apply_policy, choose_captions,
 )
 from .segment_choice import NO_SEGMENTS, SegmentChoice, choose_segments
-from .splits import SplitResult, split_clips
+from .splits import SplitResult, normalise_ratios, split_clips
 from .textdup import caption_clusters
 
 
@@ -159,6 +159,7 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     """
     clips = list(clips)
     _validate(clips)
+    normalise_ratios(ratios)  # refused now, not after the caption check started beside it
     policy = policy or LabelPolicy()
     decisions = apply_policy(clips, policy)
     kept = [c for c, d in zip(clips, decisions) if d.included]
