@@ -11,7 +11,9 @@ and the ten most disputed clips), ``agreement_summary`` (``--json --summary``) a
 ``agreement_rows`` (``--json --all-rows``: also every row per clip and per caption, ~100 MB at
 100k clips) are the runs after it, which reuse that part, as ``report`` does. Likewise
 ``export_dry_run_first`` plans with no caption clusters kept (the first plan after the captions
-changed) and ``export_dry_run`` plans again, reusing them; ``report_first`` runs with no work
+changed; the clusters of look-alike clips are kept, as the fingerprints did not change),
+``export_dry_run_cold`` with neither kept (a project's first plan, or after clips came or went)
+and ``export_dry_run`` plans again, reusing both; ``report_first`` runs with no work
 columns of the edit history kept (read whole) and ``report`` again (only new edits read). Each row gives
 wall seconds and the process's CPU seconds (user + system). Each command runs in a fresh process; its peak memory is that process's VmHWM (read from
 /proc/self/status at exit, so a parent's peak is never carried over). Projects are built once
@@ -109,11 +111,13 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
                 kept.unlink()
         return timed(["report", str(folder), str(Path(tmp) / "report")])
 
-    def dry_run(first: bool) -> dict:
-        # first: no caption clusters kept (the first plan after the captions changed); then
-        # the plan again, reusing them, as every later dry run of the same captions does
-        if first:
-            for kept in (folder / ".clipscribe-cache" / "results").glob("caption-clusters-*"):
+    def dry_run(drop: tuple[str, ...]) -> dict:
+        # cold: no clusters kept at all (the first plan of a project, or after clips came or
+        # went); first: no caption clusters kept (the first plan after the captions changed;
+        # the fingerprints did not, so their clusters are kept); then the plan again, reusing
+        # both, as every later dry run of the same captions does
+        for kind in drop:
+            for kept in (folder / ".clipscribe-cache" / "results").glob(f"{kind}-*"):
                 kept.unlink()
         return timed(["export", str(folder), str(Path(tmp) / "export"), "--dry-run"])
 
@@ -128,8 +132,9 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
             "agreement_rows": lambda: timed(["agreement", str(folder), "--json", "--all-rows"]),
             "report_first": lambda: report(first=True),
             "report": lambda: report(first=False),
-            "export_dry_run_first": lambda: dry_run(first=True),
-            "export_dry_run": lambda: dry_run(first=False),
+            "export_dry_run_cold": lambda: dry_run(("caption-clusters", "media-clusters")),
+            "export_dry_run_first": lambda: dry_run(("caption-clusters",)),
+            "export_dry_run": lambda: dry_run(()),
         }
         if not skip_view:
             runs.update({

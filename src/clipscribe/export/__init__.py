@@ -12,7 +12,7 @@ True
 from ..schema.export import ExportManifest, ExportRecord, export_schemas
 from .inputs import CaptionInput, ClipInput, SegmentInput
 from .leakage import Finding, LeakageReport, check_leakage
-from .neardup import near_pairs, near_pairs_brute
+from .neardup import near_clusters, near_pairs, near_pairs_brute
 from .plan import (
     ExportBlocked, ExportCancelled, ExportError, ExportPlan, Override, build_plan,
 )
@@ -29,7 +29,7 @@ __all__ = [
     "LabelPolicy", "LabelDecision", "CaptionChoice", "decide_label", "decide_captions",
     "decide_inferred", "apply_policy",
     "SplitResult", "assign_splits", "assign_folds", "split_clips", "normalise_ratios",
-    "Finding", "LeakageReport", "check_leakage", "near_pairs", "near_pairs_brute",
+    "Finding", "LeakageReport", "check_leakage", "near_pairs", "near_pairs_brute", "near_clusters",
     "normalise_caption", "caption_clusters",
     "ExportPlan", "Override", "build_plan", "ExportError", "ExportBlocked", "ExportCancelled",
     "write_export", "remove_stale_partials", "ExportRecord", "ExportManifest", "export_schemas",

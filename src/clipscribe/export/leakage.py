@@ -13,6 +13,8 @@ from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Callable, Literal, Mapping, Sequence
 
+import numpy as np
+
 from .caption_groups import CaptionGroups, caption_groups
 from .checks import name_files
 from .clusters import Clusters
@@ -143,8 +145,9 @@ def _source_key(c: ClipInput) -> str:
     return f"group:{c.group}" if c.group is not None else _file_key(c)
 
 
-def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
-                radius: int) -> list[Finding]:
+def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str], radius: int,
+                cluster_media: Callable[[np.ndarray, int], Clusters] = near_clusters
+                ) -> list[Finding]:
     """One finding per cluster of look-alike clips (a connected component of "fingerprints
     within ``radius``"; see :mod:`clipscribe.export.clusters`) that holds more than one file.
 
@@ -157,7 +160,7 @@ def _near_media(clips: Sequence[ClipInput], assignment: Mapping[str, str],
     have = [c for c in clips if c.fingerprint is not None]
     if len(have) < 2:
         return []
-    clusters = near_clusters(as_uint64([c.fingerprint for c in have]), radius)
+    clusters = cluster_media(as_uint64([c.fingerprint for c in have]), radius)
     links = clusters.links_of()
     out, path = [], _paths(have)
     for members in clusters.groups():
@@ -280,7 +283,8 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
                   hamming_radius: int = 8, caption_threshold: float = 0.9,
                   captions: Mapping[str, Sequence[str]] | None = None,
                   cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters,
-                  caption_groups_of: Callable[[], CaptionGroups] | None = None
+                  caption_groups_of: Callable[[], CaptionGroups] | None = None,
+                  cluster_media: Callable[[np.ndarray, int], Clusters] = near_clusters
                   ) -> LeakageReport:
     """Look for leakage between splits.
 
@@ -317,6 +321,10 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         Returns the :func:`caption_groups` of the checked clips when they are already being
         found (e.g. a worker's ``Future.result``); by default they are found here, from
         ``captions`` and ``cluster_captions``.
+    cluster_media : callable, optional
+        ``(fingerprints as uint64, radius) -> Clusters``, by default
+        :func:`clipscribe.export.neardup.near_clusters`; a project passes one that keeps its
+        answer for the same fingerprints (the clusters depend on nothing else).
 
     Returns
     -------
@@ -328,7 +336,7 @@ def check_leakage(clips: Sequence[ClipInput], assignment: Mapping[str, str], *,
         raise ValueError(f"caption_threshold must lie in (0, 1], got {caption_threshold!r}")
     clips = [c for c in clips if c.clip_id in assignment]
     findings = (_groups(clips, assignment) + _identical_media(clips, assignment)
-                + _near_media(clips, assignment, hamming_radius)
+                + _near_media(clips, assignment, hamming_radius, cluster_media)
                 + _consent(clips, require_consent, require_licence)
                 + _captions(clips, assignment, caption_groups_of() if caption_groups_of else
                             caption_groups(clips, caption_threshold, captions, cluster_captions))

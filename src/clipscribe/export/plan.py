@@ -6,12 +6,15 @@ from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Callable, Iterable, Mapping
 
+import numpy as np
+
 from ..errors import ClipscribeError
 from .checks import PlanWarning, few_references, split_balance
 from .clusters import Clusters
 from .caption_groups import caption_groups
 from .inputs import ClipInput
 from .leakage import LeakageReport, check_leakage
+from .neardup import near_clusters
 from .policy import (
     CaptionChoice, LabelDecision, LabelPolicy, agreeing_annotators, apply_policy, choose_captions,
 )
@@ -125,7 +128,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
                frozen: Mapping[str, str] | None = None, require_consent: bool = False,
                require_licence: bool = False, hamming_radius: int = 8,
                caption_threshold: float = 0.9, captions_wanted: int | None = None,
-               cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters
+               cluster_captions: Callable[[list[str], float], Clusters] = caption_clusters,
+               cluster_media: Callable[[np.ndarray, int], Clusters] = near_clusters
                ) -> ExportPlan:
     """Decide labels, assign splits to the clips that are kept, and check for leakage.
 
@@ -146,7 +150,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
     frozen : mapping of clip id to split, optional
         Usually the ``assignment`` of an earlier manifest. Frozen clips that the policy leaves
         out this time still hold their group's place.
-    require_consent, require_licence, hamming_radius, caption_threshold, cluster_captions
+    require_consent, require_licence, hamming_radius, caption_threshold, cluster_captions,
+    cluster_media
         Passed to :func:`clipscribe.export.leakage.check_leakage`.
     captions_wanted : int, optional
         Reference captions per clip the guideline asks for; fewer is a ``few-captions``
@@ -186,7 +191,8 @@ def build_plan(clips: Iterable[ClipInput], ratios: Mapping[str, float], *,
         report = check_leakage(kept, split.assignment, require_consent=require_consent,
                                require_licence=require_licence, hamming_radius=hamming_radius,
                                caption_threshold=caption_threshold, captions=texts,
-                               cluster_captions=cluster_captions, caption_groups_of=groups.result)
+                               cluster_captions=cluster_captions, caption_groups_of=groups.result,
+                               cluster_media=cluster_media)
     files = {c.clip_id: c.media_path for c in kept}
     warnings = (split_balance(split.assignment, split.ratios, {c.clip_id: c.group for c in kept})
                 + few_references({k: len(v.captions) for k, v in chosen.items()}, captions_wanted,
