@@ -5,7 +5,9 @@ usable (a first page of the disputed queue and a clip's frame on screen) and the
 3 annotators x 3 captions, each beside the 1k figure so growth is visible (a ratio of 10 for 10x
 the clips is linear). The GUI rows time a fresh process from its start to the moment named.
 
-``agreement_cold`` is the first run on an empty result cache (it computes the caption part and
+``import_floor`` is a fresh process that only imports SQLAlchemy's ORM and pydantic, the
+libraries a project opens with: the floor under every command row, measured in the same run
+(``stats`` is this plus its queries). ``agreement_cold`` is the first run on an empty result cache (it computes the caption part and
 keeps it in the project's .clipscribe-cache/results); ``agreement`` (``--json``: every number
 and the ten most disputed clips), ``agreement_summary`` (``--json --summary``) and
 ``agreement_rows`` (``--json --all-rows``: also every row per clip and per caption, ~100 MB at
@@ -49,6 +51,11 @@ OUT = ROOT / "benchmarks" / "out"
 RUN = ("import sys\nfrom clipscribe.cli import main\ncode = main()\n"
        "peak = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
        "print('VMHWM_KB', peak, file=sys.stderr)\nsys.exit(code)\n")
+
+# imports what opening a project needs from elsewhere (SQLAlchemy's ORM, pydantic), nothing more
+FLOOR = ("import sys, sqlalchemy.orm, pydantic\n"
+         "peak = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
+         "print('VMHWM_KB', peak, file=sys.stderr)\n")
 
 # opens the window on a view, waits for one moment (a signal of the view), then reports its
 # peak memory and leaves at once (os._exit: no waiting for background work still running)
@@ -125,6 +132,9 @@ def measure(folder: Path, skip_view: bool, only: set[str] | None = None) -> dict
         env = dict(os.environ, PYTHONPATH=str(ROOT / "src"), QT_QPA_PLATFORM="offscreen",
                    XDG_CONFIG_HOME=str(Path(tmp) / "config"))
         runs = {
+            # the floor under every row: a fresh process that only imports the database and
+            # settings libraries the project opens with (stats is this plus its queries)
+            "import_floor": lambda: timed([], code=FLOOR),
             "stats": lambda: timed(["stats", str(folder), "--json"]),
             "agreement_cold": cold,
             "agreement": lambda: timed(["agreement", str(folder), "--json"]),
