@@ -9,14 +9,18 @@ import pytest
 from clipscribe import Project, export
 
 
+def count_calls(monkeypatch, name: str, record) -> list:
+    """``record(*args)`` of each call of the engine ``clipscribe.export.<name>``."""
+    calls: list = []
+    real = getattr(export, name)
+    monkeypatch.setattr(export, name, lambda *a: calls.append(record(*a)) or real(*a))
+    return calls
+
+
 @pytest.fixture
 def counted(monkeypatch):
     """The texts each call of the clustering engine was given."""
-    calls = []
-    real = export.caption_clusters
-    monkeypatch.setattr(export, "caption_clusters",
-                        lambda texts, threshold: calls.append(list(texts)) or real(texts, threshold))
-    return calls
+    return count_calls(monkeypatch, "caption_clusters", lambda texts, _threshold: list(texts))
 
 
 def _caption_findings(plan):

@@ -7,17 +7,15 @@ import shutil
 
 import pytest
 
-from clipscribe import Project, export
+from clipscribe import Project
+
+from .test_kept_caption_clusters import count_calls
 
 
 @pytest.fixture
 def counted(monkeypatch):
     """The (fingerprints, radius) each call of the clustering engine was given."""
-    calls = []
-    real = export.near_clusters
-    monkeypatch.setattr(export, "near_clusters", lambda codes, radius: calls.append(
-        (codes.tolist(), radius)) or real(codes, radius))
-    return calls
+    return count_calls(monkeypatch, "near_clusters", lambda codes, radius: (codes.tolist(), radius))
 
 
 def _media_findings(plan):

@@ -306,29 +306,31 @@ class Exporting(Service):
         under a key made of the texts themselves, the threshold and the export engine's code.
         The clusters depend on nothing else, so a second plan of the same captions (other
         ratios, another seed, the folds of a cross-validation) reuses them: at 100k clips they
-        are half of a dry run. Any changed caption changes the key; one entry is kept."""
-        key = content_key("caption-clusters", texts, {"threshold": threshold}, "export")
-        kept = self.peers.results.kept("caption-clusters")
-        if isinstance(kept, tuple) and len(kept) == 2 and kept[0] == key:
-            return kept[1]
-        clusters = export.caption_clusters(texts, threshold)
-        self.peers.results.keep("caption-clusters", (key, clusters))
-        return clusters
+        are half of a dry run. Any changed caption changes the key."""
+        return self._kept_by_content(
+            "caption-clusters", content_key("caption-clusters", texts, {"threshold": threshold},
+                                            "export"),
+            lambda: export.caption_clusters(texts, threshold))
 
     def _cluster_media(self, codes: Any, radius: int) -> Any:
-        """:func:`clipscribe.export.neardup.near_clusters` of the fingerprints, kept in the
-        result cache under a key made of the fingerprints themselves (in order), the radius and
-        the export engine's code, as the caption clusters are. Fingerprints change only when
-        clips come or go, so the first plan after captions changed reuses them: 2.6 s of a
-        100k-clip dry run. One entry is kept."""
-        key = content_key("media-clusters", [codes.tobytes().hex()], {"radius": radius},
-                          "export")
-        kept = self.peers.results.kept("media-clusters")
+        """:func:`clipscribe.export.neardup.near_clusters` of the fingerprints, kept as the
+        caption clusters are, under a key made of the fingerprints themselves (in order), the
+        radius and the export engine's code. Fingerprints change only when clips come or go,
+        so the plans after captions changed reuse them (2.6 s of a 100k-clip dry run)."""
+        return self._kept_by_content(
+            "media-clusters", content_key("media-clusters", [codes.tobytes().hex()],
+                                          {"radius": radius}, "export"),
+            lambda: export.near_clusters(codes, radius))
+
+    def _kept_by_content(self, name: str, key: str, compute: Callable[[], Any]) -> Any:
+        """What ``compute()`` gives, or what was kept under ``name`` for the same ``key`` (a
+        key made of the inputs themselves can never be stale); one entry per name is kept."""
+        kept = self.peers.results.kept(name)
         if isinstance(kept, tuple) and len(kept) == 2 and kept[0] == key:
             return kept[1]
-        clusters = export.near_clusters(codes, radius)
-        self.peers.results.keep("media-clusters", (key, clusters))
-        return clusters
+        value = compute()
+        self.peers.results.keep(name, (key, value))
+        return value
 
     def _require_lead(self, what: str) -> None:
         self.peers.team.require_export_right()  # on a server the database decides by the login too
