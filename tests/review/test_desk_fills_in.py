@@ -244,3 +244,18 @@ def test_with_the_captions_changed_the_board_shows_the_label_numbers_first(
         gate.set()
     assert _drawn(board, "caption_bleu") and "Krippendorff alpha" in board.summary.text()
     assert p.caption_part_kept()
+
+
+def test_panels_without_a_figure_yet_are_not_drawn_as_empty_boxes(qtbot, open_window, sample,
+                                                                  tmp_path, held_report):
+    gate, _ = held_report
+    w, p = _open(qtbot, open_window, sample, tmp_path, "board")
+    board = w.review_desk.board
+    qtbot.waitUntil(lambda: _drawn(board, "throughput"), timeout=WAIT)
+    cues = ["cue_accuracy", "cue_f1", "cue_labels", "cue_accepted"]
+    assert not any(board.figs[n].isVisible() for n in cues)     # they wait for the board
+    assert board.figs["label_alpha"].isVisible()                 # "waiting for the numbers"
+    with qtbot.waitSignal(board.cuesLoaded, timeout=60000):
+        gate.set()
+    assert all(board.figs[n].isVisible() == bool(board.figs[n].fig.title) for n in cues)
+    assert board.figs["cue_accuracy"].isVisible()

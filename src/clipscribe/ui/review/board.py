@@ -54,6 +54,13 @@ class FocusFigure(FigureView):
 
     focused = Signal(str)
 
+    def set_figure(self, fig) -> None:
+        # a figure with no title holds a place (the cue panels before their numbers): it is
+        # not drawn as an empty box and takes no Tab stop; once placed in the board, that is
+        super().set_figure(fig)
+        if self.parent() is not None:
+            self.setVisible(bool(fig.title))
+
     def focusInEvent(self, event) -> None:  # noqa: N802
         super().focusInEvent(event)
         self.focused.emit("\n\n".join(self.all_tips()) or self.fig.title)
@@ -126,6 +133,8 @@ class AgreementBoard(QWidget):
                 cell.addWidget(v, 0, Qt.AlignmentFlag.AlignLeft)
             cell.addStretch(1)
             grid.addLayout(cell, r, c)
+        for v in self.figs.values():
+            v.set_figure(v.fig)  # placed now: an empty one is hidden until it has a figure
         grid.setRowStretch(max(r for r, _ in LAYOUT) + 1, 1)
         grid.setColumnStretch(3, 1)
         scroll = self.scroll = QScrollArea()
