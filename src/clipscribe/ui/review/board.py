@@ -228,12 +228,7 @@ class AgreementBoard(QWidget):
         elif part == "trend" and data["trend"]:  # else it says why, once agreement is known
             self.figs["trend"].set_figure(trend_figure(data))
         elif part == "labels":  # label and segment numbers; the caption ones are on the way
-            figs = board_figures(data)
-            for name, view in self.figs.items():
-                if name.startswith("caption_"):
-                    view.set_figure(note_figure(WAITING[name], CAPTIONS_NOTE, width=300))
-                elif name in figs:
-                    view.set_figure(figs[name])
+            self._draw_figures(data, captions_waiting=True)
             self.figs["confusion"].set_figure(confusion_figure(data, 0))
             m = data["meta"]
             self.summary.setText(f"{m['clips']} clips, {m['settled']} settled · label numbers "
@@ -250,11 +245,7 @@ class AgreementBoard(QWidget):
         self.data = data
         self.job = None
         self._busy(False)
-        figs = board_figures(data)
-        for name, view in self.figs.items():
-            if name == "confusion" or name in CUE_FIGURES:
-                continue
-            view.set_figure(figs[name])
+        self._draw_figures(data)
         lab = data["agreement"]["labels"]
         self.pair.blockSignals(True)
         self.pair.clear()
@@ -289,6 +280,17 @@ class AgreementBoard(QWidget):
         self.loaded.emit()
         self.ended.emit()
         self.compare_cues()
+
+    def _draw_figures(self, data: dict, captions_waiting: bool = False) -> None:
+        """Every panel's figure from ``data`` but the confusion (drawn for the pair chosen) and
+        the cues (a job of their own); with ``captions_waiting`` the caption panels say they
+        are being computed instead."""
+        figs = board_figures(data)
+        for name, view in self.figs.items():
+            if name == "confusion" or name in CUE_FIGURES:
+                continue
+            view.set_figure(note_figure(WAITING[name], CAPTIONS_NOTE, width=300)
+                            if captions_waiting and name.startswith("caption_") else figs[name])
 
     @Slot()
     def compare_cues(self) -> None:
